@@ -1,0 +1,216 @@
+"""Level and Spectrum: the result of a solve, as plain data.
+
+Nothing in this module knows how a spectrum was computed; analysis and export
+depend only on these classes.
+
+An energy is either a sympy expression in the coupling symbols (closed form)
+or an exact implicit root object (``symcluster.algebra.roots.ImplicitRoot``):
+the k-th real root, in ascending order, of an irreducible polynomial
+P(E; couplings).  Both evaluate at any precision through :func:`energy_numeric`.
+"""
+
+from dataclasses import dataclass, field
+from fractions import Fraction
+
+import mpmath
+import sympy
+
+from .errors import ModelError
+
+__all__ = ["Level", "Spectrum", "VerificationReport", "coerce_point", "energy_numeric"]
+
+
+def _to_rational(name, value):
+    if isinstance(value, bool):
+        raise ModelError(f"value of {name} is a boolean; give a number such as 1 or 3/2")
+    if isinstance(value, sympy.Rational):
+        return value
+    if isinstance(value, int):
+        return sympy.Integer(value)
+    if isinstance(value, Fraction):
+        return sympy.Rational(value.numerator, value.denominator)
+    if isinstance(value, float):
+        if value != value or value in (float("inf"), float("-inf")):
+            raise ModelError(f"value of {name} is {value}; give a finite number")
+        return sympy.Rational(value)
+    if isinstance(value, mpmath.mpf):
+        return sympy.Rational(str(value))
+    if isinstance(value, str):
+        try:
+            return sympy.Rational(Fraction(value.strip()))
+        except (ValueError, ZeroDivisionError):
+            raise ModelError(
+                f"value {value!r} of {name} is not a number; write e.g. 4, -2.5 or 3/2"
+            ) from None
+    if isinstance(value, sympy.Expr) and value.is_number:
+        return value
+    raise ModelError(f"value {value!r} of {name} is not a number; write e.g. 4, -2.5 or 3/2")
+
+
+def coerce_point(symbols, values):
+    """Map {name or Symbol: number} onto {Symbol: exact sympy number}.
+
+    Every symbol in ``symbols`` must receive a value; unknown names are an error.
+    """
+    by_name = {s.name: s for s in symbols}
+    out = {}
+    for key, value in dict(values).items():
+        name = key.name if isinstance(key, sympy.Symbol) else str(key)
+        if name not in by_name:
+            known = ", ".join(sorted(by_name)) or "(none)"
+            raise ModelError(f"unknown coupling {name!r}; this model's couplings are {known}")
+        out[by_name[name]] = _to_rational(name, value)
+    missing = sorted(n for n, s in by_name.items() if s not in out)
+    if missing:
+        raise ModelError(
+            "no value given for coupling(s) " + ", ".join(missing)
+            + "; give every coupling a value, e.g. t=1 U=4"
+        )
+    return out
+
+
+def energy_numeric(energy, point, digits=30):
+    """Value of a closed-form expression or implicit root at an exact point, as mpmath.mpf."""
+    if hasattr(energy, "numeric"):
+        return energy.numeric(point, digits=digits)
+    subs = {s: point[s] for s in energy.free_symbols}
+    val = sympy.N(energy.subs(subs), digits + 10)
+    re, im = val.as_real_imag()
+    with mpmath.workdps(digits + 10):
+        if abs(im) > sympy.Float(10) ** (-(digits + 3)) * (1 + abs(re)):
+            raise ArithmeticError(f"energy {energy} is not real at {point}")
+        return mpmath.mpf(sympy.Float(re, digits + 10)._mpf_)
+
+
+@dataclass
+class VerificationReport:
+    """What was checked before a result was returned.
+
+    ``checks`` is a list of dicts, one per check, each with at least
+    ``{"check": name, "scope": what it covered, "points": [...], "worst": float}``.
+    """
+
+    checks: list = field(default_factory=list)
+    digits: int = 30
+
+    def add(self, check, scope, points=(), worst=0.0, **extra):
+        entry = {"check": check, "scope": scope,
+                 "points": [{k: str(v) for k, v in p.items()} for p in points],
+                 "worst": float(worst)}
+        entry.update(extra)
+        self.checks.append(entry)
+
+    @property
+    def worst(self):
+        return max((c["worst"] for c in self.checks), default=0.0)
+
+    def summary(self):
+        kinds = {}
+        for c in self.checks:
+            kinds[c["check"]] = kinds.get(c["check"], 0) + 1
+        parts = [f"{n}x {k}" for k, n in sorted(kinds.items())]
+        return f"verified: {', '.join(parts)}; worst deviation {self.worst:.1e}"
+
+    def as_dict(self):
+        return {"digits": self.digits, "worst_deviation": self.worst, "checks": list(self.checks)}
+
+
+@dataclass
+class Level:
+    """One energy level.
+
+    Attributes
+    ----------
+    energy : sympy.Expr or ImplicitRoot
+        Exact energy as a function of the coupling symbols.
+    degeneracy : int
+        Number of Fock states this level stands for (spin multiplet, lattice
+        irrep dimension included).
+    quantum_numbers : dict
+        Always ``"N"``; ``"Sz"`` or ``"S"`` (sympy Rational), ``"eta"``,
+        ``"lattice"`` where known.
+    polynomial : sympy.Poly or None
+        Irreducible polynomial in ``E`` (first generator) and the couplings
+        that the energy is a root of.
+    eigenvectors : list or None
+        Closed-form eigenvectors for small blocks: each a dict
+        {(up, dn): sympy coefficient} in the fermion ordering of
+        docs/conventions.md.
+    """
+
+    energy: object
+    degeneracy: int
+    quantum_numbers: dict
+    polynomial: object = None
+    eigenvectors: object = None
+    block: str = ""
+
+    @property
+    def is_closed_form(self):
+        return not hasattr(self.energy, "numeric")
+
+    def numeric(self, values, digits=30, symbols=None):
+        syms = symbols if symbols is not None else _free_symbols(self)
+        point = coerce_point(syms, values) if not _is_exact_point(values) else values
+        with mpmath.workdps(digits):
+            return +energy_numeric(self.energy, point, digits)
+
+
+def _is_exact_point(values):
+    return all(isinstance(k, sympy.Symbol) for k in values) and all(
+        isinstance(v, sympy.Basic) for v in values.values())
+
+
+def _free_symbols(level):
+    e = level.energy
+    if hasattr(e, "symbols"):
+        return tuple(e.symbols)
+    if level.polynomial is not None:
+        return tuple(level.polynomial.gens[1:])
+    return tuple(sorted(e.free_symbols, key=lambda s: s.name))
+
+
+@dataclass
+class Spectrum:
+    """All levels of a model, with what was checked and which symmetries were used.
+
+    Attributes
+    ----------
+    model : object
+        The model that was solved (its ``symbols`` and ``cluster``).
+    levels : list of Level
+    symmetries : list of dict
+        Detected symmetries and block sizes per sector (see docs/symmetry.md).
+    verification : VerificationReport
+    """
+
+    model: object
+    levels: list
+    symmetries: list = field(default_factory=list)
+    verification: VerificationReport = field(default_factory=VerificationReport)
+    timings: dict = field(default_factory=dict)
+
+    @property
+    def symbols(self):
+        return tuple(self.model.symbols)
+
+    @property
+    def n_states(self):
+        return sum(l.degeneracy for l in self.levels)
+
+    def point(self, values):
+        """Exact {Symbol: Rational} point from {name: number}."""
+        return coerce_point(self.symbols, values)
+
+    def numeric(self, values, digits=30):
+        """Every level's value with its degeneracy, ascending: list of (mpmath.mpf, int)."""
+        pt = self.point(values)
+        with mpmath.workdps(digits):
+            out = [(+energy_numeric(l.energy, pt, digits), l.degeneracy) for l in self.levels]
+        out.sort(key=lambda p: p[0])
+        return out
+
+    def select(self, **qn):
+        """Levels whose quantum numbers match every given key, e.g. select(N=2)."""
+        return [l for l in self.levels
+                if all(l.quantum_numbers.get(k) == v for k, v in qn.items())]
