@@ -1,0 +1,308 @@
+"""Clusters: sites, labelled bonds, optional site-energy labels.
+
+A :class:`Cluster` is plain validated data.  Built-in shapes are functions
+returning clusters; :func:`load_cluster_file` reads the TOML format described
+in docs/cluster-files.md.
+"""
+
+import re
+from dataclasses import dataclass
+
+from .errors import ClusterError, InputError
+
+__all__ = [
+    "Cluster", "cluster", "chain", "ring", "grid", "complete", "tetrahedron",
+    "cube", "star", "ladder", "load_cluster_file", "parse_cluster_toml", "BUILTIN_SHAPES",
+]
+
+_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
+# names that would clash with the model's own symbols or with sympy functions
+_RESERVED = {"E", "U", "I", "N", "S", "O", "Q", "pi", "oo", "beta", "mu", "h", "T",
+             "sqrt", "cos", "sin", "acos", "exp", "log", "lambda"}
+
+
+def check_label(label, what):
+    """Raise ClusterError unless ``label`` is a valid coupling name."""
+    if not isinstance(label, str) or not _NAME.match(label):
+        raise ClusterError(
+            f"{what} label {label!r} is not a valid symbol name; use letters, digits and "
+            f"underscores, starting with a letter (e.g. t, tp, t_2)")
+    if label in _RESERVED:
+        raise ClusterError(
+            f"{what} label {label!r} is reserved (used for energies, U, or functions); "
+            f"choose another name such as t2 or eps_a")
+    return label
+
+
+@dataclass(frozen=True)
+class Cluster:
+    """A finite cluster of sites joined by labelled bonds.
+
+    Parameters
+    ----------
+    n_sites : int
+    bonds : tuple of (i, j, label)
+        Unordered pairs, stored with i < j, each at most once.
+    site_labels : tuple of (str or None)
+        On-site energy label per site (None: no on-site term).
+    name : str
+        A short description used in outputs, e.g. "ring(4)".
+    """
+
+    n_sites: int
+    bonds: tuple
+    site_labels: tuple
+    name: str = "custom"
+
+    @property
+    def hopping_labels(self):
+        return tuple(sorted({b[2] for b in self.bonds}))
+
+    @property
+    def onsite_labels(self):
+        return tuple(sorted({s for s in self.site_labels if s is not None}))
+
+    def neighbours(self, i):
+        return sorted({b[1] if b[0] == i else b[0] for b in self.bonds if i in b[:2]})
+
+    def is_connected(self):
+        seen, todo = {0}, [0]
+        while todo:
+            i = todo.pop()
+            for j in self.neighbours(i):
+                if j not in seen:
+                    seen.add(j)
+                    todo.append(j)
+        return len(seen) == self.n_sites
+
+    def sublattices(self):
+        """Return (A, B) site tuples if the bond graph is bipartite, else None."""
+        colour = {}
+        for start in range(self.n_sites):
+            if start in colour:
+                continue
+            colour[start] = 0
+            todo = [start]
+            while todo:
+                i = todo.pop()
+                for j in self.neighbours(i):
+                    if j not in colour:
+                        colour[j] = 1 - colour[i]
+                        todo.append(j)
+                    elif colour[j] == colour[i]:
+                        return None
+        a = tuple(i for i in range(self.n_sites) if colour[i] == 0)
+        b = tuple(i for i in range(self.n_sites) if colour[i] == 1)
+        return a, b
+
+    def describe(self):
+        labels = ", ".join(self.hopping_labels) or "none"
+        return f"{self.name}: {self.n_sites} sites, {len(self.bonds)} bonds (hopping {labels})"
+
+
+def cluster(n_sites, bonds, site_labels=None, name="custom"):
+    """Validated cluster from a bond list.
+
+    Parameters
+    ----------
+    n_sites : int
+        Number of sites (>= 1).
+    bonds : iterable of (i, j) or (i, j, label)
+        Label defaults to ``"t"``.
+    site_labels : None, sequence, or dict {site: label}
+        On-site energy labels (e.g. ``{0: "eps"}``).
+
+    Examples
+    --------
+    >>> c = cluster(3, [(0, 1), (1, 2, "tp")])
+    >>> c.bonds
+    ((0, 1, 't'), (1, 2, 'tp'))
+    """
+    if isinstance(n_sites, bool) or not isinstance(n_sites, int):
+        raise ClusterError(f"number of sites {n_sites!r} is not an integer; give e.g. 4")
+    if n_sites < 1:
+        raise ClusterError(f"a cluster needs at least one site, got {n_sites}; give n_sites >= 1")
+    seen = {}
+    for raw in bonds:
+        try:
+            items = tuple(raw)
+        except TypeError:
+            raise ClusterError(f"bond {raw!r} is not a pair (i, j) or triple (i, j, label)") from None
+        if len(items) == 2:
+            i, j, label = items[0], items[1], "t"
+        elif len(items) == 3:
+            i, j, label = items
+        else:
+            raise ClusterError(f"bond {raw!r} is not a pair (i, j) or triple (i, j, label)")
+        for k in (i, j):
+            if isinstance(k, bool) or not isinstance(k, int):
+                raise ClusterError(f"bond {raw!r}: site {k!r} is not an integer index")
+            if not 0 <= k < n_sites:
+                raise ClusterError(
+                    f"bond ({i}, {j}) uses site {k}, outside 0..{n_sites - 1}; "
+                    f"fix the index or raise n_sites")
+        if i == j:
+            raise ClusterError(
+                f"bond ({i}, {j}) joins a site to itself; remove it or use an on-site energy label")
+        check_label(label, "bond")
+        key = (min(i, j), max(i, j))
+        if key in seen:
+            if seen[key] != label:
+                raise ClusterError(
+                    f"bond {key} is given twice with different labels {seen[key]!r} and {label!r}; "
+                    f"keep one")
+            continue
+        seen[key] = label
+    if n_sites > 1 and not seen:
+        raise ClusterError(
+            f"the cluster has {n_sites} sites but no bonds; add bonds or use n_sites=1")
+    labels = [None] * n_sites
+    if site_labels is not None:
+        items = site_labels.items() if isinstance(site_labels, dict) else enumerate(site_labels)
+        for k, lab in items:
+            if isinstance(k, bool) or not isinstance(k, int) or not 0 <= k < n_sites:
+                raise ClusterError(f"site label given for site {k!r}, outside 0..{n_sites - 1}")
+            if lab is not None:
+                labels[k] = check_label(lab, "site")
+    clash = set(seen.values()) & {l for l in labels if l}
+    if clash:
+        raise ClusterError(
+            f"label {sorted(clash)[0]!r} is used both for a bond and for a site energy; "
+            f"give them different names")
+    bond_t = tuple(sorted((i, j, lab) for (i, j), lab in seen.items()))
+    return Cluster(n_sites, bond_t, tuple(labels), name)
+
+
+def _need_int(value, what, minimum):
+    if isinstance(value, bool) or not isinstance(value, int) or value < minimum:
+        raise ClusterError(f"{what} must be an integer >= {minimum}, got {value!r}")
+
+
+def chain(n, t="t"):
+    """Open chain of ``n`` sites, bonds (i, i+1)."""
+    _need_int(n, "chain length", 1)
+    return cluster(n, [(i, i + 1, t) for i in range(n - 1)], name=f"chain({n})")
+
+
+def ring(n, t="t"):
+    """Periodic ring of ``n >= 3`` sites.
+
+    A 2-site "ring" would count the same bond twice; it is refused (use
+    ``chain(2)``, whose single bond is the two-site cluster).
+    """
+    _need_int(n, "ring length", 3)
+    return cluster(n, [(i, (i + 1) % n, t) for i in range(n)], name=f"ring({n})")
+
+
+def grid(nx, ny, periodic=False, t="t"):
+    """Rectangular nx × ny grid; site index x + nx*y.
+
+    With ``periodic=True`` both directions wrap; a direction of length <= 2
+    is never wrapped (it would duplicate bonds).
+    """
+    _need_int(nx, "grid width", 1)
+    _need_int(ny, "grid height", 1)
+    bonds = []
+    for y in range(ny):
+        for x in range(nx):
+            s = x + nx * y
+            if x + 1 < nx or (periodic and nx > 2):
+                bonds.append((s, (x + 1) % nx + nx * y, t))
+            if y + 1 < ny or (periodic and ny > 2):
+                bonds.append((s, x + nx * ((y + 1) % ny), t))
+    kind = "periodic" if periodic else "open"
+    return cluster(nx * ny, bonds, name=f"grid({nx},{ny},{kind})")
+
+
+def ladder(n, t="t"):
+    """Open 2 × n ladder (the 2 × n grid)."""
+    c = grid(n, 2, periodic=False, t=t)
+    return Cluster(c.n_sites, c.bonds, c.site_labels, f"ladder(2x{n})")
+
+
+def complete(n, t="t"):
+    """Complete graph on ``n`` sites (every pair bonded)."""
+    _need_int(n, "number of sites", 2)
+    return cluster(n, [(i, j, t) for i in range(n) for j in range(i + 1, n)],
+                   name=f"complete({n})")
+
+
+def tetrahedron(t="t"):
+    """Four sites, all six bonds (the complete graph K4)."""
+    c = complete(4, t)
+    return Cluster(c.n_sites, c.bonds, c.site_labels, "tetrahedron")
+
+
+def cube(t="t"):
+    """Eight corners of a cube (sites = 3-bit numbers, bonds between numbers one bit apart)."""
+    bonds = [(i, i ^ (1 << b), t) for i in range(8) for b in range(3) if i < i ^ (1 << b)]
+    return cluster(8, bonds, name="cube")
+
+
+def star(n_leaves, t="t"):
+    """A centre (site 0) bonded to ``n_leaves`` leaves (sites 1..n_leaves)."""
+    _need_int(n_leaves, "number of leaves", 1)
+    return cluster(n_leaves + 1, [(0, k, t) for k in range(1, n_leaves + 1)],
+                   name=f"star({n_leaves})")
+
+
+BUILTIN_SHAPES = {
+    "chain": (chain, 1), "ring": (ring, 1), "grid": (grid, 2), "pgrid": (None, 2),
+    "ladder": (ladder, 1), "complete": (complete, 1), "tetrahedron": (tetrahedron, 0),
+    "cube": (cube, 0), "star": (star, 1),
+}
+
+
+def parse_cluster_toml(text, source="<string>"):
+    """Cluster from the TOML cluster format (docs/cluster-files.md)."""
+    try:
+        import tomllib
+    except ModuleNotFoundError:  # Python < 3.11
+        import tomli as tomllib
+    try:
+        data = tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{source}: not valid TOML ({exc}); see docs/cluster-files.md") from None
+    fmt = data.get("format")
+    if fmt != "symcluster-cluster":
+        raise InputError(
+            f"{source}: missing or wrong 'format' key ({fmt!r}); the first line must be "
+            f"format = \"symcluster-cluster\"")
+    version = data.get("version", 1)
+    if version != 1:
+        raise InputError(f"{source}: cluster file version {version!r} is not supported; use version = 1")
+    allowed = {"format", "version", "name", "sites", "bonds", "site_energy"}
+    extra = sorted(set(data) - allowed)
+    if extra:
+        raise InputError(f"{source}: unknown key {extra[0]!r}; allowed keys are "
+                         + ", ".join(sorted(allowed)))
+    n = data.get("sites")
+    if n is None:
+        raise InputError(f"{source}: key 'sites' (number of sites) is missing; add e.g. sites = 4")
+    raw_bonds = data.get("bonds", [])
+    if not isinstance(raw_bonds, list):
+        raise InputError(f"{source}: 'bonds' must be a list such as [[0, 1], [1, 2, \"tp\"]]")
+    site_energy = data.get("site_energy", {})
+    if not isinstance(site_energy, dict):
+        raise InputError(f"{source}: 'site_energy' must be a table such as {{ 0 = \"eps\" }}")
+    labels = {}
+    for key, lab in site_energy.items():
+        try:
+            labels[int(key)] = lab
+        except ValueError:
+            raise InputError(f"{source}: site_energy key {key!r} is not a site index") from None
+    name = data.get("name", source)
+    try:
+        return cluster(n, raw_bonds, site_labels=labels, name=str(name))
+    except ClusterError as exc:
+        raise ClusterError(f"{source}: {exc}") from None
+
+
+def load_cluster_file(path):
+    """Read a TOML cluster file; errors name the file and the problem."""
+    try:
+        with open(path, "r", encoding="utf-8") as fh:
+            text = fh.read()
+    except OSError as exc:
+        raise InputError(f"cannot read cluster file {path!r}: {exc.strerror}; check the path") from None
+    return parse_cluster_toml(text, source=str(path))
