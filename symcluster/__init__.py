@@ -1,3 +1,32 @@
-"""symcluster: exact, verified energy levels of small interacting-electron clusters."""
+"""symcluster: exact, verified energy levels of small interacting-electron clusters.
+
+Public API (stable names)::
+
+    import symcluster as sc
+    spec = sc.solve(sc.hubbard(sc.ring(4)))
+    spec.levels                              # Level objects with energy, degeneracy, quantum_numbers
+    spec.numeric({"t": 1, "U": 4}, digits=30)
+"""
+
+from .clusters import (Cluster, chain, cluster, complete, cube, grid, ladder, load_cluster_file,
+                       parse_cluster_toml, ring, star, tetrahedron)
+from .errors import (ClusterError, InputError, ModelError, SymclusterError, TooLargeError,
+                     VerificationError)
+from .models import Model, hubbard
+from .spectrum import Level, Spectrum, VerificationReport
+from .solve import solve
 
 __version__ = "0.1.0"
+
+__all__ = [
+    "Cluster", "chain", "cluster", "complete", "cube", "grid", "ladder", "load_cluster_file",
+    "parse_cluster_toml", "ring", "star", "tetrahedron", "Model", "hubbard", "solve",
+    "Level", "Spectrum", "VerificationReport", "SymclusterError", "ClusterError", "ModelError",
+    "InputError", "VerificationError", "TooLargeError",
+]
+
+try:  # analysis layer (optional at import time while it is being built)
+    from .analysis import series, transitions  # noqa: F401
+    __all__ += ["series", "transitions"]
+except ImportError:  # pragma: no cover
+    pass

@@ -1,0 +1,237 @@
+"""Build the exact, symmetry-reduced blocks of a model.
+
+For every sector (N_up, N_dn) that has to be solved, the Fock basis is
+reduced step by step:
+
+1. lattice symmetry: a basis of P_lambda P_Gamma V for each (rational)
+   irreducible representation Gamma of the cluster's automorphism group;
+2. spin SU(2): only N_up >= N_dn is solved, restricted to the kernel of S+
+   (highest weight, S = Sz);
+3. eta-pseudospin SU(2): only N <= L is solved, restricted to the kernel of
+   eta- (lowest weight, eta = (L - N)/2); the other members of each eta
+   multiplet are the same levels shifted by the exactly-detected shift.
+
+Each resulting block is the matrix of H in an exact reduced (pivot) basis of
+an H-invariant subspace.  Invariance is checked exactly while the matrix is
+read off.
+"""
+
+from dataclasses import dataclass, field
+from fractions import Fraction
+
+import sympy
+
+from .algebra.block import LinearBlock
+from .errors import VerificationError
+from .fock import sector_states
+from .linalg import apply_op, kernel_of, reduce_basis
+from .operators import apply_eta_minus, apply_hamiltonian, apply_s_plus
+from .symmetry.spin import eta_symmetry, has_spin_symmetry, shift_expr
+
+__all__ = ["BlockSpec", "SymmetryPlan", "plan_symmetries", "build_blocks", "sectors_to_solve"]
+
+
+@dataclass
+class SymmetryPlan:
+    """Which symmetries apply to a model (all detected exactly)."""
+
+    spin: bool
+    eta: object            # None or (signs, shift dict)
+    lattice: object        # None or the lattice-symmetry object of symmetry.lattice
+    sublattice_char: list = field(default_factory=list)  # +-1 per group element
+
+    @property
+    def eta_shift(self):
+        return shift_expr(self.eta[1]) if self.eta else None
+
+    def names(self):
+        out = ["particle number N_up, N_dn"]
+        if self.spin:
+            out.append("spin SU(2)")
+        if self.eta:
+            out.append(f"eta-pseudospin SU(2) (eta+ shifts E by {self.eta_shift})")
+        if self.lattice is not None:
+            out.append(f"lattice automorphisms (order {len(self.lattice.group.elements)})")
+        return out
+
+
+@dataclass
+class BlockSpec:
+    """One exact block plus everything needed to label its roots."""
+
+    sector: tuple
+    labels: dict
+    states_per_root: int     # (2S+1) * irrep dimension
+    copies: int              # each multiplet appears this many times in the block
+    block: LinearBlock
+    vectors: list
+    pivots: list
+    eta_members: int = 1     # number of eta multiplet members generated (2 eta + 1)
+    stages: list = field(default_factory=list)
+
+
+def plan_symmetries(model, lattice=True):
+    """Detect the symmetries of ``model`` (exact checks, see symmetry/spin.py)."""
+    spin = has_spin_symmetry(model)
+    eta = eta_symmetry(model)
+    lat = None
+    sub_char = []
+    if lattice and model.n_sites > 1:
+        from .symmetry.lattice import lattice_symmetry
+        c = model.cluster
+        lat = lattice_symmetry(c.n_sites, c.bonds, c.site_labels)
+        if len(lat.group.elements) == 1:
+            lat = None
+        elif eta:
+            signs = eta[0]
+            sub_char = [1 if signs[g[0]] == signs[0] else -1 for g in lat.group.elements]
+    return SymmetryPlan(spin, eta, lat, sub_char)
+
+
+def sectors_to_solve(n_sites, plan, electrons=None):
+    """The (N_up, N_dn) sectors whose blocks are built, given the symmetries.
+
+    ``electrons`` (None = all) is the set of N values the caller wants; with
+    eta symmetry, lower sectors whose multiplets reach a wanted N are included.
+    """
+    L = n_sites
+    wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
+    out = []
+    for n in range(2 * L + 1):
+        if plan.eta:
+            if n > L or not any(n <= m <= 2 * L - n and (m - n) % 2 == 0 for m in wanted):
+                continue
+        elif n not in wanted:
+            continue
+        for n_up in range(max(0, n - L), min(n, L) + 1):
+            n_dn = n - n_up
+            if plan.spin and n_up < n_dn:
+                continue
+            out.append((n_up, n_dn))
+    return out
+
+
+def _matrix_of_h(model, vectors, pivots):
+    """H restricted to span(vectors) in the reduced basis; checks invariance exactly."""
+    index = {p: k for k, p in enumerate(pivots)}
+    terms = {}
+    for j, v in enumerate(vectors):
+        hv = {}
+        for s, c in v.items():
+            for s2, row in apply_hamiltonian(model, *s).items():
+                tgt = hv.setdefault(s2, {})
+                for lab, a in row.items():
+                    tgt[lab] = tgt.get(lab, 0) + a * c
+        # coordinates at the pivots, then an exact residual check
+        coords = {}
+        for p, k in index.items():
+            row = hv.get(p)
+            if row:
+                for lab, a in row.items():
+                    if a:
+                        coords.setdefault(lab, {})[k] = Fraction(a)
+        residual = {s: dict(r) for s, r in hv.items()}
+        for lab, col in coords.items():
+            for k, a in col.items():
+                for s, x in vectors[k].items():
+                    tgt = residual.setdefault(s, {})
+                    tgt[lab] = tgt.get(lab, 0) - a * x
+        for s, r in residual.items():
+            if any(x != 0 for x in r.values()):
+                raise VerificationError(
+                    f"internal error: reduced basis is not invariant under H at state {s}; "
+                    "please report this cluster")
+        for lab, col in coords.items():
+            mat = terms.setdefault(lab, {})
+            for k, a in col.items():
+                mat[(k, j)] = a
+    return LinearBlock(len(vectors), terms)
+
+
+def _irrep_times_char(lattice, irrep, char):
+    target = [a * b for a, b in zip(irrep.character, char)]
+    for other in lattice.irreps:
+        if list(other.character) == target:
+            return other
+    return None
+
+
+def build_blocks(model, plan, electrons=None, report=None):
+    """All reduced blocks for the wanted electron numbers.
+
+    Returns a list of BlockSpec; appends per-sector reduction sizes to ``report``.
+    """
+    L = model.n_sites
+    blocks = []
+    for n_up, n_dn in sectors_to_solve(L, plan, electrons):
+        states = sector_states(L, n_up, n_dn)
+        n = n_up + n_dn
+        if plan.lattice is not None:
+            from .symmetry.lattice import adapted_basis
+            parts = []
+            for irrep in plan.lattice.irreps:
+                vecs = adapted_basis(states, plan.lattice.group, irrep)
+                if vecs:
+                    v, p = reduce_basis([{s: Fraction(c) for s, c in x.items()} for x in vecs])
+                    parts.append((irrep, v, p))
+        else:
+            parts = [(None, [{s: Fraction(1)} for s in states], list(states))]
+        sizes = {"sector": (n_up, n_dn), "sector_dim": len(states), "steps": []}
+        if plan.lattice is not None:
+            sizes["steps"].append(("lattice", max((len(v) for _, v, _ in parts), default=0)))
+        spin_max = eta_max = 0
+        for irrep, vecs, piv in parts:
+            stages = [("sector", len(states))]
+            if irrep is not None:
+                stages.append(("lattice " + irrep.label, len(vecs)))
+            if plan.spin and n_dn > 0 and n_up < L:
+                vecs, piv = kernel_of(lambda s: apply_s_plus(L, *s), vecs, piv)
+                stages.append(("spin highest weight", len(vecs)))
+                spin_max = max(spin_max, len(vecs))
+            if plan.eta and n_up > 0 and n_dn > 0:
+                signs = plan.eta[0]
+                vecs, piv = kernel_of(lambda s: apply_eta_minus(signs, *s), vecs, piv)
+                stages.append(("eta lowest weight", len(vecs)))
+                eta_max = max(eta_max, len(vecs))
+            if not vecs:
+                continue
+            labels = {"N": n}
+            if plan.spin:
+                two_s = n_up - n_dn
+                labels["S"] = sympy.Rational(two_s, 2)
+                spin_mult = two_s + 1
+            else:
+                labels["Sz"] = sympy.Rational(n_up - n_dn, 2)
+                spin_mult = 1
+            members = 1
+            if plan.eta:
+                labels["eta"] = sympy.Rational(L - n, 2)
+                members = L - n + 1
+            dim, copies = 1, 1
+            if irrep is not None:
+                labels["irrep"] = irrep.label
+                labels["irrep_dim"] = irrep.dim
+                if getattr(irrep, "momentum", None) is not None:
+                    labels["k"] = irrep.momentum
+                dim, copies = irrep.dim, getattr(irrep, "copies", 1)
+            blk = _matrix_of_h(model, vecs, piv)
+            spec = BlockSpec((n_up, n_dn), labels, spin_mult * dim, copies, blk,
+                             vecs, piv, members, stages)
+            spec.irrep = irrep
+            blocks.append(spec)
+        if plan.spin:
+            sizes["steps"].append(("spin", spin_max))
+        if plan.eta:
+            sizes["steps"].append(("eta", eta_max))
+        sizes["largest_block"] = max(
+            (len(b.vectors) for b in blocks if b.sector == (n_up, n_dn)), default=0)
+        if report is not None:
+            report.append(sizes)
+    return blocks
+
+
+def eta_member_irrep(plan, irrep, k):
+    """Lattice irrep of eta+^k applied to a state of irrep ``irrep``."""
+    if irrep is None or k % 2 == 0 or not plan.sublattice_char:
+        return irrep
+    return _irrep_times_char(plan.lattice, irrep, plan.sublattice_char)

@@ -1,0 +1,140 @@
+"""The pipeline behind ``symcluster.solve``: blocks -> exact algebra -> levels -> verification."""
+
+import time
+
+import sympy
+
+from .algebra.block import ENERGY
+from .algebra.charpoly import charpoly
+from .algebra.factor import factor_charpoly
+from .algebra.roots import roots_of
+from .blocks import build_blocks, eta_member_irrep, plan_symmetries
+from .errors import ModelError, VerificationError
+from .models import Model
+from .spectrum import Level, Spectrum, VerificationReport
+
+__all__ = ["solve", "solve_block"]
+
+
+def _check_electrons(model, electrons):
+    if electrons is None:
+        return None
+    if isinstance(electrons, int) and not isinstance(electrons, bool):
+        electrons = [electrons]
+    try:
+        wanted = sorted(set(electrons))
+    except TypeError:
+        raise ModelError(f"electrons={electrons!r} is not an integer or list of integers") from None
+    top = 2 * model.n_sites
+    for n in wanted:
+        if isinstance(n, bool) or not isinstance(n, int) or not 0 <= n <= top:
+            raise ModelError(
+                f"electron number {n!r} is impossible on {model.n_sites} sites; choose 0..{top}")
+    return wanted
+
+
+def solve_block(spec, names):
+    """Irreducible factors and their roots for one block: list of (poly, mult, roots)."""
+    poly = charpoly(spec.block, names)
+    out = []
+    for fac, mult in factor_charpoly(poly):
+        out.append((fac, mult, roots_of(fac)))
+    return out
+
+
+def _shift_poly(poly, shift):
+    """P(E - shift) as a Poly in the same generators."""
+    if shift == 0:
+        return poly
+    return sympy.Poly(poly.as_expr().subs(ENERGY, ENERGY - shift), *poly.gens)
+
+
+def solve(model, electrons=None, verify=True, lattice=True, digits=30, seed=None,
+          executor=None):
+    """Exact, verified spectrum of a model.
+
+    Parameters
+    ----------
+    model : Model
+        e.g. ``hubbard(ring(4))``.
+    electrons : int or list of int, optional
+        Electron numbers to solve (default: all, 0 .. 2L).
+    verify : bool
+        Must stay True for results that are returned to users; ``False`` is
+        refused (verification is not optional).
+    lattice : bool
+        Use the cluster's automorphism group (default True).
+    digits : int
+        Precision of the numerical verification (>= 30).
+    seed : int, optional
+        Seed of the random verification points (recorded in the report).
+    executor : concurrent.futures.Executor, optional
+        Solve blocks in parallel through this executor.
+
+    Returns
+    -------
+    Spectrum
+
+    Raises
+    ------
+    VerificationError
+        If any level fails a check; nothing is returned then.
+    """
+    if not isinstance(model, Model):
+        raise ModelError(f"solve() needs a Model such as hubbard(ring(4)), got {type(model).__name__}")
+    if verify is not True:
+        raise ModelError("verification cannot be switched off; call solve(model) without verify=")
+    if not isinstance(digits, int) or digits < 30:
+        raise ModelError(f"digits={digits!r}: verification needs at least 30 digits; use digits>=30")
+    wanted = _check_electrons(model, electrons)
+    timings = {}
+    t0 = time.perf_counter()
+    plan = plan_symmetries(model, lattice=lattice)
+    sizes = []
+    blocks = build_blocks(model, plan, wanted, report=sizes)
+    timings["blocks"] = time.perf_counter() - t0
+    names = model.labels
+    t1 = time.perf_counter()
+    if executor is not None:
+        results = list(executor.map(solve_block, blocks, [names] * len(blocks)))
+    else:
+        results = [solve_block(b, names) for b in blocks]
+    timings["algebra"] = time.perf_counter() - t1
+    levels = []
+    shift = plan.eta_shift
+    for spec, factors in zip(blocks, results):
+        for fac, mult, roots in factors:
+            if mult % spec.copies:
+                raise VerificationError(
+                    f"block {spec.labels}: factor multiplicity {mult} is not a multiple of the "
+                    f"{spec.copies} copies the symmetry projection predicts")
+            deg = spec.states_per_root * mult // spec.copies
+            for k in range(spec.eta_members):
+                qn = dict(spec.labels)
+                qn["N"] = spec.labels["N"] + 2 * k
+                if wanted is not None and qn["N"] not in wanted:
+                    continue
+                if k and "irrep" in qn:
+                    irr = eta_member_irrep(plan, spec.irrep, k)
+                    qn["irrep"] = irr.label if irr is not None else qn["irrep"] + "*"
+                    if irr is not None and getattr(irr, "momentum", None) is not None:
+                        qn["k"] = irr.momentum
+                poly = _shift_poly(fac, k * shift) if k else fac
+                for r in roots:
+                    energy = r + k * shift if k else r
+                    if k and hasattr(r, "numeric"):
+                        energy = type(r)(poly, r.index)
+                    levels.append(Level(energy, deg, qn, poly, None,
+                                        block=f"{spec.sector}:{spec.labels.get('irrep', '')}"))
+    levels.sort(key=lambda l: (l.quantum_numbers["N"], str(l.quantum_numbers)))
+    report = VerificationReport(digits=digits)
+    spectrum = Spectrum(model, levels, [], report, timings)
+    spectrum.symmetries = [{"symmetries": plan.names()}] + [
+        {"sector": s["sector"], "sector_dim": s["sector_dim"], "steps": s["steps"],
+         "largest_block": s["largest_block"]} for s in sizes]
+    t2 = time.perf_counter()
+    from .verify import verify_spectrum
+    verify_spectrum(spectrum, wanted, digits=digits, seed=seed)
+    timings["verify"] = time.perf_counter() - t2
+    timings["total"] = time.perf_counter() - t0
+    return spectrum

@@ -1,0 +1,312 @@
+"""Every check a spectrum must pass before it is returned (docs/verification.md).
+
+Tiers, per (N_up, N_dn) sector, at >= 2 random rational parameter points:
+
+* dim <= MP_DIM: mpmath eigenvalues of the unreduced sector at ``digits`` + 10
+  digits equal the level values with their multiplicities;
+* dim <= EXACT_DIM: the exact characteristic polynomial of the unreduced sector
+  at the point (python-flint, independent of the symbolic pipeline) equals the
+  product of the levels' polynomials at the point, and every level's value is
+  a root of its polynomial at >= ``digits`` digits;
+* beyond: float64 eigenvalues of the unreduced sector equal the level values
+  (relative 1e-9), and each block's exact charpoly at the point equals the
+  product of its factors.
+
+Always: degeneracies add up to each sector's dimension and to 4^L; the
+symbolic sum rules sum deg*E = Tr H and sum deg*E^2 = Tr H^2 per sector; each
+closed form is checked against its own polynomial at >= ``digits`` digits.
+"""
+
+import random
+from fractions import Fraction
+from math import comb
+
+import flint
+import mpmath
+import numpy as np
+import sympy
+
+from .algebra.block import ENERGY
+from .errors import VerificationError
+from .fock import sector_states
+from .models import coupling_symbol
+from .operators import apply_hamiltonian
+from .spectrum import energy_numeric
+
+__all__ = ["verify_spectrum", "random_points", "sector_share", "MP_DIM", "EXACT_DIM"]
+
+MP_DIM = 48
+EXACT_DIM = 320
+FLOAT_DIM = 6000
+
+
+def random_points(symbols, count, seed):
+    """``count`` random rational points; all values share one denominator per point."""
+    rng = random.Random(seed)
+    pts = []
+    for k in range(count):
+        den = rng.choice([3, 5, 7, 11, 13])
+        pt = {}
+        for s in symbols:
+            num = 0
+            while num == 0:
+                num = rng.randint(-60, 60)
+            if s.name != "U" and k == 0:
+                num = abs(num)
+            pt[s] = sympy.Rational(num, den)
+        pts.append(pt)
+    return pts
+
+
+def sector_share(level, n_up, n_dn):
+    """States of ``level`` that lie in sector (n_up, n_dn)."""
+    qn = level.quantum_numbers
+    if n_up + n_dn != qn["N"]:
+        return 0
+    sz = sympy.Rational(n_up - n_dn, 2)
+    if "S" in qn:
+        s = qn["S"]
+        if abs(sz) > s:
+            return 0
+        return level.degeneracy // int(2 * s + 1)
+    if "Sz" in qn:
+        return level.degeneracy if qn["Sz"] == sz else 0
+    raise VerificationError("level without spin information; cannot assign it to a sector")
+
+
+def _sector_terms(model, states):
+    """Sparse sector matrix as {label: {(i, j): int}} plus the state index."""
+    idx = {s: k for k, s in enumerate(states)}
+    terms = {}
+    for j, s in enumerate(states):
+        for s2, row in apply_hamiltonian(model, *s).items():
+            i = idx[s2]
+            for lab, a in row.items():
+                terms.setdefault(lab, {})[(i, j)] = a
+    return terms
+
+
+def _traces(model, terms, dim):
+    """Exact Tr H and Tr H^2 of a sector as sympy expressions."""
+    syms = {l: coupling_symbol(l) for l in terms}
+    tr1 = sum((syms[l] * a for l, m in terms.items() for (i, j), a in m.items() if i == j),
+              sympy.Integer(0))
+    rows = {}
+    for l, m in terms.items():
+        for (i, j), a in m.items():
+            rows.setdefault((i, j), []).append((l, a))
+    tr2 = sympy.Integer(0)
+    acc = {}
+    for (i, j), entries in rows.items():
+        # H is symmetric: Tr H^2 = sum_ij H_ij^2
+        for l1, a1 in entries:
+            for l2, a2 in entries:
+                key = tuple(sorted((l1, l2)))
+                acc[key] = acc.get(key, 0) + a1 * a2
+    for (l1, l2), c in acc.items():
+        tr2 += c * syms[l1] * syms[l2]
+    return sympy.expand(tr1), sympy.expand(tr2)
+
+
+def _power_sums(poly):
+    """Exact (sum of roots, sum of squared roots) of a Poly in E over Q(couplings)."""
+    coeffs = sympy.Poly(poly.as_expr(), ENERGY).all_coeffs()
+    d = len(coeffs) - 1
+    lead = coeffs[0]
+    e1 = -coeffs[1] / lead if d >= 1 else 0
+    e2 = coeffs[2] / lead if d >= 2 else 0
+    return sympy.expand(e1), sympy.expand(e1 ** 2 - 2 * e2)
+
+
+def _numeric_matrix(terms, dim, point_by_label):
+    m = np.zeros((dim, dim))
+    for l, mat in terms.items():
+        v = float(point_by_label[l])
+        for (i, j), a in mat.items():
+            m[i, j] += a * v
+    return m
+
+
+def _scaled_int_matrix(terms, dim, point_by_label):
+    """(D, integer matrix D*H) at a rational point with common denominator D."""
+    den = 1
+    for v in point_by_label.values():
+        den = sympy.ilcm(den, sympy.Rational(v).q)
+    entries = {}
+    for l, mat in terms.items():
+        v = sympy.Rational(point_by_label[l]) * den
+        for key, a in mat.items():
+            entries[key] = entries.get(key, 0) + int(v) * a
+    flat = [0] * (dim * dim)
+    for (i, j), a in entries.items():
+        flat[i * dim + j] = a
+    return int(den), flint.fmpz_mat(dim, dim, flat)
+
+
+def _poly_at_point(poly, point, den):
+    """Coefficient list (fmpq_poly in x = D*E) of P(E) at the point, scaled to x."""
+    x = sympy.Symbol("x")
+    sub = {s: point[s] for s in poly.gens[1:] if s in point}
+    expr = poly.as_expr().subs(sub).subs(ENERGY, x / den)
+    p = sympy.Poly(expr, x)
+    cs = [sympy.Rational(c) for c in reversed(p.all_coeffs())]
+    return flint.fmpq_poly([flint.fmpq(int(c.p), int(c.q)) for c in cs])
+
+
+def _fail(msg):
+    raise VerificationError("verification failed: " + msg + "; the result was discarded")
+
+
+def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2):
+    """Run every check on ``spectrum``; fill its verification report; raise on failure."""
+    model = spectrum.model
+    report = spectrum.verification
+    L = model.n_sites
+    symbols = model.symbols
+    seed = random.SystemRandom().randrange(2 ** 31) if seed is None else seed
+    report.seed = seed
+    points = random_points(symbols, n_points, seed)
+    wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
+
+    # 1. state counting
+    total = sum(l.degeneracy for l in spectrum.levels)
+    expected = sum(comb(2 * L, n) for n in wanted)
+    if total != expected:
+        _fail(f"degeneracies add up to {total}, expected {expected} states")
+    report.add("state count", f"N in {sorted(wanted)}", worst=0.0, states=total)
+
+    # numeric values of every level at every point (closed forms and implicit roots)
+    values = []
+    with mpmath.workdps(digits + 10):
+        for pt in points:
+            values.append([energy_numeric(l.energy, pt, digits + 5) for l in spectrum.levels])
+
+    # 2. each level is a root of its own polynomial (closed forms against polynomials)
+    worst_root = 0.0
+    with mpmath.workdps(digits + 10):
+        for pi, pt in enumerate(points):
+            cache = {}
+            for li, lev in enumerate(spectrum.levels):
+                if lev.polynomial is None:
+                    _fail(f"level {li} has no polynomial")
+                key = id(lev.polynomial)
+                if key not in cache:
+                    p = lev.polynomial
+                    sub = p.as_expr().subs({s: pt[s] for s in p.gens[1:] if s in pt})
+                    up = sympy.Poly(sub, ENERGY)
+                    cache[key] = ([mpmath.mpf(sympy.Rational(c).p) / sympy.Rational(c).q
+                                   for c in up.all_coeffs()], up)
+                cs, up = cache[key]
+                x = values[pi][li]
+                val = mpmath.polyval(cs, x)
+                deriv = [c * (len(cs) - 1 - k) for k, c in enumerate(cs[:-1])]
+                dval = mpmath.polyval(deriv, x) if deriv else mpmath.mpf(0)
+                scale = max(mpmath.mpf(1), abs(x))
+                if dval != 0:
+                    dev = abs(val / dval) / scale
+                else:
+                    dev = abs(val) / scale
+                if dev > mpmath.mpf(10) ** (-digits):
+                    _fail(f"level {lev.energy} (N={lev.quantum_numbers['N']}) is not a root of its "
+                          f"polynomial at {pt}: deviation {mpmath.nstr(dev, 3)}")
+                worst_root = max(worst_root, float(dev))
+    report.add("closed forms are roots of their polynomials", "all levels", points, worst_root)
+
+    # 3. per sector: counting, sum rules, eigenvalues
+    by_sector = {}
+    for li, lev in enumerate(spectrum.levels):
+        n = lev.quantum_numbers["N"]
+        for n_up in range(max(0, n - L), min(n, L) + 1):
+            share = sector_share(lev, n_up, n - n_up)
+            if share:
+                by_sector.setdefault((n_up, n - n_up), []).append((li, share))
+    worst = {"mp": 0.0, "float": 0.0}
+    for n in sorted(wanted):
+        for n_up in range(max(0, n - L), min(n, L) + 1):
+            n_dn = n - n_up
+            members = by_sector.get((n_up, n_dn), [])
+            dim = comb(L, n_up) * comb(L, n_dn)
+            got = sum(s for _, s in members)
+            if got != dim:
+                _fail(f"sector (N_up={n_up}, N_dn={n_dn}) has {got} states in the levels, expected {dim}")
+            if dim > FLOAT_DIM:
+                continue
+            states = sector_states(L, n_up, n_dn)
+            terms = _sector_terms(model, states)
+            _check_sum_rules(spectrum, members, terms, dim, (n_up, n_dn))
+            for pi, pt in enumerate(points):
+                by_label = {s.name: pt[s] for s in symbols}
+                level_vals = []
+                for li, share in members:
+                    level_vals.extend([values[pi][li]] * share)
+                level_vals.sort()
+                if dim <= MP_DIM:
+                    with mpmath.workdps(digits + 10):
+                        a = mpmath.matrix(dim, dim)
+                        for l, mat in terms.items():
+                            v = mpmath.mpf(by_label[l].p) / by_label[l].q
+                            for (i, j), c in mat.items():
+                                a[i, j] += c * v
+                        ev = sorted(mpmath.eigsy(a, eigvals_only=True)) if dim > 1 else [a[0, 0]]
+                        dev = max((abs(x - y) / max(1, abs(y)) for x, y in zip(level_vals, ev)),
+                                  default=mpmath.mpf(0))
+                        if dev > mpmath.mpf(10) ** (-digits):
+                            _fail(f"sector ({n_up},{n_dn}) at {pt}: levels differ from mpmath "
+                                  f"eigenvalues by {mpmath.nstr(dev, 3)}")
+                        worst["mp"] = max(worst["mp"], float(dev))
+                elif dim <= EXACT_DIM:
+                    den, imat = _scaled_int_matrix(terms, dim, by_label)
+                    cp = flint.fmpq_poly(imat.charpoly().coeffs())
+                    prod = flint.fmpq_poly([1])
+                    seen = {}
+                    for li, share in members:
+                        p = spectrum.levels[li].polynomial
+                        seen.setdefault(id(p), [p, 0, share])[1] += 1
+                    for p, count, share in seen.values():
+                        dp = sympy.Poly(p.as_expr(), ENERGY).degree()
+                        if count % dp:
+                            _fail(f"sector ({n_up},{n_dn}): only {count} roots of a degree-{dp} factor")
+                        fp = _poly_at_point(p, pt, den)
+                        fp = fp / fp.coeffs()[-1]
+                        prod *= fp ** (share * count // dp)
+                    if prod != cp:
+                        _fail(f"sector ({n_up},{n_dn}): exact characteristic polynomial at {pt} "
+                              f"differs from the product of the level polynomials")
+                else:
+                    ev = np.linalg.eigvalsh(_numeric_matrix(terms, dim, by_label))
+                    lv = np.array([float(x) for x in level_vals])
+                    dev = float(np.max(np.abs(ev - lv)) / max(1.0, float(np.max(np.abs(ev)))))
+                    if dev > 1e-9:
+                        _fail(f"sector ({n_up},{n_dn}) at {pt}: levels differ from float64 "
+                              f"eigenvalues by {dev:.2e}")
+                    worst["float"] = max(worst["float"], dev)
+    report.add("mpmath eigenvalues of unreduced sectors", f"sectors with dim <= {MP_DIM}",
+               points, worst["mp"])
+    report.add("exact sector characteristic polynomial", f"sectors {MP_DIM} < dim <= {EXACT_DIM}",
+               points, 0.0)
+    report.add("float64 eigenvalues of unreduced sectors", f"sectors {EXACT_DIM} < dim <= {FLOAT_DIM}",
+               points[:1], worst["float"])
+    report.add("sum rules Tr H, Tr H^2", "every sector with dim <= %d" % FLOAT_DIM, worst=0.0)
+    return report
+
+
+def _check_sum_rules(spectrum, members, terms, dim, sector):
+    tr1, tr2 = _traces(spectrum.model, terms, dim)
+    s1 = sympy.Integer(0)
+    s2 = sympy.Integer(0)
+    groups = {}
+    for li, share in members:
+        p = spectrum.levels[li].polynomial
+        groups.setdefault(id(p), [p, 0, share])[1] += 1
+    for p, count, share in groups.values():
+        dp = sympy.Poly(p.as_expr(), ENERGY).degree()
+        if count != dp:
+            # roots of one factor split across different multiplicities: sum them one by one
+            raise VerificationError(
+                f"verification failed: sector {sector} holds {count} of the {dp} roots of one "
+                "factor; the result was discarded")
+        e1, e2 = _power_sums(p)
+        s1 += share * e1
+        s2 += share * e2
+    if sympy.expand(s1 - tr1) != 0 or sympy.expand(s2 - tr2) != 0:
+        _fail(f"sector {sector}: sum rule sum(deg*E^m) = Tr H^m (m = 1, 2) violated")
