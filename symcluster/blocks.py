@@ -24,7 +24,7 @@ import sympy
 from .algebra.block import LinearBlock
 from .errors import VerificationError
 from .fock import sector_states
-from .linalg import apply_op, kernel_of, reduce_basis
+from .linalg import check_reduced, kernel_of, reduce_basis
 from .operators import apply_eta_minus, apply_hamiltonian, apply_s_plus
 from .symmetry.spin import eta_symmetry, has_spin_symmetry, shift_expr
 
@@ -111,41 +111,59 @@ def sectors_to_solve(n_sites, plan, electrons=None):
     return out
 
 
-def _matrix_of_h(model, vectors, pivots):
-    """H restricted to span(vectors) in the reduced basis; checks invariance exactly."""
-    index = {p: k for k, p in enumerate(pivots)}
+def _matrix_of_h(model, vectors, pivots, rng=None):
+    """H restricted to span(vectors) in the reduced basis.
+
+    Entry (i, j) is (H w_j) at pivot i divided by w_i's pivot value; only the
+    rows of H at the pivots are needed (H is real symmetric in the Fock
+    basis).  Invariance of the span is then checked exactly on a random
+    integer combination of the basis vectors.
+    """
+    import random
+    rng = rng or random.Random(len(vectors))
+    k = len(vectors)
     terms = {}
-    for j, v in enumerate(vectors):
-        hv = {}
-        for s, c in v.items():
-            for s2, row in apply_hamiltonian(model, *s).items():
-                tgt = hv.setdefault(s2, {})
-                for lab, a in row.items():
-                    tgt[lab] = tgt.get(lab, 0) + a * c
-        # coordinates at the pivots, then an exact residual check
-        coords = {}
-        for p, k in index.items():
-            row = hv.get(p)
-            if row:
-                for lab, a in row.items():
-                    if a:
-                        coords.setdefault(lab, {})[k] = Fraction(a)
-        residual = {s: dict(r) for s, r in hv.items()}
-        for lab, col in coords.items():
-            for k, a in col.items():
-                for s, x in vectors[k].items():
-                    tgt = residual.setdefault(s, {})
-                    tgt[lab] = tgt.get(lab, 0) - a * x
-        for s, r in residual.items():
-            if any(x != 0 for x in r.values()):
-                raise VerificationError(
-                    f"internal error: reduced basis is not invariant under H at state {s}; "
-                    "please report this cluster")
-        for lab, col in coords.items():
-            mat = terms.setdefault(lab, {})
-            for k, a in col.items():
-                mat[(k, j)] = a
-    return LinearBlock(len(vectors), terms)
+    for i, p in enumerate(pivots):
+        piv_val = vectors[i][p]
+        row = apply_hamiltonian(model, *p)          # H|p> = sum_s H[s,p] |s> ; H[p,s] = H[s,p]
+        for j, w in enumerate(vectors):
+            acc = {}
+            for s, labs in row.items():
+                x = w.get(s)
+                if x:
+                    for lab, a in labs.items():
+                        acc[lab] = acc.get(lab, 0) + a * x
+            for lab, v in acc.items():
+                if v:
+                    terms.setdefault(lab, {})[(i, j)] = Fraction(v, piv_val)
+    # exact invariance check on a random combination r = sum a_j w_j
+    coeffs = [rng.randint(-9, 9) or 1 for _ in range(k)]
+    r = {}
+    for a, w in zip(coeffs, vectors):
+        for s, x in w.items():
+            r[s] = r.get(s, 0) + a * x
+    hr = {}
+    for s, x in r.items():
+        if x:
+            for s2, labs in apply_hamiltonian(model, *s).items():
+                tgt = hr.setdefault(s2, {})
+                for lab, a in labs.items():
+                    tgt[lab] = tgt.get(lab, 0) + a * x
+    for lab, mat in terms.items():
+        col = {}
+        for (i, j), v in mat.items():
+            col[i] = col.get(i, 0) + v * coeffs[j]
+        for i, c in col.items():
+            if c:
+                for s, x in vectors[i].items():
+                    tgt = hr.setdefault(s, {})
+                    tgt[lab] = tgt.get(lab, 0) - c * x
+    for s, labs in hr.items():
+        if any(v != 0 for v in labs.values()):
+            raise VerificationError(
+                f"internal error: reduced basis is not invariant under H (state {s}); "
+                "please report this cluster")
+    return LinearBlock(k, terms)
 
 
 def _irrep_times_char(lattice, irrep, char):
@@ -167,15 +185,18 @@ def build_blocks(model, plan, electrons=None, report=None):
         states = sector_states(L, n_up, n_dn)
         n = n_up + n_dn
         if plan.lattice is not None:
-            from .symmetry.lattice import adapted_basis
+            from .symmetry.lattice import adapted_basis, state_orbits
+            orbits = state_orbits(states, plan.lattice.group)
             parts = []
             for irrep in plan.lattice.irreps:
-                vecs = adapted_basis(states, plan.lattice.group, irrep)
+                vecs = adapted_basis(states, plan.lattice.group, irrep, orbits=orbits)
                 if vecs:
-                    v, p = reduce_basis([{s: Fraction(c) for s, c in x.items()} for x in vecs])
-                    parts.append((irrep, v, p))
+                    piv = [next(iter(v)) for v in vecs]
+                    if not check_reduced(vecs, piv):
+                        vecs, piv = reduce_basis(vecs)
+                    parts.append((irrep, vecs, piv))
         else:
-            parts = [(None, [{s: Fraction(1)} for s in states], list(states))]
+            parts = [(None, [{s: 1} for s in states], list(states))]
         sizes = {"sector": (n_up, n_dn), "sector_dim": len(states), "steps": []}
         if plan.lattice is not None:
             sizes["steps"].append(("lattice", max((len(v) for _, v, _ in parts), default=0)))

@@ -1,30 +1,26 @@
-"""Exact sparse linear algebra on Fock-space vectors.
+"""Exact sparse linear algebra on Fock-space vectors, in integers.
 
-A vector is a dict {state: Fraction}.  A *reduced basis* is a list of vectors
-together with one pivot state per vector such that vector i has coefficient 1
-at its own pivot and 0 at every other vector's pivot; coordinates of any
-vector of the span are then read off at the pivots.
+A vector is a dict {state: int}.  A *reduced basis* is a list of integer
+vectors with one pivot state each: vector i is non-zero at its own pivot and
+zero at every other vector's pivot.  The coordinate of a vector of the span
+along basis vector i is then its value at pivot i divided by the pivot value.
 """
 
-from fractions import Fraction
+from math import gcd
 
 import flint
 
-__all__ = ["reduce_basis", "kernel_of", "coordinates", "apply_op"]
+__all__ = ["reduce_basis", "kernel_of", "apply_op", "check_reduced", "primitive"]
 
 
-def _rref_rows(rows, columns):
-    """Exact RREF of the given dense rows (lists of Fractions); returns (R rows, pivot cols)."""
-    m, n = len(rows), len(columns)
-    mat = flint.fmpq_mat(m, n, [flint.fmpq(x.numerator, x.denominator) for r in rows for x in r])
-    red, rank = mat.rref()
-    pivots = []
-    out = []
-    for r in range(rank):
-        row = [Fraction(int(red[r, c].p), int(red[r, c].q)) for c in range(n)]
-        pivots.append(next(c for c in range(n) if row[c] != 0))
-        out.append(row)
-    return out, pivots
+def primitive(vec):
+    """Divide an integer vector by the gcd of its entries (sign kept)."""
+    g = 0
+    for x in vec.values():
+        g = gcd(g, x)
+        if g == 1:
+            return vec
+    return {s: x // g for s, x in vec.items()} if g > 1 else vec
 
 
 def _components(vectors):
@@ -52,27 +48,50 @@ def _components(vectors):
     return list(groups.values())
 
 
-def reduce_basis(vectors, order=None):
-    """Reduced basis (vectors, pivots) spanning the same space as ``vectors``.
+def _rref(rows, ncols):
+    """Integer RREF: returns (R as list of int rows, den, pivot columns); R/den is the RREF."""
+    mat = flint.fmpz_mat(len(rows), ncols, [x for r in rows for x in r])
+    red, den, rank = mat.rref()
+    out, piv = [], []
+    for r in range(rank):
+        row = [int(red[r, c]) for c in range(ncols)]
+        piv.append(next(c for c in range(ncols) if row[c]))
+        out.append(row)
+    return out, int(den), piv
 
-    Works component by component (vectors with disjoint supports never mix).
-    ``order`` is an optional key for the states (pivots are chosen earliest).
-    """
+
+def reduce_basis(vectors):
+    """Reduced basis (vectors, pivots) with the same span, component by component."""
     out_vecs, out_piv = [], []
     for group in _components(vectors):
-        states = sorted({s for k in group for s in vectors[k]}, key=order)
+        states = sorted({s for k in group for s in vectors[k]})
         idx = {s: c for c, s in enumerate(states)}
         rows = []
         for k in group:
-            row = [Fraction(0)] * len(states)
+            row = [0] * len(states)
             for s, c in vectors[k].items():
-                row[idx[s]] = Fraction(c)
+                row[idx[s]] = c
             rows.append(row)
-        red, piv = _rref_rows(rows, states)
+        red, _, piv = _rref(rows, len(states))
         for row, p in zip(red, piv):
-            out_vecs.append({states[c]: x for c, x in enumerate(row) if x})
+            out_vecs.append(primitive({states[c]: x for c, x in enumerate(row) if x}))
             out_piv.append(states[p])
     return out_vecs, out_piv
+
+
+def check_reduced(vectors, pivots):
+    """True iff every vector is non-zero at its pivot and zero at all other pivots."""
+    pset = {p: i for i, p in enumerate(pivots)}
+    if len(pset) != len(pivots):
+        return False
+    for i, v in enumerate(vectors):
+        if not v.get(pivots[i]):
+            return False
+        for s in v:
+            j = pset.get(s)
+            if j is not None and j != i:
+                return False
+    return True
 
 
 def apply_op(op, vector):
@@ -85,38 +104,31 @@ def apply_op(op, vector):
 
 
 def kernel_of(op, vectors, pivots):
-    """Reduced basis of {sum_i c_i v_i : op(sum c_i v_i) = 0}.
+    """Reduced integer basis of {sum_i c_i v_i : op(sum c_i v_i) = 0}.
 
-    The result is again in reduced form, with pivots a subset of ``pivots``.
+    The result is again reduced, with pivots a subset of ``pivots``.
     """
-    k = len(vectors)
-    if k == 0:
+    if not vectors:
         return [], []
     images = [apply_op(op, v) for v in vectors]
-    targets = sorted({s for im in images for s in im})
-    if not targets:
-        return list(vectors), list(pivots)
-    # columns = basis vectors; we need the nullspace of the (targets x k) matrix.
-    # Split into independent column groups by shared target states.
-    col_groups = _components(images)
-    zero_cols = [g[0] for g in col_groups if not images[g[0]]]
     new_vecs, new_piv = [], []
-    for c in zero_cols:
-        new_vecs.append(vectors[c])
-        new_piv.append(pivots[c])
-    for group in col_groups:
+    for group in _components(images):
         if len(group) == 1 and not images[group[0]]:
+            new_vecs.append(vectors[group[0]])
+            new_piv.append(pivots[group[0]])
             continue
         rows_states = sorted({s for c in group for s in images[c]})
         ridx = {s: r for r, s in enumerate(rows_states)}
-        dense = [[Fraction(0)] * len(group) for _ in rows_states]
+        dense = [[0] * len(group) for _ in rows_states]
         for cc, c in enumerate(group):
             for s, a in images[c].items():
-                dense[ridx[s]][cc] = Fraction(a)
-        red, piv_cols = _rref_rows(dense, group) if rows_states else ([], [])
-        free = [cc for cc in range(len(group)) if cc not in set(piv_cols)]
-        for f in free:
-            comb = {group[f]: Fraction(1)}
+                dense[ridx[s]][cc] = a
+        red, den, piv_cols = _rref(dense, len(group))
+        pset = set(piv_cols)
+        for f in range(len(group)):
+            if f in pset:
+                continue
+            comb = {group[f]: den}
             for row, pc in zip(red, piv_cols):
                 if row[f]:
                     comb[group[pc]] = -row[f]
@@ -124,11 +136,6 @@ def kernel_of(op, vectors, pivots):
             for c, a in comb.items():
                 for s, x in vectors[c].items():
                     vec[s] = vec.get(s, 0) + a * x
-            new_vecs.append({s: x for s, x in vec.items() if x})
+            new_vecs.append(primitive({s: x for s, x in vec.items() if x}))
             new_piv.append(pivots[group[f]])
     return new_vecs, new_piv
-
-
-def coordinates(vector, pivots):
-    """Coordinates of ``vector`` (assumed in the span) in a reduced basis."""
-    return [vector.get(p, 0) for p in pivots]

@@ -7,7 +7,7 @@ import sympy
 from .algebra.block import ENERGY
 from .algebra.charpoly import charpoly
 from .algebra.factor import factor_charpoly
-from .algebra.roots import roots_of
+from .algebra.roots import ImplicitRoot, roots_of
 from .blocks import build_blocks, eta_member_irrep, plan_symmetries
 from .errors import ModelError, VerificationError
 from .models import Model
@@ -43,10 +43,10 @@ def solve_block(spec, names):
 
 
 def _shift_poly(poly, shift):
-    """P(E - shift) as a Poly in the same generators."""
+    """P(E - shift) as a Poly in the same generators (composition in the first generator)."""
     if shift == 0:
         return poly
-    return sympy.Poly(poly.as_expr().subs(ENERGY, ENERGY - shift), *poly.gens)
+    return poly.compose(sympy.Poly(poly.gens[0] - shift, *poly.gens))
 
 
 def solve(model, electrons=None, verify=True, lattice=True, digits=30, seed=None,
@@ -121,9 +121,12 @@ def solve(model, electrons=None, verify=True, lattice=True, digits=30, seed=None
                         qn["k"] = irr.momentum
                 poly = _shift_poly(fac, k * shift) if k else fac
                 for r in roots:
-                    energy = r + k * shift if k else r
-                    if k and hasattr(r, "numeric"):
-                        energy = type(r)(poly, r.index)
+                    if not k:
+                        energy = r
+                    elif isinstance(r, ImplicitRoot):
+                        energy = ImplicitRoot(poly, r.index)
+                    else:
+                        energy = r + k * shift
                     levels.append(Level(energy, deg, qn, poly, None,
                                         block=f"{spec.sector}:{spec.labels.get('irrep', '')}"))
     levels.sort(key=lambda l: (l.quantum_numbers["N"], str(l.quantum_numbers)))

@@ -1,0 +1,168 @@
+"""Exact factorization of characteristic polynomials over the rationals.
+
+python-flint's ``fmpz_mpoly`` factorization does the work; sympy's ``factor_list`` is
+the fallback when python-flint is missing.  Conversions go through plain
+``{monomial: int}`` dictionaries.
+"""
+
+from __future__ import annotations
+
+from fractions import Fraction
+from math import lcm
+
+import sympy
+from sympy.polys.domains import ZZ
+
+from symcluster.errors import ModelError
+
+try:
+    import flint
+
+    HAVE_FLINT = True
+except ImportError:  # pragma: no cover
+    flint = None
+    HAVE_FLINT = False
+
+__all__ = ["factor_charpoly", "content_and_factors", "to_integer_dict"]
+
+
+def to_integer_dict(poly):
+    """Clear denominators of a sympy Poly.
+
+    Parameters
+    ----------
+    poly : sympy.Poly
+        Over ``ZZ`` or ``QQ``.
+
+    Returns
+    -------
+    scale : fractions.Fraction
+        Positive rational with ``poly == scale * sum(c * monomial)``.
+    rep : dict[tuple[int, ...], int]
+        Integer coefficients of the primitive integer multiple of `poly`.
+
+    Raises
+    ------
+    ModelError
+        If the coefficient domain is not ``ZZ`` or ``QQ``.
+    """
+    if not (poly.domain.is_ZZ or poly.domain.is_QQ):
+        raise ModelError(
+            f"polynomial domain {poly.domain} is not ZZ or QQ; build the polynomial with "
+            "rational coefficients"
+        )
+    raw = {m: Fraction(int(c.numerator), int(c.denominator)) if poly.domain.is_QQ else Fraction(int(c))
+           for m, c in poly.as_dict(native=True).items()}
+    if not raw:
+        return Fraction(0), {}
+    den = 1
+    for c in raw.values():
+        den = lcm(den, c.denominator)
+    ints = {m: int(c * den) for m, c in raw.items()}
+    g = 0
+    for c in ints.values():
+        g = _gcd(g, c)
+    rep = {m: c // g for m, c in ints.items()}
+    return Fraction(g, den), rep
+
+
+def _gcd(a, b):
+    while b:
+        a, b = b, a % b
+    return abs(a)
+
+
+def _normalize(rep):
+    """Make the lex-leading coefficient (E first) positive; return (sign, rep)."""
+    lead = max(rep)
+    if rep[lead] < 0:
+        return -1, {m: -c for m, c in rep.items()}
+    return 1, rep
+
+
+def content_and_factors(poly):
+    """Factor `poly` over Q into a rational constant and integer irreducible factors.
+
+    Parameters
+    ----------
+    poly : sympy.Poly
+        Nonzero polynomial over ``ZZ`` or ``QQ`` in generators ``(E, *couplings)``.
+
+    Returns
+    -------
+    constant : sympy.Rational
+        With ``poly == constant * prod(f**m for f, m in factors)`` exactly.
+    factors : list of (sympy.Poly, int)
+        Distinct irreducible non-constant factors over ``ZZ`` (primitive, lex-leading
+        coefficient positive, same generators as `poly`), with multiplicities, sorted
+        by (degree in E, lex representation).
+
+    Raises
+    ------
+    ModelError
+        For the zero polynomial or a non-rational domain.
+    """
+    if poly.is_zero:
+        raise ModelError("cannot factor the zero polynomial; check the block it came from")
+    scale, rep = to_integer_dict(poly)
+    gens = poly.gens
+    if len(gens) > 0 and HAVE_FLINT:
+        const, facs = _factor_flint(rep, gens)
+    else:  # pragma: no cover - only without python-flint
+        const, facs = _factor_sympy(rep, gens)
+    out = []
+    sign = const
+    for frep, m in facs:
+        s, frep = _normalize(frep)
+        sign *= s**m
+        out.append((sympy.Poly.from_dict({k: ZZ(v) for k, v in frep.items()}, gens, domain=ZZ), m))
+    out.sort(key=lambda fm: (fm[0].degree(gens[0]), sorted(fm[0].as_dict().items())))
+    c = scale * sign
+    return sympy.Rational(c.numerator, c.denominator), out
+
+
+def factor_charpoly(poly):
+    """Irreducible factors over Q of a characteristic polynomial, with multiplicities.
+
+    Parameters
+    ----------
+    poly : sympy.Poly
+        Over ``ZZ`` or ``QQ`` in generators ``(E, *couplings)``.
+
+    Returns
+    -------
+    list of (sympy.Poly, int)
+        Irreducible factors with integer coefficients, primitive, with positive
+        lex-leading coefficient (``E`` is the first generator, so for a factor that
+        contains ``E`` this is the leading coefficient in ``E``, or its own leading
+        term).  Their product equals `poly` up to a rational constant, which is 1 when
+        `poly` is monic in ``E`` with integer coefficients (every integer block's
+        characteristic polynomial); use :func:`content_and_factors` to get it.
+
+    Examples
+    --------
+    >>> E, t = sympy.symbols("E t", real=True)
+    >>> factor_charpoly(sympy.Poly(E**4 - 5*t**2*E**2 + 4*t**4, E, t))
+    [(Poly(E - 2*t, E, t, domain='ZZ'), 1), (Poly(E - t, E, t, domain='ZZ'), 1), (Poly(E + t, E, t, domain='ZZ'), 1), (Poly(E + 2*t, E, t, domain='ZZ'), 1)]
+    """
+    return content_and_factors(poly)[1]
+
+
+def _factor_flint(rep, gens):
+    names = tuple(f"x{i}" for i in range(len(gens)))
+    ctx = flint.fmpz_mpoly_ctx.get(names, "lex")
+    p = ctx.from_dict(rep)
+    const, facs = p.factor()
+    out = []
+    for f, m in facs:
+        out.append(({tuple(int(e) for e in k): int(v) for k, v in f.to_dict().items()}, int(m)))
+    return int(const), out
+
+
+def _factor_sympy(rep, gens):  # pragma: no cover - only without python-flint
+    expr_poly = sympy.Poly.from_dict({k: ZZ(v) for k, v in rep.items()}, gens, domain=ZZ)
+    const, facs = expr_poly.factor_list()
+    out = []
+    for f, m in facs:
+        out.append(({k: int(v) for k, v in f.as_dict().items()}, int(m)))
+    return int(const), out

@@ -1,0 +1,557 @@
+"""Roots of characteristic-polynomial factors: real closed forms or exact implicit roots.
+
+:func:`roots_of` returns, for a polynomial ``P(E, couplings)`` with integer (or rational)
+coefficients, exactly ``deg_E P`` energies: sympy expressions for irreducible factors of
+degree ≤ 4 whose leading coefficient in ``E`` is a constant, :class:`ImplicitRoot`
+objects otherwise.  Every closed form uses only real intermediate quantities (square
+roots of non-negative numbers, ``acos`` of numbers in [−1, 1]) for every real coupling
+point at which the polynomial is real-rooted, and the returned list equals the roots
+*as a multiset* at every such point where the expression is defined.  Expressions are
+undefined (0/0) only on a lower-dimensional set where several roots coincide, for
+homogeneous polynomials in two couplings typically only at the origin.  Individual
+entries are not tied to a fixed rank: where a square root was pulled out of a
+polynomial factor ``f`` (``sqrt(f**2 g) -> f sqrt(g)``) the ``±`` branches swap where
+``f < 0``; the list is ascending wherever those factors are positive.
+
+The numerical side (:meth:`ImplicitRoot.numeric`, :func:`verify_roots`) isolates real
+roots with python-flint's certified complex root finder (ball arithmetic) on the
+integer polynomial obtained by substituting an exact rational point.
+"""
+
+from __future__ import annotations
+
+import functools
+from fractions import Fraction
+from math import lcm
+
+import mpmath
+import sympy
+from sympy.polys.domains import QQ, ZZ
+
+from symcluster.algebra.factor import content_and_factors, to_integer_dict
+from symcluster.errors import ModelError, VerificationError
+
+try:
+    import flint
+except ImportError:  # pragma: no cover
+    flint = None
+
+__all__ = ["ImplicitRoot", "roots_of", "verify_roots", "real_roots_at"]
+
+_DUMMY = sympy.Dummy("one")
+
+
+# --------------------------------------------------------------------------- numerics
+
+
+def _point_values(gens, point):
+    """Exact Fractions for each generator in `gens` from a point dict (Symbol or name keys)."""
+    vals = []
+    for s in gens:
+        if s in point:
+            v = point[s]
+        elif s.name in point:
+            v = point[s.name]
+        else:
+            raise ModelError(
+                f"point {point!r} gives no value for coupling {s.name!r}; add {s.name!r} to it"
+            )
+        if isinstance(v, bool):
+            v = None
+        if isinstance(v, (int, Fraction)):
+            vals.append(Fraction(v))
+        elif isinstance(v, sympy.Rational):
+            vals.append(Fraction(int(v.p), int(v.q)))
+        else:
+            raise ModelError(
+                f"value {v!r} for coupling {s.name!r} is not an exact rational; "
+                "use sympy.Rational, int or fractions.Fraction"
+            )
+    return vals
+
+
+def _univariate_ints(terms, deg, vals):
+    """Integer coefficients (ascending) of ``P(E, vals)`` up to a positive factor."""
+    coeffs = [Fraction(0)] * (deg + 1)
+    for mon, c in terms:
+        x = Fraction(c)
+        for v, e in zip(vals, mon[1:]):
+            if e:
+                x *= v**e
+        coeffs[mon[0]] += x
+    den = 1
+    for c in coeffs:
+        den = lcm(den, c.denominator)
+    return tuple(int(c * den) for c in coeffs)
+
+
+def _exact_mid(ball):
+    man, exp = ball.mid().man_exp()
+    man, exp = int(man), int(exp)
+    return Fraction(man * 2**exp) if exp >= 0 else Fraction(man, 2**-exp)
+
+
+@functools.lru_cache(maxsize=4096)
+def _isolate(coeffs, digits):
+    """Certified real roots (ascending, with multiplicity) of an integer polynomial.
+
+    Returns a tuple of ``(mantissa, exponent)`` pairs and the number of non-real roots.
+    """
+    fp = flint.fmpz_poly(list(coeffs))
+    bits = int(digits * 3.33) + 24
+    prec = bits + 32
+    for _ in range(8):
+        with flint.ctx.workprec(prec):
+            roots = fp.complex_roots()
+        real = [(c.real, m) for c, m in roots if c.imag.is_zero()]
+        nonreal = sum(m for c, m in roots if not c.imag.is_zero())
+        real.sort(key=lambda rm: _exact_mid(rm[0]))
+        ok = True
+        for r, _m in real:
+            if r.rad() != 0 and not (r.rad() * 2**bits <= abs(r.mid())):
+                ok = False
+        for (r1, _), (r2, _) in zip(real, real[1:]):
+            if not (r1.upper() < r2.lower()):
+                ok = False
+        if ok:
+            out = []
+            for r, m in real:
+                man, exp = r.mid().man_exp()
+                out.extend([(int(man), int(exp))] * m)
+            return tuple(out), nonreal
+        prec *= 2
+    raise VerificationError(  # pragma: no cover - needs pathological input
+        f"could not isolate the real roots of {coeffs!r} to {digits} digits; lower digits"
+    )
+
+
+def real_roots_at(poly, point, digits=30):
+    """Certified real roots of ``poly(E, point)``, ascending, with multiplicity.
+
+    Parameters
+    ----------
+    poly : sympy.Poly
+        In generators ``(E, *couplings)``, rational coefficients.
+    point : dict
+        Exact rational value for each coupling (keys: Symbols or their names).
+    digits : int
+        Requested correct significant digits.
+
+    Returns
+    -------
+    list of mpmath.mpf
+        Rounded to `digits` digits.
+
+    Raises
+    ------
+    VerificationError
+        If the degree in E drops at the point or some root is not real.
+    """
+    deg = poly.degree(poly.gens[0])
+    _, rep = to_integer_dict(poly)
+    vals = _point_values(poly.gens[1:], point)
+    coeffs = _univariate_ints(tuple(rep.items()), deg, vals)
+    return _roots_from_coeffs(coeffs, deg, digits, poly, point)
+
+
+def _roots_from_coeffs(coeffs, deg, digits, poly, point):
+    if deg < 0 or coeffs[-1] == 0:
+        raise VerificationError(
+            f"leading coefficient of {poly.as_expr()} in {poly.gens[0]} vanishes at {point}; "
+            "choose another parameter point"
+        )
+    found, nonreal = _isolate(coeffs, int(digits))
+    if nonreal:
+        raise VerificationError(
+            f"{poly.as_expr()} has {nonreal} non-real root(s) at {point}, but levels of a "
+            "Hermitian block must be real; check the block or the factor"
+        )
+    with mpmath.workdps(digits):
+        return [+mpmath.mpf(me) for me in found]
+
+
+# --------------------------------------------------------------------------- implicit roots
+
+
+class ImplicitRoot:
+    """The ``index``-th real root (0-based, ascending) of an irreducible polynomial.
+
+    Parameters
+    ----------
+    poly : sympy.Poly
+        Irreducible over Q, integer coefficients, generators ``(E, *couplings)``.
+    index : int
+        ``0 <= index < degree``: rank of the root among the real roots in ascending
+        order at the evaluation point.
+
+    Attributes
+    ----------
+    poly, index : as given
+    symbols : tuple of sympy.Symbol
+        The coupling generators ``poly.gens[1:]``.
+    free_symbols : set of sympy.Symbol
+        Couplings that actually occur in `poly`.
+    degree : int
+        Degree of `poly` in ``E``.
+
+    Examples
+    --------
+    >>> E, U = sympy.symbols("E U", real=True)
+    >>> r = ImplicitRoot(sympy.Poly(E**5 - 5*E**3 + 4*E - U, E, U), 4)
+    >>> r.numeric({U: sympy.Integer(0)}, digits=15)
+    mpf('2.0')
+    >>> print(r.latex())
+    \\operatorname{root}_{5}\\left[E^{5} - 5 E^{3} + 4 E - U\\right]
+    """
+
+    __slots__ = ("poly", "index", "_terms", "_key")
+
+    def __init__(self, poly, index):
+        if not isinstance(poly, sympy.Poly):
+            raise ModelError(f"ImplicitRoot needs a sympy.Poly, got {type(poly).__name__}; wrap it in Poly(expr, E, ...)")
+        if not poly.domain.is_ZZ:
+            scale, rep = to_integer_dict(poly)
+            poly = sympy.Poly.from_dict({k: ZZ(v) for k, v in rep.items()}, poly.gens, domain=ZZ)
+        deg = poly.degree(poly.gens[0])
+        if not (isinstance(index, int) and 0 <= index < deg):
+            raise ModelError(f"root index {index!r} is outside 0..{deg - 1} for a polynomial of degree {deg} in {poly.gens[0]}")
+        self.poly = poly
+        self.index = index
+        self._terms = tuple((m, int(c)) for m, c in poly.as_dict(native=True).items())
+        self._key = (poly.as_expr(), index)
+
+    @property
+    def symbols(self):
+        return tuple(self.poly.gens[1:])
+
+    @property
+    def free_symbols(self):
+        return set(self.poly.free_symbols) - {self.poly.gens[0]}
+
+    @property
+    def degree(self):
+        return self.poly.degree(self.poly.gens[0])
+
+    def numeric(self, point, digits=30):
+        """Value at an exact rational point, correct to `digits` significant digits.
+
+        Parameters
+        ----------
+        point : dict[sympy.Symbol, sympy.Rational]
+            A value for every coupling in :attr:`symbols` (extra keys are ignored).
+        digits : int
+
+        Returns
+        -------
+        mpmath.mpf
+
+        Raises
+        ------
+        VerificationError
+            If the polynomial is not real-rooted at the point or drops degree there.
+        """
+        vals = _point_values(self.poly.gens[1:], point)
+        coeffs = _univariate_ints(self._terms, self.degree, vals)
+        roots = _roots_from_coeffs(coeffs, self.degree, digits, self.poly, point)
+        return roots[self.index]
+
+    def latex(self, var="E"):
+        r"""LaTeX ``\operatorname{root}_{k}\left[P(E)\right]``: the k-th smallest real root of P(E) = 0.
+
+        ``k = index + 1`` is 1-based in the printed form.
+        """
+        return rf"\operatorname{{root}}_{{{self.index + 1}}}\left[{_latex_in_E(self.poly, var)}\right]"
+
+    def __eq__(self, other):
+        return isinstance(other, ImplicitRoot) and self._key == other._key
+
+    def __hash__(self):
+        return hash(("ImplicitRoot",) + self._key)
+
+    def __repr__(self):
+        return f"ImplicitRoot({self.poly.as_expr()}, index={self.index})"
+
+
+def _latex_in_E(poly, var):
+    """Polynomial in descending powers of E, coefficients in the couplings."""
+    v = sympy.Symbol(var)
+    groups = {}
+    for mon, c in poly.as_dict().items():
+        groups.setdefault(mon[0], {})[mon[1:]] = c
+    parts = []
+    for k in sorted(groups, reverse=True):
+        if len(poly.gens) > 1:
+            coeff = sympy.Poly.from_dict(groups[k], poly.gens[1:], domain=poly.domain).as_expr()
+        else:
+            coeff = sympy.sympify(groups[k][()])
+        power = "" if k == 0 else (sympy.latex(v) if k == 1 else f"{sympy.latex(v)}^{{{k}}}")
+        if coeff.is_Add:
+            body = rf"\left({sympy.latex(coeff)}\right) {power}".rstrip()
+            sign = "+"
+        else:
+            neg = coeff.could_extract_minus_sign()
+            c = -coeff if neg else coeff
+            sign = "-" if neg else "+"
+            if c == 1 and power:
+                body = power
+            else:
+                body = f"{sympy.latex(c)} {power}".rstrip()
+        parts.append((sign, body))
+    out = ("- " if parts[0][0] == "-" else "") + parts[0][1]
+    for sign, body in parts[1:]:
+        out += f" {sign} {body}"
+    return out
+
+
+# --------------------------------------------------------------------------- closed forms
+
+
+def _coeffs_in_E(poly):
+    """Coefficients of E^k (ascending) as Polys over QQ in the couplings (or a dummy)."""
+    cgens = tuple(poly.gens[1:]) or (_DUMMY,)
+    deg = poly.degree(poly.gens[0])
+    groups = [dict() for _ in range(deg + 1)]
+    for mon, c in poly.as_dict(native=True).items():
+        key = mon[1:] if len(poly.gens) > 1 else (0,)
+        groups[mon[0]][key] = QQ.convert_from(c, poly.domain)
+    return cgens, [sympy.Poly.from_dict(g, cgens, domain=QQ) for g in groups]
+
+
+def _expr(P):
+    return P.as_expr()
+
+
+def _sqrt_split(P):
+    """Return ``(c, f, g)`` with ``P = c f**2 g``: c > 0 Rational, f and g integer Polys."""
+    one = sympy.Poly(1, *P.gens, domain=QQ)
+    if P.is_zero:
+        return sympy.Integer(0), one, one
+    const, facs = content_and_factors(P)
+    f, g = one, one
+    for h, m in facs:
+        h = h.set_domain(QQ)
+        f = f * h ** (m // 2)
+        g = g * h ** (m % 2)
+    if const < 0:
+        const, g = -const, -g
+    return const, f, g
+
+
+def _sqrt_expr(P):
+    """An expression S with ``S**2 == P`` (up to the sign of pulled-out factors)."""
+    c, f, g = _sqrt_split(P)
+    return sympy.sqrt(c) * _expr(f) * sympy.sqrt(_expr(g))
+
+
+def _trig_cubic(P, Q, ordered):
+    """Roots of ``w**3 + P w + Q`` (P, Q Polys) in the real-rooted case.
+
+    ``w_k = 2 rho cos(acos(-Q / (2 rho**3)) / 3 - 2 pi k / 3)`` with ``rho = sqrt(-P/3)``,
+    listed for k = 2, 1, 0 (ascending when ``rho >= 0``).  A square factor ``f**2`` of
+    ``-P/3`` is pulled out of the root, and ``f**3`` is cancelled against ``Q`` when it
+    divides it, so the form stays defined where the roots merge along ``f = 0``.
+
+    With ``ordered=False`` the factor is used as ``f``: the multiset of the three values
+    is still right for ``f < 0`` (replacing rho by -rho and Q by -Q negates every root
+    and the negated cubic's roots are the negated roots), and the form is shorter.
+    With ``ordered=True`` it is used as ``|f|`` (and ``Q / |f|**3 = sign(f) Q / f**3``),
+    which keeps the list ascending everywhere.
+    """
+    m = -P * sympy.Rational(1, 3)
+    c, f, g = _sqrt_split(m)
+    fe = _expr(f)
+    sg = sympy.sqrt(_expr(g))
+    use_abs = ordered and not f.is_ground
+    rho = sympy.sqrt(c) * (sympy.Abs(fe) if use_abs else fe) * sg
+    quo, rem = Q.div(f**3)
+    if rem.is_zero:
+        sgn = sympy.sign(fe) if use_abs else sympy.Integer(1)
+        arg = -sgn * _expr(quo) / (2 * c ** sympy.Rational(3, 2) * sg**3)
+    else:
+        arg = -_expr(Q) / (2 * rho**3)
+    theta = sympy.acos(arg)
+    return [2 * rho * sympy.cos(theta / 3 - 2 * sympy.pi * k / 3) for k in (2, 1, 0)]
+
+
+def _roots_linear(cf):
+    return [-_expr(cf[0]) / _expr(cf[1])]
+
+
+def _roots_quadratic(cf):
+    c, b, a = cf
+    S = _sqrt_expr(b**2 - 4 * a * c)
+    a2 = 2 * _expr(a)
+    mid = -_expr(b) / a2
+    return [mid - S / a2, mid + S / a2]
+
+
+def _roots_cubic(cf):
+    d, c, b, a = [x * (1 / cf[3].LC()) for x in cf]  # monic: a == 1
+    del a
+    p = c - b**2 / 3
+    q = 2 * b**3 / 27 - b * c / 3 + d
+    shift = -_expr(b) / 3
+    return [shift + w for w in _trig_cubic(p, q, ordered=False)]
+
+
+def _roots_quartic(cf):
+    e, d, c, b, a = [x * (1 / cf[4].LC()) for x in cf]
+    del a
+    p = c - 3 * b**2 / 8
+    q = b**3 / 8 - b * c / 2 + d
+    r = e - 3 * b**4 / 256 + b**2 * c / 16 - b * d / 4
+    shift = -_expr(b) / 4
+    if q.is_zero:
+        cr, fr, gr = _sqrt_split(r)
+        if r.is_zero or (gr.is_ground and gr.LC() == 1 and sympy.sqrt(cr).is_Rational):
+            # y^4 + p y^2 + s^2: roots (±sqrt(2s - p) ± sqrt(-2s - p)) / 2
+            s = fr * sympy.sqrt(cr) if not r.is_zero else fr * 0
+            A = _sqrt_expr(2 * s - p)
+            B = _sqrt_expr(-2 * s - p)
+            ys = [(-A - B) / 2, (-A + B) / 2, (A - B) / 2, (A + B) / 2]
+        else:
+            S = _sqrt_expr(p**2 - 4 * r)
+            wm = (-_expr(p) - S) / 2
+            wp = (-_expr(p) + S) / 2
+            ys = [-sympy.sqrt(wp), -sympy.sqrt(wm), sympy.sqrt(wm), sympy.sqrt(wp)]
+        return [shift + y for y in ys]
+    # resolvent z^3 + 2p z^2 + (p^2 - 4r) z - q^2, roots (a1+a2)^2, ... >= 0
+    P = -(p**2) / 3 - 4 * r
+    Q = -2 * p**3 / 27 + 8 * p * r / 3 - q**2
+    zshift = -2 * _expr(p) / 3
+    z2, z1, z0 = [zshift + w for w in _trig_cubic(P, Q, ordered=True)]  # z2 smallest
+    s0, s1, s2 = sympy.sqrt(z0), sympy.sqrt(z1), sympy.sqrt(z2)
+    sig = -sympy.sign(_expr(q))
+    ys = [
+        (-s0 - s1 + sig * s2) / 2,
+        (-s0 + s1 - sig * s2) / 2,
+        (s0 - s1 - sig * s2) / 2,
+        (s0 + s1 + sig * s2) / 2,
+    ]
+    return [shift + y for y in ys]
+
+
+def _roots_irreducible(f, max_closed_degree):
+    E = f.gens[0]
+    deg = f.degree(E)
+    if deg == 0:
+        return []
+    cgens, cf = _coeffs_in_E(f)
+    if deg == 1:
+        return _roots_linear(cf)
+    if deg == 2:
+        return _roots_quadratic(cf)
+    if deg <= max_closed_degree and cf[-1].is_ground:
+        if deg == 3:
+            return _roots_cubic(cf)
+        if deg == 4:
+            return _roots_quartic(cf)
+    return [ImplicitRoot(f, k) for k in range(deg)]
+
+
+def roots_of(poly, max_closed_degree=4):
+    """All roots in ``E`` of a polynomial, as closed forms or implicit roots.
+
+    Parameters
+    ----------
+    poly : sympy.Poly
+        Over ``ZZ`` or ``QQ`` in generators ``(E, *couplings)``; real-rooted at every
+        real coupling point (true for characteristic polynomials of blocks with real
+        spectrum).
+    max_closed_degree : int, optional
+        Irreducible factors of higher degree (at most 4 is used) give
+        :class:`ImplicitRoot` entries; lower it to 2 or 3 for shorter expressions.
+
+    Returns
+    -------
+    list of (sympy.Expr or ImplicitRoot)
+        Exactly ``deg_E(poly)`` entries; each irreducible factor of multiplicity ``m``
+        contributes its roots ``m`` times.  See the module docstring for the validity
+        of the closed forms.
+
+    Examples
+    --------
+    >>> E, t, U = sympy.symbols("E t U", real=True)
+    >>> roots_of(sympy.Poly(E**2 - U*E - 4*t**2, E, t, U))
+    [U/2 - sqrt(U**2 + 16*t**2)/2, U/2 + sqrt(U**2 + 16*t**2)/2]
+    """
+    if not isinstance(poly, sympy.Poly):
+        raise ModelError(f"roots_of needs a sympy.Poly, got {type(poly).__name__}; wrap it in Poly(expr, E, ...)")
+    E = poly.gens[0]
+    if poly.degree(E) <= 0:
+        return []
+    _, facs = content_and_factors(poly)
+    out = []
+    for f, m in facs:
+        out.extend(_roots_irreducible(f, max_closed_degree) * m)
+    return out
+
+
+# --------------------------------------------------------------------------- verification
+
+
+def _eval_root(root, point, digits):
+    if isinstance(root, ImplicitRoot):
+        return mpmath.mpc(root.numeric(point, digits + 5))
+    subs = {}
+    for s in root.free_symbols:
+        vals = _point_values((s,), point)
+        subs[s] = sympy.Rational(vals[0].numerator, vals[0].denominator)
+    # Twice the digits: near coinciding roots acos/sqrt of an argument at the edge of
+    # its domain keep only about half of the working digits.
+    n = 2 * digits + 20
+    re, im = root.xreplace(subs).evalf(n).as_real_imag()
+    with mpmath.workdps(n):
+        return mpmath.mpc(sympy.Float(re, n)._mpf_, sympy.Float(im, n)._mpf_)
+
+
+def verify_roots(poly, roots, points, digits=30):
+    """Check that `roots` are the roots of `poly` (as a multiset) at exact points.
+
+    Parameters
+    ----------
+    poly : sympy.Poly
+        In ``(E, *couplings)``.
+    roots : sequence of (sympy.Expr or ImplicitRoot)
+        Claimed roots, ``deg_E(poly)`` of them.
+    points : iterable of dict
+        Exact rational coupling values.
+    digits : int
+        Precision of the comparison: each root must agree with the certified root of
+        ``poly`` at the point to ``10**-(digits - 5)`` relative to the largest root in
+        magnitude (absolute when all roots vanish); imaginary parts likewise.
+
+    Returns
+    -------
+    float
+        The worst relative deviation seen.
+
+    Raises
+    ------
+    VerificationError
+        On a count mismatch or a deviation above tolerance (the message names the
+        point and the root).
+    """
+    roots = list(roots)
+    deg = poly.degree(poly.gens[0])
+    if len(roots) != deg:
+        raise VerificationError(f"{len(roots)} roots given for a polynomial of degree {deg}; expected one per root")
+    worst = 0.0
+    with mpmath.workdps(digits + 10):
+        tol = mpmath.mpf(10) ** (-(digits - 5))
+        for point in points:
+            ref = real_roots_at(poly, point, digits + 5) if deg else []
+            got = [_eval_root(r, point, digits) for r in roots]
+            scale = max([abs(x) for x in ref] + [mpmath.mpf(0)])
+            scale = scale if scale > 0 else mpmath.mpf(1)
+            got_sorted = sorted(got, key=lambda z: z.real)
+            for k, (g, want) in enumerate(zip(got_sorted, ref)):
+                dev = abs(g - want) / scale
+                worst = max(worst, float(dev))
+                if dev > tol:
+                    raise VerificationError(
+                        f"root #{k} (ascending) of {poly.as_expr()} at {point}: expected "
+                        f"{mpmath.nstr(want, 20)}, the closed form gives {mpmath.nstr(g, 20)}; "
+                        "the root list is wrong for this polynomial"
+                    )
+    return worst

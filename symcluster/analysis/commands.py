@@ -1,0 +1,241 @@
+"""Command-line subcommands for the analysis layer.
+
+``add_commands(subparsers, parents, build_spectrum)`` adds the subcommands
+``ground-map``, ``gaps``, ``series``, ``thermo``, ``plot`` and ``derivative``;
+each sets ``func`` to a callable(args) -> int that builds the spectrum with
+``build_spectrum(args)`` (supplied by the main command line, which also owns
+the model options, passed in through ``parents``) and calls
+:func:`run_analysis`.
+
+Coupling values use a small grammar, never evaluated as code:
+``name=value`` with value an integer, decimal or fraction (``t=1``,
+``U=-2.5``, ``U=7/2``); ranges are ``lo:hi`` with the same numbers.
+"""
+
+import re
+import sys
+from fractions import Fraction
+
+import mpmath
+import sympy
+
+from ..errors import InputError
+
+__all__ = ["add_commands", "run_analysis", "parse_assignment", "parse_range"]
+
+_NUM = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:/\d+)?"
+_ASSIGN = re.compile(rf"^\s*([A-Za-z_][A-Za-z0-9_]*)\s*=\s*({_NUM})\s*$")
+_RANGE = re.compile(rf"^\s*({_NUM})\s*:\s*({_NUM})\s*$")
+
+
+def _number(text, what):
+    if not re.fullmatch(_NUM, text.strip()):
+        raise InputError(f"{what} {text!r} is not a number; write e.g. 4, -2.5 or 7/2")
+    try:
+        return sympy.Rational(Fraction(text.strip()))
+    except ZeroDivisionError:
+        raise InputError(f"{what} {text!r} divides by zero; write e.g. 7/2") from None
+
+
+def parse_assignment(items):
+    """['t=1', 'U=7/2'] -> {'t': Rational(1), 'U': Rational(7, 2)} (exact)."""
+    out = {}
+    for item in items or ():
+        for part in item.split(","):
+            if not part.strip():
+                continue
+            m = _ASSIGN.match(part)
+            if not m:
+                raise InputError(f"coupling value {part!r} is not of the form name=number; "
+                                 "write e.g. t=1 or U=7/2")
+            out[m.group(1)] = _number(m.group(2), f"value of {m.group(1)}")
+    return out
+
+
+def parse_range(text):
+    """'lo:hi' -> (Rational, Rational)."""
+    m = _RANGE.match(text or "")
+    if not m:
+        raise InputError(f"range {text!r} is not of the form lo:hi; write e.g. 0:100 or -20:40")
+    return _number(m.group(1), "lower end"), _number(m.group(2), "upper end")
+
+
+def _common(p, sweep=False, point=False, sector=True):
+    if sector:
+        p.add_argument("--sector", type=int, default=None, metavar="N",
+                       help="electron number (default: all levels)")
+    if sweep:
+        p.add_argument("--coupling", default="U", help="swept coupling (default U)")
+        p.add_argument("--range", default="0:10", help="lo:hi of the swept coupling")
+        p.add_argument("--fixed", nargs="*", default=["t=1"],
+                       help="values of the other couplings, name=number (default t=1)")
+    if point:
+        p.add_argument("--at", nargs="*", default=["t=1", "U=4"],
+                       help="values of every coupling, name=number (default t=1 U=4)")
+    p.add_argument("--digits", type=int, default=30)
+    p.add_argument("--latex", default=None, metavar="FILE", help="also write a LaTeX document")
+
+
+def _add_ground_map(p):
+    _common(p, sweep=True)
+
+
+def _add_gaps(p):
+    _common(p, point=True, sector=False)
+    p.add_argument("--sector", type=int, required=True, metavar="N")
+    p.add_argument("--over", default=None, metavar="NAME:LO:HI",
+                   help="certify the expressions over a coupling range, e.g. U:0:20")
+
+
+def _add_series(p):
+    _common(p, point=True)
+    p.add_argument("--level", type=int, default=0,
+                   help="index of the level in the sector, ascending at --at (default 0)")
+    p.add_argument("--coupling", default="U")
+    p.add_argument("--order", type=int, default=5)
+    p.add_argument("--about", default="oo", help="oo (strong coupling) or a number")
+
+
+def _add_thermo(p):
+    _common(p, point=True)
+    p.add_argument("--temperatures", nargs="+", default=["1/10", "1/2", "1", "2", "10"])
+    p.add_argument("--mu", nargs="+", default=["0"], help="chemical potentials (grand ensemble)")
+    p.add_argument("--field", default="0", help="Zeeman field h, H_Z = -h (N_up - N_dn)")
+
+
+def _add_plot(p):
+    _common(p, sweep=True)
+    p.add_argument("--color-by", default="S", help="quantum number for the colours")
+    p.add_argument("--output", default="levels", help="output stem (.png and .pdf)")
+
+
+def _add_derivative(p):
+    _common(p, point=True)
+    p.add_argument("--level", type=int, default=0)
+    p.add_argument("--coupling", default="U")
+
+
+_COMMANDS = {
+    "ground-map": ("ground state versus one coupling, exact transition points", _add_ground_map),
+    "gaps": ("charge gap, spin gap and pair-binding energy", _add_gaps),
+    "series": ("strong- or weak-coupling series of a level", _add_series),
+    "thermo": ("thermodynamic table versus T (and mu)", _add_thermo),
+    "plot": ("levels versus a coupling, PNG and PDF", _add_plot),
+    "derivative": ("Hellmann-Feynman dE/d(coupling) of a level", _add_derivative),
+}
+
+
+def add_commands(subparsers, parents=(), build_spectrum=None):
+    """Add the analysis subcommands to an argparse subparsers object.
+
+    Parameters
+    ----------
+    subparsers : argparse._SubParsersAction
+    parents : sequence of argparse.ArgumentParser
+        Parsers holding the model options of the main command line.
+    build_spectrum : callable(args) -> Spectrum
+    """
+    for name, (helptext, adder) in _COMMANDS.items():
+        p = subparsers.add_parser(name, help=helptext, description=helptext,
+                                  parents=list(parents))
+        adder(p)
+        p.set_defaults(func=_runner(build_spectrum), analysis=name)
+
+
+def _runner(build_spectrum):
+    def run(args):
+        if build_spectrum is None:
+            raise InputError("no model given to the analysis command; the main command line "
+                             "must pass build_spectrum to add_commands")
+        return run_analysis(build_spectrum(args), args)
+    return run
+
+
+def _level_at(spec, args, pt):
+    levels = spec.levels if args.sector is None else spec.select(N=args.sector)
+    with mpmath.workdps(args.digits):
+        ordered = sorted(levels, key=lambda l: l.numeric(pt, digits=args.digits))
+    if not 0 <= args.level < len(ordered):
+        raise InputError(f"--level {args.level} is out of range; this sector has "
+                         f"{len(ordered)} levels (0..{len(ordered) - 1})")
+    return ordered[args.level]
+
+
+def run_analysis(spec, args, out=None):
+    """Run the subcommand ``args.analysis`` on a spectrum; print text, maybe LaTeX. Returns 0."""
+    from . import analysis_latex as lx
+    from .gaps import charge_gap, pair_binding, spin_gap
+    from .observables import energy_derivative
+    from .series import series
+    from .thermo import thermo_table
+    from .transitions import transitions
+
+    out = out or sys.stdout
+    kind = args.analysis
+    frags = []
+    if kind in ("ground-map", "plot"):
+        rng, fixed = parse_range(args.range), parse_assignment(args.fixed)
+    else:
+        pt = spec.point(parse_assignment(args.at))
+    if kind == "ground-map":
+        pts = transitions(spec, args.sector, args.coupling, rng, fixed)
+        for tr in pts:
+            out.write(f"{args.coupling} = {tr.value}  ~ {mpmath.nstr(tr.numeric(args.digits), args.digits)}"
+                      f"  {tr.below.quantum_numbers} -> {tr.above.quantum_numbers}\n")
+        if not pts:
+            out.write(f"no ground-state change for {args.coupling} in {rng[0]}..{rng[1]}\n")
+        frags.append(lx.latex_transitions(pts, args.digits))
+    elif kind == "gaps":
+        over = None
+        if args.over:
+            name, _, rest = args.over.partition(":")
+            over = (name, parse_range(rest))
+        res = []
+        for fn in (charge_gap, spin_gap, pair_binding):
+            try:
+                res.append(fn(spec, args.sector, pt, over=over, digits=args.digits))
+            except InputError:
+                raise
+            except Exception as exc:  # a gap that does not exist here (e.g. N-1 < 0)
+                out.write(f"{fn.__name__.replace('_', ' ')}: not available ({exc})\n")
+        for g in res:
+            out.write(f"{g.name}: {g.expr} = {mpmath.nstr(g.value, args.digits)} ({g.valid})\n")
+        frags.append(lx.latex_gaps(res, args.digits))
+    elif kind == "series":
+        lev = _level_at(spec, args, pt)
+        about = "oo" if args.about in ("oo", "inf") else _number(args.about, "--about")
+        others = {s.name: v for s, v in pt.items() if s.name != args.coupling}
+        expr = series(lev, args.coupling, args.order, about=about, at=others)
+        out.write(f"{lev.quantum_numbers}: E = {expr} + ...\n")
+        frags.append(lx.latex_series(expr))
+    elif kind == "thermo":
+        temps = [_number(x, "temperature") for x in args.temperatures]
+        mus = [_number(x, "chemical potential") for x in args.mu]
+        rows = thermo_table(spec, {s.name: v for s, v in pt.items()}, temps, args.sector, mus,
+                            _number(args.field, "field"), args.digits)
+        cols = ["T", "mu", "energy", "entropy", "specific_heat", "double_occupancy",
+                "density", "susceptibility"]
+        out.write("\t".join(cols) + "\n")
+        for r in rows:
+            out.write("\t".join(mpmath.nstr(r[c], 12) if isinstance(r[c], mpmath.mpf)
+                                else str(r[c]) for c in cols) + "\n")
+        frags.append(lx.latex_thermo_table(rows))
+    elif kind == "plot":
+        from .plots import plot_levels
+        files = plot_levels(spec, args.output, args.coupling, rng, fixed, args.sector,
+                            args.color_by)
+        out.write("wrote " + ", ".join(files) + "\n")
+    elif kind == "derivative":
+        lev = _level_at(spec, args, pt)
+        d = energy_derivative(lev, args.coupling)
+        out.write(f"{lev.quantum_numbers}: dE/d{args.coupling} = {d.expr}"
+                  f"{' (at E = the level)' if d.implicit else ''} = "
+                  f"{mpmath.nstr(d.numeric(pt, args.digits), args.digits)}\n")
+        frags.append(f"\\[ \\frac{{\\partial E}}{{\\partial {args.coupling}}} = {d.latex()} \\]\n")
+    else:
+        raise InputError(f"unknown analysis {kind!r}; choose one of {', '.join(_COMMANDS)}")
+    if args.latex and frags:
+        with open(args.latex, "w", encoding="utf-8") as fh:
+            fh.write(lx.latex_document(*frags, comment=f"symcluster {kind}"))
+        out.write(f"wrote {args.latex}\n")
+    return 0

@@ -1,0 +1,98 @@
+"""Level diagrams: energies versus one coupling (matplotlib, imported lazily).
+
+``plot_levels`` draws every level of a sector (or all sectors) against the
+swept coupling, coloured by a chosen quantum number, marks the exact
+ground-state transitions with vertical lines, and writes PNG and PDF files.
+Needs the optional extra ``plot`` (matplotlib); the Agg backend is used, so no
+display is required.
+"""
+
+import mpmath
+import sympy
+
+from ..errors import ModelError
+from .observables import level_value
+from .transitions import transitions
+
+__all__ = ["plot_levels"]
+
+
+def _pyplot():
+    try:
+        import matplotlib
+    except ImportError:
+        raise ModelError("plotting needs matplotlib; install the extra: pip install "
+                         "'symcluster[plot]'") from None
+    matplotlib.use("Agg")
+    import matplotlib.pyplot as plt
+    return plt
+
+
+def plot_levels(spec, path, coupling="U", interval=(0, 10), fixed=None, n_electrons=None,
+                color_by="S", mark_transitions=True, n_points=121, title=None):
+    """Plot levels against ``coupling`` and save ``path``.png and ``path``.pdf.
+
+    Parameters
+    ----------
+    spec : Spectrum
+    path : str or pathlib.Path
+        Output stem (a suffix .png/.pdf is replaced).
+    coupling : str
+    interval : (lo, hi)
+    fixed : dict
+        Exact values of the other couplings; a single one equal to 1 becomes
+        the energy unit in the axis labels (e.g. $U/t$, $E/t$).
+    n_electrons : int or None
+    color_by : str
+        Quantum-number key for the colours ("S", "N", "irrep", ...).
+    mark_transitions : bool
+        Draw dashed lines at the exact ground-state transitions.
+    n_points : int
+
+    Returns
+    -------
+    list of str
+        The files written.
+    """
+    import pathlib
+
+    plt = _pyplot()
+    fixed = dict(fixed or {})
+    levels = spec.levels if n_electrons is None else spec.select(N=n_electrons)
+    if not levels:
+        raise ModelError(f"no levels with N={n_electrons}")
+    lo, hi = (sympy.Rational(v) for v in interval)
+    xs = [lo + (hi - lo) * sympy.Rational(i, n_points - 1) for i in range(n_points)]
+    units = [k for k, v in fixed.items() if sympy.Rational(v) == 1]
+    unit = units[0] if len(units) == 1 else None
+    keys = sorted({str(l.quantum_numbers.get(color_by, "?")) for l in levels})
+    cmap = plt.get_cmap("tab10" if len(keys) <= 10 else "viridis")
+    colour = {k: cmap(i % 10 if len(keys) <= 10 else i / max(len(keys) - 1, 1))
+              for i, k in enumerate(keys)}
+    fig, ax = plt.subplots(figsize=(6, 4.5))
+    seen = set()
+    for lev in levels:
+        ys = []
+        for x in xs:
+            pt = spec.point({**fixed, coupling: x})
+            ys.append(float(level_value(lev, pt, 15)))
+        key = str(lev.quantum_numbers.get(color_by, "?"))
+        ax.plot([float(x) for x in xs], ys, color=colour[key], lw=1,
+                label=None if key in seen else f"${color_by} = {key}$")
+        seen.add(key)
+    if mark_transitions:
+        for tr in transitions(spec, n_electrons, coupling, (lo, hi), fixed):
+            ax.axvline(float(tr.numeric(15)), color="k", ls="--", lw=0.8)
+    ax.set_xlabel(f"${coupling}/{unit}$" if unit else f"${coupling}$")
+    ax.set_ylabel(f"$E/{unit}$" if unit else "$E$")
+    if title:
+        ax.set_title(title)
+    ax.legend(fontsize=8, loc="best")
+    fig.tight_layout()
+    stem = pathlib.Path(path).with_suffix("")
+    out = []
+    for ext in (".png", ".pdf"):
+        fig.savefig(str(stem) + ext, dpi=150)
+        out.append(str(stem) + ext)
+    plt.close(fig)
+    return out

@@ -1,0 +1,387 @@
+"""Ground state versus one coupling, with exact transition points.
+
+Method (docs/analysis.md, section "Ground-state map"):
+
+1. Every other coupling is fixed to an exact rational; each level's
+   irreducible polynomial becomes P_i(E, x) with integer coefficients in the
+   swept coupling x.
+2. Two levels can be equal only where Res_E(P_i, P_j)(x) = 0 (or, when the two
+   levels are roots of the same polynomial, where its discriminant in E
+   vanishes).  The real roots of the irreducible factors inside the interval
+   are isolated exactly (rationals, radicals, or sympy ``CRootOf``) and kept
+   only where the two levels really agree (high-precision check).
+3. A sweep from the left end follows the current ground level g: between two
+   consecutive crossings of g with any level nothing can pass below g, so
+   one high-precision evaluation of every level at the midpoint certifies g
+   as the ground there (or hands over to the lower level found).
+4. Neighbouring pieces with the same ground set are merged; the remaining
+   boundaries are the transitions.
+
+Degenerate ground states: the ground "state" on a piece is the *set* of levels
+whose energies equal the minimum there (e.g. several lattice irreps with the
+same polynomial and root).  A transition is a point where that set changes.
+"""
+
+from dataclasses import dataclass
+from fractions import Fraction
+
+import flint
+import mpmath
+import sympy
+
+from ..errors import ModelError
+from .observables import find_symbol, level_polynomial, level_symbols, level_value
+
+__all__ = ["Transition", "GroundPiece", "transitions", "ground_states", "crossings"]
+
+_WORK = 60      # working digits for comparisons
+_TOL = mpmath.mpf(10) ** -40
+
+
+@dataclass
+class Transition:
+    """A point where the ground state changes.
+
+    Attributes
+    ----------
+    value : sympy number
+        Exact location (Rational, radical, or ``CRootOf``) of the coupling.
+    below, above : Level
+        A ground level just below / above the point (representative of the set).
+    below_set, above_set : tuple of Level
+        All levels at the minimum on either side (degenerate ground states).
+    coupling : sympy.Symbol
+    polynomial : sympy.Poly
+        Irreducible integer polynomial in the coupling that ``value`` is a root of.
+    """
+
+    value: object
+    below: object
+    above: object
+    below_set: tuple
+    above_set: tuple
+    coupling: object
+    polynomial: object
+
+    def numeric(self, digits=30):
+        """The transition point as mpmath.mpf with ``digits`` significant digits."""
+        with mpmath.workdps(digits):
+            return +_num(self.value, digits + 10)
+
+    def __repr__(self):
+        qb, qa = self.below.quantum_numbers, self.above.quantum_numbers
+        return (f"Transition({self.coupling} = {self.value} ~ {mpmath.nstr(self.numeric(15), 15)}: "
+                f"{qb} -> {qa})")
+
+
+@dataclass
+class GroundPiece:
+    """The ground set on the open interval (lower, upper) of the swept coupling."""
+
+    lower: object
+    upper: object
+    levels: tuple
+
+
+def _num(value, digits):
+    with mpmath.workdps(digits):
+        return mpmath.mpf(sympy.Float(sympy.N(value, digits + 5), digits + 5)._mpf_)
+
+
+def _rat(x):
+    """An exact sympy Rational from an mpmath number."""
+    sign, man, exp, _bc = mpmath.mpf(x)._mpf_ if not isinstance(x, mpmath.mpf) else x._mpf_
+    return (-1) ** sign * sympy.Integer(man) * sympy.Integer(2) ** exp  # exact, no rounding
+
+
+class _Sweep:
+    """Shared state: the swept symbol, the fixed point, cached polynomials and values."""
+
+    def __init__(self, levels, coupling, interval, fixed):
+        if not levels:
+            raise ModelError("no levels to compare; check n_electrons against the spectrum")
+        syms = sorted({s for l in levels for s in level_symbols(l)}, key=lambda s: s.name)
+        self.x = find_symbol(syms, coupling) if syms else sympy.Symbol(str(coupling), real=True)
+        fixed = dict(fixed or {})
+        self.fixed = {}
+        for key, val in fixed.items():
+            s = find_symbol(syms, key)
+            if s == self.x:
+                raise ModelError(f"coupling {s} is both swept and fixed; drop it from fixed=")
+            self.fixed[s] = _exact(s.name, val)
+        missing = [s.name for s in syms if s != self.x and s not in self.fixed]
+        if missing:
+            raise ModelError("no fixed value for " + ", ".join(missing)
+                             + f"; pass fixed={{'{missing[0]}': 1}} (every coupling but {self.x})")
+        a, b = (_exact("interval", v) for v in interval)
+        if not a < b:
+            raise ModelError(f"interval ({a}, {b}) is empty; give (lower, upper) with lower < upper")
+        self.a, self.b = a, b
+        self.levels = list(levels)
+        self._poly, self._vals, self._cross = {}, {}, {}
+        self.ctx = flint.fmpz_mpoly_ctx.get(("E", "x"), "lex")
+
+    def point(self, xval):
+        p = dict(self.fixed)
+        p[self.x] = xval
+        return p
+
+    def value(self, k, xval):
+        key = (k, xval)
+        if key not in self._vals:
+            self._vals[key] = level_value(self.levels[k], self.point(xval), _WORK)
+        return self._vals[key]
+
+    def poly(self, k):
+        """Level k's polynomial with the fixed couplings substituted, as fmpz_mpoly in (E, x)."""
+        if k not in self._poly:
+            P = level_polynomial(self.levels[k])
+            gens = P.gens
+            acc = {}
+            for mon, c in P.as_dict().items():
+                c = sympy.Rational(c)
+                ex = 0
+                for g, e in zip(gens[1:], mon[1:]):
+                    if e == 0:
+                        continue
+                    if g == self.x:
+                        ex = e
+                    elif g in self.fixed:
+                        c *= self.fixed[g] ** e
+                    else:
+                        raise ModelError(f"coupling {g} has no fixed value; add it to fixed=")
+                key = (mon[0], ex)
+                acc[key] = acc.get(key, 0) + c
+            den = 1
+            for v in acc.values():
+                den = sympy.ilcm(den, sympy.Rational(v).q)
+            self._poly[k] = self.ctx.from_dict({m: int(v * den) for m, v in acc.items() if v != 0})
+        return self._poly[k]
+
+    def identical(self, i, j):
+        """True if levels i and j agree at two generic points of the interval."""
+        if self.poly(i) != self.poly(j):
+            return False
+        for f in (sympy.Rational(3, 7), sympy.Rational(5, 9)):
+            xv = self.a + f * (self.b - self.a)
+            if abs(self.value(i, xv) - self.value(j, xv)) > _TOL * (1 + abs(self.value(i, xv))):
+                return False
+        return True
+
+    def crossings(self, i, j):
+        """Exact points in the open interval where levels i and j are equal, ascending."""
+        key = (min(i, j), max(i, j))
+        if key in self._cross:
+            return self._cross[key]
+        p, q = self.poly(i), self.poly(j)
+        r = p.resultant(q, "E")
+        if r == 0:
+            g = p.gcd(q)
+            r = (p * q / g).discriminant("E")  # exact division: lcm
+        out = []
+        for val, minpoly in _real_roots_in(r, self.x, self.a, self.b):
+            xr = _rat(_num(val, _WORK + 20))
+            with mpmath.workdps(_WORK):
+                vi, vj = self.value(i, xr), self.value(j, xr)
+                if abs(vi - vj) <= mpmath.mpf(10) ** -30 * (1 + abs(vi)):
+                    out.append((val, minpoly))
+        self._cross[key] = out
+        return out
+
+
+def _exact(name, v):
+    if isinstance(v, str):
+        try:
+            return sympy.Rational(Fraction(v))
+        except (ValueError, ZeroDivisionError):
+            raise ModelError(f"value {v!r} for {name} is not a number; write e.g. 4 or 3/2") from None
+    if isinstance(v, float):
+        return sympy.Rational(Fraction(v))
+    if isinstance(v, Fraction):
+        return sympy.Rational(v.numerator, v.denominator)
+    v = sympy.sympify(v) if isinstance(v, int) else v
+    if not (isinstance(v, sympy.Rational)):
+        raise ModelError(f"value {v!r} for {name} must be an exact rational (int, Fraction, '3/2')")
+    return v
+
+
+def _real_roots_in(r, xsym, a, b):
+    """Exact real roots of the fmpz_mpoly r(x) inside the open interval (a, b).
+
+    Returns a list of (sympy number, irreducible sympy Poly), unsorted.
+    """
+    if r.is_constant():
+        return []
+    coeffs = [0] * (r.degrees()[1] + 1)
+    for (_, e), c in r.to_dict().items():
+        coeffs[e] += int(c)
+    f = flint.fmpz_poly(coeffs)
+    out = []
+    an, bn = float(a), float(b)
+    for fac, _mult in f.factor()[1]:
+        # cheap prefilter with ball arithmetic before exact isolation
+        near = [z for z, _m in fac.complex_roots()
+                if abs(float(z.imag.mid())) < 1e-6 + float(z.imag.rad()) and
+                an - 1e-6 <= float(z.real.mid()) <= bn + 1e-6]
+        if not near:
+            continue
+        sp = sympy.Poly([int(c) for c in reversed(fac.coeffs())], xsym)
+        for root in sp.real_roots():
+            if sp.degree() == 1:
+                inside = a < root < b
+            else:  # irrational: never equal to a rational end point
+                with mpmath.workdps(_WORK):
+                    rn = _num(root, _WORK)
+                    inside = mpmath.mpf(a.p) / a.q < rn < mpmath.mpf(b.p) / b.q
+            if inside:
+                out.append((root, sp))
+    return out
+
+
+def _min_ground(sw, xv, ks):
+    vals = {k: sw.value(k, xv) for k in ks}
+    g = min(ks, key=lambda k: vals[k])
+    return g, vals
+
+
+def _pieces(sw, ks):
+    """Sweep the interval; list of (lower, upper, [level indices at the minimum])."""
+    with mpmath.workdps(_WORK):
+        return _pieces_at_work_precision(sw, ks)
+
+
+def _pieces_at_work_precision(sw, ks):
+    pieces = []
+    x, xn = sw.a, _num(sw.a, _WORK)
+    g = None
+    while True:
+        g = g if g is not None else min(ks, key=lambda k: sw.value(k, _midpoint(xn, _num(sw.b, _WORK))))
+        for _ in range(4 * len(ks) + 10):
+            ahead = []
+            for j in ks:
+                if j != g and not sw.identical(g, j):
+                    ahead += [(v, _num(v, _WORK)) for v, _p in sw.crossings(g, j)]
+            ahead = sorted((c for c in ahead if c[1] > xn + _TOL), key=lambda c: c[1])
+            y, yn = ahead[0] if ahead else (sw.b, _num(sw.b, _WORK))
+            m = _midpoint(xn, yn)
+            h, vals = _min_ground(sw, m, ks)
+            if vals[h] < vals[g] - _TOL * (1 + abs(vals[g])):
+                g = h
+                continue
+            break
+        else:
+            raise ModelError("ground-state sweep did not settle; report this spectrum as a bug")
+        gset = [k for k in ks if abs(vals[k] - vals[g]) <= _TOL * (1 + abs(vals[g]))]
+        pieces.append([x, y, gset])
+        if y is sw.b or yn >= _num(sw.b, _WORK) - _TOL:
+            pieces[-1][1] = sw.b
+            break
+        x, xn = y, yn
+    merged = [pieces[0]]
+    for p in pieces[1:]:
+        if set(p[2]) == set(merged[-1][2]):
+            merged[-1][1] = p[1]
+        else:
+            merged.append(p)
+    return merged
+
+
+def _same(v, w):
+    with mpmath.workdps(_WORK):
+        return abs(_num(v, _WORK) - _num(w, _WORK)) < _TOL
+
+
+def _midpoint(xn, yn):
+    with mpmath.workdps(_WORK + 20):
+        return _rat((xn + yn) / 2)
+
+
+def _select(spec, n_electrons):
+    levels = spec.levels if n_electrons is None else spec.select(N=n_electrons)
+    if not levels:
+        have = sorted({l.quantum_numbers.get("N") for l in spec.levels})
+        raise ModelError(f"no levels with N={n_electrons}; this spectrum has N in {have}")
+    return levels
+
+
+def ground_states(spec, n_electrons=None, coupling="U", interval=(0, 10), fixed=None, levels=None):
+    """The ground set of levels on each piece of the interval, exactly delimited.
+
+    Parameters
+    ----------
+    spec : Spectrum
+    n_electrons : int or None
+        Sector to scan (None: all levels together).
+    coupling : str
+        Name of the swept coupling.
+    interval : (lower, upper)
+        Exact rationals (int, Fraction, "3/2").
+    fixed : dict
+        Exact values of every other coupling, e.g. ``{"t": 1}``.
+    levels : list of Level, optional
+        Scan these levels instead of a sector of ``spec``.
+
+    Returns
+    -------
+    list of GroundPiece
+    """
+    levels = levels if levels is not None else _select(spec, n_electrons)
+    sw = _Sweep(levels, coupling, interval, fixed)
+    ks = list(range(len(levels)))
+    return [GroundPiece(lo, hi, tuple(levels[k] for k in gs)) for lo, hi, gs in _pieces(sw, ks)]
+
+
+def transitions(spec, n_electrons=None, coupling="U", interval=(0, 10), fixed=None, levels=None):
+    """Exact points where the ground state of a sector changes, ascending.
+
+    Parameters are those of :func:`ground_states`.
+
+    Returns
+    -------
+    list of Transition
+
+    Notes
+    -----
+    A transition is reported where the *set* of levels at the minimum changes;
+    points where an excited level only touches the ground level are not
+    transitions.  See the module docstring for the method.
+
+    Examples
+    --------
+    See docs/analysis.md; tests/test_transitions.py builds a spectrum by hand.
+    """
+    levels = levels if levels is not None else _select(spec, n_electrons)
+    sw = _Sweep(levels, coupling, interval, fixed)
+    ks = list(range(len(levels)))
+    pieces = _pieces(sw, ks)
+    out = []
+    with mpmath.workdps(_WORK):
+        pairs = list(zip(pieces, pieces[1:]))
+    for left, right in pairs:
+        val = left[1]
+        minpoly = None
+        for i in left[2]:
+            for j in right[2]:
+                for v, p in sw.crossings(i, j):
+                    if v == val or _same(v, val):
+                        minpoly = p
+        below = tuple(levels[k] for k in left[2])
+        above = tuple(levels[k] for k in right[2])
+        out.append(Transition(val, below[0], above[0], below, above, sw.x, minpoly))
+    return out
+
+
+def crossings(level_a, level_b, coupling="U", interval=(0, 10), fixed=None):
+    """Exact points inside the open interval where two levels have equal energy.
+
+    Returns
+    -------
+    list of sympy numbers, ascending (empty if the levels never meet, or if
+    they coincide identically).
+    """
+    sw = _Sweep([level_a, level_b], coupling, interval, fixed)
+    if sw.identical(0, 1):
+        return []
+    with mpmath.workdps(_WORK):
+        pts = sorted(sw.crossings(0, 1), key=lambda c: _num(c[0], _WORK))
+    return [v for v, _p in pts]

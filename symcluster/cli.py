@@ -1,0 +1,358 @@
+"""The ``symcluster`` command: parse the command line, call the API, print, write files.
+
+Thin by design: every computation is :func:`symcluster.solve` and the
+functions of :mod:`symcluster.export`.  Any :class:`SymclusterError` or usage
+mistake becomes exactly one line ``symcluster: error: <problem>; <fix>`` on
+stderr and exit code 2.  Output files are produced in memory first and written
+(atomically) only after everything succeeded.
+"""
+
+import argparse
+import os
+import re
+import sys
+from fractions import Fraction
+
+import sympy
+
+from . import __version__
+from .errors import ClusterError, InputError, SymclusterError
+
+__all__ = ["main", "parse_point", "parse_electrons", "build_cluster", "SHAPES"]
+
+#: shape word -> (number of integer arguments, argument names, description)
+SHAPES = {
+    "chain": (1, ("N",), "open chain of N sites"),
+    "ring": (1, ("N",), "periodic ring of N >= 3 sites"),
+    "grid": (2, ("NX", "NY"), "open NX x NY rectangle"),
+    "pgrid": (2, ("NX", "NY"), "NX x NY rectangle, periodic in both directions "
+                               "(a direction of length <= 2 is not wrapped)"),
+    "ladder": (1, ("N",), "2 x N ladder (open)"),
+    "tetrahedron": (0, (), "4 sites, all 6 bonds"),
+    "cube": (0, (), "8 corners of a cube, 12 bonds"),
+    "star": (1, ("N",), "a centre bonded to N outer sites"),
+    "complete": (1, ("N",), "N sites, every pair bonded"),
+}
+
+DEMO_STEM = "symcluster-demo"
+DEMO_POINT = "t=1,U=4"
+
+_DESCRIPTION = """\
+Exact energy levels of the Hubbard model on a small cluster, in closed form
+where one exists, each verified numerically before it is printed.
+
+The model (sign convention used everywhere):
+
+  H = - sum_{bonds <ij>} sum_{s=up,dn} t_ij (c+_is c_js + h.c.)
+      + U sum_i n_i,up n_i,dn   [+ sum_i eps_i n_i for labelled sites]
+
+t > 0 is the usual choice but nothing assumes it.  Energies are exact
+expressions in the couplings (t, U, and any bond/site labels of a cluster
+file); where no closed form exists a level is given as the k-th real root,
+ascending, of an irreducible polynomial.  Verification cannot be switched off.
+
+Run without arguments for a demo: the two-site cluster (chain 2), all
+electron numbers, table at t=1, U=4, written to ./symcluster-demo.tex
+(a standalone LaTeX document) and ./symcluster-demo.json.
+"""
+
+_EXAMPLES = """\
+examples:
+  symcluster                                   demo (two sites), see above
+  symcluster levels chain 2 --at t=1,U=4
+  symcluster levels ring 4 --electrons 4 --at t=1,U=8 --digits 20
+  symcluster levels grid 2 2 --electrons 2,3 --latex grid.tex --standalone
+  symcluster levels --cluster-file dimer.toml --json dimer.json
+  symcluster shapes                            list the built-in cluster shapes
+"""
+
+_LEVELS_HELP = """\
+Solve the Hubbard model on a cluster and print its levels sorted by electron
+number N (and by energy at the --at point, if given).
+
+CLUSTER is a shape word followed by its sizes:
+""" + "\n".join(f"  {w} {' '.join(a)}".ljust(22) + d for w, (_, a, d) in SHAPES.items()) + """
+
+Every bond of a built-in shape has hopping t; sites are numbered from 0.
+"""
+
+
+class _UsageError(Exception):
+    pass
+
+
+class _Parser(argparse.ArgumentParser):
+    def error(self, message):
+        raise _UsageError(f"{message}; run '{self.prog} --help' for usage")
+
+
+_NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
+_NUMBER = re.compile(r"^[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]{1,3})?$")
+_FRACTION = re.compile(r"^[+-]?[0-9]+/[0-9]+$")
+
+
+def parse_number(text, what):
+    """Exact sympy Rational from ``4``, ``-2.5``, ``1e-3`` or ``3/2`` (no evaluation)."""
+    text = text.strip()
+    if _FRACTION.match(text):
+        num, den = text.split("/")
+        if int(den) == 0:
+            raise InputError(f"{what} = {text!r} divides by zero; give a nonzero denominator")
+        return sympy.Rational(int(num), int(den))
+    if _NUMBER.match(text):
+        f = Fraction(text)
+        return sympy.Rational(f.numerator, f.denominator)
+    raise InputError(f"{what} = {text!r} is not a number; write e.g. 4, -2.5, 1e-3 or 3/2")
+
+
+def parse_point(text):
+    """Parse ``t=1,U=4`` (commas or spaces between items) into ``{name: Rational}``.
+
+    Examples
+    --------
+    >>> parse_point("t=1, U=3/2")
+    {'t': 1, 'U': 3/2}
+    """
+    items = [p for p in re.split(r"[,\s]+", text.strip()) if p]
+    if not items:
+        raise InputError("--at is empty; give values such as --at t=1,U=4")
+    out = {}
+    for item in items:
+        name, eq, value = item.partition("=")
+        name = name.strip()
+        if not eq or not name or not value.strip():
+            raise InputError(f"--at item {item!r} is not of the form name=value; "
+                             f"write e.g. --at t=1,U=4")
+        if not _NAME.match(name):
+            raise InputError(f"--at: {name!r} is not a coupling name; use names such as t, U, tp")
+        if name in out:
+            raise InputError(f"--at gives {name} twice; give each coupling once")
+        out[name] = parse_number(value, name)
+    return out
+
+
+def parse_electrons(text, n_sites):
+    """Electron numbers from ``all``, ``2``, ``2,3`` or ``1-3`` (0 .. 2*n_sites)."""
+    text = text.strip()
+    top = 2 * n_sites
+    if text == "all":
+        return None
+    wanted = set()
+    for part in [p.strip() for p in text.split(",")]:
+        m = re.match(r"^([0-9]+)(?:-([0-9]+))?$", part)
+        if not m:
+            raise InputError(f"--electrons {text!r}: {part!r} is not a number or range; "
+                             f"write e.g. 2, 2,3, 1-3 or all")
+        lo = int(m.group(1))
+        hi = int(m.group(2)) if m.group(2) else lo
+        if hi < lo:
+            raise InputError(f"--electrons range {part!r} runs backwards; write {hi}-{lo}")
+        for n in (lo, hi):
+            if n > top:
+                raise InputError(f"--electrons {n} is impossible on {n_sites} sites; "
+                                 f"choose numbers from 0 to {top}")
+        wanted.update(range(lo, hi + 1))
+    return sorted(wanted)
+
+
+def build_cluster(words):
+    """Cluster from shape words such as ``["ring", "4"]``."""
+    from . import clusters
+    if not words:
+        raise InputError("no cluster given; name a shape such as 'chain 2' or 'ring 4', "
+                         "or use --cluster-file FILE.toml")
+    shape, sizes = words[0].lower(), words[1:]
+    if shape not in SHAPES:
+        raise InputError(f"unknown shape {words[0]!r}; choose one of " + ", ".join(SHAPES)
+                         + " or use --cluster-file")
+    n_args, names, _ = SHAPES[shape]
+    if len(sizes) != n_args:
+        usage = " ".join([shape, *names])
+        raise InputError(f"shape {shape!r} takes {n_args} size(s), got {len(sizes)} "
+                         f"({' '.join(sizes) or 'none'}); write '{usage}'")
+    ints = []
+    for name, s in zip(names, sizes):
+        if not re.match(r"^[+-]?[0-9]{1,6}$", s):
+            raise InputError(f"size {name} of {shape} is {s!r}, not a whole number; "
+                             f"write e.g. '{shape} 4'")
+        ints.append(int(s))
+    for name, v in zip(names, ints):
+        if v < 1:
+            raise InputError(f"size {name} of {shape} is {v}; sizes must be positive")
+    try:
+        if shape == "pgrid":
+            return clusters.grid(ints[0], ints[1], periodic=True)
+        return getattr(clusters, shape)(*ints)
+    except ClusterError as exc:
+        hint = "; for two sites use 'chain 2'" if shape == "ring" else ""
+        raise ClusterError(f"'{' '.join(words)}': {exc}{hint}; see 'symcluster shapes' for "
+                           f"valid sizes") from None
+
+
+def _make_parser():
+    p = _Parser(prog="symcluster", description=_DESCRIPTION, epilog=_EXAMPLES,
+                formatter_class=argparse.RawDescriptionHelpFormatter)
+    p.add_argument("--version", action="version", version=f"symcluster {__version__}")
+    sub = p.add_subparsers(dest="command", metavar="COMMAND")
+    lv = sub.add_parser("levels", help="solve a cluster and print/write its levels",
+                        description=_LEVELS_HELP, epilog=_EXAMPLES,
+                        formatter_class=argparse.RawDescriptionHelpFormatter)
+    lv.add_argument("cluster", nargs="*", metavar="CLUSTER",
+                    help="shape word and sizes, e.g. 'ring 4' or 'grid 2 3'")
+    lv.add_argument("--cluster-file", metavar="FILE.toml",
+                    help="read the cluster (sites, labelled bonds, site energies) from a "
+                         "TOML cluster file instead (see docs/cluster-files.md)")
+    lv.add_argument("--electrons", metavar="LIST", default="all",
+                    help="electron numbers to solve: 'all' (default), '2', '2,3' or '1-3'")
+    lv.add_argument("--at", metavar="NAME=VALUE,...",
+                    help="evaluate every level at this point, e.g. t=1,U=4 (values: integers, "
+                         "decimals, 1e-3 or fractions 3/2; all couplings needed)")
+    lv.add_argument("--digits", type=_digits, default=12, metavar="D",
+                    help="significant digits of numerical values (default 12)")
+    lv.add_argument("--latex", metavar="FILE.tex", help="also write a LaTeX table")
+    lv.add_argument("--standalone", action="store_true",
+                    help="make the LaTeX file a complete document for pdflatex")
+    lv.add_argument("--json", metavar="FILE.json",
+                    help="also write all levels as JSON (exact expressions; docs/outputs.md)")
+    lv.add_argument("--show-symmetry", action="store_true",
+                    help="also print the symmetries used and block sizes per sector")
+    sub.add_parser("shapes", help="list the built-in cluster shapes",
+                   description="List the built-in cluster shapes and their sizes.")
+    sub.add_parser("demo", help="the demo run (same as no arguments)",
+                   description=_DESCRIPTION)
+    return p
+
+
+def _digits(text):
+    if not re.match(r"^[0-9]{1,4}$", text.strip()) or not 1 <= int(text) <= 1000:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number from 1 to 1000")
+    return int(text)
+
+
+def _check_outputs(paths):
+    seen = set()
+    for p in paths:
+        if p is None:
+            continue
+        full = os.path.abspath(p)
+        if full in seen:
+            raise InputError(f"{p!r} is given for two outputs; give each output its own file")
+        seen.add(full)
+        d = os.path.dirname(full)
+        if not os.path.isdir(d):
+            raise InputError(f"cannot write {p!r}: directory {d!r} does not exist; create it "
+                             f"or choose another path")
+        if os.path.isdir(full):
+            raise InputError(f"cannot write {p!r}: it is a directory; give a file name")
+
+
+def _check_point(point, model):
+    known = [s.name for s in model.symbols]
+    for name in point:
+        if name not in known:
+            raise InputError(f"--at: unknown coupling {name!r}; this model's couplings are "
+                             + ", ".join(known))
+    missing = [n for n in known if n not in point]
+    if missing:
+        raise InputError("--at gives no value for " + ", ".join(missing)
+                         + "; give every coupling, e.g. --at "
+                         + ",".join(f"{n}=1" for n in known))
+
+
+def _solve(model, electrons):
+    import symcluster
+    solve = getattr(symcluster, "solve", None)
+    if solve is None:
+        raise SymclusterError("this installation has no solver (symcluster.solve is missing); "
+                              "reinstall symcluster")
+    return solve(model, electrons=electrons)
+
+
+def _run_levels(args, out, err):
+    from .export import (dumps_spectrum, format_symmetries, format_table, latex_table,
+                         write_text_atomic)
+    from .models import hubbard
+    from .clusters import load_cluster_file
+    if args.cluster_file and args.cluster:
+        raise InputError("give either a shape (" + " ".join(args.cluster)
+                         + ") or --cluster-file, not both")
+    if args.standalone and not args.latex:
+        raise InputError("--standalone needs --latex FILE.tex; add it or drop --standalone")
+    cl = load_cluster_file(args.cluster_file) if args.cluster_file else build_cluster(args.cluster)
+    model = hubbard(cl)
+    electrons = parse_electrons(args.electrons, cl.n_sites)
+    point = parse_point(args.at) if args.at else None
+    if point is not None:
+        _check_point(point, model)
+    _check_outputs([args.latex, args.json])
+    spectrum = _solve(model, electrons)
+    # everything is produced in memory first; files are written only if all succeeded
+    table = format_table(spectrum, point=point, digits=args.digits)
+    sym = format_symmetries(spectrum) if args.show_symmetry else ""
+    tex = latex_table(spectrum, point=point, digits=args.digits,
+                      standalone=args.standalone) if args.latex else None
+    js = dumps_spectrum(spectrum, point=point, digits=args.digits) if args.json else None
+    out.write(table)
+    if sym:
+        out.write("\n" + sym)
+    for path, text in ((args.latex, tex), (args.json, js)):
+        if path:
+            write_text_atomic(path, text)
+            err.write(f"symcluster: wrote {path}\n")
+    return 0
+
+
+def _demo_args():
+    return argparse.Namespace(cluster=["chain", "2"], cluster_file=None, electrons="all",
+                              at=DEMO_POINT, digits=12, latex=DEMO_STEM + ".tex",
+                              standalone=True, json=DEMO_STEM + ".json", show_symmetry=False)
+
+
+def _shapes_text():
+    lines = ["built-in shapes (every bond has hopping t):"]
+    for w, (_, a, d) in SHAPES.items():
+        lines.append(f"  {(w + ' ' + ' '.join(a)).strip():<18}{d}")
+    return "\n".join(lines) + "\n"
+
+
+def main(argv=None):
+    """Run the command line; return the exit code (0 success, 2 bad input).
+
+    Parameters
+    ----------
+    argv : list of str, optional
+        Arguments without the program name (default ``sys.argv[1:]``).
+    """
+    argv = list(sys.argv[1:] if argv is None else argv)
+    out, err = sys.stdout, sys.stderr
+    commands = {"levels", "shapes", "demo"}
+    if argv and argv[0] not in commands and argv[0] not in ("-h", "--help", "--version"):
+        argv.insert(0, "levels")
+    try:
+        if not argv:
+            return _run_levels(_demo_args(), out, err)
+        args = _make_parser().parse_args(argv)
+        if args.command == "shapes":
+            out.write(_shapes_text())
+            return 0
+        if args.command == "demo":
+            return _run_levels(_demo_args(), out, err)
+        return _run_levels(args, out, err)
+    except _UsageError as exc:
+        err.write(f"symcluster: error: {_one_line(exc)}\n")
+        return 2
+    except SymclusterError as exc:
+        msg = _one_line(exc)
+        if ";" not in msg:
+            msg += "; check the input and run 'symcluster --help'"
+        err.write(f"symcluster: error: {msg}\n")
+        return 2
+    except SystemExit as exc:  # --help / --version
+        return exc.code if isinstance(exc.code, int) else 0
+    except KeyboardInterrupt:
+        err.write("symcluster: error: interrupted; nothing was written\n")
+        return 130
+
+
+def _one_line(exc):
+    return " ".join(str(exc).split())

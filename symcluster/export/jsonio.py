@@ -1,0 +1,292 @@
+"""A spectrum as a JSON file (format "symcluster-spectrum", version 1), and back.
+
+The schema is written out in docs/outputs.md.  Exact numbers are strings,
+exact expressions are trees (:mod:`symcluster.export.exprtree`), and a file is
+always written whole or not at all (temporary file + ``os.replace``).
+"""
+
+import json
+import math
+import os
+import tempfile
+
+import mpmath
+import sympy
+
+from ..errors import InputError
+from .exprtree import from_tree, poly_from_tree, to_tree
+from .text import energy_text, level_sort_key, numeric_values
+from .latex import energy_latex
+
+__all__ = ["FORMAT", "VERSION", "spectrum_to_dict", "dumps_spectrum", "write_json",
+           "read_json", "loads_spectrum", "decode_spectrum_dict", "write_text_atomic"]
+
+FORMAT = "symcluster-spectrum"
+VERSION = 1
+_RATIONAL_KEYS = ("S", "Sz", "eta")
+_INT_KEYS = ("N", "irrep_dim")
+
+
+def _rat_str(x):
+    x = sympy.Rational(x)
+    return str(x.p) if x.q == 1 else f"{x.p}/{x.q}"
+
+
+def _plain(obj):
+    """Make report/symmetry data JSON-safe: exact numbers as strings, no NaN."""
+    if isinstance(obj, dict):
+        return {str(k): _plain(v) for k, v in obj.items()}
+    if isinstance(obj, (list, tuple, set, frozenset)):
+        return [_plain(v) for v in obj]
+    if isinstance(obj, bool) or obj is None or isinstance(obj, (int, str)):
+        return obj
+    if isinstance(obj, float):
+        return obj if math.isfinite(obj) else str(obj)
+    if isinstance(obj, sympy.Rational):
+        return _rat_str(obj)
+    return str(obj)
+
+
+def _qn_to_json(qn):
+    out = {}
+    for key, val in qn.items():
+        if isinstance(val, bool) or val is None:
+            out[key] = val
+        elif isinstance(val, int):
+            out[key] = val
+        elif isinstance(val, sympy.Integer) and key in _INT_KEYS:
+            out[key] = int(val)
+        elif isinstance(val, sympy.Rational):
+            out[key] = _rat_str(val)
+        else:
+            out[key] = _plain(val)
+    return out
+
+
+def _model_dict(model):
+    c = model.cluster
+    return {
+        "name": model.name,
+        "description": model.describe(),
+        "hamiltonian": model.hamiltonian_text(),
+        "couplings": [s.name for s in model.symbols],
+        "cluster": {
+            "name": c.name,
+            "n_sites": c.n_sites,
+            "bonds": [[int(i), int(j), str(lab)] for i, j, lab in c.bonds],
+            "site_labels": [None if s is None else str(s) for s in c.site_labels],
+        },
+    }
+
+
+def spectrum_to_dict(spectrum, point=None, digits=30):
+    """The JSON document for a spectrum, as plain Python data.
+
+    Parameters
+    ----------
+    spectrum : Spectrum
+    point : dict, optional
+        ``{name or Symbol: number}``; every coupling must get a value.  Each level
+        then carries its value at this point to ``digits`` significant digits.
+    digits : int
+
+    Returns
+    -------
+    dict
+        Ready for :func:`json.dumps`; levels sorted by N, then value at the point
+        (or in their original order without a point).
+    """
+    pt = spectrum.point(point) if point is not None else None
+    values = numeric_values(spectrum, pt, digits) if pt is not None else None
+    order = sorted(range(len(spectrum.levels)),
+                   key=lambda i: level_sort_key(spectrum.levels[i], values, i))
+    levels = []
+    for i in order:
+        lev = spectrum.levels[i]
+        entry = {
+            "energy": to_tree(lev.energy),
+            "energy_text": energy_text(lev.energy),
+            "energy_latex": energy_latex(lev.energy),
+            "degeneracy": int(lev.degeneracy),
+            "quantum_numbers": _qn_to_json(lev.quantum_numbers),
+            "polynomial": None if lev.polynomial is None else to_tree(lev.polynomial),
+            "block": str(lev.block or ""),
+        }
+        if values is not None:
+            with mpmath.workdps(digits):
+                entry["values"] = {str(digits): mpmath.nstr(values[i], digits)}
+        levels.append(entry)
+    return {
+        "format": FORMAT,
+        "version": VERSION,
+        "model": _model_dict(spectrum.model),
+        "point": None if pt is None else {s.name: _rat_str(v) for s, v in pt.items()},
+        "digits": int(digits),
+        "n_states": int(spectrum.n_states),
+        "levels": levels,
+        "symmetries": _plain(spectrum.symmetries),
+        "verification": _plain(spectrum.verification.as_dict()),
+        "timings": _plain(spectrum.timings),
+    }
+
+
+def dumps_spectrum(spectrum, point=None, digits=30):
+    """The JSON text of :func:`spectrum_to_dict` (indented, strict: no NaN)."""
+    return json.dumps(spectrum_to_dict(spectrum, point, digits), indent=1, allow_nan=False) + "\n"
+
+
+def write_text_atomic(path, text):
+    """Write ``text`` to ``path`` whole or not at all (temporary file + os.replace).
+
+    Raises
+    ------
+    InputError
+        If the directory does not exist or is not writable.
+    """
+    path = os.fspath(path)
+    directory = os.path.dirname(os.path.abspath(path))
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=".symcluster-", suffix=".tmp", dir=directory)
+    except OSError as exc:
+        raise InputError(f"cannot write {path!r}: {exc.strerror}; check that the directory "
+                         f"exists and is writable") from None
+    try:
+        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
+            fh.write(text)
+            fh.flush()
+            os.fsync(fh.fileno())
+        os.replace(tmp, path)
+    except OSError as exc:
+        raise InputError(f"cannot write {path!r}: {exc.strerror}; choose another output "
+                         f"path") from None
+    finally:
+        if os.path.exists(tmp):
+            os.unlink(tmp)
+
+
+def write_json(spectrum, path, point=None, digits=30):
+    """Write the spectrum as JSON to ``path`` atomically (never a half-written file)."""
+    write_text_atomic(path, dumps_spectrum(spectrum, point, digits))
+
+
+def _need(obj, key, kind, where):
+    if not isinstance(obj, dict) or key not in obj:
+        raise InputError(f"{where}: key {key!r} is missing; the file is not a complete "
+                         f"{FORMAT} document (regenerate it with symcluster)")
+    val = obj[key]
+    if not isinstance(val, kind) or isinstance(val, bool) and kind is not bool:
+        raise InputError(f"{where}: key {key!r} has the wrong type ({type(val).__name__}); "
+                         f"regenerate the file")
+    return val
+
+
+def _qn_from_json(qn, where):
+    if not isinstance(qn, dict):
+        raise InputError(f"{where}: 'quantum_numbers' must be an object")
+    out = dict(qn)
+    for key in _RATIONAL_KEYS:
+        if key in out:
+            val = out[key]
+            tree = {"rat": val} if isinstance(val, str) else {"int": str(val)} \
+                if isinstance(val, int) and not isinstance(val, bool) else val
+            try:
+                out[key] = from_tree(tree)
+            except InputError as exc:
+                raise InputError(f"{where}: quantum number {key}: {exc}") from None
+    return out
+
+
+def decode_spectrum_dict(data, source="<data>", root_factory=None):
+    """Check a parsed document against the schema and reload its exact objects.
+
+    Returns the same dict with, per level, ``energy`` a sympy expression or
+    implicit root, ``polynomial`` a sympy Poly (or None) and spins/η as sympy
+    Rationals; ``point`` values become sympy Rationals keyed by name.
+
+    Raises
+    ------
+    InputError
+        Naming the source, the place and the problem.
+    """
+    if not isinstance(data, dict):
+        raise InputError(f"{source}: the top level must be a JSON object; this is not a "
+                         f"{FORMAT} file")
+    fmt = data.get("format")
+    if fmt != FORMAT:
+        raise InputError(f"{source}: 'format' is {fmt!r}, expected {FORMAT!r}; give a file "
+                         f"written by symcluster's --json option")
+    version = data.get("version")
+    if version != VERSION:
+        raise InputError(f"{source}: version {version!r} is not supported (this symcluster "
+                         f"reads version {VERSION}); regenerate the file")
+    _need(data, "model", dict, source)
+    _need(data, "digits", int, source)
+    levels = _need(data, "levels", list, source)
+    _need(data, "verification", dict, source)
+    out = dict(data)
+    point = data.get("point")
+    if point is not None:
+        if not isinstance(point, dict):
+            raise InputError(f"{source}: 'point' must be an object such as {{\"t\": \"1\"}}")
+        out["point"] = {k: from_tree({"rat": v}) for k, v in point.items()}
+    new_levels = []
+    for i, lev in enumerate(levels):
+        where = f"{source}: levels[{i}]"
+        tree = _need(lev, "energy", dict, where)
+        _need(lev, "degeneracy", int, where)
+        entry = dict(lev)
+        try:
+            entry["energy"] = from_tree(tree, root_factory=root_factory)
+            poly = lev.get("polynomial")
+            entry["polynomial"] = None if poly is None else poly_from_tree(poly)
+        except InputError as exc:
+            raise InputError(f"{where}: {exc}") from None
+        entry["quantum_numbers"] = _qn_from_json(_need(lev, "quantum_numbers", dict, where),
+                                                 where)
+        new_levels.append(entry)
+    out["levels"] = new_levels
+    return out
+
+
+def loads_spectrum(text, source="<string>", root_factory=None):
+    """Parse JSON text and return :func:`decode_spectrum_dict` of it."""
+    try:
+        data = json.loads(text)
+    except (json.JSONDecodeError, RecursionError) as exc:
+        msg = getattr(exc, "msg", "nested too deeply")
+        line = getattr(exc, "lineno", "?")
+        raise InputError(f"{source}: not valid JSON ({msg}, line {line}); the file is damaged, "
+                         f"regenerate it") from None
+    return decode_spectrum_dict(data, source, root_factory)
+
+
+def read_json(path, root_factory=None):
+    """Read a file written by :func:`write_json`.
+
+    Parameters
+    ----------
+    path : str or os.PathLike
+    root_factory : callable, optional
+        Builds implicit roots from ``(poly, index)``; default ImplicitRoot.
+
+    Returns
+    -------
+    dict
+        The document, with exact objects reloaded (see :func:`decode_spectrum_dict`).
+
+    Raises
+    ------
+    InputError
+        If the file cannot be read or does not follow the schema.
+    """
+    try:
+        with open(path, "r", encoding="utf-8") as fh:
+            text = fh.read()
+    except OSError as exc:
+        raise InputError(f"cannot read {os.fspath(path)!r}: {exc.strerror}; check the "
+                         f"path") from None
+    except UnicodeDecodeError:
+        raise InputError(f"{os.fspath(path)!r} is not UTF-8 text; give a JSON file written "
+                         f"by symcluster") from None
+    return loads_spectrum(text, source=os.fspath(path), root_factory=root_factory)
+

@@ -1,0 +1,388 @@
+"""LaTeX tables of a spectrum (booktabs rules, longtable so that ~100 rows break across pages).
+
+Layout (documented in docs/outputs.md):
+
+* columns ``N``, ``S``, ``eta`` (only if some level has an η-pseudospin), a term symbol
+  ``{}^{2S+1}Γ`` (multiplicity as a superscript on the lattice irrep Γ; a plain ``2S+1``
+  column when no irrep is known), degeneracy ``g``, exact energy ``E`` and, with a
+  point, the value of ``E`` there;
+* square roots (and ``arccos``/``arctan`` arguments) that occur in two or more levels
+  are named ``\\Delta`` (or ``\\Delta_1, \\Delta_2, ...``) and defined under the table;
+* implicit roots read "root k of P_j": the k-th real root, ascending, of ``P_j(E) = 0``,
+  with every polynomial printed once under the table;
+* the verification report and symmetry record are included as ``%`` comment lines.
+
+A fragment needs ``\\usepackage{amsmath,booktabs,longtable,array}``;
+``standalone=True`` gives a complete document for pdflatex.
+"""
+
+import re
+
+import mpmath
+import sympy
+
+from .exprtree import is_implicit_root
+from .text import level_sort_key, numeric_values
+
+__all__ = ["latex_table", "energy_latex", "tex_escape", "name_subexpressions"]
+
+_SPECIAL = {"\\": r"\textbackslash{}", "{": r"\{", "}": r"\}", "$": r"\$", "&": r"\&",
+            "#": r"\#", "^": r"\^{}", "_": r"\_", "%": r"\%", "~": r"\textasciitilde{}",
+            "<": r"\textless{}", ">": r"\textgreater{}", "|": r"\textbar{}"}
+_MATH_CHARS = {"η": r"\eta", "Γ": r"\Gamma", "σ": r"\sigma", "↑": r"\uparrow",
+               "↓": r"\downarrow", "π": r"\pi", "Δ": r"\Delta", "±": r"\pm", "∓": r"\mp",
+               "−": "-", "θ": r"\theta", "φ": r"\phi", "×": r"\times"}
+_GREEK = {k: f"${v}$" for k, v in _MATH_CHARS.items()}
+_NAME_BASES = ("Delta", "Lambda", "Xi", "Omega", "Theta")
+_PACKAGES = r"\usepackage{amsmath,booktabs,longtable,array}"
+
+
+def tex_escape(text):
+    """Escape arbitrary text for LaTeX text mode (non-ASCII outside a few symbols -> '?').
+
+    Examples
+    --------
+    >>> tex_escape("a_b & 50%")
+    'a\\\\_b \\\\& 50\\\\%'
+    """
+    out = []
+    for ch in str(text):
+        if ch in _SPECIAL:
+            out.append(_SPECIAL[ch])
+        elif ch in _GREEK:
+            out.append(_GREEK[ch])
+        elif ch == "\n" or ch == "\r" or ch == "\t":
+            out.append(" ")
+        elif ord(ch) < 32 or ord(ch) > 126:
+            out.append("?")
+        else:
+            out.append(ch)
+    return "".join(out)
+
+
+def _comment(text):
+    """Comment lines for arbitrary text (one ``%`` per line, control characters removed)."""
+    lines = str(text).splitlines() or [""]
+    return ["% " + "".join(c if 32 <= ord(c) or c == "\t" else " " for c in line)
+            for line in lines]
+
+
+def _tex(expr):
+    return sympy.latex(expr, inv_trig_style="full")
+
+
+def _poly_tex(poly):
+    return _tex(poly.as_expr())
+
+
+def energy_latex(energy):
+    """LaTeX of one energy on its own (no shared names), as stored in JSON files."""
+    if is_implicit_root(energy):
+        var = _tex(energy.poly.gens[0])
+        return (rf"\text{{root {int(energy.index) + 1} (ascending) of }} "
+                rf"{_poly_tex(energy.poly)} = 0 \text{{ in }} {var}")
+    return _tex(energy)
+
+
+# ----------------------------------------------------------------------------- shared names
+
+def _sqrt_bases(expr, found):
+    if isinstance(expr, sympy.Pow) and isinstance(expr.exp, sympy.Rational) \
+            and expr.exp.q == 2 and expr.base.free_symbols:
+        found.add(expr.base)
+    for a in expr.args:
+        _sqrt_bases(a, found)
+
+
+_ARG_FUNCS = (sympy.acos, sympy.asin, sympy.atan)
+
+
+def _func_args(expr, found, names):
+    if isinstance(expr, _ARG_FUNCS):
+        a = expr.args[0]
+        if a.free_symbols - names and not a.is_Symbol and not a.is_Number:
+            found.add(a)
+    if isinstance(expr, sympy.atan2):
+        for a in expr.args:
+            if a.free_symbols - names and not a.is_Symbol and not a.is_Number:
+                found.add(a)
+    for a in expr.args:
+        _func_args(a, found, names)
+
+
+def _rewrite(expr, sqrt_map, arg_map):
+    if isinstance(expr, sympy.Pow) and expr.base in sqrt_map and \
+            isinstance(expr.exp, sympy.Rational) and expr.exp.q == 2:
+        return sqrt_map[expr.base] ** expr.exp.p
+    if expr in arg_map:
+        return arg_map[expr]
+    if not expr.args:
+        return expr
+    return expr.func(*[_rewrite(a, sqrt_map, arg_map) for a in expr.args])
+
+
+def _repeated(exprs, collect):
+    """Subterms found by ``collect`` in >= 2 of ``exprs``, in order of first appearance."""
+    count, order = {}, []
+    for e in exprs:
+        found = set()
+        collect(e, found)
+        for f in sorted(found, key=sympy.default_sort_key):
+            if f not in count:
+                order.append(f)
+            count[f] = count.get(f, 0) + 1
+    return [f for f in order if count[f] >= 2]
+
+
+def name_subexpressions(exprs, taken=()):
+    """Name square roots and inverse-trig arguments shared by two or more expressions.
+
+    Parameters
+    ----------
+    exprs : list of sympy.Expr
+    taken : iterable of str
+        Symbol names already in use (the couplings); the name base avoids them.
+
+    Returns
+    -------
+    (list of sympy.Expr, list of (Symbol, sympy.Expr))
+        The rewritten expressions and the definitions, in order.
+
+    Examples
+    --------
+    >>> import sympy
+    >>> U, t = sympy.symbols("U t", real=True)
+    >>> d = sympy.sqrt(U**2 + 16*t**2)
+    >>> new, defs = name_subexpressions([U/2 - d/2, U/2 + d/2])
+    >>> new, defs
+    ([-Delta/2 + U/2, Delta/2 + U/2], [(Delta, sqrt(U**2 + 16*t**2))])
+    """
+    taken = set(taken)
+    base = next((b for b in _NAME_BASES if not any(n.startswith(b) for n in taken)), "Delta_x")
+    # nested square roots: inner (smaller) ones first, so definitions can use their names
+    bases = sorted(_repeated(exprs, _sqrt_bases), key=sympy.count_ops)
+    sq_map = {b: sympy.Dummy(f"sq{k}") for k, b in enumerate(bases)}
+    exprs1 = [_rewrite(e, sq_map, {}) for e in exprs]
+    dummies = set(sq_map.values())
+    args = _repeated(exprs1, lambda e, f: _func_args(e, f, dummies))
+    arg_map = {a: sympy.Dummy(f"ar{k}") for k, a in enumerate(args)}
+    exprs2 = [_rewrite(e, {}, arg_map) for e in exprs1]
+    defs = []
+    for b in bases:
+        others = {k: v for k, v in sq_map.items() if k != b}
+        defs.append((sq_map[b], sympy.sqrt(_rewrite(b, others, {}))))
+    defs += [(d, a) for a, d in arg_map.items()]
+    total = len(defs)
+    final = {d: (sympy.Symbol(base) if total == 1 else sympy.Symbol(f"{base}_{k + 1}"))
+             for k, (d, _) in enumerate(defs)}
+    new = [e.xreplace(final) for e in exprs2]
+    return new, [(final[d], v.xreplace(final)) for d, v in defs]
+
+
+# ----------------------------------------------------------------------------- table
+
+def _canonical(levels, symbols):
+    """One expression object per distinct level value, so equal levels print identically.
+
+    Closed forms that are roots of the same irreducible polynomial and agree at two
+    generic rational points to 25 digits are the same root: the first form is reused.
+    """
+    pts = []
+    for k in range(2):
+        pts.append({s: sympy.Rational(7 + 3 * j + 5 * k, 5 + 2 * j + k) * (-1) ** (j * k)
+                    for j, s in enumerate(symbols)})
+    seen, out = {}, []
+    for lev in levels:
+        e = lev.energy
+        if is_implicit_root(e) or lev.polynomial is None:
+            out.append(e)
+            continue
+        try:
+            key = (lev.polynomial,) + tuple(
+                sympy.N(e.subs(p), 30).round(25) for p in pts)
+        except (TypeError, ValueError, ArithmeticError):
+            out.append(e)
+            continue
+        out.append(seen.setdefault(key, e))
+    return out
+
+
+def _rat(x):
+    x = sympy.Rational(x)
+    return str(x.p) if x.q == 1 else rf"{x.p}/{x.q}"
+
+
+_IRREP = re.compile(r"^([A-Z])([0-9]*)([gu]?)('*)$")
+
+
+def _irrep_tex(label):
+    m = _IRREP.match(label)
+    if m:
+        sub = m.group(2) + m.group(3)
+        return r"\mathrm{" + m.group(1) + "}" + ("_{" + sub + "}" if sub else "") + \
+            "'" * len(m.group(4))
+    if re.match(r"^[A-Za-z0-9=,+\-/()." + "".join(_MATH_CHARS) + r"]+$", label):
+        return "".join(" " + _MATH_CHARS[c] + " " if c in _MATH_CHARS else
+                       r"{,}" if c == "," else c for c in label).strip()
+    return r"\text{" + tex_escape(label) + "}"
+
+
+def _number_tex(value, digits):
+    with mpmath.workdps(digits):
+        text = mpmath.nstr(value, digits)
+    mant, _, exp = text.partition("e")
+    return f"${mant}" + (rf"\times 10^{{{int(exp)}}}$" if exp else "$")
+
+
+def _hamiltonian_tex(model):
+    parts = []
+    for lab in sorted({h[2] for h in model.hops}):
+        parts.append(rf"- {_tex(sympy.Symbol(lab))} \sum_{{\langle ij\rangle \in B_{{{_tex(sympy.Symbol(lab))}}},\sigma}}"
+                     r"\left(c^\dagger_{i\sigma} c_{j\sigma} + \mathrm{h.c.}\right)")
+    if model.u_label:
+        parts.append(rf"+ {_tex(sympy.Symbol(model.u_label))} \sum_i n_{{i\uparrow}} n_{{i\downarrow}}")
+    for lab in sorted({o[1] for o in model.onsite}):
+        sites = ",".join(str(o[0]) for o in model.onsite if o[1] == lab)
+        parts.append(rf"+ {_tex(sympy.Symbol(lab))} \sum_{{i \in \{{{sites}\}}}} n_i")
+    body = " ".join(parts).lstrip("+ ")
+    return r"H = " + body
+
+
+def latex_table(spectrum, point=None, digits=10, standalone=False):
+    """The spectrum as a booktabs/longtable LaTeX table.
+
+    Parameters
+    ----------
+    spectrum : Spectrum
+    point : dict, optional
+        ``{name: number}`` for every coupling: adds the value of each level there
+        and sorts by it within each N.
+    digits : int
+        Significant digits of those values.
+    standalone : bool
+        Wrap in a complete ``article`` document (compiles with pdflatex).
+
+    Returns
+    -------
+    str
+    """
+    pt = spectrum.point(point) if point is not None else None
+    values = numeric_values(spectrum, pt, digits) if pt is not None else None
+    order = sorted(range(len(spectrum.levels)),
+                   key=lambda i: level_sort_key(spectrum.levels[i], values, i))
+    levels = [spectrum.levels[i] for i in order]
+    energies = _canonical(levels, spectrum.symbols)
+    closed = [k for k, e in enumerate(energies) if not is_implicit_root(e)]
+    renamed, defs = name_subexpressions([energies[k] for k in closed],
+                                        taken=[s.name for s in spectrum.symbols])
+    cell = {k: "$" + _tex(r) + "$" for k, r in zip(closed, renamed)}
+    polys = []
+    for k, e in enumerate(energies):
+        if is_implicit_root(e):
+            if e.poly not in polys:
+                polys.append(e.poly)
+            j = polys.index(e.poly) + 1
+            cell[k] = rf"root {int(e.index) + 1} of $P_{{{j}}}$"
+
+    qns = [l.quantum_numbers for l in levels]
+    show_eta = any(q.get("eta") is not None for q in qns)
+    show_irrep = any(q.get("irrep") is not None for q in qns)
+    cols, head = ["r", "c"], [r"$N$", r"$S$"]
+    if show_eta:
+        cols.append("c")
+        head.append(r"$\eta$")
+    cols.append("c")
+    head.append(r"${}^{2S+1}\Gamma$" if show_irrep else r"$2S+1$")
+    cols += ["r", r">{\raggedright\arraybackslash}p{0.45\linewidth}"]
+    head += [r"$g$", r"$E$"]
+    if values is not None:
+        cols.append("r")
+        head.append(r"value")
+
+    rows = []
+    last_n = None
+    for k, (i, lev, q) in enumerate(zip(order, levels, qns)):
+        n = q.get("N")
+        if last_n is not None and n != last_n:
+            rows.append(r"\addlinespace")
+        last_n = n
+        if q.get("S") is not None:
+            s = "$" + _rat(q["S"]) + "$"
+            mult = str(int(2 * sympy.Rational(q["S"]) + 1))
+        elif q.get("Sz") is not None:
+            s, mult = "$S_z=" + _rat(q["Sz"]) + "$", None
+        else:
+            s, mult = "--", None
+        row = ["$" + str(n) + "$" if n is not None else "--", s]
+        if show_eta:
+            row.append("$" + _rat(q["eta"]) + "$" if q.get("eta") is not None else "--")
+        irrep = q.get("irrep")
+        if show_irrep:
+            gamma = _irrep_tex(str(irrep)) if irrep is not None else r"\text{--}"
+            row.append("${}^{" + mult + "}" + gamma + "$" if mult else "$" + gamma + "$")
+        else:
+            row.append(f"${mult}$" if mult else "--")
+        row += [f"${int(lev.degeneracy)}$", cell[k]]
+        if values is not None:
+            row.append(_number_tex(values[i], digits))
+        rows.append(" & ".join(row) + r" \\")
+
+    out = []
+    out.append("% symcluster energy table; in a document of your own this needs")
+    out.append("% " + _PACKAGES)
+    out += _comment("model: " + spectrum.model.describe())
+    rep = spectrum.verification
+    out += _comment(rep.summary())
+    out += _comment(f"verification digits: {rep.as_dict().get('digits')}")
+    for c in rep.as_dict().get("checks", []):
+        out += _comment("check " + ", ".join(f"{k}={v}" for k, v in c.items()))
+    for r in spectrum.symmetries or []:
+        out += _comment("symmetry " + ", ".join(f"{k}={v}" for k, v in r.items()))
+    out.append(r"\noindent " + tex_escape(spectrum.model.cluster.describe()) + ";")
+    out.append(r"$" + _hamiltonian_tex(spectrum.model) + r"$.")
+    out.append(f"{len(levels)} levels, {spectrum.n_states} states. "
+               r"$g$: degeneracy (all states of the level).")
+    if pt is not None:
+        pt_tex = ", ".join(f"${_tex(s)} = {_rat(v)}$" for s, v in pt.items())
+        out.append(f"Values at {pt_tex}, to {int(digits)} significant digits.")
+    out.append("")
+    out.append(r"\begingroup\renewcommand{\arraystretch}{1.35}")
+    out.append(r"\begin{longtable}{" + "".join(cols) + "}")
+    out.append(r"\toprule")
+    out.append(" & ".join(head) + r" \\")
+    out.append(r"\midrule")
+    out.append(r"\endfirsthead")
+    out.append(r"\toprule")
+    out.append(" & ".join(head) + r" \\")
+    out.append(r"\midrule")
+    out.append(r"\endhead")
+    out.append(r"\bottomrule")
+    out.append(r"\endlastfoot")
+    out += rows
+    out.append(r"\end{longtable}")
+    out.append(r"\endgroup")
+    if defs:
+        items = ", ".join(f"${_tex(s)} = {_tex(d)}$" for s, d in defs)
+        out.append("")
+        out.append(r"\noindent where " + items + ".")
+    if polys:
+        out.append("")
+        out.append(r"\noindent ``root $k$ of $P_j$'' is the $k$-th real root, counted "
+                   r"in ascending order from the lowest, of $P_j(E) = 0$, where")
+        out.append(r"\begin{itemize}")
+        for j, p in enumerate(polys, 1):
+            out.append(rf"\item $P_{{{j}}}({_tex(p.gens[0])}) = {_poly_tex(p)}$")
+        out.append(r"\end{itemize}")
+    body = "\n".join(out) + "\n"
+    if not standalone:
+        return body
+    pre = "\n".join([
+        r"\documentclass[10pt]{article}",
+        r"\usepackage[T1]{fontenc}",
+        r"\usepackage{lmodern}",
+        r"\usepackage[margin=2cm]{geometry}",
+        _PACKAGES,
+        r"\begin{document}",
+        "",
+    ])
+    return pre + "\n" + body + "\n\\end{document}\n"

@@ -1,0 +1,186 @@
+"""Plain-text tables of a spectrum for the terminal.
+
+Rows are sorted by electron number N, then by the value at the evaluation
+point (when one is given), otherwise in the order the solver returned them.
+Energies are printed in sympy's one-line syntax; an implicit root reads
+``root k of P(E) = 0`` with k counted from 1 in ascending order.
+"""
+
+import mpmath
+import sympy
+
+from ..spectrum import energy_numeric
+from .exprtree import is_implicit_root
+
+__all__ = ["format_table", "format_symmetries", "energy_text", "spin_text",
+           "numeric_values", "level_sort_key"]
+
+
+def energy_text(energy):
+    """One-line text of an exact energy.
+
+    Examples
+    --------
+    >>> import sympy
+    >>> U, t = sympy.symbols("U t", real=True)
+    >>> energy_text(U/2 - sympy.sqrt(U**2 + 16*t**2)/2)
+    'U/2 - sqrt(U**2 + 16*t**2)/2'
+    """
+    if is_implicit_root(energy):
+        poly = energy.poly
+        return (f"root {int(energy.index) + 1} of "
+                f"{sympy.sstr(poly.as_expr())} = 0 (ascending in {poly.gens[0]})")
+    return sympy.sstr(energy)
+
+
+def _rat(x):
+    x = sympy.Rational(x)
+    return str(x.p) if x.q == 1 else f"{x.p}/{x.q}"
+
+
+def spin_text(qn):
+    """``(S column, 2S+1 column)`` strings for a level's quantum numbers."""
+    if qn.get("S") is not None:
+        s = sympy.Rational(qn["S"])
+        return _rat(s), str(int(2 * s + 1))
+    if qn.get("Sz") is not None:
+        return "Sz=" + _rat(qn["Sz"]), "-"
+    return "-", "-"
+
+
+def numeric_values(spectrum, point, digits):
+    """Values of all levels at an exact point (dict Symbol -> Rational), as mpf."""
+    with mpmath.workdps(digits + 5):
+        return [+energy_numeric(lev.energy, point, digits + 5) for lev in spectrum.levels]
+
+
+def level_sort_key(level, values, index):
+    """Sort key: N, then value at the point if known, then original position."""
+    n = level.quantum_numbers.get("N")
+    n = n if n is not None else 10 ** 9
+    if values is None:
+        return (n, 0, index)
+    return (n, values[index], index)
+
+
+def _columns(levels):
+    has = lambda key: any(l.quantum_numbers.get(key) is not None for l in levels)
+    return has("eta"), has("irrep")
+
+
+def format_table(spectrum, point=None, digits=12):
+    """A readable table of all levels.
+
+    Parameters
+    ----------
+    spectrum : Spectrum
+    point : dict, optional
+        ``{name: number}`` for every coupling; adds a column with each level's
+        value there (``digits`` significant digits) and sorts by it within each N.
+    digits : int
+
+    Returns
+    -------
+    str
+        Header lines (model, verification summary, point) and one row per level:
+        N, S, 2S+1, eta (if any level has it), irrep (if any), degeneracy,
+        value (with a point), exact energy.
+    """
+    pt = spectrum.point(point) if point is not None else None
+    values = numeric_values(spectrum, pt, digits) if pt is not None else None
+    order = sorted(range(len(spectrum.levels)),
+                   key=lambda i: level_sort_key(spectrum.levels[i], values, i))
+    show_eta, show_irrep = _columns(spectrum.levels)
+    head = ["N", "S", "2S+1"] + (["eta"] if show_eta else []) + (["irrep"] if show_irrep else [])
+    head += ["deg"] + (["value"] if values is not None else []) + ["energy"]
+    rows = []
+    for i in order:
+        lev = spectrum.levels[i]
+        qn = lev.quantum_numbers
+        s, mult = spin_text(qn)
+        row = [str(qn.get("N", "-")), s, mult]
+        if show_eta:
+            row.append(_rat(qn["eta"]) if qn.get("eta") is not None else "-")
+        if show_irrep:
+            row.append(str(qn.get("irrep") or "-"))
+        row.append(str(lev.degeneracy))
+        if values is not None:
+            with mpmath.workdps(digits):
+                row.append(mpmath.nstr(values[i], digits))
+        row.append(energy_text(lev.energy))
+        rows.append(row)
+    widths = [max([len(h)] + [len(r[k]) for r in rows]) for k, h in enumerate(head)]
+    numeric = {"N", "2S+1", "deg", "value"}
+
+    def fmt(cells):
+        out = []
+        for k, (cell, h) in enumerate(zip(cells, head)):
+            if k == len(head) - 1:
+                out.append(cell)
+            elif h in numeric:
+                out.append(cell.rjust(widths[k]))
+            else:
+                out.append(cell.ljust(widths[k]))
+        return "  ".join(out).rstrip()
+
+    lines = [f"# {spectrum.model.describe()}",
+             f"# {spectrum.verification.summary()}",
+             f"# {len(spectrum.levels)} levels, {spectrum.n_states} states"]
+    if pt is not None:
+        lines.append("# values at " + ", ".join(f"{s.name}={_rat(v)}" for s, v in pt.items()))
+    lines.append(fmt(head))
+    lines.append("  ".join("-" * w for w in widths[:-1]) + "  " + "-" * max(6, widths[-1] // 2))
+    last_n = None
+    for i, row in zip(order, rows):
+        n = row[0]
+        if last_n is not None and n != last_n:
+            lines.append("")
+        last_n = n
+        lines.append(fmt(row))
+    return "\n".join(lines) + "\n"
+
+
+def _steps_text(rec):
+    steps = rec.get("steps")
+    if steps:
+        parts = []
+        for st in steps:
+            if isinstance(st, (list, tuple)) and len(st) == 2:
+                parts.append(f"{st[0]} -> {st[1]}")
+            else:
+                parts.append(str(st))
+        return ", ".join(parts)
+    syms = rec.get("symmetries") or []
+    return ", ".join(str(s) for s in syms) if syms else "(none)"
+
+
+def format_symmetries(spectrum):
+    """Per sector: the symmetries used and the block sizes before and after reduction.
+
+    Records with a ``"sector"`` key become table rows (sector, its dimension, the
+    largest block left, and the reduction steps ``name -> largest block after it``
+    or the list of symmetry names); records without one (global information such
+    as the symmetries detected) are printed as header lines.
+    """
+    recs = list(spectrum.symmetries or [])
+    if not recs:
+        return "# no symmetry information recorded\n"
+    lines = ["# symmetry reduction per sector"]
+    rows = [("sector", "dimension", "largest block", "reduction")]
+    for r in recs:
+        if "sector" not in r:
+            lines.append("# " + "; ".join(
+                f"{k}: {', '.join(map(str, v)) if isinstance(v, (list, tuple)) else v}"
+                for k, v in r.items()))
+            continue
+        sector = r["sector"]
+        if isinstance(sector, (list, tuple)) and len(sector) == 2:
+            sector = f"Nup={sector[0]} Ndn={sector[1]}"
+        rows.append((str(sector), str(r.get("sector_dim", "-")),
+                     str(r.get("largest_block", "-")), _steps_text(r)))
+    w = [max(len(r[k]) for r in rows) for k in range(3)]
+    for k, r in enumerate(rows):
+        lines.append(f"{r[0].ljust(w[0])}  {r[1].rjust(w[1])}  {r[2].rjust(w[2])}  {r[3]}".rstrip())
+        if k == 0:
+            lines.append("  ".join("-" * x for x in w) + "  " + "-" * 10)
+    return "\n".join(lines) + "\n"

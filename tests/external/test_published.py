@@ -1,0 +1,128 @@
+"""Checks against published results (source named beside each)."""
+
+import functools
+
+import mpmath
+import pytest
+import sympy
+
+import symcluster as sc
+from reference_fock import FockReference, max_deviation
+
+
+@functools.lru_cache(maxsize=None)
+def ring4_half():
+    return sc.solve(sc.hubbard(sc.ring(4)), electrons=4)
+
+
+def _mpq(x):
+    x = sympy.Rational(x)
+    return mpmath.mpf(int(x.p)) / int(x.q)
+
+
+# ---------------------------------------------------------------- Heisenberg limit
+def test_ring4_heisenberg_ground_state():
+    # large U: H_eff = J sum (S_i.S_j - 1/4), J = 4t^2/U (P. W. Anderson, Phys. Rev. 115, 2
+    # (1959), from memory; /work/shared/references.md); 4-site ring ground state -> -3J,
+    # corrections O(t^4/U^3)
+    spec = ring4_half()
+    coeff = []
+    for uv in (1000, 2000):
+        p = spec.point({"t": 1, "U": uv})
+        lv = sorted(((l.numeric(p), l) for l in spec.levels), key=lambda x: x[0])
+        e0, g = lv[0]
+        J = mpmath.mpf(4) / uv
+        assert g.quantum_numbers["S"] == 0 and g.degeneracy == 1
+        assert abs(e0 + 3 * J) < 1000 / mpmath.mpf(uv) ** 3, f"E0 = {e0}, -3J = {-3 * J}"
+        coeff.append((e0 + 3 * J) * uv**3)
+    # the remainder is O(t^4/U^3): its coefficient is the same at U = 1000 and 2000 (to 1%)
+    assert abs(coeff[0] / coeff[1] - 1) < 0.01, coeff
+
+
+def test_ring4_heisenberg_low_multiplets():
+    # H = J sum S_i.S_{i+1} on a 4-site ring: S=0 at -2J, 0; S=1 at -J, 0, 0; S=2 at +J
+    # (textbook exercise, common practice; references.md). With the -J/4 per bond shift
+    # (4 bonds: -J): -3J (S=0), -2J (S=1), -J (S=0 and two S=1), 0 (S=2): 16 states.
+    spec = ring4_half()
+    uv = 1000
+    p = spec.point({"t": 1, "U": uv})
+    J = mpmath.mpf(4) / uv
+    low = sorted(((l.numeric(p), l) for l in spec.levels), key=lambda x: x[0])
+    states = []
+    for e, l in low:
+        if e > J:     # the next states are at energy ~U
+            break
+        states += [(round(float(e / J)), l.quantum_numbers["S"])] * l.degeneracy
+    expected = ([(-3, 0)] + [(-2, 1)] * 3 + [(-1, 0)] + [(-1, 1)] * 6 + [(0, 2)] * 5)
+    assert sorted(states) == sorted(expected)
+
+
+def test_dimer_large_u_expansion():
+    # two-site ground state -4t^2/U + 16t^4/U^3 - 128t^6/U^5 + ... (Carrascal, Ferrer, Smith,
+    # Burke, J. Phys.: Condens. Matter 27, 393001 (2015); references.md)
+    spec = sc.solve(sc.hubbard(sc.chain(2)), electrons=2)
+    with mpmath.workdps(40):
+        uv = mpmath.mpf(100)
+        e0 = spec.numeric({"t": 1, "U": 100}, digits=40)[0][0]
+        series = -4 / uv + 16 / uv**3 - 128 / uv**5
+        assert abs(e0 - series) < 2000 / uv**7
+
+
+# ---------------------------------------------------------------- Bethe ansatz
+def _lieb_wu(L, N, M, I, J, u, guess):
+    """Solve the Lieb-Wu equations (E. H. Lieb, F. Y. Wu, PRL 20, 1445 (1968), from memory):
+    L k_j = 2 pi I_j - sum_b 2 atan((sin k_j - lam_b)/u),
+    sum_j 2 atan((lam_a - sin k_j)/u) = 2 pi J_a + sum_b 2 atan((lam_a - lam_b)/(2u)).
+    Returns (k, lam, max residual)."""
+    def eqs(*x):
+        k, lam = x[:N], x[N:]
+        out = [L * k[j] - 2 * mpmath.pi * I[j]
+               + sum(2 * mpmath.atan((mpmath.sin(k[j]) - lb) / u) for lb in lam) for j in range(N)]
+        out += [sum(2 * mpmath.atan((lam[a] - mpmath.sin(kj)) / u) for kj in k)
+                - 2 * mpmath.pi * J[a]
+                - sum(2 * mpmath.atan((lam[a] - lam[b]) / (2 * u)) for b in range(M))
+                for a in range(M)]
+        return out
+    x = mpmath.findroot(eqs, guess)
+    x = [x[i] for i in range(N + M)]
+    res = max(abs(r) for r in eqs(*x))
+    return x[:N], x[N:], res
+
+
+@pytest.mark.parametrize("uv", [4, 2, 8])
+def test_bethe_ansatz_ring4_half_filling(uv):
+    # L = 4, N = 4, M = 2, I = {-1, 0, 1, 2}, J = +-1/2 (references.md), E = -2t sum cos k_j,
+    # compared with the solver's N = 4 ground level at 20 digits
+    with mpmath.workdps(40):
+        I = [-1, 0, 1, 2]
+        J = [mpmath.mpf(-1) / 2, mpmath.mpf(1) / 2]
+        guess = [2 * mpmath.pi * i / 4 for i in I] + [mpmath.mpf(-0.5), mpmath.mpf(0.5)]
+        k, lam, res = _lieb_wu(4, 4, 2, I, J, mpmath.mpf(uv) / 4, guess)
+        assert res < mpmath.mpf(10) ** -35, f"Bethe equations not solved: residual {res}"
+        e_ba = -2 * sum(mpmath.cos(kj) for kj in k)
+        e0 = ring4_half().numeric({"t": 1, "U": uv}, digits=30)[0][0]
+        assert abs(e0 - e_ba) < mpmath.mpf(10) ** -20, f"solver {e0}, Bethe ansatz {e_ba}"
+        # the Bethe state is the ground state of the independent reference too
+        ref = FockReference(4, list(sc.ring(4).bonds))
+        assert abs(ref.eigenvalues_mp({"t": 1, "U": uv}, 2, 2, digits=30)[0] - e_ba) < 1e-20
+
+
+def test_shiba_pincus_dimer_grand_potential():
+    # grand partition function of the dimer (H. Shiba, P. A. Pincus, Phys. Rev. B 5, 1966 (1972);
+    # closed form from references.md):
+    # Xi = 1 + 4 z cosh(bt) + z^2 [3 + e^{-bU} + 2 e^{-bU/2} cosh(b Delta)] + 4 z^3 e^{-bU} cosh(bt)
+    #      + z^4 e^{-2bU},  Delta = sqrt(U^2/4 + 4t^2), z = e^{b mu}
+    spec = sc.solve(sc.hubbard(sc.chain(2)))
+    tv, uv, b, mu = 1, sympy.Rational(5, 2), sympy.Rational(7, 10), sympy.Rational(1, 3)
+    pt = spec.point({"t": tv, "U": uv})
+    with mpmath.workdps(40):
+        B, MU, T, UU = _mpq(b), _mpq(mu), _mpq(tv), _mpq(uv)
+        xi = mpmath.mpf(0)
+        for l in spec.levels:
+            xi += l.degeneracy * mpmath.exp(-B * (l.numeric(pt, digits=40) - MU * l.quantum_numbers["N"]))
+        z = mpmath.exp(B * MU)
+        D = mpmath.sqrt(UU**2 / 4 + 4 * T**2)
+        exp = (1 + 4 * z * mpmath.cosh(B * T)
+               + z**2 * (3 + mpmath.exp(-B * UU) + 2 * mpmath.exp(-B * UU / 2) * mpmath.cosh(B * D))
+               + 4 * z**3 * mpmath.exp(-B * UU) * mpmath.cosh(B * T) + z**4 * mpmath.exp(-2 * B * UU))
+        assert abs(xi - exp) < mpmath.mpf(10) ** -30 * exp

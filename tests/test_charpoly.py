@@ -1,0 +1,187 @@
+"""Tests for symcluster.algebra.charpoly (both backends run the same suite)."""
+
+import random
+from fractions import Fraction
+
+import pytest
+import sympy
+from hypothesis import given, settings
+from hypothesis import strategies as st
+
+import symcluster.algebra.charpoly as cp_mod
+from symcluster.algebra.block import ENERGY, LinearBlock, to_sympy_matrix
+from symcluster.algebra.charpoly import _choose_backend, charpoly
+from symcluster.errors import ModelError
+
+E = ENERGY
+t, U, V = sympy.symbols("t U V", real=True)
+BACKENDS = ["flint", "sympy"]
+
+
+def reference_charpoly(block, gens):
+    """Independent reference: sympy Matrix.charpoly of the explicit matrix."""
+    M = to_sympy_matrix(block)
+    ref = M.charpoly(E)  # sympy drops assumptions on the variable: map it back
+    return sympy.Poly(ref.as_expr().subs(ref.gens[0], E), E, *gens)
+
+
+def random_block(rng, n, names, density=0.5, rational=False, span=3):
+    terms = {}
+    for nm in names:
+        m = {}
+        for i in range(n):
+            for j in range(n):
+                if rng.random() < density:
+                    v = rng.randint(-span, span)
+                    if rational:
+                        v = Fraction(v, rng.randint(1, 4))
+                    if v:
+                        m[(i, j)] = v
+        terms[nm] = m
+    return LinearBlock(n, terms)
+
+
+@pytest.mark.parametrize("backend", BACKENDS)
+def test_two_site_singlet(backend):
+    # Two-site Hubbard model, N = 2, S = 0, even under site exchange, in the
+    # unnormalised basis {|20>+|02>, sqrt(2)*singlet}: E^2 - U E - 4 t^2.
+    # Source: Carrascal, Ferrer, Smith, Burke, J. Phys.: Condens. Matter 27, 393001 (2015).
+    b = LinearBlock(2, {"t": {(0, 1): -2, (1, 0): -2}, "U": {(0, 0): 1}})
+    P = charpoly(b, ("t", "U"), backend=backend)
+    assert P == sympy.Poly(E**2 - U * E - 4 * t**2, E, t, U)
+    assert P.domain == sympy.ZZ
+
+
+@pytest.mark.parametrize("backend", BACKENDS)
+def test_two_site_singlet_nonsymmetric_block(backend):
+    # Same sector without the exchange symmetry, non-orthonormal basis
+    # {|20>, |02>, |ud> + |du>}: a non-symmetric integer matrix whose levels are
+    # U and U/2 +- sqrt(U^2/4 + 4t^2) (Carrascal et al. 2015, as above).
+    b = LinearBlock(3, {"U": {(0, 0): 1, (1, 1): 1},
+                        "t": {(0, 2): -2, (1, 2): -2, (2, 0): -1, (2, 1): -1}})
+    P = charpoly(b, ("t", "U"), backend=backend)
+    assert P == sympy.Poly((E - U) * (E**2 - U * E - 4 * t**2), E, t, U)
+
+
+@pytest.mark.parametrize("backend", BACKENDS)
+@pytest.mark.parametrize("names", [("t",), ("t", "U"), ("t", "U", "V")])
+@pytest.mark.parametrize("rational", [False, True])
+def test_random_blocks_match_sympy_matrix(backend, names, rational):
+    rng = random.Random(hash((names, rational)) & 0xFFFF)
+    gens = tuple(sympy.Symbol(n, real=True) for n in names)
+    for n in (1, 3, 5, 6):
+        b = random_block(rng, n, names, rational=rational)
+        P = charpoly(b, names, backend=backend)
+        assert P.gens == (E,) + gens
+        assert P == reference_charpoly(b, gens)
+        assert P.LC() == 1  # monic in E
+
+
+@settings(max_examples=25, deadline=None)
+@given(st.integers(1, 7), st.integers(0, 2**32), st.sampled_from([("t", "U"), ("U", "t", "V")]))
+def test_backends_agree(n, seed, names):
+    rng = random.Random(seed)
+    b = random_block(rng, n, names, density=0.4, rational=bool(seed % 2))
+    assert charpoly(b, names, backend="flint") == charpoly(b, names, backend="sympy")
+
+
+@pytest.mark.parametrize("backend", BACKENDS)
+def test_absent_names_and_order(backend):
+    b = LinearBlock(2, {"U": {(0, 0): 1}, "t": {}})
+    P = charpoly(b, ("t", "V", "U"), backend=backend)
+    assert P.gens == (E, t, V, U)
+    assert P == sympy.Poly(E * (E - U), E, t, V, U)
+
+
+@pytest.mark.parametrize("backend", BACKENDS)
+def test_degenerate_blocks(backend):
+    assert charpoly(LinearBlock(3, {}), ("t",), backend=backend) == sympy.Poly(E**3, E, t)
+    assert charpoly(LinearBlock(0, {}), ("t",), backend=backend).as_expr() == 1
+    one = LinearBlock(1, {"U": {(0, 0): Fraction(3, 2)}})
+    assert charpoly(one, ("U",), backend=backend) == sympy.Poly(E - sympy.Rational(3, 2) * U, E, U)
+
+
+@pytest.mark.parametrize("backend", BACKENDS)
+def test_trace_and_homogeneity(backend):
+    # Coefficient of E^(n-1) is -tr(H); every term has total degree n (common practice, no source).
+    rng = random.Random(7)
+    b = random_block(rng, 6, ("t", "U"))
+    P = charpoly(b, ("t", "U"), backend=backend)
+    tr = sum(v * t for (i, j), v in b.terms["t"].items() if i == j)
+    tr += sum(v * U for (i, j), v in b.terms["U"].items() if i == j)
+    assert sympy.expand(P.as_expr().coeff(E, 5) + tr) == 0
+    assert all(sum(m) == 6 for m in P.monoms())
+
+
+def hubbard_ring_sector(L, n_up, n_dn):
+    """Independent builder of one (N_up, N_dn) sector of the Hubbard ring (test helper)."""
+    import itertools
+
+    ups = [sum(1 << i for i in c) for c in itertools.combinations(range(L), n_up)]
+    dns = [sum(1 << i for i in c) for c in itertools.combinations(range(L), n_dn)]
+    states = [(u, d) for u in ups for d in dns]
+    idx = {s: k for k, s in enumerate(states)}
+    hop, dbl = {}, {}
+    for k, (u, d) in enumerate(states):
+        if u & d:
+            dbl[(k, k)] = bin(u & d).count("1")
+        for spin in (0, 1):
+            occ = (u, d)[spin]
+            for i in range(L):
+                for a, b in ((i, (i + 1) % L), ((i + 1) % L, i)):
+                    if occ >> b & 1 and not occ >> a & 1:
+                        lo, hi = min(a, b), max(a, b)
+                        between = occ & ((1 << hi) - 1) & ~((1 << (lo + 1)) - 1)
+                        sign = -1 if bin(between).count("1") % 2 else 1
+                        new = occ ^ (1 << a) ^ (1 << b)
+                        key = (idx[(new, d) if spin == 0 else (u, new)], k)
+                        hop[key] = hop.get(key, 0) - sign
+    return LinearBlock(len(states), {"t": hop, "U": dbl})
+
+
+def test_flint_medium_block_pointwise():
+    # 36x36 sector; check the symbolic result against the exact characteristic
+    # polynomial of the numeric matrix at rational points (sympy, independent).
+    b = hubbard_ring_sector(4, 2, 2)
+    P = charpoly(b, ("t", "U"), backend="flint")
+    assert P.degree(E) == 36
+    for tv, uv in [(1, 3), (sympy.Rational(-2, 3), sympy.Rational(5, 7))]:
+        M = to_sympy_matrix(b, {"t": tv, "U": uv})
+        x = sympy.Symbol("x")
+        want = M.charpoly(x).all_coeffs()
+        got = sympy.Poly(P.as_expr().subs({t: tv, U: uv}), E).all_coeffs()
+        assert got == want
+
+
+def test_flint_large_entries_need_several_primes():
+    # Entries ~10^6 force coefficients far above one 62-bit prime.
+    rng = random.Random(11)
+    b = random_block(rng, 6, ("t", "U"), density=0.7, span=10**6)
+    P = charpoly(b, ("t", "U"), backend="flint")
+    assert max(abs(int(c)) for c in P.coeffs()).bit_length() > 64
+    assert P == reference_charpoly(b, (t, U))
+
+
+def test_flint_three_couplings_tensor_grid():
+    rng = random.Random(5)
+    b = random_block(rng, 7, ("t", "U", "V"), density=0.3, rational=True)
+    assert charpoly(b, ("t", "U", "V"), backend="flint") == reference_charpoly(b, (t, U, V))
+
+
+def test_choose_backend():
+    assert _choose_backend(LinearBlock(2, {})) == "sympy"
+    assert _choose_backend(LinearBlock(40, {})) == ("flint" if cp_mod.HAVE_FLINT else "sympy")
+
+
+def test_errors_name_the_problem():
+    b = LinearBlock(2, {"U": {(0, 0): 1}})
+    with pytest.raises(ModelError, match="'U'"):
+        charpoly(b, ("t",))
+    with pytest.raises(ModelError, match="repeat"):
+        charpoly(b, ("U", "U"))
+    with pytest.raises(ModelError, match="backend"):
+        charpoly(b, ("U",), backend="numpy")
+    with pytest.raises(ModelError, match=r"\(2, 0\)"):
+        LinearBlock(2, {"U": {(2, 0): 1}})
+    with pytest.raises(ModelError, match="float"):
+        LinearBlock(2, {"U": {(0, 0): 0.5}})

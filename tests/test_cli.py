@@ -1,0 +1,173 @@
+"""Tests of the command line (symcluster.cli): in-process with a stand-in solver, plus one
+real end-to-end subprocess run through ``python -m symcluster``."""
+
+import json
+import os
+import subprocess
+import sys
+
+import pytest
+import sympy
+
+import symcluster
+from symcluster.cli import main, parse_electrons, parse_point
+from symcluster.errors import InputError, VerificationError
+
+from test_export_text import two_site_spectrum
+
+
+@pytest.fixture
+def fake_solve(monkeypatch):
+    calls = []
+
+    def solve(model, electrons=None, verify=True):
+        calls.append((model, electrons))
+        spec = two_site_spectrum()
+        if electrons is not None:
+            spec.levels = [l for l in spec.levels if l.quantum_numbers["N"] in electrons]
+        spec.model = model
+        return spec
+
+    monkeypatch.setattr(symcluster, "solve", solve, raising=False)
+    return calls
+
+
+def _one_error_line(capsys):
+    err = capsys.readouterr().err
+    lines = err.strip().splitlines()
+    assert len(lines) == 1, err
+    assert lines[0].startswith("symcluster: error: ")
+    assert "Traceback" not in err
+    return lines[0]
+
+
+def test_levels_prints_table_and_passes_model_and_electrons(fake_solve, capsys):
+    rc = main(["levels", "chain", "2", "--electrons", "1,2", "--at", "t=1,U=4"])
+    out = capsys.readouterr().out
+    assert rc == 0
+    model, electrons = fake_solve[0]
+    assert model.cluster.n_sites == 2 and electrons == [1, 2]
+    assert "-0.828427124746" in out          # dimer 2 - 2*sqrt(2) at t=1, U=4 (from memory)
+    assert "2*U" not in out                  # N=4 was not asked for
+
+
+def test_shape_word_without_subcommand(fake_solve, capsys):
+    assert main(["ring", "4"]) == 0
+    assert fake_solve[0][0].cluster.name == "ring(4)"
+    assert main(["pgrid", "3", "3"]) == 0
+    assert len(fake_solve[1][0].cluster.bonds) == 18
+
+
+def test_outputs_written_atomically(fake_solve, tmp_path, capsys):
+    tex, js = tmp_path / "o.tex", tmp_path / "o.json"
+    rc = main(["levels", "chain", "2", "--at", "t=1,U=4", "--latex", str(tex), "--standalone",
+               "--json", str(js), "--digits", "20", "--show-symmetry"])
+    assert rc == 0
+    assert tex.read_text().startswith(r"\documentclass")
+    doc = json.loads(js.read_text())
+    assert doc["digits"] == 20 and doc["point"] == {"t": "1", "U": "4"}
+    assert sorted(os.listdir(tmp_path)) == ["o.json", "o.tex"]
+    assert "symmetry reduction per sector" in capsys.readouterr().out
+
+
+def test_no_arguments_runs_the_demo(fake_solve, tmp_path, monkeypatch, capsys):
+    monkeypatch.chdir(tmp_path)
+    assert main([]) == 0
+    assert fake_solve[0][0].cluster.name == "chain(2)"
+    assert (tmp_path / "symcluster-demo.tex").read_text().rstrip().endswith(r"\end{document}")
+    assert json.loads((tmp_path / "symcluster-demo.json").read_text())["point"] == \
+        {"t": "1", "U": "4"}
+
+
+def test_failed_solve_writes_nothing(monkeypatch, tmp_path, capsys):
+    def solve(model, electrons=None, verify=True):
+        raise VerificationError("level 3 differs from its block by 1e-5; report this bug")
+    monkeypatch.setattr(symcluster, "solve", solve, raising=False)
+    rc = main(["levels", "chain", "2", "--json", str(tmp_path / "x.json")])
+    assert rc == 2
+    assert "level 3 differs" in _one_error_line(capsys)
+    assert os.listdir(tmp_path) == []
+
+
+@pytest.mark.parametrize("argv, words", [
+    (["levels", "hexagon", "6"], "unknown shape 'hexagon'"),
+    (["levels", "ring", "four"], "not a whole number"),
+    (["levels", "ring", "-3"], "sizes must be positive"),
+    (["levels", "ring", "2"], "chain 2"),
+    (["levels", "grid", "2"], "takes 2 size(s)"),
+    (["levels"], "no cluster given"),
+    (["levels", "chain", "2", "--at", "t=1,x=2,U=3"], "unknown coupling 'x'"),
+    (["levels", "chain", "2", "--at", "t=1"], "no value for U"),
+    (["levels", "chain", "2", "--at", "t=one,U=3"], "'one' is not a number"),
+    (["levels", "chain", "2", "--at", "t=1/0,U=3"], "divides by zero"),
+    (["levels", "chain", "2", "--electrons", "5"], "impossible on 2 sites"),
+    (["levels", "chain", "2", "--electrons", "two"], "not a number or range"),
+    (["levels", "chain", "2", "--digits", "abc"], "--digits"),
+    (["levels", "chain", "2", "--no-verify"], "unrecognized arguments: --no-verify"),
+    (["levels", "--cluster-file", "/nonexistent/c.toml"], "cannot read cluster file"),
+    (["levels", "chain", "2", "--standalone"], "--standalone needs --latex"),
+    (["levels", "chain", "2", "--json", "/nonexistent/dir/x.json"], "does not exist"),
+])
+def test_bad_input_is_one_line_and_exit_2(fake_solve, capsys, argv, words):
+    assert main(argv) == 2
+    line = _one_error_line(capsys)
+    assert words in line
+    assert ";" in line                       # every message says how to fix it
+    assert capsys.readouterr().out == ""
+
+
+def test_bad_cluster_file_content(fake_solve, tmp_path, capsys):
+    f = tmp_path / "c.toml"
+    f.write_text('format = "symcluster-cluster"\nsites = 2\nbonds = [[0, 0]]\n')
+    assert main(["levels", "--cluster-file", str(f)]) == 2
+    assert "joins a site to itself" in _one_error_line(capsys)
+
+
+def test_help_explains_model_and_convention(capsys):
+    assert main(["--help"]) == 0
+    text = capsys.readouterr().out
+    assert "Hubbard" in text and "sign convention" in text
+    assert "symcluster-demo.tex" in text and "examples:" in text
+    assert main(["levels", "--help"]) == 0
+    assert "pgrid NX NY" in capsys.readouterr().out
+    assert main(["shapes"]) == 0
+    assert "tetrahedron" in capsys.readouterr().out
+
+
+def test_point_and_electron_grammars():
+    assert parse_point("t=1, U=-2.5 tp=3/4 V=1e-2") == {
+        "t": 1, "U": sympy.Rational(-5, 2), "tp": sympy.Rational(3, 4),
+        "V": sympy.Rational(1, 100)}
+    for bad in ("t", "=1", "t=__import__('os')", "t=1,t=2", "t=nan", "t=1e99999"):
+        with pytest.raises(InputError):
+            parse_point(bad)
+    assert parse_electrons("all", 4) is None
+    assert parse_electrons("1-3,6", 4) == [1, 2, 3, 6]
+    with pytest.raises(InputError, match="backwards"):
+        parse_electrons("3-1", 4)
+
+
+def test_end_to_end_subprocess(tmp_path):
+    """The real solver through ``python -m symcluster`` (no stand-ins)."""
+    assert hasattr(symcluster, "solve"), \
+        "symcluster.solve is missing: the end-to-end CLI run cannot work"
+    js = tmp_path / "dimer.json"
+    root = os.path.dirname(os.path.dirname(os.path.abspath(symcluster.__file__)))
+    env = dict(os.environ, PYTHONPATH=os.pathsep.join(
+        [root] + [p for p in os.environ.get("PYTHONPATH", "").split(os.pathsep) if p]))
+    run = subprocess.run(
+        [sys.executable, "-m", "symcluster", "levels", "chain", "2", "--at", "t=1,U=4",
+         "--json", str(js)],
+        cwd=tmp_path, env=env, capture_output=True, text=True, timeout=120)
+    assert run.returncode == 0, run.stderr
+    doc = json.loads(js.read_text())
+    assert sum(l["degeneracy"] for l in doc["levels"]) == 16
+    n2 = sorted(float(l["values"]["12"]) for l in doc["levels"]
+                if l["quantum_numbers"]["N"] == 2)
+    # dimer, N=2 at t=1, U=4: 2-2*sqrt(2), 0 (triplet), U, 2+2*sqrt(2) (from memory)
+    assert n2[0] == pytest.approx(2 - 2 * 2 ** 0.5, abs=1e-10)
+    assert n2[-1] == pytest.approx(2 + 2 * 2 ** 0.5, abs=1e-10)
+    assert "-0.828427124746" in run.stdout
+    bad = subprocess.run([sys.executable, "-m", "symcluster", "levels", "ring", "x"],
+                         cwd=tmp_path, env=env, capture_output=True, text=True, timeout=120)
+    assert bad.returncode == 2 and bad.stderr.count("\n") == 1

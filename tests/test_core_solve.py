@@ -1,0 +1,284 @@
+"""Independent checks of sc.solve: closed forms, limits, sum rules, and a Fock-space reference.
+
+The reference (tests/reference_fock.py) builds the full 4^L Hamiltonian from
+Jordan-Wigner Kronecker products and shares no code with symcluster.
+"""
+
+import functools
+from itertools import combinations
+from math import comb
+
+import mpmath
+import pytest
+import sympy
+
+import symcluster as sc
+from reference_fock import FockReference, expand, free_levels, max_deviation
+
+SHAPES = {
+    "chain(2)": lambda: sc.chain(2),
+    "chain(3)": lambda: sc.chain(3),
+    "chain(4)": lambda: sc.chain(4),
+    "chain(5)": lambda: sc.chain(5),
+    "ring(3)": lambda: sc.ring(3),
+    "ring(4)": lambda: sc.ring(4),
+    "ring(5)": lambda: sc.ring(5),
+    "star(4)": lambda: sc.star(4),
+    "tetrahedron": lambda: sc.tetrahedron(),
+}
+
+
+@functools.lru_cache(maxsize=None)
+def solved(name, lattice=True):
+    return sc.solve(sc.hubbard(SHAPES[name]()), lattice=lattice)
+
+
+@functools.lru_cache(maxsize=None)
+def reference(name):
+    c = SHAPES[name]()
+    return FockReference(c.n_sites, list(c.bonds))
+
+
+def by_n(spec, values, digits=30):
+    """{N: sorted mpf energies, each repeated by its degeneracy}."""
+    pt = spec.point(values)
+    out = {}
+    for lev in spec.levels:
+        out.setdefault(lev.quantum_numbers["N"], []).extend(
+            [lev.numeric(pt, digits=digits)] * lev.degeneracy)
+    return {n: sorted(v) for n, v in out.items()}
+
+
+t, U = sympy.symbols("t U", real=True)
+
+# ---------------------------------------------------------------- 1. the two-site cluster
+# Closed forms: D. J. Carrascal, J. Ferrer, J. C. Smith, K. Burke, J. Phys.: Condens. Matter 27,
+# 393001 (2015) (table in /work/shared/references.md): (energy, degeneracy, S)
+DIMER = {
+    0: [(sympy.Integer(0), 1, 0)],
+    1: [(-t, 2, sympy.Rational(1, 2)), (t, 2, sympy.Rational(1, 2))],
+    2: [(sympy.Integer(0), 3, 1), (U, 1, 0),
+        (U / 2 - sympy.sqrt(U**2 / 4 + 4 * t**2), 1, 0),
+        (U / 2 + sympy.sqrt(U**2 / 4 + 4 * t**2), 1, 0)],
+    3: [(U - t, 2, sympy.Rational(1, 2)), (U + t, 2, sympy.Rational(1, 2))],
+    4: [(2 * U, 1, 0)],
+}
+
+
+def test_dimer_levels_symbolic():
+    spec = solved("chain(2)")
+    assert spec.n_states == 16
+    for n, expected in DIMER.items():
+        got = [l for l in spec.levels if l.quantum_numbers["N"] == n]
+        assert all(l.is_closed_form for l in got), f"N={n}: a degree<=2 level is not closed form"
+        found = [0] * len(expected)
+        for lev in got:
+            hits = [k for k, (e, d, s) in enumerate(expected)
+                    if sympy.simplify(lev.energy - e) == 0 and lev.quantum_numbers["S"] == s]
+            assert len(hits) == 1, f"N={n}: level {lev.energy} (S={lev.quantum_numbers['S']}) " \
+                                   f"matches {len(hits)} closed forms"
+            found[hits[0]] += lev.degeneracy
+        assert found == [d for _, d, _ in expected], f"N={n}: degeneracies {found}"
+
+
+@pytest.mark.parametrize("tv, uv", [(1, 4), (1, -4), (sympy.Rational(3, 7), sympy.Rational(11, 3)),
+                                    (-2, 5), (1, 0), (sympy.Rational(-1, 3), sympy.Rational(-9, 2))])
+def test_dimer_levels_numeric_30_digits(tv, uv):
+    # same closed forms (Carrascal et al. 2015), evaluated with mpmath at 30 digits
+    got = by_n(solved("chain(2)"), {"t": tv, "U": uv}, digits=30)
+    with mpmath.workdps(40):
+        for n, expected in DIMER.items():
+            exp = sorted(sum(([mpmath.mpf(sympy.N(e.subs({t: tv, U: uv}), 45))] * d
+                              for e, d, _ in expected), []))
+            dev = max(abs(a - b) for a, b in zip(got[n], exp))
+            assert len(got[n]) == len(exp) and dev < mpmath.mpf(10) ** -28, (n, dev)
+
+
+def test_one_site_atom():
+    # Hubbard atom: 0 (N=0), 0 twice (N=1), U (N=2) (common practice, no source)
+    spec = sc.solve(sc.hubbard(sc.cluster(1, [])))
+    got = sorted((l.quantum_numbers["N"], str(l.energy), l.degeneracy) for l in spec.levels)
+    assert got == [(0, "0", 1), (1, "0", 2), (2, "U", 1)]
+
+
+# ---------------------------------------------------------------- 2. U = 0
+# single-particle energies of tight binding (Ashcroft & Mermin ch. 10, from memory)
+def _single_particle(kind, L, tv):
+    if kind == "ring":
+        return [-2 * tv * mpmath.cos(2 * mpmath.pi * m / L) for m in range(L)]
+    return [-2 * tv * mpmath.cos(mpmath.pi * m / (L + 1)) for m in range(1, L + 1)]
+
+
+@pytest.mark.parametrize("kind, L", [("chain", 2), ("chain", 3), ("chain", 4), ("chain", 5),
+                                     ("ring", 3), ("ring", 4),
+                                     pytest.param("ring", 5, marks=pytest.mark.slow)])
+@pytest.mark.parametrize("tv", [1, sympy.Rational(-5, 3)])
+def test_free_electrons(kind, L, tv):
+    spec = solved(f"{kind}({L})")
+    got = by_n(spec, {"t": tv, "U": 0}, digits=30)
+    with mpmath.workdps(40):
+        eps = _single_particle(kind, L, mpmath.mpf(sympy.Rational(tv).p) / sympy.Rational(tv).q)
+        for n in range(2 * L + 1):
+            exp = sorted(sum((free_levels(eps, a, n - a) for a in range(max(0, n - L), min(n, L) + 1)),
+                             []))
+            assert len(got[n]) == len(exp), f"N={n}: {len(got[n])} states, expected {len(exp)}"
+            dev = max(abs(a - b) for a, b in zip(got[n], exp))
+            assert dev < mpmath.mpf(10) ** -25, f"{kind}({L}) N={n} t={tv}: deviation {dev}"
+
+
+# ---------------------------------------------------------------- 3. atomic limit
+@pytest.mark.parametrize("name", ["chain(2)", "ring(3)", "ring(4)", "tetrahedron"])
+@pytest.mark.parametrize("uv", [4, sympy.Rational(-7, 3)])
+def test_atomic_limit(name, uv):
+    # t = 0: every Fock state has energy U x (doubly occupied sites) (common practice, no source).
+    # States with N electrons and d double occupancies: C(L,d) C(L-d, N-2d) 2^(N-2d).
+    spec = solved(name)
+    L = spec.model.n_sites
+    got = by_n(spec, {"t": 0, "U": uv}, digits=30)
+    for n in range(2 * L + 1):
+        exp = []
+        for d in range(0, n // 2 + 1):
+            if n - 2 * d <= L - d:
+                exp += [uv * d] * (comb(L, d) * comb(L - d, n - 2 * d) * 2 ** (n - 2 * d))
+        exp.sort()
+        assert len(got[n]) == len(exp)
+        assert max_deviation(got[n], exp) < 1e-25, f"{name} N={n}"
+
+
+# ---------------------------------------------------------------- 4. trace sum rule
+def _trace(spec):
+    """Sum of deg * E over all levels, exactly (implicit roots: Vieta over complete root sets)."""
+    total = sympy.Integer(0)
+    implicit = {}
+    for lev in spec.levels:
+        if lev.is_closed_form:
+            total += lev.degeneracy * lev.energy
+        else:
+            implicit.setdefault((lev.energy.poly, lev.degeneracy), []).append(lev.energy.index)
+    for (poly, deg), idx in implicit.items():
+        d = poly.degree(poly.gens[0])
+        assert sorted(idx) == list(range(d)), f"roots {idx} of a degree-{d} factor"
+        coeffs = sympy.Poly(poly.as_expr(), poly.gens[0]).all_coeffs()
+        total += deg * (-coeffs[1] / coeffs[0])   # Vieta: sum of roots
+    return total
+
+
+@pytest.mark.parametrize("name", ["chain(2)", "ring(3)", "ring(4)", "tetrahedron", "chain(4)"])
+def test_trace_sum_rule(name):
+    # Tr H = U L 4^(L-1): Tr n_up n_dn = 4^L / 4 on each site, hopping is traceless (exact)
+    spec = solved(name)
+    L = spec.model.n_sites
+    assert sympy.simplify(_trace(spec) - U * L * 4 ** (L - 1)) == 0
+
+
+def test_trace_with_site_energy():
+    # Tr(eps n_0) = eps 4^L (exact; n_0 = n_0up + n_0dn, each of trace 4^L / 2)
+    c = sc.cluster(3, [(0, 1), (1, 2, "tp")], site_labels={0: "eps"})
+    spec = sc.solve(sc.hubbard(c))
+    eps = sympy.Symbol("eps", real=True)
+    assert spec.n_states == 64
+    assert sympy.simplify(_trace(spec) - U * 3 * 16 - eps * 64) == 0
+
+
+# ---------------------------------------------------------------- 5. against the reference
+POINTS = [{"t": 1, "U": 4}, {"t": 1, "U": -3}, {"t": sympy.Rational(2, 3), "U": sympy.Rational(7, 5)},
+          {"t": -1, "U": sympy.Rational(1, 2)}]
+
+
+@pytest.mark.parametrize("name", ["ring(4)", "chain(5)", "star(4)", "tetrahedron"])
+def test_full_spectrum_against_reference(name):
+    spec = solved(name)
+    L = spec.model.n_sites
+    assert spec.n_states == 4 ** L
+    ref = reference(name)
+    worst = 0.0
+    for pt in POINTS:
+        got = expand(spec.numeric(pt, digits=30))
+        exp = ref.eigenvalues(pt)
+        assert len(got) == len(exp)
+        worst = max(worst, max_deviation(got, exp))
+        # sector by sector as well (N is a good quantum number)
+        got_n = by_n(spec, pt, digits=20)
+        for n in range(2 * L + 1):
+            worst = max(worst, max_deviation(got_n[n], ref.eigenvalues(pt, n=n)))
+    assert worst < 1e-10, f"{name}: worst deviation from the Fock-space reference {worst:.2e}"
+
+
+@pytest.mark.parametrize("name", ["chain(2)", "ring(3)", "ring(4)"])
+def test_mpmath_reference_30_digits(name):
+    # the reference's mpmath path at 30 digits, sector (N_up, N_dn) by sector
+    spec = solved(name)
+    L = spec.model.n_sites
+    pt = {"t": sympy.Rational(3, 4), "U": sympy.Rational(-13, 5)}
+    got = by_n(spec, pt, digits=35)
+    ref = reference(name)
+    for n in range(2 * L + 1):
+        exp = sorted(sum((ref.eigenvalues_mp(pt, a, n - a, digits=35)
+                          for a in range(max(0, n - L), min(n, L) + 1)), []))
+        with mpmath.workdps(35):
+            dev = max(abs(a - b) for a, b in zip(got[n], exp))
+        assert len(got[n]) == len(exp) and dev < 1e-28, f"{name} N={n}: {dev}"
+
+
+def test_spin_labels_against_reference():
+    # a level of spin S and degeneracy g contributes g / (2S+1) states to every sector
+    # with |S_z| <= S; the reference's (N_up, N_dn) sectors must be reproduced this way
+    for name in ["ring(4)", "tetrahedron", "ring(3)"]:
+        spec = solved(name)
+        L = spec.model.n_sites
+        pt = spec.point({"t": 1, "U": sympy.Rational(5, 2)})
+        ref = reference(name)
+        for a in range(L + 1):
+            for b in range(L + 1):
+                sz = sympy.Rational(a - b, 2)
+                got = []
+                for lev in spec.levels:
+                    s = lev.quantum_numbers["S"]
+                    if lev.quantum_numbers["N"] == a + b and s >= abs(sz):
+                        assert lev.degeneracy % (2 * s + 1) == 0
+                        got += [lev.numeric(pt, digits=20)] * (lev.degeneracy // int(2 * s + 1))
+                exp = ref.eigenvalues({"t": 1, "U": 2.5}, n_up=a, n_dn=b)
+                assert max_deviation(sorted(got), exp) < 1e-10, f"{name} sector ({a},{b})"
+
+
+@pytest.mark.parametrize("name", ["ring(4)", "tetrahedron"])
+def test_lattice_reduction_does_not_change_spectrum(name):
+    pt = {"t": sympy.Rational(5, 4), "U": sympy.Rational(-9, 7)}
+    a = expand(solved(name).numeric(pt))
+    b = expand(solved(name, lattice=False).numeric(pt))
+    assert max_deviation(a, b) < 1e-25
+
+
+def test_electrons_subset_matches_full_solve():
+    full = solved("ring(4)")
+    part = sc.solve(sc.hubbard(sc.ring(4)), electrons=[1, 2])
+    assert {l.quantum_numbers["N"] for l in part.levels} == {1, 2}
+    pt = {"t": 1, "U": 3}
+    sub = [l for l in full.levels if l.quantum_numbers["N"] in (1, 2)]
+    exp = sorted(sum(([l.numeric(pt)] * l.degeneracy for l in sub), []))
+    assert max_deviation(expand(part.numeric(pt)), exp) < 1e-25
+    assert part.n_states == 8 + 28
+
+
+def test_site_energy_against_reference():
+    c = sc.cluster(3, [(0, 1), (1, 2, "tp"), (0, 2)], site_labels={1: "eps"})
+    spec = sc.solve(sc.hubbard(c))
+    ref = FockReference(3, list(c.bonds), {1: "eps"})
+    for pt in [{"t": 1, "tp": sympy.Rational(1, 3), "eps": sympy.Rational(-1, 2), "U": 3},
+               {"t": -2, "tp": 1, "eps": 2, "U": -1}]:
+        dev = max_deviation(expand(spec.numeric(pt)), ref.eigenvalues(pt))
+        assert dev < 1e-10, dev
+
+
+def test_level_numeric_matches_spectrum_numeric():
+    spec = solved("ring(4)")
+    pt = {"t": 1, "U": 6}
+    a = sorted((l.numeric(pt, digits=30), l.degeneracy) for l in spec.levels)
+    b = spec.numeric(pt, digits=30)
+    assert max_deviation(expand(a), expand(b)) < 1e-28
+
+
+def test_verification_report_present():
+    rep = solved("chain(2)").verification.as_dict()
+    assert rep["checks"], "no verification checks recorded"
+    assert rep["worst_deviation"] < 1e-20

@@ -1,0 +1,205 @@
+"""Tests of symcluster.export.exprtree and symcluster.export.jsonio."""
+
+import json
+import os
+
+import pytest
+import sympy
+from hypothesis import HealthCheck, given, settings, strategies as st
+
+from symcluster.errors import InputError, ModelError
+from symcluster.export.exprtree import MAX_DEPTH, from_tree, poly_from_tree, to_tree
+from symcluster.export.jsonio import (dumps_spectrum, loads_spectrum, read_json,
+                                      spectrum_to_dict, write_json)
+
+from test_export_text import DELTA, E, R, StandInRoot, U, t, two_site_spectrum
+
+tp = sympy.Symbol("tp", real=True)
+BAD = (sympy.zoo, sympy.nan, sympy.oo, -sympy.oo)
+
+
+def _leaf():
+    return st.one_of(
+        st.sampled_from([t, U, tp]),
+        st.integers(-6, 6).map(sympy.Integer),
+        st.fractions(min_value=-5, max_value=5, max_denominator=7).map(
+            lambda f: sympy.Rational(f.numerator, f.denominator)),
+        st.just(sympy.pi),
+    )
+
+
+def _grow(children):
+    half = st.sampled_from([R(k, 2) for k in (-3, -1, 1, 3)] + [R(2), R(-1), R(1, 3)])
+    return st.one_of(
+        st.tuples(children, children).map(lambda ab: ab[0] + ab[1]),
+        st.tuples(children, children).map(lambda ab: ab[0] * ab[1]),
+        st.tuples(children, half).map(lambda ab: ab[0] ** ab[1]),
+        children.map(sympy.sqrt),
+        children.map(sympy.cos),
+        children.map(sympy.acos),
+        st.tuples(children, children).map(lambda ab: sympy.atan2(ab[0], ab[1])),
+        # unevaluated forms such as factor_terms produces must survive too
+        children.map(sympy.factor_terms),
+    )
+
+
+EXPRS = st.recursive(_leaf(), _grow, max_leaves=10).filter(
+    lambda e: not any(e.has(b) for b in BAD))
+
+
+@settings(max_examples=150, deadline=None, suppress_health_check=[HealthCheck.too_slow])
+@given(EXPRS)
+def test_random_expressions_round_trip_exactly(expr):
+    tree = to_tree(expr)
+    again = from_tree(json.loads(json.dumps(tree)))
+    assert again == expr
+    assert sympy.srepr(again) == sympy.srepr(expr)
+
+
+@pytest.mark.parametrize("expr", [
+    U / 2 - DELTA / 2,
+    sympy.Mul(2, t + U, evaluate=False),
+    2 * sympy.sqrt(U**2 + 3 * t**2) / 3 * sympy.cos(
+        sympy.acos((U**3 - 9 * U * t**2) / (U**2 + 3 * t**2) ** R(3, 2)) / 3) + U / 3,
+    sympy.Integer(10) ** 60 + R(1, 3),
+    sympy.I * t + sympy.E,
+])
+def test_known_expressions_round_trip(expr):
+    assert from_tree(json.loads(json.dumps(to_tree(expr)))) == expr
+
+
+def test_tree_shape_is_documented_form():
+    assert to_tree(sympy.sqrt(t)) == {"op": "pow", "args": [{"sym": "t"}, {"rat": "1/2"}]}
+    assert to_tree(R(-3, 2)) == {"rat": "-3/2"}
+    assert to_tree(sympy.pi) == {"const": "pi"}
+    x = sympy.Symbol("x")
+    assert to_tree(x) == {"sym": "x", "assume": []}
+    assert from_tree(to_tree(x)) == x and from_tree({"sym": "t"}) == t
+
+
+def test_floats_and_unknown_functions_are_refused_when_writing():
+    with pytest.raises(ModelError, match="Float"):
+        to_tree(sympy.Float(1.5) * t)
+    with pytest.raises(ModelError, match="gamma"):
+        to_tree(sympy.gamma(t))
+
+
+def test_polynomial_and_root_round_trip():
+    p = sympy.Poly(E**5 - t**4 * E - U**5, E, t, U)
+    assert poly_from_tree(to_tree(p)) == p
+    q = sympy.Poly(E**2 / 2 - t, E, t, domain="QQ")
+    assert poly_from_tree(json.loads(json.dumps(to_tree(q)))) == q
+    root = StandInRoot(p, 3)
+    tree = to_tree(root)
+    assert tree["root"]["index"] == 3 and tree["root"]["var"] == "E"
+    assert from_tree(tree, root_factory=StandInRoot) == root
+
+
+@pytest.mark.parametrize("tree, words", [
+    ({"op": "__import__", "args": [{"int": "1"}]}, "unknown operation"),
+    ({"op": "add", "args": [{"int": "1"}]}, "at least 2"),
+    ({"int": "1+1"}, "string of digits"),
+    ({"int": 3}, "string of digits"),
+    ({"rat": "1/0"}, "zero denominator"),
+    ({"sym": "os.system"}, "not valid"),
+    ({"sym": "t", "assume": ["commutative"]}, "assume"),
+    ({"const": "oo"}, "unknown constant"),
+    ({"float": "1.5"}, "unknown node"),
+    ({"int": "1", "extra": 1}, "unexpected key"),
+    ({"op": "mul", "args": [{"int": "2"}, {"root": {}}]}, "top of an energy"),
+    ([1, 2], "expected an object"),
+    ({"root": {"poly": {"poly": {"gens": [{"sym": "E"}], "domain": "ZZ",
+                                 "terms": [[[2], "1"], [[0], "-2"]]}}, "index": 5}},
+     "index 5"),
+])
+def test_malformed_trees_give_input_errors(tree, words):
+    with pytest.raises(InputError, match=words):
+        from_tree(tree, root_factory=StandInRoot)
+
+
+def test_deep_nesting_is_refused():
+    node = {"sym": "t"}
+    for _ in range(MAX_DEPTH + 5):
+        node = {"op": "cos", "args": [node]}
+    with pytest.raises(InputError, match="deeper than"):
+        from_tree(node)
+
+
+def test_document_has_schema_keys_and_exact_values():
+    doc = spectrum_to_dict(two_site_spectrum(), point={"t": 1, "U": 4}, digits=20)
+    assert doc["format"] == "symcluster-spectrum" and doc["version"] == 1
+    for key in ("model", "levels", "point", "digits", "verification", "symmetries"):
+        assert key in doc
+    assert doc["model"]["cluster"]["bonds"] == [[0, 1, "t"]]
+    assert doc["model"]["couplings"] == ["t", "U"]
+    assert doc["point"] == {"t": "1", "U": "4"}
+    lev = doc["levels"][0]
+    for key in ("energy", "energy_text", "energy_latex", "degeneracy", "quantum_numbers",
+                "polynomial", "values"):
+        assert key in lev
+    n1 = [l for l in doc["levels"] if l["quantum_numbers"]["N"] == 1]
+    assert n1[0]["quantum_numbers"]["S"] == "1/2"
+    assert n1[0]["values"] == {"20": "-1.0"}
+    ground2 = [l for l in doc["levels"] if l["quantum_numbers"]["N"] == 2][0]
+    # dimer ground state at t=1, U=4 is 2 - 2*sqrt(2) (formula from memory)
+    assert ground2["values"]["20"].startswith("-0.828427124746190097")
+
+
+def test_json_text_round_trip_reloads_equal_objects():
+    spec = two_site_spectrum(with_root=True)
+    text = dumps_spectrum(spec, point={"t": R(1, 3), "U": "2.5"}, digits=25)
+    doc = loads_spectrum(text, root_factory=StandInRoot)
+    assert json.loads(text) == json.loads(json.dumps(json.loads(text)))
+    originals = {(l.quantum_numbers["N"], str(l.energy)) for l in spec.levels
+                 if l.is_closed_form}
+    reloaded = [l for l in doc["levels"] if isinstance(l["energy"], sympy.Basic)]
+    assert {(l["quantum_numbers"]["N"], str(l["energy"])) for l in reloaded} == originals
+    assert any(l["energy"] == U / 2 - DELTA / 2 for l in reloaded)
+    root = [l for l in doc["levels"] if isinstance(l["energy"], StandInRoot)][0]
+    assert root["energy"] == spec.levels[-1].energy
+    assert root["quantum_numbers"]["Sz"] == R(1, 2)
+    assert doc["point"] == {"t": R(1, 3), "U": R(5, 2)}
+    polys = [l["polynomial"] for l in doc["levels"] if l["polynomial"] is not None]
+    assert sympy.Poly(E**2 - U * E - 4 * t**2, E, t, U) in polys
+
+
+def test_write_and_read_file(tmp_path):
+    path = tmp_path / "s.json"
+    write_json(two_site_spectrum(), path, point={"t": 1, "U": 4})
+    doc = read_json(path)
+    assert sum(l["degeneracy"] for l in doc["levels"]) == 16
+    assert [p.name for p in tmp_path.iterdir()] == ["s.json"]
+
+
+def test_failed_write_leaves_old_file_untouched(tmp_path):
+    path = tmp_path / "s.json"
+    path.write_text("old")
+    spec = two_site_spectrum()
+    spec.levels[0].energy = sympy.Float(0.5)
+    with pytest.raises(ModelError):
+        write_json(spec, path)
+    assert path.read_text() == "old"
+    assert os.listdir(tmp_path) == ["s.json"]
+
+
+@pytest.mark.parametrize("content, words", [
+    ("{not json", "not valid JSON"),
+    ("[]", "top level must be a JSON object"),
+    ('{"format": "other"}', "'format' is 'other'"),
+    ('{"format": "symcluster-spectrum", "version": 9}', "version 9"),
+    ('{"format": "symcluster-spectrum", "version": 1, "model": {}, "digits": 3, '
+     '"verification": {}}', "'levels' is missing"),
+    ('{"format": "symcluster-spectrum", "version": 1, "model": {}, "digits": 3, '
+     '"verification": {}, "levels": [{"energy": {"op": "eval", "args": []}, '
+     '"degeneracy": 1, "quantum_numbers": {}}]}', r"levels\[0\].*unknown operation"),
+])
+def test_malformed_files_give_input_errors(tmp_path, content, words):
+    path = tmp_path / "bad.json"
+    path.write_text(content)
+    with pytest.raises(InputError, match=words):
+        read_json(path)
+
+
+def test_missing_file_is_an_input_error(tmp_path):
+    with pytest.raises(InputError, match="cannot read"):
+        read_json(tmp_path / "nope.json")

@@ -1,0 +1,318 @@
+"""Tests for symcluster.symmetry.lattice: signed permutations, counts, adapted bases.
+
+The fermion signs are checked against an independent implementation written
+here: a state is an explicit list of creation operators, and reordering is
+done by bubble sort, counting transpositions.
+"""
+
+import random
+
+import pytest
+import sympy
+
+from symcluster.errors import InputError
+from symcluster.fock import sector_states
+from symcluster.symmetry.groups import compose
+from symcluster.symmetry.lattice import (
+    adapted_basis, lattice_symmetry, multiplicity, permute_state, state_orbits,
+)
+
+
+
+def ring(n):
+    return n, [(i, (i + 1) % n, "t") for i in range(n)]
+
+
+def chain(n):
+    return n, [(i, i + 1, "t") for i in range(n - 1)]
+
+
+def complete(n):
+    return n, [(i, j, "t") for i in range(n) for j in range(i + 1, n)]
+
+
+def cube():
+    return 8, [(a, a ^ (1 << b), "t") for a in range(8) for b in range(3) if a < a ^ (1 << b)]
+
+
+def grid(nx, ny):
+    bonds = [(x + nx * y, x + 1 + nx * y, "t") for y in range(ny) for x in range(nx - 1)]
+    return nx * ny, bonds + [(x + nx * y, x + nx * (y + 1), "t")
+                             for y in range(ny - 1) for x in range(nx)]
+
+
+def star(leaves):
+    return leaves + 1, [(0, i, "t") for i in range(1, leaves + 1)]
+
+
+# --- independent fermion algebra --------------------------------------------------
+
+def ops_of(up, dn, n):
+    """Canonical operator list: (spin, site), spin 0 = up first, sites ascending."""
+    return [(0, i) for i in range(n) if up >> i & 1] + [(1, j) for j in range(n) if dn >> j & 1]
+
+
+def bubble(ops):
+    """Sort a list of creation operators; return (sign, sorted list) or (0, None) if repeated."""
+    ops = list(ops)
+    if len(set(ops)) != len(ops):
+        return 0, None
+    swaps = 0
+    for a in range(len(ops)):
+        for b in range(len(ops) - 1 - a):
+            if ops[b] > ops[b + 1]:
+                ops[b], ops[b + 1] = ops[b + 1], ops[b]
+                swaps += 1
+    return (-1) ** swaps, ops
+
+
+def masks_of(ops):
+    up = dn = 0
+    for spin, i in ops:
+        if spin == 0:
+            up |= 1 << i
+        else:
+            dn |= 1 << i
+    return up, dn
+
+
+def ref_permute(perm, up, dn, n):
+    sign, ops = bubble([(s, perm[i]) for s, i in ops_of(up, dn, n)])
+    return (sign, *masks_of(ops))
+
+
+def ref_hop(vec, bonds, n):
+    """Apply sum_bonds sum_spin (c+_i c_j + c+_j c_i) to {(up, dn): coeff}."""
+    out = {}
+    for (up, dn), c in vec.items():
+        ops = ops_of(up, dn, n)
+        for i, j, _ in bonds:
+            for a, b in ((i, j), (j, i)):
+                for spin in (0, 1):
+                    if (spin, b) not in ops:
+                        continue
+                    pos = ops.index((spin, b))                  # c_b passes pos operators
+                    rest = ops[:pos] + ops[pos + 1:]
+                    sign, new = bubble([(spin, a)] + rest)      # c+_a placed in front
+                    if sign:
+                        key = masks_of(new)
+                        out[key] = out.get(key, 0) + c * (-1) ** pos * sign
+    return {k: v for k, v in out.items() if v}
+
+
+def ref_apply_group_element(perm, vec, n):
+    out = {}
+    for (up, dn), c in vec.items():
+        s, u, d = ref_permute(perm, up, dn, n)
+        out[(u, d)] = out.get((u, d), 0) + s * c
+    return {k: v for k, v in out.items() if v}
+
+
+def ref_projector(group, psi, vec, n):
+    out = {}
+    for g, x in zip(group.elements, psi):
+        if x:
+            for k, v in ref_apply_group_element(g, vec, n).items():
+                out[k] = out.get(k, 0) + x * v
+    return {k: v for k, v in out.items() if v}
+
+
+# --- permute_state ------------------------------------------------------------------
+
+def test_permute_state_against_bubble_sort():
+    rng = random.Random(11)
+    n = 6
+    for _ in range(40):
+        perm = list(range(n))
+        rng.shuffle(perm)
+        perm = tuple(perm)
+        for _ in range(30):
+            up, dn = rng.randrange(1 << n), rng.randrange(1 << n)
+            assert permute_state(perm, up, dn) == ref_permute(perm, up, dn, n)
+
+
+def test_permute_state_is_a_representation():
+    # g(h x) = (gh) x including signs, since c+_i -> c+_g(i) is an algebra automorphism
+    rng = random.Random(5)
+    n = 7
+    for _ in range(200):
+        g, h = list(range(n)), list(range(n))
+        rng.shuffle(g)
+        rng.shuffle(h)
+        up, dn = rng.randrange(1 << n), rng.randrange(1 << n)
+        s1, u1, d1 = permute_state(h, up, dn)
+        s2, u2, d2 = permute_state(g, u1, d1)
+        assert (s1 * s2, u2, d2) == permute_state(compose(g, h), up, dn)
+
+
+def test_ring_boundary_sign():
+    # translation on a 4-ring moves c+_3 to c+_0 past the other three: sign (-1)^3
+    t = (1, 2, 3, 0)
+    assert permute_state(t, 0b1111, 0) == (-1, 0b1111, 0)
+    assert permute_state(t, 0b1000, 0b0001) == (1, 0b0001, 0b0010)
+
+
+# --- counting -----------------------------------------------------------------------
+
+CLUSTERS = [ring(4), ring(5), ring(6), complete(4), cube(), grid(2, 3), chain(4), star(4),
+            grid(3, 3), ring(8)]
+
+
+@pytest.mark.parametrize("cluster", CLUSTERS)
+def test_multiplicities_add_up(cluster):
+    n, bonds = cluster
+    sym = lattice_symmetry(n, bonds)
+    rng = random.Random(n * 31 + len(bonds))
+    for _ in range(3):
+        nu, nd = rng.randint(0, n), rng.randint(0, n)
+        states = sector_states(n, nu, nd)
+        total = 0
+        for r in sym.irreps:
+            m = multiplicity(states, sym.group, r)
+            assert m >= 0
+            total += m * r.dim * r.orbit_size
+        assert total == len(states)
+
+
+def test_multiplicity_non_product_set_and_error():
+    n, bonds = ring(4)
+    sym = lattice_symmetry(n, bonds)
+    states = sector_states(n, 1, 2) + sector_states(n, 2, 1)   # closed, not a product set
+    assert sum(sym.multiplicity(states, r) * r.dim for r in sym.irreps) == len(states)
+    with pytest.raises(InputError, match="closed"):
+        state_orbits([(1, 0)], sym.group)
+
+
+def test_one_electron_on_a_ring_gives_bloch_momenta():
+    # one electron on a 6-ring: one Bloch state per k = 2 pi m / 6 (tight binding, e.g.
+    # Ashcroft & Mermin ch. 10, from memory); the uniform state is fully symmetric and
+    # sum_j (-1)^j c+_j is even under the mirror j -> -j, so k=0 and k=pi carry "+"
+    n, bonds = ring(6)
+    sym = lattice_symmetry(n, bonds)
+    states = sector_states(n, 1, 0)
+    got = {r.label: multiplicity(states, sym.group, r) for r in sym.irreps}
+    assert got == {"k=0,+": 1, "k=0,−": 0, "k=±π/3": 1, "k=±2π/3": 1, "k=π,+": 1, "k=π,−": 0}
+    byname = {r.label: r for r in sym.irreps}
+    assert byname["k=±π/3"].momentum == (-sympy.pi / 3, sympy.pi / 3)
+    assert byname["k=π,+"].momentum == sympy.pi
+
+
+def test_labels_and_orbits():
+    sym8 = lattice_symmetry(*ring(8))
+    labels = [r.label for r in sym8.irreps]
+    assert "k=±π/4,±3π/4" in labels and "k=±π/2" in labels
+    assert [r.orbit_size for r in sym8.irreps].count(2) == 1
+    tet = lattice_symmetry(*complete(4))
+    assert all(r.momentum is None for r in tet.irreps)
+    assert sorted(r.label for r in tet.irreps)[0] == "Γ1 (1)"
+    assert lattice_symmetry(*chain(2)).irreps[1].label == "k=π"
+
+
+@pytest.mark.parametrize("cluster", [ring(4), ring(5), ring(6), ring(8), complete(4), cube(),
+                                     star(4), grid(3, 3)])
+def test_reducer_gives_one_copy(cluster):
+    sym = lattice_symmetry(*cluster)
+    g = sym.group
+    for r in sym.irreps:
+        sub, lam = r.reducer
+        assert r.copies == 1
+        assert set(g.mul(a, b) for a in sub for b in sub) == set(sub)       # a subgroup
+        assert all(lam[sub.index(g.mul(a, b))] == lam[i] * lam[j]
+                   for i, a in enumerate(sub) for j, b in enumerate(sub))   # a homomorphism
+
+
+# --- adapted bases ------------------------------------------------------------------
+
+SECTORS = [(ring(4), 2, 2), (ring(4), 2, 1), (ring(6), 2, 2), (ring(6), 3, 2),
+           (complete(4), 2, 1), (complete(4), 2, 2), (cube(), 1, 1), (cube(), 2, 1),
+           (ring(5), 2, 2), (ring(8), 1, 1)]
+
+
+@pytest.mark.parametrize("cluster,nu,nd", SECTORS)
+def test_adapted_basis(cluster, nu, nd):
+    n, bonds = cluster
+    sym = lattice_symmetry(n, bonds)
+    g = sym.group
+    states = sector_states(n, nu, nd)
+    orbits = state_orbits(states, g)
+    for r in sym.irreps:
+        basis = adapted_basis(states, g, r, orbits)
+        m = multiplicity(states, g, r)
+        assert len(basis) == m * r.copies * r.orbit_size
+        # pivot property (implies linear independence)
+        pivots = [next(iter(v)) for v in basis]
+        assert len(set(pivots)) == len(basis)
+        for i, v in enumerate(basis):
+            assert all(isinstance(x, int) and x for x in v.values())
+            for j, p in enumerate(pivots):
+                assert (p in v) == (i == j)
+        sub, lam = r.reducer
+        scale = g.order // r.dim
+        for v in basis:
+            # eigenvector of every k in K with eigenvalue lam(k)
+            for k, l in zip(sub, lam):
+                assert ref_apply_group_element(g.elements[k], v, n) == {s: l * x for s, x in v.items()}
+            # inside the orbit's isotypic part: P_psi v = (|G| / dim) v
+            assert ref_projector(g, r.character, v, n) == {s: scale * x for s, x in v.items()}
+            # hopping maps W into W: expand T v on the pivots, remainder must vanish
+            tv = ref_hop(v, bonds, n)
+            for w, p in zip(basis, pivots):
+                if p in tv:
+                    a = sympy.Rational(tv[p], w[p])
+                    for s, x in w.items():
+                        tv[s] = tv.get(s, 0) - a * x
+            assert not any(tv.values())
+
+
+def test_projector_commutes_with_hopping():
+    # [P_psi, T] = 0 on random states, with the ring-boundary bond of a 6-ring at even N
+    for cluster, nu, nd in [(ring(6), 2, 2), (ring(4), 2, 2), (cube(), 2, 2)]:
+        n, bonds = cluster
+        sym = lattice_symmetry(n, bonds)
+        rng = random.Random(n)
+        states = sector_states(n, nu, nd)
+        for r in sym.irreps:
+            x = {rng.choice(states): 1, rng.choice(states): -2}
+            x = {k: v for k, v in x.items() if v}
+            a = ref_projector(sym.group, r.character, ref_hop(x, bonds, n), n)
+            b = ref_hop(ref_projector(sym.group, r.character, x, n), bonds, n)
+            assert a == b
+
+
+def test_block_dimensions_ring6_half_filling():
+    # total of (block size x dim) over irreps reproduces the 400 states of sector (3, 3)
+    n, bonds = ring(6)
+    sym = lattice_symmetry(n, bonds)
+    states = sector_states(n, 3, 3)
+    orbits = state_orbits(states, sym.group)
+    sizes = {r.label: len(adapted_basis(states, sym.group, r, orbits)) for r in sym.irreps}
+    assert sum(sizes[r.label] * r.dim for r in sym.irreps) == 400
+
+
+def test_trivial_reducer_fallback_counts_dim_copies():
+    # with K = {e} every multiplet is kept dim times: dim W = multiplicity * dim * orbit_size
+    from symcluster.symmetry.lattice import RationalIrrep
+    n, bonds = cube()
+    sym = lattice_symmetry(n, bonds)
+    states = sector_states(n, 2, 1)
+    for r in sym.irreps:
+        plain = RationalIrrep(r.label, r.dim, r.orbit_size, r.members, r.character,
+                              r.class_character, ([0], (1,)), r.dim, r.momentum)
+        basis = adapted_basis(states, sym.group, plain)
+        assert len(basis) == multiplicity(states, sym.group, r) * r.dim * r.orbit_size
+        for v in basis[:5]:
+            got = ref_projector(sym.group, r.character, v, n)
+            assert got == {s: sym.group.order // r.dim * x for s, x in v.items()}
+
+
+def test_periodic_3x3_grid():
+    # the 3x3 torus is the rook's graph K3 x K3, automorphism group S3 wr Z2 of order 72
+    # (from memory); its translations are not cyclic, so irreps get Γ names
+    bonds = [(x + 3 * y, (x + 1) % 3 + 3 * y, "t") for x in range(3) for y in range(3)]
+    bonds += [(x + 3 * y, x + 3 * ((y + 1) % 3), "t") for x in range(3) for y in range(3)]
+    sym = lattice_symmetry(9, bonds)
+    assert sym.group.order == 72
+    assert all(r.momentum is None for r in sym.irreps)
+    states = sector_states(9, 2, 1)
+    assert sum(multiplicity(states, sym.group, r) * r.dim * r.orbit_size
+               for r in sym.irreps) == len(states)
