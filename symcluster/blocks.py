@@ -84,7 +84,16 @@ def plan_symmetries(model, lattice=True):
             lat = None
         elif eta:
             signs = eta[0]
-            sub_char = [1 if signs[g[0]] == signs[0] else -1 for g in lat.group.elements]
+            # g eta+ g^-1 = chi(g) eta+ needs eps_{g(i)} = chi(g) eps_i on every site; on a
+            # disconnected cluster a permutation may flip one component only: then eta+
+            # is not an eigen-operator of the group and the eta reduction is not used.
+            for g in lat.group.elements:
+                chi = signs[g[0]] * signs[0]
+                if any(signs[g[i]] * signs[i] != chi for i in range(model.n_sites)):
+                    eta = None
+                    sub_char = []
+                    break
+                sub_char.append(chi)
     return SymmetryPlan(spin, eta, lat, sub_char)
 
 

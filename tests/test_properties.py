@@ -48,6 +48,7 @@ def test_random_cluster_matches_reference(c, t, tp, u, data):
     assert dev < 1e-9, f"{c.bonds} N={n} at {pt}: deviation {dev:.2e}"
 
 
+@pytest.mark.slow
 @settings(max_examples=4, deadline=None, suppress_health_check=[HealthCheck.too_slow])
 @given(c=connected_clusters())
 def test_random_cluster_all_states(c):

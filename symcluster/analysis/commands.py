@@ -19,7 +19,7 @@ from fractions import Fraction
 import mpmath
 import sympy
 
-from ..errors import InputError
+from ..errors import InputError, ModelError
 
 __all__ = ["add_commands", "run_analysis", "parse_assignment", "parse_range"]
 
@@ -194,9 +194,7 @@ def run_analysis(spec, args, out=None):
         for fn in (charge_gap, spin_gap, pair_binding):
             try:
                 res.append(fn(spec, args.sector, pt, over=over, digits=args.digits))
-            except InputError:
-                raise
-            except Exception as exc:  # a gap that does not exist here (e.g. N-1 < 0)
+            except ModelError as exc:  # a gap that does not exist here (e.g. N-1 < 0)
                 out.write(f"{fn.__name__.replace('_', ' ')}: not available ({exc})\n")
         for g in res:
             out.write(f"{g.name}: {g.expr} = {mpmath.nstr(g.value, args.digits)} ({g.valid})\n")
