@@ -97,7 +97,10 @@ class Cluster:
 
     def describe(self):
         labels = ", ".join(self.hopping_labels) or "none"
-        return f"{self.name}: {self.n_sites} sites, {len(self.bonds)} bonds (hopping {labels})"
+        nb = len(self.bonds)
+        plural = "bond" if nb == 1 else "bonds"
+        sites = "site" if self.n_sites == 1 else "sites"
+        return f"{self.name}: {self.n_sites} {sites}, {nb} {plural} (hopping {labels})"
 
 
 def cluster(n_sites, bonds, site_labels=None, name="custom"):

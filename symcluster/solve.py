@@ -127,8 +127,10 @@ def solve(model, electrons=None, verify=True, lattice=True, digits=30, seed=None
                         energy = ImplicitRoot(poly, r.index)
                     else:
                         energy = r + k * shift
+                    src = (spec.block, spec.vectors) if not k and spec.block.dim <= 4 else None
                     levels.append(Level(energy, deg, qn, poly, None,
-                                        block=f"{spec.sector}:{spec.labels.get('irrep', '')}"))
+                                        block=f"{spec.sector}:{spec.labels.get('irrep', '')}",
+                                        source=src))
     levels.sort(key=lambda l: (l.quantum_numbers["N"], str(l.quantum_numbers)))
     report = VerificationReport(digits=digits)
     spectrum = Spectrum(model, levels, [], report, timings)

@@ -158,6 +158,22 @@ class Level:
     polynomial: object = None
     eigenvectors: object = None
     block: str = ""
+    source: object = field(default=None, repr=False, compare=False)
+
+    def eigenvector(self):
+        """Closed-form eigenvector of a small block, {(up, dn): coefficient}, or None.
+
+        The state is the representative of the level's multiplet: Sz = S,
+        lowest eta_z, one row of the lattice irrep; unnormalised; occupation
+        states in the fermion ordering of docs/conventions.md.  Available when
+        the level's block has dimension <= 4 (None otherwise).
+        """
+        if self.eigenvectors is None and self.source is not None:
+            from .eigvec import block_eigenvector
+            block, vectors = self.source
+            vec = block_eigenvector(block, vectors, self.polynomial, self.energy)
+            self.eigenvectors = [vec] if vec else []
+        return self.eigenvectors[0] if self.eigenvectors else None
 
     @property
     def is_closed_form(self):

@@ -155,6 +155,9 @@ def write_text_atomic(path, text):
             fh.write(text)
             fh.flush()
             os.fsync(fh.fileno())
+        umask = os.umask(0)
+        os.umask(umask)
+        os.chmod(tmp, 0o666 & ~umask)
         os.replace(tmp, path)
     except OSError as exc:
         raise InputError(f"cannot write {path!r}: {exc.strerror}; choose another output "
