@@ -70,10 +70,14 @@ class BlockSpec:
     stages: list = field(default_factory=list)
 
 
-def plan_symmetries(model, lattice=True):
-    """Detect the symmetries of ``model`` (exact checks, see symmetry/spin.py)."""
-    spin = has_spin_symmetry(model)
-    eta = eta_symmetry(model)
+def plan_symmetries(model, lattice=True, spin=True, eta=True):
+    """Detect the symmetries of ``model`` (exact checks, see symmetry/spin.py).
+
+    The flags switch a reduction off (for cross-checks); a symmetry that is
+    switched on is still used only where the exact check finds it.
+    """
+    spin = spin and has_spin_symmetry(model)
+    eta = eta_symmetry(model) if eta else None
     lat = None
     sub_char = []
     if lattice and model.n_sites > 1:

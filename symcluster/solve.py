@@ -49,8 +49,8 @@ def _shift_poly(poly, shift):
     return poly.compose(sympy.Poly(poly.gens[0] - shift, *poly.gens))
 
 
-def solve(model, electrons=None, verify=True, lattice=True, digits=30, seed=None,
-          executor=None):
+def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True, digits=30,
+          seed=None, executor=None):
     """Exact, verified spectrum of a model.
 
     Parameters
@@ -62,8 +62,9 @@ def solve(model, electrons=None, verify=True, lattice=True, digits=30, seed=None
     verify : bool
         Must stay True for results that are returned to users; ``False`` is
         refused (verification is not optional).
-    lattice : bool
-        Use the cluster's automorphism group (default True).
+    lattice, spin, eta : bool
+        Use the cluster's automorphism group, spin SU(2), eta-pseudospin
+        SU(2) where they are found (default True); switch off for cross-checks.
     digits : int
         Precision of the numerical verification (>= 30).
     seed : int, optional
@@ -89,7 +90,7 @@ def solve(model, electrons=None, verify=True, lattice=True, digits=30, seed=None
     wanted = _check_electrons(model, electrons)
     timings = {}
     t0 = time.perf_counter()
-    plan = plan_symmetries(model, lattice=lattice)
+    plan = plan_symmetries(model, lattice=lattice, spin=spin, eta=eta)
     sizes = []
     blocks = build_blocks(model, plan, wanted, report=sizes)
     timings["blocks"] = time.perf_counter() - t0

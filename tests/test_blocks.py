@@ -1,0 +1,140 @@
+"""Symmetry reduction: block sizes by counting, and reductions never change the spectrum.
+
+Block dimensions are compared with multiplicities obtained from characters
+alone (count, not construct): for a level family (S, eta, Gamma) the number of
+highest-weight (spin) / lowest-weight (eta) states of one irrep row is, by
+the representation theory of SU(2) x SU(2) (any text on angular momentum,
+e.g. Sakurai, Modern Quantum Mechanics, sec. 3.5 -- common practice),
+
+    m = n_G(Nu, Nd) - n_G(Nu+1, Nd-1) - n_Gx(Nu-1, Nd-1) + n_Gx(Nu, Nd-2)
+
+where n_G(sector) is the character count of irrep G in that sector and Gx
+is G times the sublattice character (eta- changes the lattice irrep by it).
+"""
+
+import pytest
+import sympy
+
+import symcluster as sc
+from symcluster.blocks import build_blocks, plan_symmetries
+from symcluster.fock import sector_states
+from symcluster.symmetry.lattice import multiplicity
+
+
+def _count(plan, irrep, n_up, n_dn, L):
+    if not (0 <= n_up <= L and 0 <= n_dn <= L):
+        return 0
+    states = sector_states(L, n_up, n_dn)
+    return multiplicity(states, plan.lattice.group, irrep)
+
+
+def _twisted(plan, irrep):
+    target = [a * b for a, b in zip(irrep.character, plan.sublattice_char)]
+    return next(r for r in plan.lattice.irreps if list(r.character) == target)
+
+
+@pytest.mark.parametrize("cluster", [sc.ring(4), sc.tetrahedron(), sc.grid(2, 3), sc.chain(4)],
+                         ids=lambda c: c.name)
+def test_block_sizes_equal_character_counts(cluster):
+    model = sc.hubbard(cluster)
+    plan = plan_symmetries(model)
+    L = cluster.n_sites
+    blocks = build_blocks(model, plan)
+    assert blocks
+    for b in blocks:
+        n_up, n_dn = b.sector
+        g = b.irrep
+        gx = _twisted(plan, g) if plan.eta else None
+        m = _count(plan, g, n_up, n_dn, L) - _count(plan, g, n_up + 1, n_dn - 1, L)
+        if plan.eta:
+            m -= _count(plan, gx, n_up - 1, n_dn - 1, L) - _count(plan, gx, n_up, n_dn - 2, L)
+        expected = m * b.copies * g.orbit_size
+        assert len(b.vectors) == expected, (cluster.name, b.sector, g.label)
+
+
+def _families(spec):
+    """{N: {polynomial: total degeneracy}} -- an exact fingerprint of a spectrum."""
+    out = {}
+    for lev in spec.levels:
+        key = sympy.expand(lev.polynomial.as_expr())
+        row = out.setdefault(lev.quantum_numbers["N"], {})
+        row[key] = row.get(key, 0) + lev.degeneracy
+    return out
+
+
+def _merge(fam):
+    """Merge equal polynomials' degeneracies per N (reductions may split one family)."""
+    return {n: dict(sorted((str(k), v) for k, v in row.items())) for n, row in fam.items()}
+
+
+@pytest.mark.parametrize("cluster", [sc.chain(2), sc.ring(3), sc.ring(4), sc.star(3)],
+                         ids=lambda c: c.name)
+def test_every_reduction_gives_the_same_spectrum_exactly(cluster):
+    model = sc.hubbard(cluster)
+    full = sc.solve(model, seed=3)
+    none = sc.solve(model, lattice=False, spin=False, eta=False, seed=3)
+    # exact comparison: product of P^(deg) per N as one polynomial
+    E = sympy.Symbol("E", real=True)
+    for n in range(2 * cluster.n_sites + 1):
+        def product(spec):
+            acc = sympy.Integer(1)
+            for lev in spec.levels:
+                if lev.quantum_numbers["N"] == n:
+                    p = lev.polynomial
+                    d = p.degree(p.gens[0])
+                    acc *= p.as_expr() ** sympy.Rational(lev.degeneracy, d)
+            return acc
+        a, b = product(full), product(none)
+        assert sympy.expand(a - b) == 0 or sympy.simplify(a / b) == 1, n
+    assert full.n_states == none.n_states == 4 ** cluster.n_sites
+
+
+def test_ring6_reductions_agree_numerically_at_30_digits():
+    model = sc.hubbard(sc.ring(6))
+    full = sc.solve(model, electrons=[3, 6], seed=5)
+    plain = sc.solve(model, electrons=[3, 6], lattice=False, eta=False, seed=5)
+    pt = {"t": sympy.Rational(7, 5), "U": sympy.Rational(-23, 7)}
+    a = [v for v, d in full.numeric(pt, 30) for _ in range(d)]
+    b = [v for v, d in plain.numeric(pt, 30) for _ in range(d)]
+    from math import comb
+    assert len(a) == len(b) == comb(12, 3) + comb(12, 6)
+    assert max(abs(x - y) for x, y in zip(a, b)) < 1e-28
+
+
+def test_labels_present():
+    spec = sc.solve(sc.hubbard(sc.ring(4)), electrons=4)
+    assert {lev.quantum_numbers["eta"] for lev in spec.levels} == {0, 1, 2}
+    for lev in spec.levels:
+        qn = lev.quantum_numbers
+        assert isinstance(qn["S"], sympy.Rational)
+        # eta_z = (N - L)/2 = 0 at half filling: every eta >= 0 occurs, integer-valued
+        assert qn["eta"] >= 0 and qn["eta"].is_integer
+        assert "irrep" in qn and lev.degeneracy % ((2 * qn["S"] + 1) * qn["irrep_dim"]) == 0
+
+
+def test_eigenvectors_of_small_blocks_are_eigenvectors():
+    """H v = E v checked with the model's own Hamiltonian action at a rational point."""
+    from symcluster.operators import apply_hamiltonian
+    model = sc.hubbard(sc.ring(4))
+    spec = sc.solve(model, electrons=[2, 3])
+    pt = {sympy.Symbol("t", real=True): sympy.Rational(3, 2),
+          sympy.Symbol("U", real=True): sympy.Rational(17, 3)}
+    checked = 0
+    E = sympy.Symbol("E", real=True)
+    for lev in spec.levels:
+        vec = lev.eigenvector()
+        if vec is None:
+            continue
+        e_val = sympy.N(lev.energy.subs(pt), 40)
+        num = {s: sympy.N(sympy.sympify(c).subs(pt).subs(E, e_val), 40) for s, c in vec.items()}
+        hv = {}
+        for s, c in num.items():
+            for s2, row in apply_hamiltonian(model, *s).items():
+                hv[s2] = hv.get(s2, 0) + c * sum(a * pt[sympy.Symbol(l, real=True)]
+                                                for l, a in row.items())
+        norm = max(abs(c) for c in num.values())
+        assert norm > 1e-20
+        for s in set(hv) | set(num):
+            assert abs(hv.get(s, 0) - e_val * num.get(s, 0)) < 1e-30 * (1 + norm)
+        checked += 1
+    assert checked >= 10
