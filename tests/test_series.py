@@ -77,13 +77,21 @@ def _four_ring_sector(n_up, n_dn):
     for u in xs:
         m = flint.fmpz_mat([[H0[i][j] + u * H1[i][j] for j in range(n)] for i in range(n)])
         cps.append([int(c) for c in m.charpoly().coeffs()])
-    # Lagrange interpolation of each E-coefficient in U (degree <= n), exact
+    # Newton divided-difference interpolation of each E-coefficient in U (degree <= n), exact
     coeff_polys = []
     for k in range(n + 1):
-        ys = [Fraction(cp[k]) for cp in cps]
-        poly = sympy.interpolate(list(zip(xs, [sympy.Rational(y.numerator, y.denominator)
-                                               for y in ys])), U)
-        coeff_polys.append(poly)
+        dd = [Fraction(cp[k]) for cp in cps]
+        for level in range(1, n + 1):
+            for i in range(n, level - 1, -1):
+                dd[i] = (dd[i] - dd[i - 1]) / (xs[i] - xs[i - level])
+        mono = [Fraction(0)] * (n + 1)       # Horner on the Newton form, monomial coefficients
+        for i in range(n, -1, -1):
+            mono = [Fraction(0)] + mono[:-1]  # multiply by U ...
+            for j in range(n):
+                mono[j] -= xs[i] * mono[j + 1]  # ... minus xs[i]
+            mono[0] += dd[i]
+        coeff_polys.append(sum(sympy.Rational(c.numerator, c.denominator) * U ** j
+                               for j, c in enumerate(mono) if c))
     P = sympy.Poly(sum(c * E ** k for k, c in enumerate(coeff_polys)), E, U)
     return P, H0, H1
 

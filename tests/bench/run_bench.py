@@ -193,6 +193,7 @@ def worker_naive(case, events):
         events.emit(event=event, sector=list(sector), dim=dim, seconds=seconds,
                     peak_mb=_maxrss_mb())
 
+    events.emit(event="begin", epoch=time.time())
     cpu0 = _cpu_seconds()
     t0 = time.perf_counter()
     out = naive.naive_sympy_eigenvals(n, bonds, order, progress)
@@ -310,9 +311,10 @@ def run_worker(kind, case, cap, repeat=0, jobs=1, compare=False, log=print):
     start = time.perf_counter()
     proc = subprocess.Popen(cmd, stdout=subprocess.DEVNULL, stderr=err, cwd=ROOT,
                             start_new_session=True)
-    killed_peak = None
+    killed_peak = killed_at = None
     while proc.poll() is None:
         if time.perf_counter() - start > cap:
+            killed_at = time.time()
             killed_peak = _vm_hwm_mb(proc.pid)
             try:  # the worker and any pool processes it started: its own session's group
                 os.killpg(proc.pid, signal.SIGKILL)
@@ -332,6 +334,9 @@ def run_worker(kind, case, cap, repeat=0, jobs=1, compare=False, log=print):
     progress = [r for r in records if r.get("event") != "result"]
     if killed_peak is not None:
         res = {"status": "timeout", "peak_mb": killed_peak}
+        begin = [r["epoch"] for r in progress if r.get("event") == "begin"]
+        if begin:  # computation time before the kill (the cap also covers start-up)
+            res["seconds_at_kill"] = killed_at - begin[0]
     elif results:
         res = dict(results[-1])
     else:
@@ -374,7 +379,7 @@ def _naive_timeout_cell(res, cap):
     """Honest description of how far a capped naive run got."""
     done = [e for e in res["events"] if e["event"] == "done"]
     started = [e for e in res["events"] if e["event"] == "start"]
-    cell = f"> {cap:.0f} s"
+    cell = f"> {res.get('seconds_at_kill', cap):.0f} s (killed at the {cap:.0f} s cap)"
     if started and (not done or started[-1]["sector"] != done[-1]["sector"]):
         s = started[-1]
         cell += f", did not finish sector ({s['sector'][0]},{s['sector'][1]}) (dim {s['dim']})"
@@ -452,8 +457,8 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
     if naive_res or numpy_res:
         lines += ["## Symcluster vs baselines (same run)", "",
                   "| comparison | symcluster cold (warm) s | baseline s | ratio | target | "
-                  "spectra agree at t=1, U=4 | load |",
-                  "| --- | --- | --- | --- | --- | --- | --- |"]
+                  "spectra agree at t=1, U=4 | peak RSS MB symcluster / baseline | load |",
+                  "| --- | --- | --- | --- | --- | --- | --- | --- |"]
         if "ring4" in naive_res:
             s, b = sc_res["ring4"], naive_res["ring4"]
             if s["status"] == "ok" and b["status"] == "ok":
@@ -465,7 +470,7 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
                 f"sectors | {_cell_sc(s)} | "
                 f"{_fmt_s(b['seconds']) if b['status'] == 'ok' else _failure(b)} | {ratio} | "
                 f"naive/symcluster ≥ 200× | {_agreement(s.get('eigenvalues'), b.get('eigenvalues'))}"
-                f" | {b['load']:.2f} |")
+                f" | {_mem_pair(s, b)} | {b['load']:.2f} |")
         if "ring6" in naive_res:
             s, b = sc_res["ring6"], naive_res["ring6"]
             if b["status"] == "ok":
@@ -474,14 +479,15 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
                          if s["status"] == "ok" else "—")
             elif b["status"] == "timeout":
                 base = _naive_timeout_cell(b, args.cap)
-                ratio = (f"naive/symcluster > {args.cap / s['seconds']:.0f}×"
+                ratio = (f"naive/symcluster > {b.get('seconds_at_kill', args.cap) / s['seconds']:.0f}×"
                          if s["status"] == "ok" else "—")
             else:
                 base, ratio = _failure(b), "—"
             lines.append(
                 f"| ring(6): exact spectrum vs naive sympy `eigenvals()` (cap {args.cap:.0f} s; "
                 f"sector (3,3) first) | {_cell_sc(s)} | {base} | {ratio} | — | "
-                f"{_agreement(s.get('eigenvalues'), b.get('eigenvalues'))} | {b['load']:.2f} |")
+                f"{_agreement(s.get('eigenvalues'), b.get('eigenvalues'))} | {_mem_pair(s, b)} | "
+                f"{b['load']:.2f} |")
         if "ring6" in numpy_res:
             s, b = sc_res["ring6"], numpy_res["ring6"]
             if s["status"] == "ok" and b["status"] == "ok":
@@ -496,7 +502,8 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
             lines.append(
                 f"| ring(6): exact spectrum vs float64 numpy `eigvalsh` of all 49 dense sectors "
                 f"at t=1, U=4 | {_cell_sc(s)} | {base} | {ratio} | symcluster/numpy ≤ 2 | "
-                f"{_agreement(s.get('eigenvalues'), b.get('eigenvalues'))} | {b['load']:.2f} |")
+                f"{_agreement(s.get('eigenvalues'), b.get('eigenvalues'))} | {_mem_pair(s, b)} | "
+                f"{b['load']:.2f} |")
         lines.append("")
 
     full = [c for c in FULL_CASES if c in sc_res]
@@ -530,6 +537,11 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
         lines += ["", "¹ Verification reports:", ""] + [f"- {n}" for n in notes]
         lines.append("")
     return "\n".join(lines)
+
+
+def _mem_pair(a, b):
+    """Peak-memory cell "a / b" in MB."""
+    return f"{_fmt_mb(a.get('peak_mb'))} / {_fmt_mb(b.get('peak_mb'))}"
 
 
 def _cell_sc(res):
