@@ -1,5 +1,7 @@
 """The pipeline behind ``symcluster.solve``: blocks -> exact algebra -> levels -> verification."""
 
+import concurrent.futures
+import os
 import time
 
 import sympy
@@ -8,7 +10,8 @@ from .algebra.block import ENERGY
 from .algebra.charpoly import charpoly
 from .algebra.factor import factor_charpoly
 from .algebra.roots import ImplicitRoot, roots_of
-from .blocks import build_blocks, eta_member_irrep, plan_symmetries
+from .blocks import build_blocks, eta_member_irrep, plan_symmetries, sectors_to_solve
+from .resources import Progress, check_size
 from .errors import ModelError, VerificationError
 from .models import Model
 from .spectrum import Level, Spectrum, VerificationReport
@@ -49,8 +52,35 @@ def _shift_poly(poly, shift):
     return poly.compose(sympy.Poly(poly.gens[0] - shift, *poly.gens))
 
 
+def _default_executor(blocks):
+    """A process pool on all cores when the algebra is heavy enough to pay for it."""
+    work = sum(b.block.dim ** 3 for b in blocks)
+    cores = os.cpu_count() or 1
+    if cores < 2 or work < 2_000_000:
+        return None
+    return concurrent.futures.ProcessPoolExecutor(max_workers=cores)
+
+
+def _run_blocks(blocks, names, executor, progress):
+    """Solve every block, through ``executor`` if given; order of results = order of blocks."""
+    if executor is None:
+        out = []
+        for b in blocks:
+            out.append(solve_block(b, names))
+            progress.step()
+        return out
+    # largest first, so that the pool stays busy; results put back in order
+    order = sorted(range(len(blocks)), key=lambda i: -blocks[i].block.dim)
+    futures = {executor.submit(solve_block, blocks[i], names): i for i in order}
+    out = [None] * len(blocks)
+    for fut in concurrent.futures.as_completed(futures):
+        out[futures[fut]] = fut.result()
+        progress.step()
+    return out
+
+
 def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True, digits=30,
-          seed=None, executor=None):
+          seed=None, executor=None, progress=None, force=False):
     """Exact, verified spectrum of a model.
 
     Parameters
@@ -69,8 +99,16 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         Precision of the numerical verification (>= 30).
     seed : int, optional
         Seed of the random verification points (recorded in the report).
-    executor : concurrent.futures.Executor, optional
-        Solve blocks in parallel through this executor.
+    executor : concurrent.futures.Executor, "auto" or None
+        Solve blocks through this executor (any object with ``submit``, e.g. a
+        process pool or a distributed engine's executor).  None (default)
+        picks a process pool on all cores when the blocks are large enough to
+        pay for it; pass ``"serial"`` to stay in this process.
+    progress : bool, optional
+        Progress line on stderr; default: only when stderr is a terminal and
+        the run takes longer than a few seconds.
+    force : bool
+        Run even if the memory estimate exceeds the available memory.
 
     Returns
     -------
@@ -91,15 +129,27 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     timings = {}
     t0 = time.perf_counter()
     plan = plan_symmetries(model, lattice=lattice, spin=spin, eta=eta)
+    order = len(plan.lattice.group.elements) if plan.lattice is not None else 1
+    estimate = check_size(model.n_sites, sectors_to_solve(model.n_sites, plan, wanted),
+                          order, plan.spin, force)
+    timings["memory_estimate_bytes"] = estimate
     sizes = []
     blocks = build_blocks(model, plan, wanted, report=sizes)
     timings["blocks"] = time.perf_counter() - t0
     names = model.labels
     t1 = time.perf_counter()
-    if executor is not None:
-        results = list(executor.map(solve_block, blocks, [names] * len(blocks)))
-    else:
-        results = [solve_block(b, names) for b in blocks]
+    prog = Progress(len(blocks), "exact algebra, blocks", enabled=progress)
+    own_pool = None
+    if executor is None:
+        executor = own_pool = _default_executor(blocks)
+    elif executor == "serial":
+        executor = None
+    try:
+        results = _run_blocks(blocks, names, executor, prog)
+    finally:
+        prog.close()
+        if own_pool is not None:
+            own_pool.shutdown()
     timings["algebra"] = time.perf_counter() - t1
     levels = []
     shift = plan.eta_shift

@@ -70,10 +70,48 @@ def coerce_point(symbols, values):
     return out
 
 
-@functools.lru_cache(maxsize=20000)
-def _compiled(expr):
-    syms = tuple(sorted(expr.free_symbols, key=lambda x: x.name))
-    return syms, sympy.lambdify(syms, expr, modules="mpmath")
+_MP_FUNCS = {
+    sympy.cos: mpmath.cos, sympy.sin: mpmath.sin, sympy.tan: mpmath.tan,
+    sympy.acos: mpmath.acos, sympy.asin: mpmath.asin, sympy.atan: mpmath.atan,
+    sympy.exp: mpmath.exp, sympy.log: mpmath.log, sympy.Abs: abs,
+}
+
+
+def _mp_eval(expr, env):
+    """Evaluate a sympy expression tree with mpmath at the current precision.
+
+    ``env`` maps Symbols to mpf values.  Handles the node types that closed
+    forms are made of; anything else falls back to sympy's own evaluation.
+    """
+    if expr.is_Symbol:
+        return env[expr]
+    if expr.is_Integer:
+        return mpmath.mpf(int(expr))
+    if expr.is_Rational:
+        return mpmath.mpf(int(expr.p)) / int(expr.q)
+    if expr is sympy.pi:
+        return +mpmath.pi
+    if expr.is_Add:
+        return mpmath.fsum(_mp_eval(a, env) for a in expr.args)
+    if expr.is_Mul:
+        out = mpmath.mpf(1)
+        for a in expr.args:
+            out = out * _mp_eval(a, env)
+        return out
+    if expr.is_Pow:
+        base = _mp_eval(expr.base, env)
+        ex = expr.exp
+        if ex.is_Integer:
+            return base ** int(ex)
+        if ex == sympy.S.Half:
+            return mpmath.sqrt(base)
+        return mpmath.power(base, _mp_eval(ex, env))
+    fn = _MP_FUNCS.get(expr.func)
+    if fn is not None:
+        return fn(*[_mp_eval(a, env) for a in expr.args])
+    val = sympy.N(expr.subs({k: sympy.Float(v._mpf_, mpmath.mp.dps) for k, v in env.items()}),
+                  mpmath.mp.dps)
+    return mpmath.mpmathify(complex(val)) if not val.is_real else mpmath.mpf(str(val))
 
 
 def energy_numeric(energy, point, digits=30):
@@ -85,10 +123,9 @@ def energy_numeric(energy, point, digits=30):
     """
     if hasattr(energy, "numeric"):
         return energy.numeric(point, digits=digits)
-    syms, fn = _compiled(energy)
     with mpmath.workdps(2 * digits + 10):
-        args = [mpmath.mpf(point[s].p) / point[s].q for s in syms]
-        val = fn(*args)
+        env = {s: mpmath.mpf(int(point[s].p)) / int(point[s].q) for s in energy.free_symbols}
+        val = _mp_eval(energy, env)
         if isinstance(val, mpmath.mpc):
             if abs(val.imag) > mpmath.mpf(10) ** (-digits) * (1 + abs(val.real)):
                 raise ArithmeticError(f"energy {energy} is not real at {point}")

@@ -70,8 +70,15 @@ def _point_values(gens, point):
     return vals
 
 
+@functools.lru_cache(maxsize=8192)
 def _univariate_ints(terms, deg, vals):
-    """Integer coefficients (ascending) of ``P(E, vals)`` up to a positive factor."""
+    """Integer coefficients (ascending) of ``P(E, vals)`` up to a positive factor.
+
+    Homogeneous polynomials (every characteristic-polynomial factor is) are
+    handled in pure integers: with vals = a_i / D, P(E, a/D) is proportional
+    to P(D E, a), whose coefficients C_k = D^k sum c prod a_i^e_i are integers.
+    The roots are then divided by D (see :func:`_scaled`).
+    """
     coeffs = [Fraction(0)] * (deg + 1)
     for mon, c in terms:
         x = Fraction(c)
@@ -83,6 +90,29 @@ def _univariate_ints(terms, deg, vals):
     for c in coeffs:
         den = lcm(den, c.denominator)
     return tuple(int(c * den) for c in coeffs)
+
+
+@functools.lru_cache(maxsize=8192)
+def _homogeneous_ints(terms, deg, nums, den):
+    """Coefficients (ascending) of P(x, nums) for homogeneous P, x = den * E; None if not homogeneous."""
+    total = None
+    coeffs = [0] * (deg + 1)
+    powers = [dict() for _ in nums]
+    for mon, c in terms:
+        d = sum(mon)
+        if total is None:
+            total = d
+        elif d != total:
+            return None
+        x = c
+        for k, (a, e) in enumerate(zip(nums, mon[1:])):
+            if e:
+                pw = powers[k].get(e)
+                if pw is None:
+                    pw = powers[k][e] = a ** e
+                x *= pw
+        coeffs[mon[0]] += x
+    return tuple(coeffs)
 
 
 def _exact_mid(ball):
@@ -150,7 +180,7 @@ def real_roots_at(poly, point, digits=30):
     deg = poly.degree(poly.gens[0])
     _, rep = to_integer_dict(poly)
     vals = _point_values(poly.gens[1:], point)
-    coeffs = _univariate_ints(tuple(rep.items()), deg, vals)
+    coeffs = _univariate_ints(tuple(rep.items()), deg, tuple(vals))
     return _roots_from_coeffs(coeffs, deg, digits, poly, point)
 
 
@@ -251,7 +281,17 @@ class ImplicitRoot:
             If the polynomial is not real-rooted at the point or drops degree there.
         """
         vals = _point_values(self.poly.gens[1:], point)
-        coeffs = _univariate_ints(self._terms, self.degree, vals)
+        den = 1
+        for v in vals:
+            den = lcm(den, v.denominator)
+        nums = tuple(int(v * den) for v in vals)
+        coeffs = _homogeneous_ints(self._terms, self.degree, nums, den)
+        if coeffs is not None:
+            # roots of P(x, nums) are den * E
+            roots = _roots_from_coeffs(coeffs, self.degree, digits + 2, self.poly, point)
+            with mpmath.workdps(digits):
+                return +(roots[self.index] / den)
+        coeffs = _univariate_ints(self._terms, self.degree, tuple(vals))
         roots = _roots_from_coeffs(coeffs, self.degree, digits, self.poly, point)
         return roots[self.index]
 

@@ -81,7 +81,10 @@ def lowest_level(spec, at, digits=30, **qn):
     """
     levels = spec.select(**qn)
     if not levels:
-        raise ModelError(f"no levels with {qn}; check the quantum numbers against the spectrum")
+        want = ", ".join(f"{k}={v}" for k, v in qn.items())
+        have = sorted({l.quantum_numbers.get("N") for l in spec.levels})
+        raise ModelError(f"no levels with {want}; this spectrum has N in {have} "
+                         "(the gap needs the neighbouring electron numbers)")
     pt = _point(spec, at)
     with mpmath.workdps(digits + 10):
         vals = [level_value(l, pt, digits + 5) for l in levels]

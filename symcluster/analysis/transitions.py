@@ -34,8 +34,9 @@ from .observables import find_symbol, level_polynomial, level_symbols, level_val
 
 __all__ = ["Transition", "GroundPiece", "transitions", "ground_states", "crossings"]
 
-_WORK = 60      # working digits for comparisons
-_TOL = mpmath.mpf(10) ** -40
+_WORK = 45      # working digits for comparisons
+_TOL = mpmath.mpf(10) ** -30
+_PROBE = 30     # crossings are confirmed at a decimal rational within 10**-_PROBE of the root
 
 
 @dataclass
@@ -180,10 +181,12 @@ class _Sweep:
             r = (p * q / g).discriminant("E")  # exact division: lcm
         out = []
         for val, minpoly in _real_roots_in(r, self.x, self.a, self.b):
-            xr = _rat(_num(val, _WORK + 20))
+            xr = _decimal(val, _PROBE)
             with mpmath.workdps(_WORK):
                 vi, vj = self.value(i, xr), self.value(j, xr)
-                if abs(vi - vj) <= mpmath.mpf(10) ** -30 * (1 + abs(vi)):
+                # transversal crossings differ by ~10**-30 there, touching roots of one
+                # polynomial by ~10**-15; unrelated roots of the resultant by O(1)
+                if abs(vi - vj) <= mpmath.mpf(10) ** -12 * (1 + abs(vi)):
                     out.append((val, minpoly))
         self._cross[key] = out
         return out
@@ -291,9 +294,22 @@ def _same(v, w):
         return abs(_num(v, _WORK) - _num(w, _WORK)) < _TOL
 
 
+def _decimal(value, places):
+    """A decimal rational within 10**-places of an exact real number."""
+    with mpmath.workdps(places + 30):
+        v = _num(value, places + 25)
+        return sympy.Rational(int(mpmath.nint(v * mpmath.mpf(10) ** places)), 10 ** places)
+
+
 def _midpoint(xn, yn):
+    """The simplest-looking decimal rational strictly between xn and yn (near the middle)."""
     with mpmath.workdps(_WORK + 20):
-        return _rat((xn + yn) / 2)
+        m, half = (xn + yn) / 2, (yn - xn) / 4
+        for k in range(0, _WORK + 15):
+            q = mpmath.nint(m * mpmath.mpf(10) ** k)
+            if abs(q / mpmath.mpf(10) ** k - m) < half:
+                return sympy.Rational(int(q), 10 ** k)
+        return _rat(m)
 
 
 def _select(spec, n_electrons):
