@@ -29,7 +29,7 @@ import flint
 import mpmath
 import sympy
 
-from ..errors import ModelError
+from ..errors import ModelError, VerificationError
 from .observables import find_symbol, level_polynomial, level_symbols, level_value
 
 __all__ = ["Transition", "GroundPiece", "transitions", "ground_states", "crossings"]
@@ -169,6 +169,26 @@ class _Sweep:
                 return False
         return True
 
+    def _meet(self, i, j, val):
+        """True if levels i and j agree at the exact point val (probed nearby).
+
+        The probe is a decimal rational within 10**-p of val: transversal crossings
+        differ there by ~10**-p, two roots of one polynomial that touch by
+        ~10**-(p/2), unrelated roots of the resultant by O(1).  If the level
+        evaluation cannot separate nearly double roots so close to val, a
+        coarser probe is used.
+        """
+        for places in (_PROBE, 20, 14):
+            xr = _decimal(val, places)
+            try:
+                with mpmath.workdps(_WORK):
+                    vi, vj = self.value(i, xr), self.value(j, xr)
+                    return abs(vi - vj) <= mpmath.mpf(10) ** -(places // 2 - 3) * (1 + abs(vi))
+            except VerificationError:
+                continue
+        raise VerificationError(f"could not evaluate the levels near {self.x} = {val}; "
+                                "report this spectrum")
+
     def crossings(self, i, j):
         """Exact points in the open interval where levels i and j are equal, ascending."""
         key = (min(i, j), max(i, j))
@@ -181,13 +201,8 @@ class _Sweep:
             r = (p * q / g).discriminant("E")  # exact division: lcm
         out = []
         for val, minpoly in _real_roots_in(r, self.x, self.a, self.b):
-            xr = _decimal(val, _PROBE)
-            with mpmath.workdps(_WORK):
-                vi, vj = self.value(i, xr), self.value(j, xr)
-                # transversal crossings differ by ~10**-30 there, touching roots of one
-                # polynomial by ~10**-15; unrelated roots of the resultant by O(1)
-                if abs(vi - vj) <= mpmath.mpf(10) ** -12 * (1 + abs(vi)):
-                    out.append((val, minpoly))
+            if self._meet(i, j, val):
+                out.append((val, minpoly))
         self._cross[key] = out
         return out
 

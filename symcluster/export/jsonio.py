@@ -79,7 +79,7 @@ def _model_dict(model):
     }
 
 
-def spectrum_to_dict(spectrum, point=None, digits=30):
+def spectrum_to_dict(spectrum, point=None, digits=30, eigenvectors=True):
     """The JSON document for a spectrum, as plain Python data.
 
     Parameters
@@ -89,6 +89,10 @@ def spectrum_to_dict(spectrum, point=None, digits=30):
         ``{name or Symbol: number}``; every coupling must get a value.  Each level
         then carries its value at this point to ``digits`` significant digits.
     digits : int
+    eigenvectors : bool
+        Include the closed-form eigenvector of every level whose block has
+        dimension <= 4 (key "eigenvector": list of {"up", "dn", "coefficient"};
+        bit masks in the fermion ordering of docs/conventions.md).
 
     Returns
     -------
@@ -115,6 +119,12 @@ def spectrum_to_dict(spectrum, point=None, digits=30):
         if values is not None:
             with mpmath.workdps(digits):
                 entry["values"] = {str(digits): mpmath.nstr(values[i], digits)}
+        if eigenvectors:
+            vec = lev.eigenvector() if hasattr(lev, "eigenvector") else None
+            if vec:
+                entry["eigenvector"] = [
+                    {"up": int(u), "dn": int(d), "coefficient": to_tree(sympy.sympify(c))}
+                    for (u, d), c in sorted(vec.items())]
         levels.append(entry)
     return {
         "format": FORMAT,
@@ -242,6 +252,13 @@ def decode_spectrum_dict(data, source="<data>", root_factory=None):
             entry["energy"] = from_tree(tree, root_factory=root_factory)
             poly = lev.get("polynomial")
             entry["polynomial"] = None if poly is None else poly_from_tree(poly)
+            vec = lev.get("eigenvector")
+            if vec is not None:
+                if not isinstance(vec, list):
+                    raise InputError("'eigenvector' must be a list of {up, dn, coefficient}")
+                entry["eigenvector"] = {
+                    (_need(v, "up", int, where), _need(v, "dn", int, where)):
+                        from_tree(_need(v, "coefficient", dict, where)) for v in vec}
         except InputError as exc:
             raise InputError(f"{where}: {exc}") from None
         entry["quantum_numbers"] = _qn_from_json(_need(lev, "quantum_numbers", dict, where),
