@@ -216,6 +216,11 @@ def _make_parser():
                     help="also write all levels as JSON (exact expressions; docs/outputs.md)")
     lv.add_argument("--show-symmetry", action="store_true",
                     help="also print the symmetries used and block sizes per sector")
+    lv.add_argument("--force", action="store_true",
+                    help="run even if the estimated memory exceeds what is available")
+    lv.add_argument("--serial", action="store_true",
+                    help="solve the blocks in this process only (default: all cores for "
+                         "large runs)")
     sub.add_parser("shapes", help="list the built-in cluster shapes",
                    description="List the built-in cluster shapes and their sizes.")
     sub.add_parser("demo", help="the demo run (same as no arguments)",
@@ -259,13 +264,18 @@ def _check_point(point, model):
                          + ",".join(f"{n}=1" for n in known))
 
 
-def _solve(model, electrons):
+def _solve(model, electrons, force=False, serial=False):
     import symcluster
     solve = getattr(symcluster, "solve", None)
     if solve is None:
         raise SymclusterError("this installation has no solver (symcluster.solve is missing); "
                               "reinstall symcluster")
-    return solve(model, electrons=electrons)
+    kwargs = {}
+    if force:
+        kwargs["force"] = True
+    if serial:
+        kwargs["executor"] = "serial"
+    return solve(model, electrons=electrons, **kwargs)
 
 
 def _run_levels(args, out, err):
@@ -285,7 +295,8 @@ def _run_levels(args, out, err):
     if point is not None:
         _check_point(point, model)
     _check_outputs([args.latex, args.json])
-    spectrum = _solve(model, electrons)
+    spectrum = _solve(model, electrons, getattr(args, "force", False),
+                      getattr(args, "serial", False))
     # everything is produced in memory first; files are written only if all succeeded
     table = format_table(spectrum, point=point, digits=args.digits)
     sym = format_symmetries(spectrum) if args.show_symmetry else ""

@@ -1,0 +1,59 @@
+"""Memory guard, progress line and the executor interface of sc.solve."""
+
+import concurrent.futures
+import io
+
+import pytest
+
+import symcluster as sc
+from symcluster import resources
+from symcluster.errors import TooLargeError
+from symcluster.resources import Progress
+
+
+def test_guard_refuses_with_the_estimate(monkeypatch):
+    monkeypatch.setattr(resources, "available_memory", lambda: 10_000)
+    with pytest.raises(TooLargeError) as info:
+        sc.solve(sc.hubbard(sc.chain(2)))
+    msg = str(info.value)
+    assert "GiB" in msg and "force=True" in msg
+
+
+def test_force_overrides_the_guard(monkeypatch):
+    monkeypatch.setattr(resources, "available_memory", lambda: 10_000)
+    spec = sc.solve(sc.hubbard(sc.chain(2)), force=True)
+    assert spec.n_states == 16
+
+
+def test_estimate_grows_with_the_sector_size():
+    small = resources.estimate_cost(4, [(2, 2)])
+    large = resources.estimate_cost(8, [(4, 4)])
+    assert 0 < small < large
+
+
+class _Tty(io.StringIO):
+    def isatty(self):
+        return True
+
+
+def test_progress_only_on_a_terminal_after_a_delay():
+    tty = _Tty()
+    p = Progress(3, "blocks", stream=tty, after=0.0)
+    p.step()
+    p.close()
+    assert "blocks: 1/3" in tty.getvalue()
+    pipe = io.StringIO()           # not a terminal: quiet
+    q = Progress(3, "blocks", stream=pipe, after=0.0)
+    q.step()
+    q.close()
+    assert pipe.getvalue() == ""
+
+
+def test_any_executor_gives_the_same_levels():
+    model = sc.hubbard(sc.ring(4))
+    serial = sc.solve(model, electrons=[2, 3], executor="serial", seed=4)
+    with concurrent.futures.ThreadPoolExecutor(max_workers=2) as pool:
+        threaded = sc.solve(model, electrons=[2, 3], executor=pool, seed=4)
+    key = lambda spec: sorted((str(l.energy), l.degeneracy, str(l.quantum_numbers))
+                              for l in spec.levels)
+    assert key(serial) == key(threaded)
