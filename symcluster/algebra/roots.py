@@ -70,6 +70,21 @@ def _point_values(gens, point):
     return vals
 
 
+_PREPARED = {}
+
+
+def _prepared_terms(poly):
+    """Sorted integer terms of a Poly, shared by all roots of the same polynomial object."""
+    hit = _PREPARED.get(id(poly))
+    if hit is not None and hit[0] is poly:
+        return hit[1]
+    terms = tuple(sorted((m, int(c)) for m, c in poly.as_dict(native=True).items()))
+    if len(_PREPARED) > 4096:
+        _PREPARED.clear()
+    _PREPARED[id(poly)] = (poly, terms)
+    return terms
+
+
 @functools.lru_cache(maxsize=8192)
 def _univariate_ints(terms, deg, vals):
     """Integer coefficients (ascending) of ``P(E, vals)`` up to a positive factor.
@@ -247,8 +262,8 @@ class ImplicitRoot:
             raise ModelError(f"root index {index!r} is outside 0..{deg - 1} for a polynomial of degree {deg} in {poly.gens[0]}")
         self.poly = poly
         self.index = index
-        self._terms = tuple((m, int(c)) for m, c in poly.as_dict(native=True).items())
-        self._key = (poly.as_expr(), index)
+        self._terms = _prepared_terms(poly)
+        self._key = (self._terms, poly.gens, index)
 
     @property
     def symbols(self):

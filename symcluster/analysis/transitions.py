@@ -130,8 +130,29 @@ class _Sweep:
     def value(self, k, xval):
         key = (k, xval)
         if key not in self._vals:
-            self._vals[key] = level_value(self.levels[k], self.point(xval), _WORK)
+            try:
+                self._vals[key] = level_value(self.levels[k], self.point(xval), _WORK)
+            except VerificationError:
+                self._vals[key] = self._fallback_value(k, xval)
         return self._vals[key]
+
+    def _fallback_value(self, k, xval):
+        """Value of an implicit root by all-roots iteration (mpmath.polyroots).
+
+        Used only when the level's own evaluation gives up, which happens very
+        close to points where two roots of its polynomial coincide.  Every root
+        is real (the polynomial divides the characteristic polynomial of a
+        symmetrisable block), so the roots are sorted by real part.
+        """
+        lev = self.levels[k]
+        if not hasattr(lev.energy, "index"):
+            raise VerificationError(f"could not evaluate level {lev.energy} at {self.x} = {xval}")
+        uni = sympy.Poly(level_polynomial(lev).as_expr().subs(self.point(xval)),
+                         level_polynomial(lev).gens[0])
+        with mpmath.workdps(_WORK + 10):
+            cs = [mpmath.mpf(sympy.Rational(c).p) / sympy.Rational(c).q for c in uni.all_coeffs()]
+            roots = mpmath.polyroots(cs, maxsteps=500, extraprec=6 * _WORK + 200)
+            return sorted(mpmath.re(r) for r in roots)[lev.energy.index]
 
     def poly(self, k):
         """Level k's polynomial with the fixed couplings substituted, as fmpz_mpoly in (E, x)."""
