@@ -143,7 +143,13 @@ def series_coefficients(level, coupling="U", n_terms=8, about=sympy.oo, at=None,
             Q = sympy.Poly(sympy.expand(Qe / _s ** m), _v, _s)
             vn = (vn - _num(r, full, digits)) / sn
     rest = _simple_root_series(Q, coeffs[-1], n_terms - len(coeffs))
-    return coeffs + rest
+    # the branch was identified at at_pt: resolve |λ| and sign(λ) of the other couplings there
+    signs = {}
+    for s_, v in at_pt.items():
+        sg = 1 if v > 0 else -1
+        signs[sympy.Abs(s_)] = sg * s_
+        signs[sympy.sign(s_)] = sg
+    return [sympy.simplify(sympy.expand(c.subs(signs))) if signs else c for c in coeffs + rest]
 
 
 def _simple_root_series(Q, r, n):
@@ -199,7 +205,9 @@ def series(level, coupling="U", order=7, about=sympy.oo, at=None, fixed=None):
     at : dict, optional
         Values of the other couplings used to identify the branch
         (default 1 for the first, 11/10, ... for the others).  The series
-        describes the level that has this identity at those values.
+        describes the level that has this identity at those values, and
+        |λ'| and sign(λ') of the other couplings are resolved with the signs
+        they have there.
     fixed : dict, optional
         Exact values substituted for other couplings first.
 

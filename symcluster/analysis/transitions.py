@@ -137,22 +137,32 @@ class _Sweep:
         return self._vals[key]
 
     def _fallback_value(self, k, xval):
-        """Value of an implicit root by all-roots iteration (mpmath.polyroots).
+        """Value of an implicit root from rigorous ball arithmetic (flint complex_roots).
 
         Used only when the level's own evaluation gives up, which happens very
         close to points where two roots of its polynomial coincide.  Every root
         is real (the polynomial divides the characteristic polynomial of a
-        symmetrisable block), so the roots are sorted by real part.
+        symmetrisable block), so the roots are sorted by real part; the
+        level's ``energy.index`` picks one.
         """
         lev = self.levels[k]
         if not hasattr(lev.energy, "index"):
             raise VerificationError(f"could not evaluate level {lev.energy} at {self.x} = {xval}")
-        uni = sympy.Poly(level_polynomial(lev).as_expr().subs(self.point(xval)),
-                         level_polynomial(lev).gens[0])
+        P = level_polynomial(lev)
+        uni = sympy.Poly(P.as_expr().subs(self.point(xval)), P.gens[0])
+        coeffs = [flint.fmpq(int(sympy.Rational(c).p), int(sympy.Rational(c).q))
+                  for c in reversed(uni.all_coeffs())]
+        old = flint.ctx.prec
+        try:
+            flint.ctx.prec = int(3.33 * (_WORK + 20))
+            roots = flint.fmpq_poly(coeffs).complex_roots()
+            reals = []
+            for z, mult in roots:
+                reals += [z.real.mid().str(_WORK + 15, radius=False)] * mult
+        finally:
+            flint.ctx.prec = old
         with mpmath.workdps(_WORK + 10):
-            cs = [mpmath.mpf(sympy.Rational(c).p) / sympy.Rational(c).q for c in uni.all_coeffs()]
-            roots = mpmath.polyroots(cs, maxsteps=500, extraprec=6 * _WORK + 200)
-            return sorted(mpmath.re(r) for r in roots)[lev.energy.index]
+            return sorted(mpmath.mpf(r) for r in reals)[lev.energy.index]
 
     def poly(self, k):
         """Level k's polynomial with the fixed couplings substituted, as fmpz_mpoly in (E, x)."""

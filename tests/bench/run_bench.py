@@ -595,31 +595,41 @@ def main(argv=None):
     load_start = os.getloadavg()
     sc_res, naive_res, numpy_res = {}, {}, {}
 
+    def write(partial):
+        report = build_report(args, sc_res, naive_res, numpy_res, started,
+                              time.strftime("%Y-%m-%d %H:%M:%S") + (" (partial)" if partial else ""),
+                              load_start, os.getloadavg())
+        if args.out:  # rewritten after every case, so an interrupted run leaves its rows
+            with open(args.out, "w") as fh:
+                fh.write(report + "\n")
+        return report
+
     def symcluster(case, warm_and_compare):
         if case not in sc_res:
             sc_res[case] = run_worker(
                 "symcluster", case, args.case_cap, repeat=args.repeat if warm_and_compare else 0,
                 jobs=args.jobs, compare=warm_and_compare, log=log)
+            write(partial=True)
         return sc_res[case]
 
     if "ring4" in names:
         symcluster("ring4", True)
         naive_res["ring4"] = run_worker("naive", "ring4", max(args.cap, 600.0), log=log)
+        write(partial=True)
     if "ring6-naive" in names or "ring6-numpy" in names:
         symcluster("ring6", True)
     if "ring6-naive" in names:
         naive_res["ring6"] = run_worker("naive", "ring6", args.cap, log=log)
+        write(partial=True)
     if "ring6-numpy" in names:
         numpy_res["ring6"] = run_worker("numpy", "ring6", 600.0, repeat=args.repeat, log=log)
+        write(partial=True)
     for case in FULL_CASES:
         if case in names:
             symcluster(case, False)
-    report = build_report(args, sc_res, naive_res, numpy_res, started,
-                          time.strftime("%Y-%m-%d %H:%M:%S"), load_start, os.getloadavg())
+    report = write(partial=False)
     print(report)
     if args.out:
-        with open(args.out, "w") as fh:
-            fh.write(report + "\n")
         log(f"[bench] wrote {args.out}")
     return 0
 
