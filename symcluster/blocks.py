@@ -18,6 +18,7 @@ read off.
 
 from dataclasses import dataclass, field
 from fractions import Fraction
+from math import lcm
 
 import sympy
 
@@ -135,20 +136,29 @@ def _matrix_of_h(model, vectors, pivots, rng=None):
     import random
     rng = rng or random.Random(len(vectors))
     k = len(vectors)
+    # inverted index: state -> [(j, coefficient of w_j at that state)]
+    index = {}
+    for j, w in enumerate(vectors):
+        for st, x in w.items():
+            index.setdefault(st, []).append((j, x))
     terms = {}
     for i, p in enumerate(pivots):
         piv_val = vectors[i][p]
-        row = apply_hamiltonian(model, *p)          # H|p> = sum_s H[s,p] |s> ; H[p,s] = H[s,p]
-        for j, w in enumerate(vectors):
-            acc = {}
-            for s, labs in row.items():
-                x = w.get(s)
-                if x:
-                    for lab, a in labs.items():
-                        acc[lab] = acc.get(lab, 0) + a * x
-            for lab, v in acc.items():
+        acc = {}
+        # (H w_j)[p] = sum_s H[p, s] w_j[s]; H[p, s] = H[s, p] read from H|p>
+        for st, labs in apply_hamiltonian(model, *p).items():
+            hits = index.get(st)
+            if not hits:
+                continue
+            for lab, a in labs.items():
+                row = acc.setdefault(lab, {})
+                for j, x in hits:
+                    row[j] = row.get(j, 0) + a * x
+        for lab, row in acc.items():
+            mat = terms.setdefault(lab, {})
+            for j, v in row.items():
                 if v:
-                    terms.setdefault(lab, {})[(i, j)] = Fraction(v, piv_val)
+                    mat[(i, j)] = Fraction(v, piv_val)
     # exact invariance check on a random combination r = sum a_j w_j
     coeffs = [rng.randint(-9, 9) or 1 for _ in range(k)]
     r = {}
@@ -162,19 +172,31 @@ def _matrix_of_h(model, vectors, pivots, rng=None):
                 tgt = hr.setdefault(s2, {})
                 for lab, a in labs.items():
                     tgt[lab] = tgt.get(lab, 0) + a * x
+    # H r must equal sum_i c_i w_i with c_i = sum_j M_ij a_j = num_i / piv_i; compare
+    # scale * H r with sum_i (scale / piv_i) num_i w_i in integers (scale = lcm of pivots)
+    scale = 1
+    for i, p in enumerate(pivots):
+        scale = lcm(scale, abs(vectors[i][p]))
     for lab, mat in terms.items():
-        col = {}
+        num = {}
         for (i, j), v in mat.items():
-            col[i] = col.get(i, 0) + v * coeffs[j]
-        for i, c in col.items():
-            if c:
-                for s, x in vectors[i].items():
-                    tgt = hr.setdefault(s, {})
-                    tgt[lab] = tgt.get(lab, 0) - c * x
-    for s, labs in hr.items():
+            num[i] = num.get(i, 0) + v * coeffs[j]          # Fraction = num_i / piv_i
+        for s_ in hr:
+            if lab in hr[s_]:
+                hr[s_][lab] *= scale
+        for i, c in num.items():
+            ci = c * scale
+            if ci.denominator != 1:
+                raise VerificationError("internal error: block coordinates are not consistent")
+            ci = int(ci)
+            if ci:
+                for st, x in vectors[i].items():
+                    tgt = hr.setdefault(st, {})
+                    tgt[lab] = tgt.get(lab, 0) - ci * x
+    for st, labs in hr.items():
         if any(v != 0 for v in labs.values()):
             raise VerificationError(
-                f"internal error: reduced basis is not invariant under H (state {s}); "
+                f"internal error: reduced basis is not invariant under H (state {st}); "
                 "please report this cluster")
     return LinearBlock(k, terms)
 

@@ -22,7 +22,7 @@ __all__ = [
 
 
 def popcount(x):
-    return bin(x).count("1")
+    return x.bit_count()
 
 
 def states_with(n_sites, n_particles):
@@ -58,7 +58,7 @@ def hop_sign(mask, i, j):
     """
     lo, hi = (i, j) if i < j else (j, i)
     between = mask & ((1 << hi) - 1) & ~((1 << (lo + 1)) - 1)
-    return -1 if popcount(between) & 1 else 1
+    return -1 if between.bit_count() & 1 else 1
 
 
 def apply_hop(mask, i, j):

@@ -47,10 +47,23 @@ def solve_block(spec, names):
 
 
 def _shift_poly(poly, shift):
-    """P(E - shift) as a Poly in the same generators (composition in the first generator)."""
+    """P(E - shift) as a Poly in the same generators (python-flint composition)."""
     if shift == 0:
         return poly
-    return poly.compose(sympy.Poly(poly.gens[0] - shift, *poly.gens))
+    import flint
+    from .algebra.factor import to_integer_dict
+    gens = poly.gens
+    names = tuple(g.name for g in gens)
+    ctx = flint.fmpz_mpoly_ctx.get(names, "lex")
+    scale, rep = to_integer_dict(poly)
+    fp = ctx.from_dict(rep)
+    xs = ctx.gens()
+    sh = ctx.from_dict({tuple(int(e) for e in m): int(c)
+                        for m, c in sympy.Poly(shift, *gens).as_dict().items()})
+    out = fp.compose(xs[0] - sh, *xs[1:])
+    rep2 = {tuple(int(e) for e in m): int(c) for m, c in out.to_dict().items()}
+    return sympy.Poly.from_dict(rep2, gens, domain=poly.domain) * sympy.Rational(
+        scale.numerator, scale.denominator)
 
 
 def _default_executor(blocks):

@@ -117,3 +117,35 @@ def test_zeeman_needs_spin_labels_and_latex():
     rows = thermo_table(two_site_spectrum(), {"t": 1, "U": 4}, [1, 2], mus=[0, 2])
     tex = latex_thermo_table(rows)
     assert tex.count(r"\\") == 5 and r"\bottomrule" in tex
+
+
+def test_four_site_ring_half_filling_against_independent_sum():
+    # The solver's 4-site ring at N = 4 versus mpmath diagonalisation of every (N↑, N↓)
+    # block of an independently built Fock Hamiltonian, to 25 digits.
+    import symcluster as sc
+    spec = sc.solve(sc.hubbard(sc.ring(4)))
+    bonds = [(0, 1), (1, 2), (2, 3), (3, 0)]
+    u_val, T, h_val = 4, sympy.Rational(1, 2), sympy.Rational(1, 5)
+    rows = thermo_table(spec, {"t": 1, "U": u_val}, [T], n_electrons=4, h=h_val, digits=30)
+    with mpmath.workdps(45):
+        b, hh = 1 / mpmath.mpf(T), mpmath.mpf(1) / 5
+        terms = []
+        for nu in range(5):
+            nd = 4 - nu
+            _, H = fock_hamiltonian(4, bonds, mpmath.mpf(1), mpmath.mpf(u_val), nu, nd)
+            _, V = fock_hamiltonian(4, bonds, mpmath.mpf(0), mpmath.mpf(1), nu, nd)
+            ev, Q = mpmath.eigsy(mpmath.matrix(H))
+            Vm = mpmath.matrix(V)
+            for k in range(len(H)):
+                terms.append((ev[k], nu - nd, (Q[:, k].T * Vm * Q[:, k])[0]))
+        ks = [e - hh * m for e, m, _ in terms]
+        ws = [mpmath.exp(-b * k) for k in ks]
+        Z = mpmath.fsum(ws)
+        avg = lambda f: mpmath.fsum(w * f(i) for i, w in enumerate(ws)) / Z  # noqa: E731
+        kav, mag = avg(lambda i: ks[i]), avg(lambda i: terms[i][1])
+        ref = {"energy": avg(lambda i: terms[i][0]), "entropy": mpmath.log(Z) + b * kav,
+               "specific_heat": b ** 2 * (avg(lambda i: ks[i] ** 2) - kav ** 2),
+               "double_occupancy": avg(lambda i: terms[i][2]),
+               "susceptibility": b * (avg(lambda i: terms[i][1] ** 2) - mag ** 2)}
+        for key, val in ref.items():
+            assert abs(rows[0][key] - val) < mpmath.mpf(10) ** -25 * (1 + abs(val)), key

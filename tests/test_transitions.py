@@ -179,3 +179,30 @@ def test_latex_table_compiles(tmp_path):
     run = subprocess.run(["pdflatex", "-interaction=nonstopmode", "-halt-on-error", "t.tex"],
                          cwd=tmp_path, capture_output=True, text=True, timeout=60)
     assert run.returncode == 0, run.stdout[-2000:]
+
+
+def test_command_line_subcommands_in_process(tmp_path, capsys):
+    import argparse
+
+    from symcluster.analysis.commands import add_commands, parse_assignment, parse_range
+    from symcluster.errors import InputError
+
+    parser = argparse.ArgumentParser(prog="symcluster")
+    add_commands(parser.add_subparsers(dest="command"), build_spectrum=lambda a: two_site_spectrum())
+    tex = tmp_path / "map.tex"
+    args = parser.parse_args(["ground-map", "--range=-10:10", "--fixed", "t=1",
+                              "--latex", str(tex)])
+    assert args.func(args) == 0
+    out = capsys.readouterr().out
+    assert "U = -sqrt(2)" in out and "U = 3" in out and tex.exists()
+    args = parser.parse_args(["gaps", "--sector", "2", "--at", "t=1", "U=4"])
+    assert args.func(args) == 0
+    assert "charge gap: -2*t + sqrt(U**2 + 16*t**2)" in capsys.readouterr().out
+    args = parser.parse_args(["series", "--sector", "2", "--order", "3"])
+    assert args.func(args) == 0
+    assert "16*t**4/U**3" in capsys.readouterr().out
+    assert parse_assignment(["t=1", "U=-7/2"]) == {"t": 1, "U": sympy.Rational(-7, 2)}
+    assert parse_range("0:1/2") == (0, sympy.Rational(1, 2))
+    for bad in (["U=__import__('os')"], ["U"], ["U=1/0"]):
+        with pytest.raises(InputError):
+            parse_assignment(bad)

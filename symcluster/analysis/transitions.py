@@ -221,7 +221,7 @@ class _Sweep:
                                 "report this spectrum")
 
     def crossings(self, i, j):
-        """Exact points in the open interval where levels i and j are equal, ascending."""
+        """[(exact point, its minimal polynomial, numeric value)] where levels i and j are equal."""
         key = (min(i, j), max(i, j))
         if key in self._cross:
             return self._cross[key]
@@ -233,7 +233,7 @@ class _Sweep:
         out = []
         for val, minpoly in _real_roots_in(r, self.x, self.a, self.b):
             if self._meet(i, j, val):
-                out.append((val, minpoly))
+                out.append((val, minpoly, _num(val, _WORK)))
         self._cross[key] = out
         return out
 
@@ -309,7 +309,7 @@ def _pieces_at_work_precision(sw, ks):
             ahead = []
             for j in ks:
                 if j != g and not sw.identical(g, j):
-                    ahead += [(v, _num(v, _WORK)) for v, _p in sw.crossings(g, j)]
+                    ahead += [(v, vn) for v, _p, vn in sw.crossings(g, j)]
             ahead = sorted((c for c in ahead if c[1] > xn + _TOL), key=lambda c: c[1])
             y, yn = ahead[0] if ahead else (sw.b, _num(sw.b, _WORK))
             m = _midpoint(xn, yn)
@@ -424,7 +424,7 @@ def transitions(spec, n_electrons=None, coupling="U", interval=(0, 10), fixed=No
         minpoly = None
         for i in left[2]:
             for j in right[2]:
-                for v, p in sw.crossings(i, j):
+                for v, p, _vn in sw.crossings(i, j):
                     if v == val or _same(v, val):
                         minpoly = p
         below = tuple(levels[k] for k in left[2])
@@ -445,5 +445,5 @@ def crossings(level_a, level_b, coupling="U", interval=(0, 10), fixed=None):
     if sw.identical(0, 1):
         return []
     with mpmath.workdps(_WORK):
-        pts = sorted(sw.crossings(0, 1), key=lambda c: _num(c[0], _WORK))
-    return [v for v, _p in pts]
+        pts = sorted(sw.crossings(0, 1), key=lambda c: c[2])
+    return [v for v, _p, _vn in pts]
