@@ -12,7 +12,7 @@ Phys. Rev. 147, 392 (1966)).  This script derives, end to end:
 3. the strong-coupling series of both competing levels, showing why the
    polarized state wins (its energy is U-independent, while the doublet gains
    only ~t²/U from virtual double occupancy);
-4. a LaTeX table (spin_polarization.tex), a level plot (spin_polarization.png/.pdf).
+4. a LaTeX table (spin_polarization.tex), a level plot (spin_polarization_levels.png/.pdf).
 
 Run:  python worked/spin_polarization.py [output-directory]
 """
@@ -56,7 +56,7 @@ def main(outdir="."):
     tex.write_text(latex_document(*frags, comment="symcluster worked example: spin polarization"))
     try:
         from symcluster.analysis.plots import plot_levels
-        files = plot_levels(spec, out / "spin_polarization", "U", (0, 40), {"t": 1},
+        files = plot_levels(spec, out / "spin_polarization_levels", "U", (0, 40), {"t": 1},
                             n_electrons=3, color_by="S",
                             title="4-site ring, N = 3: levels and the polarization transition")
         print("wrote", tex, *files)

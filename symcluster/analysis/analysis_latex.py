@@ -11,12 +11,27 @@ __all__ = ["latex_transitions", "latex_series", "latex_gaps", "latex_thermo_tabl
            "latex_document"]
 
 
+_TEXT_MAP = {"π": r"$\pi$", "±": r"$\pm$", "−": "-", "_": r"\_", "&": r"\&", "%": r"\%",
+             "#": r"\#", "$": r"\$", "{": r"\{", "}": r"\}", "^": r"\^{}", "~": r"\~{}",
+             "\\": r"\textbackslash{}"}
+_SHOWN = ("N", "S", "Sz", "eta", "irrep")
+
+
+def _text(value):
+    """A label as LaTeX text mode, with the symbols the irrep labels use made safe."""
+    return r"\text{" + "".join(_TEXT_MAP.get(ch, ch) if ord(ch) < 128 or ch in _TEXT_MAP
+                               else "?" for ch in str(value)) + "}"
+
+
 def _qn(level):
     parts = []
-    for k, v in sorted(level.quantum_numbers.items()):
+    for k in _SHOWN:
+        if k not in level.quantum_numbers:
+            continue
+        v = level.quantum_numbers[k]
         name = {"S": "S", "N": "N", "eta": r"\eta", "Sz": "S_z"}.get(k)
-        parts.append(f"{name}={sympy.latex(sympy.sympify(v))}" if name
-                     else r"\text{" + str(k) + "}=" + r"\text{" + str(v).replace("_", r"\_") + "}")
+        parts.append(f"{name}={sympy.latex(sympy.Rational(v))}" if name else
+                     r"\text{irrep}=" + _text(v))
     return "$" + ",\\ ".join(parts) + "$"
 
 
@@ -31,7 +46,9 @@ def latex_transitions(points, digits=30, caption=None):
     for tr in points:
         exact = sympy.latex(tr.value)
         if tr.polynomial is not None and tr.polynomial.degree() > 2:
-            exact = (r"\text{root of } " + sympy.latex(tr.polynomial.as_expr()))
+            k = getattr(tr.value, "index", None)
+            which = f"real root no.~{k + 1} (ascending) of " if k is not None else "root of "
+            exact = r"\text{" + which + "} " + sympy.latex(tr.polynomial.as_expr()) + " = 0"
         num = mpmath.nstr(tr.numeric(digits), digits)
         rows.append(f"${exact}$ & \\texttt{{{num}}} & {_label_set(tr.below_set)} & "
                     f"{_label_set(tr.above_set)} \\\\")

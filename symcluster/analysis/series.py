@@ -233,7 +233,7 @@ def series(level, coupling="U", order=7, about=sympy.oo, at=None, fixed=None):
     >>> lev = Level(U/2 - sympy.sqrt(U**2/4 + 4*t**2), 1, {"N": 2},
     ...             sympy.Poly(E**2 - U*E - 4*t**2, E, t, U))
     >>> series(lev, "U", order=3)
-    16*t**4/U**3 - 4*t**2/U
+    -4*t**2/U + 16*t**4/U**3
     """
     about = sympy.oo if about in ("oo", "inf", sympy.oo, float("inf")) else sympy.Rational(about)
     if not isinstance(order, int) or order < 0:

@@ -119,7 +119,7 @@ class _Sweep:
             raise ModelError(f"interval ({a}, {b}) is empty; give (lower, upper) with lower < upper")
         self.a, self.b = a, b
         self.levels = list(levels)
-        self._poly, self._vals, self._cross = {}, {}, {}
+        self._poly, self._vals, self._cross, self._checked = {}, {}, {}, set()
         self.ctx = flint.fmpz_mpoly_ctx.get(("E", "x"), "lex")
 
     def point(self, xval):
@@ -130,39 +130,40 @@ class _Sweep:
     def value(self, k, xval):
         key = (k, xval)
         if key not in self._vals:
-            try:
-                self._vals[key] = level_value(self.levels[k], self.point(xval), _WORK)
-            except VerificationError:
-                self._vals[key] = self._fallback_value(k, xval)
+            lev = self.levels[k]
+            if hasattr(lev.energy, "index"):
+                val = self._root_value(k, xval)
+                if k not in self._checked:  # once per level: agree with the level's own value
+                    own = level_value(lev, self.point(xval), 20)
+                    if abs(own - val) > mpmath.mpf(10) ** -15 * (1 + abs(val)):
+                        raise VerificationError(
+                            f"root no. {lev.energy.index} of the polynomial of level "
+                            f"{lev.quantum_numbers} is {mpmath.nstr(val, 20)} at {self.x} = "
+                            f"{xval}, but the level evaluates to {mpmath.nstr(own, 20)}; "
+                            "report this spectrum")
+                    self._checked.add(k)
+                self._vals[key] = val
+            else:
+                self._vals[key] = level_value(lev, self.point(xval), _WORK)
         return self._vals[key]
 
-    def _fallback_value(self, k, xval):
-        """Value of an implicit root from rigorous ball arithmetic (flint complex_roots).
+    def _root_value(self, k, xval):
+        """Value of an implicit root from its polynomial with rigorous ball arithmetic.
 
-        Used only when the level's own evaluation gives up, which happens very
-        close to points where two roots of its polynomial coincide.  Every root
-        is real (the polynomial divides the characteristic polynomial of a
-        symmetrisable block), so the roots are sorted by real part; the
-        level's ``energy.index`` picks one.
+        The roots of P(E, x = xval) are isolated by flint (complex_roots); every
+        root is real (P divides the characteristic polynomial of a symmetrisable
+        block) and the level's ``energy.index`` picks one in ascending order.
+        This stays reliable next to points where two roots coincide.
         """
         lev = self.levels[k]
-        if not hasattr(lev.energy, "index"):
-            raise VerificationError(f"could not evaluate level {lev.energy} at {self.x} = {xval}")
-        P = level_polynomial(lev)
-        uni = sympy.Poly(P.as_expr().subs(self.point(xval)), P.gens[0])
-        coeffs = [flint.fmpq(int(sympy.Rational(c).p), int(sympy.Rational(c).q))
-                  for c in reversed(uni.all_coeffs())]
-        old = flint.ctx.prec
-        try:
-            flint.ctx.prec = int(3.33 * (_WORK + 20))
-            roots = flint.fmpq_poly(coeffs).complex_roots()
-            reals = []
-            for z, mult in roots:
-                reals += [z.real.mid().str(_WORK + 15, radius=False)] * mult
-        finally:
-            flint.ctx.prec = old
-        with mpmath.workdps(_WORK + 10):
-            return sorted(mpmath.mpf(r) for r in reals)[lev.energy.index]
+        p, q = int(xval.p), int(xval.q)
+        d = self.poly(k).to_dict()
+        dx = max(j for (_i, j) in d)
+        coeffs = [0] * (max(i for (i, _j) in d) + 1)
+        for (i, j), c in d.items():
+            coeffs[i] += int(c) * p ** j * q ** (dx - j)
+        roots = _flint_real_roots(flint.fmpz_poly(coeffs), _WORK)
+        return roots[lev.energy.index]
 
     def poly(self, k):
         """Level k's polynomial with the fixed couplings substituted, as fmpz_mpoly in (E, x)."""
@@ -210,7 +211,7 @@ class _Sweep:
         coarser probe is used.
         """
         for places in (_PROBE, 20, 14):
-            xr = _decimal(val, places)
+            xr = _decimal(val.num, places)
             try:
                 with mpmath.workdps(_WORK):
                     vi, vj = self.value(i, xr), self.value(j, xr)
@@ -231,9 +232,9 @@ class _Sweep:
             g = p.gcd(q)
             r = (p * q / g).discriminant("E")  # exact division: lcm
         out = []
-        for val, minpoly in _real_roots_in(r, self.x, self.a, self.b):
-            if self._meet(i, j, val):
-                out.append((val, minpoly, _num(val, _WORK)))
+        for root in _real_roots_in(r, self.x, self.a, self.b):
+            if self._meet(i, j, root):
+                out.append((root, None, root.num))
         self._cross[key] = out
         return out
 
@@ -254,36 +255,61 @@ def _exact(name, v):
     return v
 
 
-def _real_roots_in(r, xsym, a, b):
-    """Exact real roots of the fmpz_mpoly r(x) inside the open interval (a, b).
+class _AlgRoot:
+    """A real root of an irreducible integer polynomial: numeric value now, exact on demand."""
 
-    Returns a list of (sympy number, irreducible sympy Poly), unsorted.
-    """
+    def __init__(self, fac, k, num, xsym):
+        self.fac, self.k, self.num, self.xsym = fac, k, num, xsym
+        self._exact = None
+
+    def minpoly(self):
+        return sympy.Poly([int(c) for c in reversed(self.fac.coeffs())], self.xsym)
+
+    def exact(self):
+        """Rational, quadratic radical, or sympy CRootOf (k-th real root, ascending)."""
+        if self._exact is None:
+            P = self.minpoly()
+            if P.degree() <= 2:
+                cands = sympy.roots(P, filter="R")
+                self._exact = min(cands, key=lambda c: abs(_num(c, _WORK) - self.num))
+            else:
+                self._exact = sympy.CRootOf(P.as_expr(), self.k)
+        return self._exact
+
+
+def _flint_real_roots(f, digits):
+    """Real roots of an fmpz_poly (multiplicity expanded), ascending, as mpmath numbers."""
+    old = flint.ctx.prec
+    try:
+        flint.ctx.prec = int(3.33 * (digits + 20))
+        found = []
+        for z, mult in f.complex_roots():
+            if z.imag == 0:
+                found += [z.real.mid().str(digits + 15, radius=False)] * mult
+    finally:
+        flint.ctx.prec = old
+    with mpmath.workdps(digits + 10):
+        return sorted(mpmath.mpf(v) for v in found)
+
+
+def _real_roots_in(r, xsym, a, b):
+    """Real roots of the fmpz_mpoly r(x) inside the open interval (a, b), as _AlgRoot."""
     if r.is_constant():
         return []
     coeffs = [0] * (r.degrees()[1] + 1)
     for (_, e), c in r.to_dict().items():
         coeffs[e] += int(c)
-    f = flint.fmpz_poly(coeffs)
     out = []
-    an, bn = float(a), float(b)
-    for fac, _mult in f.factor()[1]:
-        # cheap prefilter with ball arithmetic before exact isolation
-        near = [z for z, _m in fac.complex_roots()
-                if abs(float(z.imag.mid())) < 1e-6 + float(z.imag.rad()) and
-                an - 1e-6 <= float(z.real.mid()) <= bn + 1e-6]
-        if not near:
-            continue
-        sp = sympy.Poly([int(c) for c in reversed(fac.coeffs())], xsym)
-        for root in sp.real_roots():
-            if sp.degree() == 1:
-                inside = a < root < b
-            else:  # irrational: never equal to a rational end point
-                with mpmath.workdps(_WORK):
-                    rn = _num(root, _WORK)
-                    inside = mpmath.mpf(a.p) / a.q < rn < mpmath.mpf(b.p) / b.q
-            if inside:
-                out.append((root, sp))
+    with mpmath.workdps(_WORK + 10):
+        an, bn = mpmath.mpf(a.p) / a.q, mpmath.mpf(b.p) / b.q
+        for fac, _mult in flint.fmpz_poly(coeffs).factor()[1]:
+            for k, num in enumerate(_flint_real_roots(fac, _WORK)):
+                if fac.degree() == 1:
+                    inside = a < sympy.Rational(-int(fac.coeffs()[0]), int(fac.coeffs()[1])) < b
+                else:  # irrational: never equal to a rational end point
+                    inside = an < num < bn
+                if inside:
+                    out.append(_AlgRoot(fac, k, num, xsym))
     return out
 
 
@@ -335,15 +361,9 @@ def _pieces_at_work_precision(sw, ks):
     return merged
 
 
-def _same(v, w):
-    with mpmath.workdps(_WORK):
-        return abs(_num(v, _WORK) - _num(w, _WORK)) < _TOL
-
-
-def _decimal(value, places):
-    """A decimal rational within 10**-places of an exact real number."""
+def _decimal(v, places):
+    """A decimal rational within 10**-places of a real number (mpmath)."""
     with mpmath.workdps(places + 30):
-        v = _num(value, places + 25)
         return sympy.Rational(int(mpmath.nint(v * mpmath.mpf(10) ** places)), 10 ** places)
 
 
@@ -390,7 +410,12 @@ def ground_states(spec, n_electrons=None, coupling="U", interval=(0, 10), fixed=
     levels = levels if levels is not None else _select(spec, n_electrons)
     sw = _Sweep(levels, coupling, interval, fixed)
     ks = list(range(len(levels)))
-    return [GroundPiece(lo, hi, tuple(levels[k] for k in gs)) for lo, hi, gs in _pieces(sw, ks)]
+    return [GroundPiece(_exact_end(lo), _exact_end(hi), tuple(levels[k] for k in gs))
+            for lo, hi, gs in _pieces(sw, ks)]
+
+
+def _exact_end(v):
+    return v.exact() if isinstance(v, _AlgRoot) else v
 
 
 def transitions(spec, n_electrons=None, coupling="U", interval=(0, 10), fixed=None, levels=None):
@@ -420,16 +445,11 @@ def transitions(spec, n_electrons=None, coupling="U", interval=(0, 10), fixed=No
     with mpmath.workdps(_WORK):
         pairs = list(zip(pieces, pieces[1:]))
     for left, right in pairs:
-        val = left[1]
-        minpoly = None
-        for i in left[2]:
-            for j in right[2]:
-                for v, p, _vn in sw.crossings(i, j):
-                    if v == val or _same(v, val):
-                        minpoly = p
+        root = left[1]
         below = tuple(levels[k] for k in left[2])
         above = tuple(levels[k] for k in right[2])
-        out.append(Transition(val, below[0], above[0], below, above, sw.x, minpoly))
+        out.append(Transition(root.exact(), below[0], above[0], below, above, sw.x,
+                              root.minpoly()))
     return out
 
 
@@ -446,4 +466,4 @@ def crossings(level_a, level_b, coupling="U", interval=(0, 10), fixed=None):
         return []
     with mpmath.workdps(_WORK):
         pts = sorted(sw.crossings(0, 1), key=lambda c: c[2])
-    return [v for v, _p, _vn in pts]
+    return [v.exact() for v, _p, _vn in pts]
