@@ -221,6 +221,15 @@ def _make_parser():
     lv.add_argument("--serial", action="store_true",
                     help="solve the blocks in this process only (default: all cores for "
                          "large runs)")
+    model_opts = argparse.ArgumentParser(add_help=False)
+    model_opts.add_argument("cluster", nargs="*", metavar="CLUSTER",
+                            help="shape word and sizes, e.g. 'ring 4' or 'grid 2 3'")
+    model_opts.add_argument("--cluster-file", metavar="FILE.toml",
+                            help="read the cluster from a TOML cluster file instead")
+    model_opts.add_argument("--electrons", metavar="LIST", default="all",
+                            help="electron numbers to solve first (default all)")
+    from .analysis.commands import add_commands
+    add_commands(sub, parents=[model_opts], build_spectrum=_analysis_spectrum)
     sub.add_parser("shapes", help="list the built-in cluster shapes",
                    description="List the built-in cluster shapes and their sizes.")
     sub.add_parser("demo", help="the demo run (same as no arguments)",
@@ -262,6 +271,19 @@ def _check_point(point, model):
         raise InputError("--at gives no value for " + ", ".join(missing)
                          + "; give every coupling, e.g. --at "
                          + ",".join(f"{n}=1" for n in known))
+
+
+def _analysis_spectrum(args):
+    """Solve the model named by the shared model options of the analysis commands."""
+    from .clusters import load_cluster_file
+    from .models import hubbard
+    if args.cluster_file and args.cluster:
+        raise InputError("give either a shape (" + " ".join(args.cluster)
+                         + ") or --cluster-file, not both")
+    if not args.cluster_file and not args.cluster:
+        raise InputError("no cluster given; add a shape such as 'ring 4' or --cluster-file F.toml")
+    cl = load_cluster_file(args.cluster_file) if args.cluster_file else build_cluster(args.cluster)
+    return _solve(hubbard(cl), parse_electrons(args.electrons, cl.n_sites))
 
 
 def _solve(model, electrons, force=False, serial=False):
@@ -336,7 +358,8 @@ def main(argv=None):
     """
     argv = list(sys.argv[1:] if argv is None else argv)
     out, err = sys.stdout, sys.stderr
-    commands = {"levels", "shapes", "demo"}
+    commands = {"levels", "shapes", "demo", "ground-map", "gaps", "series", "thermo", "plot",
+                "derivative"}
     if argv and argv[0] not in commands and argv[0] not in ("-h", "--help", "--version"):
         argv.insert(0, "levels")
     try:
@@ -348,6 +371,8 @@ def main(argv=None):
             return 0
         if args.command == "demo":
             return _run_levels(_demo_args(), out, err)
+        if getattr(args, "func", None) is not None:
+            return args.func(args)
         return _run_levels(args, out, err)
     except _UsageError as exc:
         err.write(f"symcluster: error: {_one_line(exc)}\n")

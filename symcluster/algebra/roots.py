@@ -140,16 +140,27 @@ def _exact_mid(ball):
 def _isolate(coeffs, digits):
     """Certified real roots (ascending, with multiplicity) of an integer polynomial.
 
+    The polynomial is first factored exactly (python-flint), so roots that
+    coincide at this point are found exactly with their multiplicity; the
+    distinct roots of each irreducible factor are then enclosed with ball
+    arithmetic, raising the precision until every real root is isolated from
+    the others and accurate to ``digits``.
+
     Returns a tuple of ``(mantissa, exponent)`` pairs and the number of non-real roots.
     """
     fp = flint.fmpz_poly(list(coeffs))
+    _, factors = fp.factor()
     bits = int(digits * 3.33) + 24
     prec = bits + 32
-    for _ in range(8):
+    for _ in range(12):
         with flint.ctx.workprec(prec):
-            roots = fp.complex_roots()
-        real = [(c.real, m) for c, m in roots if c.imag.is_zero()]
-        nonreal = sum(m for c, m in roots if not c.imag.is_zero())
+            real, nonreal = [], 0
+            for f, mult in factors:
+                for c, m in f.complex_roots():
+                    if c.imag.is_zero():
+                        real.append((c.real, m * mult))
+                    else:
+                        nonreal += m * mult
         real.sort(key=lambda rm: _exact_mid(rm[0]))
         ok = True
         for r, _m in real:
