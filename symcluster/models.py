@@ -14,13 +14,9 @@ import sympy
 
 from .clusters import Cluster, check_label
 from .errors import ModelError
+from .symbols import coupling_symbol
 
 __all__ = ["Model", "hubbard", "coupling_symbol"]
-
-
-def coupling_symbol(name):
-    """The sympy symbol used for a coupling label (real)."""
-    return sympy.Symbol(name, real=True)
 
 
 @dataclass(frozen=True)

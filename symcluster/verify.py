@@ -405,16 +405,8 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                     for prime in primes[pi:pi + 1]:
                         cp = _charpoly_mod(terms, dim, by_label, prime)
                         prod = flint.nmod_poly([1], prime)
-                        seen = {}
-                        for li, share in members:
-                            p = spectrum.levels[li].polynomial
-                            seen.setdefault(id(p), [p, 0, share])[1] += 1
-                        for p, count, share in seen.values():
-                            dp = p.degree(p.gens[0])
-                            if count % dp:
-                                _fail(f"sector ({n_up},{n_dn}): only {count} roots of a "
-                                      f"degree-{dp} factor")
-                            prod *= _poly_mod(p, pt, prime, coeff_cache) ** (share * count // dp)
+                        for p, share in _factor_groups(spectrum, members, (n_up, n_dn)):
+                            prod *= _poly_mod(p, pt, prime, coeff_cache) ** share
                         if prod != cp:
                             _fail(f"sector ({n_up},{n_dn}): characteristic polynomial at {pt} "
                                   f"differs from the product of the level polynomials "
@@ -440,17 +432,25 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     return report
 
 
-def _check_sum_rules(spectrum, members, terms, dim, sector):
-    tr1, tr2 = _traces(terms)
-    s1, s2 = {}, {}
+def _factor_groups(spectrum, members, sector):
+    """[(polynomial, states per root)] of a sector; every root of each factor must be present."""
     groups = {}
     for li, share in members:
         p = spectrum.levels[li].polynomial
         groups.setdefault(id(p), [p, 0, share])[1] += 1
+    out = []
     for p, count, share in groups.values():
         dp = p.degree(p.gens[0])
         if count != dp:
             _fail(f"sector {sector} holds {count} of the {dp} roots of one factor")
+        out.append((p, share))
+    return out
+
+
+def _check_sum_rules(spectrum, members, terms, dim, sector):
+    tr1, tr2 = _traces(terms)
+    s1, s2 = {}, {}
+    for p, share in _factor_groups(spectrum, members, sector):
         e1, e2 = _power_sums(p)
         _padd(s1, e1, share)
         _padd(s2, e2, share)

@@ -15,36 +15,7 @@ from symcluster.symmetry.groups import (
 
 # --- built-in shapes (bond conventions of the brief) -------------------------------
 
-def ring(n):
-    return n, [(i, (i + 1) % n, "t") for i in range(n)]
-
-
-def chain(n):
-    return n, [(i, i + 1, "t") for i in range(n - 1)]
-
-
-def complete(n):
-    return n, [(i, j, "t") for i in range(n) for j in range(i + 1, n)]
-
-
-def cube():
-    return 8, [(a, a ^ (1 << b), "t") for a in range(8) for b in range(3) if a < a ^ (1 << b)]
-
-
-def grid(nx, ny):
-    bonds = []
-    for y in range(ny):
-        for x in range(nx):
-            s = x + nx * y
-            if x + 1 < nx:
-                bonds.append((s, s + 1, "t"))
-            if y + 1 < ny:
-                bonds.append((s, s + nx, "t"))
-    return nx * ny, bonds
-
-
-def star(leaves):
-    return leaves + 1, [(0, i, "t") for i in range(1, leaves + 1)]
+from bond_lists import chain, complete, cube, grid, ring, star  # noqa: E402
 
 
 # Orders of symmetry groups of these graphs: textbook facts (dihedral group D_L of

@@ -19,30 +19,7 @@ from symcluster.symmetry.lattice import (
 
 
 
-def ring(n):
-    return n, [(i, (i + 1) % n, "t") for i in range(n)]
-
-
-def chain(n):
-    return n, [(i, i + 1, "t") for i in range(n - 1)]
-
-
-def complete(n):
-    return n, [(i, j, "t") for i in range(n) for j in range(i + 1, n)]
-
-
-def cube():
-    return 8, [(a, a ^ (1 << b), "t") for a in range(8) for b in range(3) if a < a ^ (1 << b)]
-
-
-def grid(nx, ny):
-    bonds = [(x + nx * y, x + 1 + nx * y, "t") for y in range(ny) for x in range(nx - 1)]
-    return nx * ny, bonds + [(x + nx * y, x + nx * (y + 1), "t")
-                             for y in range(ny - 1) for x in range(nx)]
-
-
-def star(leaves):
-    return leaves + 1, [(0, i, "t") for i in range(1, leaves + 1)]
+from bond_lists import chain, complete, cube, grid, ring, star  # noqa: E402
 
 
 # --- independent fermion algebra --------------------------------------------------

@@ -16,33 +16,9 @@ from math import lcm
 import sympy
 
 from symcluster.errors import ModelError
+from symcluster.symbols import ENERGY, coupling_symbol
 
 __all__ = ["LinearBlock", "to_sympy_matrix", "coupling_symbol", "ENERGY"]
-
-#: The energy variable used as first generator of every characteristic polynomial.
-ENERGY = sympy.Symbol("E", real=True)
-
-
-def coupling_symbol(name):
-    """Return the real sympy Symbol used for the coupling called `name`.
-
-    Parameters
-    ----------
-    name : str
-        Coupling name, e.g. ``"t"`` or ``"U"``.
-
-    Returns
-    -------
-    sympy.Symbol
-        ``Symbol(name, real=True)``.
-
-    Examples
-    --------
-    >>> coupling_symbol("U").is_real
-    True
-    """
-    return sympy.Symbol(name, real=True)
-
 
 @dataclass
 class LinearBlock:
