@@ -24,9 +24,6 @@ __all__ = [
     "Level", "Spectrum", "VerificationReport", "SymclusterError", "ClusterError", "ModelError",
     "InputError", "VerificationError", "TooLargeError",
 ]
+from .analysis import series, transitions  # noqa: E402  (depends on the classes above)
 
-try:  # analysis layer (optional at import time while it is being built)
-    from .analysis import series, transitions  # noqa: F401
-    __all__ += ["series", "transitions"]
-except ImportError:  # pragma: no cover
-    pass
+__all__ += ["series", "transitions"]

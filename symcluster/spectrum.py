@@ -178,8 +178,10 @@ class Level:
         Number of Fock states this level stands for (spin multiplet, lattice
         irrep dimension included).
     quantum_numbers : dict
-        Always ``"N"``; ``"Sz"`` or ``"S"`` (sympy Rational), ``"eta"``,
-        ``"lattice"`` where known.
+        Always ``"N"``; ``"S"`` (sympy Rational) where spin is conserved, else
+        ``"Sz"``; ``"eta"`` where eta-pseudospin applies; ``"irrep"`` (label),
+        ``"irrep_dim"`` and, on clusters with translations, ``"k"`` (momentum
+        as a multiple of pi) where the lattice symmetry was used.
     polynomial : sympy.Poly or None
         Irreducible polynomial in ``E`` (first generator) and the couplings
         that the energy is a root of.
