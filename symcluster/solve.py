@@ -66,6 +66,13 @@ def _shift_poly(poly, shift):
         scale.numerator, scale.denominator)
 
 
+def _level_order(level):
+    """Stable order of levels: N, then spin, eta, lattice label (no expression printing)."""
+    qn = level.quantum_numbers
+    spin = qn.get("S", qn.get("Sz", 0))
+    return (qn["N"], int(2 * spin), int(2 * qn.get("eta", 0)), str(qn.get("irrep", "")))
+
+
 def _default_executor(blocks):
     """A process pool on all cores when the algebra is heavy enough to pay for it."""
     work = sum(b.block.dim ** 3 for b in blocks)
@@ -196,7 +203,7 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
                     levels.append(Level(energy, deg, qn, poly, None,
                                         block=f"{spec.sector}:{spec.labels.get('irrep', '')}",
                                         source=src))
-    levels.sort(key=lambda l: (l.quantum_numbers["N"], str(l.quantum_numbers)))
+    levels.sort(key=_level_order)
     report = VerificationReport(digits=digits)
     spectrum = Spectrum(model, levels, [], report, timings)
     spectrum.symmetries = [{"symmetries": plan.names()}] + [
