@@ -39,10 +39,33 @@ def _check_electrons(model, electrons):
 
 def solve_block(spec, names):
     """Irreducible factors and their roots for one block: list of (poly, mult, roots)."""
-    poly = charpoly(spec.block, names)
+    return _unpack(_solve_packed(spec.block, names))
+
+
+def _solve_packed(block, names):
+    """Worker side: factors and roots of one LinearBlock as plain, cheaply picklable data.
+
+    sympy Polys pickle by rebuilding their expressions, which is slow for
+    high-degree factors; integer term dicts and generator names travel instead.
+    """
+    poly = charpoly(block, names)
     out = []
     for fac, mult in factor_charpoly(poly):
-        out.append((fac, mult, roots_of(fac)))
+        roots = [("implicit", r.index) if isinstance(r, ImplicitRoot) else ("closed", r)
+                 for r in roots_of(fac)]
+        rep = {m: int(c) for m, c in fac.as_dict(native=True).items()}
+        out.append((rep, tuple(g.name for g in fac.gens), mult, roots))
+    return out
+
+
+def _unpack(packed):
+    from .symbols import coupling_symbol
+    out = []
+    for rep, names, mult, roots in packed:
+        gens = tuple(coupling_symbol(n) for n in names)
+        fac = sympy.Poly.from_dict(rep, gens, domain=sympy.ZZ)
+        out.append((fac, mult, [ImplicitRoot(fac, r) if kind == "implicit" else r
+                                for kind, r in roots]))
     return out
 
 
@@ -92,10 +115,10 @@ def _run_blocks(blocks, names, executor, progress):
         return out
     # largest first, so that the pool stays busy; results put back in order
     order = sorted(range(len(blocks)), key=lambda i: -blocks[i].block.dim)
-    futures = {executor.submit(solve_block, blocks[i], names): i for i in order}
+    futures = {executor.submit(_solve_packed, blocks[i].block, names): i for i in order}
     out = [None] * len(blocks)
     for fut in concurrent.futures.as_completed(futures):
-        out[futures[fut]] = fut.result()
+        out[futures[fut]] = _unpack(fut.result())
         progress.step()
     return out
 
