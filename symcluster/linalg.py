@@ -10,7 +10,8 @@ from math import gcd
 
 import flint
 
-__all__ = ["reduce_basis", "kernel_of", "apply_op", "check_reduced", "primitive"]
+__all__ = ["reduce_basis", "kernel_of", "apply_op", "check_reduced", "primitive",
+           "integer_multiple"]
 
 
 def primitive(vec):
@@ -21,6 +22,26 @@ def primitive(vec):
         if g == 1:
             return vec
     return {s: x // g for s, x in vec.items()} if g > 1 else vec
+
+
+def integer_multiple(values):
+    """(scale, ints) with values == scale * ints, ints integer with gcd 1 (dict in, dict out).
+
+    ``values`` maps keys to Fractions/ints; ``scale`` is a positive Fraction
+    (0 for an empty or all-zero dict).
+    """
+    from fractions import Fraction
+    from math import lcm
+    den = 1
+    for x in values.values():
+        den = lcm(den, Fraction(x).denominator)
+    ints = {k: int(Fraction(x) * den) for k, x in values.items()}
+    g = 0
+    for x in ints.values():
+        g = gcd(g, x)
+    if g == 0:
+        return Fraction(0), {}
+    return Fraction(g, den), {k: x // g for k, x in ints.items()}
 
 
 def _components(vectors):

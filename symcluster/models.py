@@ -10,7 +10,6 @@ Every coupling is ``sympy.Symbol(label, real=True)``.
 
 from dataclasses import dataclass
 
-import sympy
 
 from .clusters import Cluster, check_label
 from .errors import ModelError

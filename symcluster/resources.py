@@ -1,6 +1,5 @@
 """Cost estimates, the memory guard and terminal progress for long runs."""
 
-import os
 import sys
 import time
 from math import comb

@@ -7,7 +7,6 @@ import time
 
 import sympy
 
-from .algebra.block import ENERGY
 from .algebra.charpoly import charpoly
 from .algebra.factor import factor_charpoly
 from .algebra.roots import ImplicitRoot, roots_of

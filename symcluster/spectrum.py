@@ -9,7 +9,6 @@ the k-th real root, in ascending order, of an irreducible polynomial
 P(E; couplings).  Both evaluate at any precision through :func:`energy_numeric`.
 """
 
-import functools
 from dataclasses import dataclass, field
 from fractions import Fraction
 

@@ -29,7 +29,6 @@ import mpmath
 import numpy as np
 import sympy
 
-from .algebra.block import ENERGY
 from .errors import VerificationError
 from .fock import sector_states
 from .models import coupling_symbol

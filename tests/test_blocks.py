@@ -74,7 +74,6 @@ def test_every_reduction_gives_the_same_spectrum_exactly(cluster):
     full = sc.solve(model, seed=3)
     none = sc.solve(model, lattice=False, spin=False, eta=False, seed=3)
     # exact comparison: product of P^(deg) per N as one polynomial
-    E = sympy.Symbol("E", real=True)
     for n in range(2 * cluster.n_sites + 1):
         def product(spec):
             acc = sympy.Integer(1)

@@ -8,12 +8,12 @@ the fallback when python-flint is missing.  Conversions go through plain
 from __future__ import annotations
 
 from fractions import Fraction
-from math import lcm
 
 import sympy
 from sympy.polys.domains import ZZ
 
 from symcluster.errors import ModelError
+from symcluster.linalg import integer_multiple
 
 try:
     import flint
@@ -55,21 +55,7 @@ def to_integer_dict(poly):
            for m, c in poly.as_dict(native=True).items()}
     if not raw:
         return Fraction(0), {}
-    den = 1
-    for c in raw.values():
-        den = lcm(den, c.denominator)
-    ints = {m: int(c * den) for m, c in raw.items()}
-    g = 0
-    for c in ints.values():
-        g = _gcd(g, c)
-    rep = {m: c // g for m, c in ints.items()}
-    return Fraction(g, den), rep
-
-
-def _gcd(a, b):
-    while b:
-        a, b = b, a % b
-    return abs(a)
+    return integer_multiple(raw)
 
 
 def _normalize(rep):

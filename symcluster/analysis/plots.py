@@ -7,7 +7,6 @@ Needs the optional extra ``plot`` (matplotlib); the Agg backend is used, so no
 display is required.
 """
 
-import mpmath
 import sympy
 
 from ..errors import ModelError

@@ -30,12 +30,12 @@ References
 """
 
 from fractions import Fraction
-from math import gcd, lcm
 
 import numpy as np
 import sympy
 
 from symcluster.errors import InputError, VerificationError
+from symcluster.linalg import integer_multiple
 from symcluster.symmetry.groups import PermutationGroup, automorphisms
 
 __all__ = [
@@ -514,17 +514,11 @@ def _rref_insert(rows, pivots, vec, rank_of):
 
 
 def _integer_row(row, pivot, rank_of):
-    den = 1
-    for x in row.values():
-        den = lcm(den, x.denominator)
-    ints = {st: int(x * den) for st, x in row.items()}
-    g = 0
-    for x in ints.values():
-        g = gcd(g, x)
-    out = {pivot: ints[pivot] // g}
+    _, ints = integer_multiple(row)
+    out = {pivot: ints[pivot]}
     for st in sorted(ints, key=rank_of):
         if st != pivot:
-            out[st] = ints[st] // g
+            out[st] = ints[st]
     return out
 
 

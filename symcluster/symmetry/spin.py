@@ -12,7 +12,7 @@ import sympy
 
 from ..fock import sector_states
 from ..linalg import apply_op
-from ..operators import apply_eta_minus, apply_eta_plus, apply_hamiltonian, apply_s_plus
+from ..operators import apply_eta_plus, apply_hamiltonian, apply_s_plus
 
 __all__ = ["has_spin_symmetry", "eta_symmetry"]
 
