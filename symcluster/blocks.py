@@ -240,13 +240,15 @@ def build_blocks(model, plan, electrons=None, report=None):
             stages = [("sector", len(states))]
             if irrep is not None:
                 stages.append(("lattice " + irrep.label, len(vecs)))
-            if plan.spin and n_dn > 0 and n_up < L:
-                vecs, piv = kernel_of(lambda s: apply_s_plus(L, *s), vecs, piv)
+            if plan.spin:
+                if n_dn > 0 and n_up < L:      # otherwise every state is already highest weight
+                    vecs, piv = kernel_of(lambda s: apply_s_plus(L, *s), vecs, piv)
                 stages.append(("spin highest weight", len(vecs)))
                 spin_max = max(spin_max, len(vecs))
-            if plan.eta and n_up > 0 and n_dn > 0:
-                signs = plan.eta[0]
-                vecs, piv = kernel_of(lambda s: apply_eta_minus(signs, *s), vecs, piv)
+            if plan.eta:
+                if n_up > 0 and n_dn > 0:      # otherwise eta- annihilates every state
+                    signs = plan.eta[0]
+                    vecs, piv = kernel_of(lambda s: apply_eta_minus(signs, *s), vecs, piv)
                 stages.append(("eta lowest weight", len(vecs)))
                 eta_max = max(eta_max, len(vecs))
             if not vecs:
