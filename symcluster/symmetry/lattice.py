@@ -480,18 +480,23 @@ def _projector(group, irrep):
     return c
 
 
+def _subtract_multiple(target, a, row):
+    """target -= a * row in place (sparse dicts), dropping entries that become zero."""
+    for st, b in row.items():
+        w = target.get(st, 0) - a * b
+        if w:
+            target[st] = w
+        else:
+            target.pop(st, None)
+
+
 def _rref_insert(rows, pivots, vec, rank_of):
     """Insert ``vec`` (dict state -> Fraction) into reduced rows; True if independent."""
     v = dict(vec)
     for p, row in zip(pivots, rows):
         a = v.get(p)
         if a:
-            for st, b in row.items():
-                w = v.get(st, 0) - a * b
-                if w:
-                    v[st] = w
-                else:
-                    v.pop(st, None)
+            _subtract_multiple(v, a, row)
     if not v:
         return False
     p = min(v, key=rank_of)
@@ -501,12 +506,7 @@ def _rref_insert(rows, pivots, vec, rank_of):
         b = row.get(p)
         if b:
             new = dict(row)
-            for st, x in v.items():
-                w = new.get(st, 0) - b * x
-                if w:
-                    new[st] = w
-                else:
-                    new.pop(st, None)
+            _subtract_multiple(new, b, v)
             rows[i] = new
     rows.append(v)
     pivots.append(p)
