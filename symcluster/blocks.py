@@ -27,6 +27,7 @@ from .errors import VerificationError
 from .fock import sector_states
 from .linalg import check_reduced, kernel_of, reduce_basis
 from .operators import apply_eta_minus, apply_hamiltonian, apply_s_plus
+from .symmetry.lattice import lattice_symmetry
 from .symmetry.spin import eta_symmetry, has_spin_symmetry, shift_expr
 
 __all__ = ["BlockSpec", "SymmetryPlan", "plan_symmetries", "build_blocks", "sectors_to_solve"]
@@ -82,7 +83,6 @@ def plan_symmetries(model, lattice=True, spin=True, eta=True):
     lat = None
     sub_char = []
     if lattice and model.n_sites > 1:
-        from .symmetry.lattice import lattice_symmetry
         c = model.cluster
         lat = lattice_symmetry(c.n_sites, c.bonds, c.site_labels)
         if len(lat.group.elements) == 1:
@@ -198,7 +198,7 @@ def _matrix_of_h(model, vectors, pivots, rng=None):
             raise VerificationError(
                 f"internal error: reduced basis is not invariant under H (state {st}); "
                 "please report this cluster")
-    return LinearBlock(k, terms)
+    return LinearBlock(k, terms, integral=True)
 
 
 def _irrep_times_char(lattice, irrep, char):

@@ -15,6 +15,7 @@ from .resources import Progress, check_size
 from .errors import ModelError, VerificationError
 from .models import Model
 from .spectrum import Level, Spectrum, VerificationReport
+from .verify import verify_blocks, verify_spectrum
 
 __all__ = ["solve", "solve_block"]
 
@@ -232,7 +233,6 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         {"sector": s["sector"], "sector_dim": s["sector_dim"], "steps": s["steps"],
          "largest_block": s["largest_block"]} for s in sizes]
     t2 = time.perf_counter()
-    from .verify import verify_blocks, verify_spectrum
     seed = random.SystemRandom().randrange(2 ** 31) if seed is None else seed
     n_checked = verify_blocks(blocks, results, seed)
     report.add("exact block characteristic polynomials vs. their factors "

@@ -15,6 +15,7 @@ from fractions import Fraction
 import mpmath
 import sympy
 
+from .algebra.roots import real_roots_at
 from .errors import ModelError
 
 __all__ = ["Level", "Spectrum", "VerificationReport", "coerce_point", "energy_numeric"]
@@ -113,15 +114,33 @@ def _mp_eval(expr, env):
     return mpmath.mpmathify(complex(val)) if not val.is_real else mpmath.mpf(str(val))
 
 
-def energy_numeric(energy, point, digits=30):
+def energy_numeric(energy, point, digits=30, polynomial=None):
     """Value of a closed-form expression or implicit root at an exact point, as mpmath.mpf.
 
-    Closed forms are evaluated with mpmath at ``digits`` + 15 working digits
+    Closed forms are evaluated with mpmath at ``2 digits + 10`` working digits
     (square roots and acos near coinciding roots lose up to half their digits,
-    which the verification's tolerance accounts for).
+    which the verification's tolerance accounts for).  A closed form is undefined
+    (0/0) where several roots of its polynomial merge, for instance at the origin of
+    a homogeneous polynomial; given the level's `polynomial`, such a point returns the
+    merged root when all roots of the polynomial coincide there, and raises
+    :class:`ModelError` naming the point otherwise.
     """
     if hasattr(energy, "numeric"):
         return energy.numeric(point, digits=digits)
+    try:
+        return _closed_numeric(energy, point, digits)
+    except (ZeroDivisionError, ValueError):
+        if polynomial is None:
+            raise
+    roots = real_roots_at(polynomial, point, digits)
+    if roots and all(r == roots[0] for r in roots):
+        return roots[0]
+    raise ModelError(
+        f"the closed form {energy} is undefined at {point} (0/0 where roots of its polynomial "
+        "merge); evaluate at a nearby point")
+
+
+def _closed_numeric(energy, point, digits):
     with mpmath.workdps(2 * digits + 10):
         env = {s: mpmath.mpf(int(point[s].p)) / int(point[s].q) for s in energy.free_symbols}
         val = _mp_eval(energy, env)
@@ -221,7 +240,7 @@ class Level:
         syms = symbols if symbols is not None else _free_symbols(self)
         point = coerce_point(syms, values) if not _is_exact_point(values) else values
         with mpmath.workdps(digits):
-            return +energy_numeric(self.energy, point, digits)
+            return +energy_numeric(self.energy, point, digits, self.polynomial)
 
 
 def _is_exact_point(values):
@@ -274,7 +293,8 @@ class Spectrum:
         """Every level's value with its degeneracy, ascending: list of (mpmath.mpf, int)."""
         pt = self.point(values)
         with mpmath.workdps(digits):
-            out = [(+energy_numeric(l.energy, pt, digits), l.degeneracy) for l in self.levels]
+            out = [(+energy_numeric(l.energy, pt, digits, l.polynomial), l.degeneracy)
+                   for l in self.levels]
         out.sort(key=lambda p: p[0])
         return out
 

@@ -185,3 +185,36 @@ def test_errors_name_the_problem():
         LinearBlock(2, {"U": {(2, 0): 1}})
     with pytest.raises(ModelError, match="float"):
         LinearBlock(2, {"U": {(0, 0): 0.5}})
+
+
+def test_flint_even_coupling_is_detected_and_interpolated_in_its_square():
+    # The 4-site ring is bipartite: the sublattice gauge c_i -> (-1)^i c_i maps t -> -t
+    # and leaves U alone, so every (N_up, N_dn) sector's characteristic polynomial is
+    # even in t (theorem: a unitary similarity preserves the spectrum).  A chain of
+    # 3 sites with an extra odd-cycle bond (triangle) has no such gauge: not even.
+    rng = random.Random(3)
+    ring = hubbard_ring_sector(4, 2, 1)
+    mats = [cp_mod.flint.fmpz_mat(cp_mod._dense(ring.dim, ring.terms[k])) for k in ("t", "U")]
+    assert cp_mod._parity_even(ring.dim, mats, 0, rng)
+    assert not cp_mod._parity_even(ring.dim, mats, 1, rng)  # U shifts the spectrum
+    tri = hubbard_ring_sector(3, 1, 1)
+    mats = [cp_mod.flint.fmpz_mat(cp_mod._dense(tri.dim, tri.terms[k])) for k in ("t", "U")]
+    assert not cp_mod._parity_even(tri.dim, mats, 0, rng)
+    P = charpoly(ring, ("t", "U"), backend="flint")
+    assert P == reference_charpoly(ring, (t, U))
+    assert all(m[1] % 2 == 0 for m in P.monoms())
+
+
+def test_integral_flag_lifts_the_block_itself():
+    # The two-site singlet sector (Carrascal et al. 2015, as above) in a rescaled basis
+    # {|20>+|02>, 16 x singlet}: one entry becomes a half, the characteristic polynomial
+    # E^2 - U E - 4 t^2 stays integral.  With integral=True the fast path lifts it
+    # directly; with the flag off it lifts 2H and divides; both must give the same result.
+    want = sympy.Poly(E**2 - U * E - 4 * t**2, E, t, U)
+    h = Fraction(1, 2)
+    terms = {"t": {(0, 1): -h, (1, 0): -8}, "U": {(0, 0): 1}}
+    for flag in (True, False):
+        b = LinearBlock(2, terms, integral=flag)
+        assert cp_mod._charpoly_flint(b, ("t", "U")) == {
+            (2, 0, 0): 1, (1, 0, 1): -1, (0, 2, 0): -4}
+        assert charpoly(b, ("t", "U"), backend="flint") == want

@@ -282,3 +282,13 @@ def test_verification_report_present():
     rep = solved("chain(2)").verification.as_dict()
     assert rep["checks"], "no verification checks recorded"
     assert rep["worst_deviation"] < 1e-20
+
+
+def test_numeric_at_the_origin_where_closed_forms_are_zero_over_zero():
+    # With every coupling zero, H = 0: all 4^L levels are exactly 0 (trivial theorem).
+    # Closed forms such as trigonometric cubics divide by quantities that vanish there;
+    # the evaluation falls back on the level's polynomial, whose roots all merge at 0.
+    spec = sc.solve(sc.hubbard(sc.cluster(4, [(0, 1), (0, 2), (0, 3), (1, 2, "tp")])))
+    vals = spec.numeric({"t": 0, "tp": 0, "U": 0})
+    assert sum(d for _, d in vals) == 4**4
+    assert all(v == 0 for v, _ in vals)

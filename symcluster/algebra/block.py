@@ -30,6 +30,12 @@ class LinearBlock:
         Number of rows (= columns).
     terms : dict[str, dict[tuple[int, int], Fraction | int]]
         Coupling name -> sparse matrix ``{(row, col): value}``; missing entries are 0.
+    integral : bool
+        True when the block is the matrix of an integer operator (one integer matrix per
+        coupling) on an invariant subspace.  Its characteristic polynomial is then a
+        monic factor of an integer one, so its coefficients are integers (Gauss's lemma)
+        even when the entries are fractions; the fast characteristic-polynomial path
+        uses this to lift the block itself instead of its integer multiple.
 
     Examples
     --------
@@ -40,6 +46,7 @@ class LinearBlock:
 
     dim: int
     terms: dict = field(default_factory=dict)
+    integral: bool = False
 
     def __post_init__(self):
         if not isinstance(self.dim, int) or self.dim < 0:

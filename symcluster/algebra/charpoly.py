@@ -9,7 +9,12 @@ Two interchangeable backends compute the same polynomial:
     remaining couplings are sampled on a tensor grid of small integers, the
     characteristic polynomial of every sample is computed modulo word-size primes
     (python-flint ``nmod_mat.charpoly``), interpolated exactly modulo each prime
-    (inverse Vandermonde matrices), and lifted by Chinese remaindering.  Lifting stops
+    (inverse Vandermonde matrices), and lifted by Chinese remaindering.  A coupling in
+    which the polynomial is even (the hopping of a bipartite cluster, by the sublattice
+    gauge symmetry) is interpolated in its square, which halves its grid; the coupling
+    that is set to 1 is the one that leaves the smallest grid.  The block's rational
+    denominator is inverted modulo each prime, so the lifted coefficients are those of
+    the block itself (integers), not of its integer multiple.  Lifting stops
     when a rigorous coefficient bound is passed, or earlier when the lift is stable
     under one more prime *and* the result agrees exactly with an independent integer
     characteristic polynomial (``fmpz_mat.charpoly``) at a random point off the grid.
@@ -215,6 +220,28 @@ def _height_bits(n, mats):
     return min(lr, lc)
 
 
+def _parity_even(n, mats, idx, rng):
+    """True if ``det(x - sum c_i M_i)`` is (almost surely) even in coupling `idx`.
+
+    Compares the characteristic polynomials at ``c_idx = r`` and ``c_idx = -r`` (other
+    couplings random) modulo a random word-size prime.  A polynomial that is not even
+    agrees at a random point with probability at most ``n / p < 2**-50``; the lifted
+    result is moreover checked exactly (spot check below, and the verification tiers).
+    Sublattice gauge symmetry makes every block of a bipartite cluster that the gauge
+    transformation maps to itself even in the hopping.
+    """
+    p = _prime(rng.randrange(8, 64))
+    vals = [rng.randrange(1, p) for _ in mats]
+    polys = []
+    for sign in (1, -1):
+        M = None
+        for i, (B, v) in enumerate(zip(mats, vals)):
+            term = flint.nmod_mat(B, p) * ((sign * v) % p if i == idx else v)
+            M = term if M is None else M + term
+        polys.append([int(c) for c in M.charpoly().coeffs()])
+    return polys[0] == polys[1]
+
+
 def _charpoly_flint(block, names):
     """Homogeneity + modular evaluation/interpolation + CRT; see the module docstring."""
     n = block.dim
@@ -228,16 +255,34 @@ def _charpoly_flint(block, names):
         return {(n,) + (0,) * k_all: 1}
     fm = {nm: flint.fmpz_mat(_dense(n, iterms[nm])) for nm in present}
     ranks = {nm: fm[nm].rank() for nm in present}
-    fixed = max(present, key=lambda nm: ranks[nm])
-    free = [nm for nm in present if nm != fixed]
-    bounds = [min(ranks[nm], n) for nm in free]
+    rng = random.Random(0x5EED ^ n)
+    if len(present) == 1:
+        fixed, free, bounds, even = present[0], [], [], []
+    else:
+        mats = [fm[nm] for nm in present]
+        parity = {nm: _parity_even(n, mats, i, rng) for i, nm in enumerate(present)}
+
+        def grid_size(f):
+            return math.prod(
+                (ranks[nm] // 2 if parity[nm] else ranks[nm]) + 1 for nm in present if nm != f
+            )
+
+        # fix the coupling whose removal leaves the fewest interpolation points
+        fixed = min(present, key=lambda nm: (grid_size(nm), -ranks[nm], present.index(nm)))
+        free = [nm for nm in present if nm != fixed]
+        even = [parity[nm] for nm in free]
+        bounds = [ranks[nm] // 2 if e else ranks[nm] for nm, e in zip(free, even)]
     if not free:
+        # det(x - D c A) = D^n det(x/D - c A): scale back exactly
         cp = [int(c) for c in fm[fixed].charpoly().coeffs()]
-        table = {(a,): c for a, c in enumerate(cp) if c}
+        table = {(a,): Fraction(c, D ** (n - a)) for a, c in enumerate(cp) if c}
     else:
         hbits = _height_bits(n, [iterms[nm] for nm in present])
-        table = _multimodular(n, fm[fixed], [fm[nm] for nm in free], bounds, hbits)
-    # table: (a, beta_1..beta_m) -> coefficient of x^a u^beta in det(x - D*H(fixed=1, u))
+        lift_d = D if block.integral else 1   # else lift the integer multiple D*H
+        table = _multimodular(n, lift_d, fm[fixed], [fm[nm] for nm in free], bounds, even, hbits, rng)
+        if lift_d != D:
+            table = {key: Fraction(c, D ** (n - key[0])) for key, c in table.items()}
+    # table: (a, beta_1..beta_m) -> coefficient of x^a prod u_i^beta_i in det(x - H(fixed=1, u))
     out = {}
     ifix = names.index(fixed)
     ifree = [names.index(nm) for nm in free]
@@ -253,7 +298,7 @@ def _charpoly_flint(block, names):
         e[ifix] = efix
         for p_, b_ in zip(ifree, beta):
             e[p_] = b_
-        out[(a, *e)] = Fraction(c, D ** (n - a)) if D != 1 else c
+        out[(a, *e)] = c if (isinstance(c, Fraction) and c.denominator != 1) else int(c)
     return out
 
 
@@ -280,42 +325,53 @@ def _interp_axis(flat, shape, axis, vinv, p):
     return out
 
 
-def _vandermonde_inverse(d, p):
-    V = flint.nmod_mat([[pow(x, j, p) for j in range(d + 1)] for x in range(d + 1)], p)
+def _vandermonde_inverse(nodes, p):
+    V = flint.nmod_mat([[pow(x, j, p) for j in range(len(nodes))] for x in nodes], p)
     return V.inv()
 
 
-def _one_prime(n, B0, Bs, bounds, p):
-    """Coefficients (row-major over beta grid, then x power) of the interpolant mod p."""
-    B0p = flint.nmod_mat(B0, p)
-    Bps = [flint.nmod_mat(B, p) for B in Bs]
+def _nodes(d, even):
+    """Interpolation nodes 0..d of one coupling, as (value of the coupling, node)."""
+    return [(j, j * j if even else j) for j in range(d + 1)]
+
+
+def _one_prime(n, D, B0, Bs, bounds, even, p):
+    """Coefficients (row-major over the beta grid, then x power) of the interpolant mod p.
+
+    The matrices are ``B/D`` modulo p, so the result is the characteristic polynomial of
+    the block itself, whose coefficients are integers (Gauss's lemma: it is a monic factor
+    of the integer characteristic polynomial of the Fock-space Hamiltonian).
+    """
+    dinv = pow(D, -1, p)
+    B0p = flint.nmod_mat(B0, p) * dinv if D != 1 else flint.nmod_mat(B0, p)
+    Bps = [flint.nmod_mat(B, p) * dinv if D != 1 else flint.nmod_mat(B, p) for B in Bs]
     shape = [d + 1 for d in bounds] + [n + 1]
+    axes = [_nodes(d, e) for d, e in zip(bounds, even)]
     flat = []
-    for g in itertools.product(*[range(d + 1) for d in bounds]):
+    for g in itertools.product(*axes):
         M = B0p
-        for u, Bp in zip(g, Bps):
+        for (u, _), Bp in zip(g, Bps):
             if u:
                 M = M + Bp * u
         cs = [int(c) for c in M.charpoly().coeffs()]
         cs += [0] * (n + 1 - len(cs))
         flat.extend(cs)
-    for axis, d in enumerate(bounds):
-        flat = _interp_axis(flat, shape, axis, _vandermonde_inverse(d, p), p)
+    for axis, nodes in enumerate(axes):
+        flat = _interp_axis(flat, shape, axis, _vandermonde_inverse([z for _, z in nodes], p), p)
     return flat
 
 
-def _multimodular(n, B0, Bs, bounds, hbits):
+def _multimodular(n, D, B0, Bs, bounds, even, hbits, rng):
     """CRT-lift the interpolated coefficients; see the module docstring for the stop rule."""
     shape = [d + 1 for d in bounds] + [n + 1]
     keys = list(itertools.product(*[range(s) for s in shape]))
     acc = None
     modulus = 1
     k = 0
-    rng = random.Random(0x5EED ^ n)
     while True:
         p = _prime(k)
         k += 1
-        res = _one_prime(n, B0, Bs, bounds, p)
+        res = _one_prime(n, D, B0, Bs, bounds, even, p)
         if acc is None:
             acc = [r if r <= p // 2 else r - p for r in res]
             modulus = p
@@ -333,18 +389,23 @@ def _multimodular(n, B0, Bs, bounds, hbits):
             acc, modulus = nacc, new_mod
         if math.log2(modulus) > hbits + 1:
             break
-        if stable and _spot_check(n, B0, Bs, bounds, keys, acc, rng):
+        if stable and _spot_check(n, D, B0, Bs, even, keys, acc, rng):
             break
     table = {}
     for key, c in zip(keys, acc):
         if c:
-            table[(key[-1],) + key[:-1]] = c
+            beta = tuple(2 * b if e else b for b, e in zip(key[:-1], even))
+            table[(key[-1],) + beta] = c
     return table
 
 
-def _spot_check(n, B0, Bs, bounds, keys, acc, rng):
-    """Exact comparison with ``fmpz_mat.charpoly`` at one random integer point off the grid."""
-    u = [rng.randint(d + 2, d + 2 + 10**4) * rng.choice((-1, 1)) for d in bounds]
+def _spot_check(n, D, B0, Bs, even, keys, acc, rng):
+    """Exact comparison with ``fmpz_mat.charpoly`` at one random integer point off the grid.
+
+    ``fmpz_mat`` sees the integer matrix ``D*H``, whose coefficient of ``x^a`` is
+    ``D^(n-a)`` times that of ``H``.
+    """
+    u = [rng.randint(10**4, 2 * 10**4) * rng.choice((-1, 1)) for _ in Bs]
     M = B0
     for ui, B in zip(u, Bs):
         M = M + B * ui
@@ -353,5 +414,7 @@ def _spot_check(n, B0, Bs, bounds, keys, acc, rng):
     got = [0] * (n + 1)
     for key, c in zip(keys, acc):
         if c:
-            got[key[-1]] += c * math.prod(ui**b for ui, b in zip(u, key[:-1]))
-    return got == want
+            got[key[-1]] += c * math.prod(
+                ui ** (2 * b if e else b) for ui, b, e in zip(u, key[:-1], even)
+            )
+    return all(g * D ** (n - a) == w for a, (g, w) in enumerate(zip(got, want)))

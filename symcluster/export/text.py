@@ -51,7 +51,8 @@ def spin_text(qn):
 def numeric_values(spectrum, point, digits):
     """Values of all levels at an exact point (dict Symbol -> Rational), as mpf."""
     with mpmath.workdps(digits + 5):
-        return [+energy_numeric(lev.energy, point, digits + 5) for lev in spectrum.levels]
+        return [+energy_numeric(lev.energy, point, digits + 5, lev.polynomial)
+                for lev in spectrum.levels]
 
 
 def level_sort_key(level, values, index):
