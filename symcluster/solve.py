@@ -89,6 +89,54 @@ def _shift_poly(poly, shift):
         scale.numerator, scale.denominator)
 
 
+def gauge_twins(model, plan, blocks):
+    """Blocks whose results follow from another block by t -> -t: {index: partner index}.
+
+    On a bipartite cluster (detected exactly: the eta-pseudospin check needs every bond
+    to join the two sublattices) the gauge transformation G = prod_{i in B} (-1)^{n_i}
+    is diagonal in the Fock basis, commutes with N_up, N_dn, S+ and eta+, and maps
+    H(t, U) to H(-t, U).  A lattice symmetry g that swaps the sublattices satisfies
+    g G g^-1 = (-1)^N G, so for odd N, G maps the lattice irrep Gamma onto
+    Gamma x chi_sub (chi_sub = -1 on swapping elements): the two blocks have the same
+    characteristic polynomial up to t -> -t.  Every derived block is still checked
+    against its own matrix by ``verify_blocks``.
+    """
+    if not plan.eta or not plan.sublattice_char or plan.lattice is None:
+        return {}
+    from .blocks import _irrep_times_char
+    index = {}
+    for i, spec in enumerate(blocks):
+        irrep = getattr(spec, "irrep", None)
+        if irrep is not None:
+            index[(spec.sector, irrep.label)] = i
+    twins = {}
+    for i, spec in enumerate(blocks):
+        if i in twins or spec.labels["N"] % 2 == 0 or getattr(spec, "irrep", None) is None:
+            continue
+        partner = _irrep_times_char(plan.lattice, spec.irrep, plan.sublattice_char)
+        if partner is None or partner.label == spec.irrep.label:
+            continue
+        j = index.get((spec.sector, partner.label))
+        if j is not None and j > i and j not in twins and blocks[j].block.dim == spec.block.dim:
+            twins[j] = i
+    return twins
+
+
+def _negate_couplings(factors, odd):
+    """Factors and roots of a block after the substitution c -> -c for every c in `odd`."""
+    out = []
+    for fac, mult, roots in factors:
+        gens = fac.gens
+        flip = [g.name in odd for g in gens]
+        rep = {m: (-c if sum(e for e, f in zip(m, flip) if f) % 2 else c)
+               for m, c in fac.as_dict(native=True).items()}
+        new = sympy.Poly.from_dict(rep, gens, domain=fac.domain)
+        sub = {g: -g for g, f in zip(gens, flip) if f}
+        out.append((new, mult, [ImplicitRoot(new, r.index) if isinstance(r, ImplicitRoot)
+                                else r.xreplace(sub) for r in roots]))
+    return out
+
+
 def _level_order(level):
     """Stable order of levels: N, then spin, eta, lattice label (no expression printing)."""
     qn = level.quantum_numbers
@@ -188,8 +236,14 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         executor = own_pool = _default_executor(blocks)
     elif executor == "serial":
         executor = None
+    twins = gauge_twins(model, plan, blocks)
+    prog.total = len(blocks) - len(twins)
     try:
-        results = _run_blocks(blocks, names, executor, prog)
+        todo = [i for i in range(len(blocks)) if i not in twins]
+        solved = dict(zip(todo, _run_blocks([blocks[i] for i in todo], names, executor, prog)))
+        odd = set(model.cluster.hopping_labels)
+        results = [solved[i] if i in solved else _negate_couplings(solved[twins[i]], odd)
+                   for i in range(len(blocks))]
     finally:
         prog.close()
         if own_pool is not None:

@@ -137,3 +137,29 @@ def test_eigenvectors_of_small_blocks_are_eigenvectors():
             assert abs(hv.get(s, 0) - e_val * num.get(s, 0)) < 1e-30 * (1 + norm)
         checked += 1
     assert checked >= 10
+
+
+@pytest.mark.parametrize("cluster", [sc.ring(4), sc.chain(4), sc.ladder(3), sc.ring(6)],
+                         ids=["ring4", "chain4", "ladder3", "ring6"])
+def test_gauge_twin_blocks_have_t_negated_characteristic_polynomials(cluster):
+    # Theorem (sublattice gauge transformation on a bipartite cluster, e.g. Lieb, PRL 62,
+    # 1201 (1989), and Shiba's transformation): G = prod_{i in B} (-1)^{n_i} maps H(t, U)
+    # to H(-t, U) and, for odd N, the lattice irrep Gamma onto Gamma x chi_sub.  The
+    # solver derives such twin blocks instead of solving them; here both characteristic
+    # polynomials are computed directly and compared symbolically.
+    from symcluster.algebra.charpoly import charpoly
+    from symcluster.blocks import build_blocks, plan_symmetries
+    from symcluster.solve import gauge_twins
+    model = sc.hubbard(cluster)
+    plan = plan_symmetries(model)
+    blocks = build_blocks(model, plan)
+    twins = gauge_twins(model, plan, blocks)
+    # each has a symmetry that swaps the sublattices, so twins exist at odd N
+    assert twins
+    t = sympy.Symbol("t", real=True)
+    for j, i in twins.items():
+        assert blocks[j].labels["N"] % 2 == 1
+        assert blocks[j].labels["irrep"] != blocks[i].labels["irrep"]
+        pj = charpoly(blocks[j].block, model.labels).as_expr()
+        pi = charpoly(blocks[i].block, model.labels).as_expr()
+        assert sympy.expand(pj - pi.subs(t, -t)) == 0

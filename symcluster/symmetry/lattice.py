@@ -374,7 +374,7 @@ class LatticeSymmetry:
         if self.translation is not None:       # smallest |k| first; ties keep table order
             def kmin(r):
                 ks = r.momentum if isinstance(r.momentum, tuple) else (r.momentum,)
-                return min(abs(k / sympy.pi) for k in ks)
+                return min(abs(_pi_multiple(k)) for k in ks)
             self.irreps.sort(key=kmin)
 
     def multiplicity(self, states, irrep):
@@ -387,6 +387,14 @@ class LatticeSymmetry:
 
     def __repr__(self):
         return f"LatticeSymmetry(order={self.group.order}, irreps={[r.label for r in self.irreps]})"
+
+
+def _pi_multiple(k):
+    """k / pi for a momentum k = r*pi (r rational), without sympy's symbolic division."""
+    if k == 0:
+        return sympy.Integer(0)
+    c, rest = k.as_coeff_Mul()
+    return c if rest == sympy.pi else k / sympy.pi
 
 
 def lattice_symmetry(n_sites, bonds, site_labels=None):
