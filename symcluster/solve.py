@@ -283,7 +283,10 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     levels.sort(key=_level_order)
     report = VerificationReport(digits=digits)
     spectrum = Spectrum(model, levels, [], report, timings)
-    spectrum.symmetries = [{"symmetries": plan.names()}] + [
+    used = plan.names()
+    if twins:
+        used.append(f"sublattice gauge t -> -t ({len(twins)} odd-N blocks derived from their twins)")
+    spectrum.symmetries = [{"symmetries": used}] + [
         {"sector": s["sector"], "sector_dim": s["sector_dim"], "steps": s["steps"],
          "largest_block": s["largest_block"]} for s in sizes]
     t2 = time.perf_counter()
