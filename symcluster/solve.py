@@ -249,6 +249,7 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         if own_pool is not None:
             own_pool.shutdown()
     timings["algebra"] = time.perf_counter() - t1
+    t_levels = time.perf_counter()
     levels = []
     shift = plan.eta_shift
     for spec, factors in zip(blocks, results):
@@ -281,6 +282,7 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
                                         block=f"{spec.sector}:{spec.labels.get('irrep', '')}",
                                         source=src))
     levels.sort(key=_level_order)
+    timings["levels"] = time.perf_counter() - t_levels
     report = VerificationReport(digits=digits)
     spectrum = Spectrum(model, levels, [], report, timings)
     used = plan.names()

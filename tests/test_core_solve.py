@@ -5,7 +5,6 @@ Jordan-Wigner Kronecker products and shares no code with symcluster.
 """
 
 import functools
-from itertools import combinations
 from math import comb
 
 import mpmath

@@ -1,7 +1,6 @@
 """Partition functions and thermodynamic tables (symcluster.analysis.thermo)."""
 
 import mpmath
-import numpy as np
 import pytest
 import sympy
 

@@ -73,12 +73,25 @@ def _point_values(gens, point):
 _PREPARED = {}
 
 
+class _Terms(tuple):
+    """A tuple of terms that hashes once: cache keys of high-degree factors (tens of
+    thousands of terms) would otherwise be re-hashed on every evaluation."""
+
+    def __new__(cls, items):
+        self = super().__new__(cls, items)
+        self._hash = tuple.__hash__(self)
+        return self
+
+    def __hash__(self):
+        return self._hash
+
+
 def _prepared_terms(poly):
     """Sorted integer terms of a Poly, shared by all roots of the same polynomial object."""
     hit = _PREPARED.get(id(poly))
     if hit is not None and hit[0] is poly:
         return hit[1]
-    terms = tuple(sorted((m, int(c)) for m, c in poly.as_dict(native=True).items()))
+    terms = _Terms(sorted((m, int(c)) for m, c in poly.as_dict(native=True).items()))
     if len(_PREPARED) > 4096:
         _PREPARED.clear()
     _PREPARED[id(poly)] = (poly, terms)
@@ -207,6 +220,7 @@ def _laguerre_real_roots(f, bits):
     guard = cbits + d * max(top_exp, 0)
     prec = guard + 2 * bits + 64
     found = []
+    Q = dQ = ddQ = None               # deflation polynomial prod (x - r_j) over found roots
     with flint.ctx.workprec(prec):
         P = flint.arb_poly(cs)       # exact: the coefficients fit in prec bits
         dP = P.derivative()
@@ -228,7 +242,7 @@ def _laguerre_real_roots(f, bits):
                 g1 = dP(x) / fx
                 G = g1
                 H = g1 * g1 - ddP(x) / fx
-                if found:       # deflation: Q = prod (x - r_j), sum 1/(x-r_j) = Q'/Q
+                if Q is not None:   # deflation: sum 1/(x - r_j) = Q'/Q
                     qx = Q(x)
                     q1 = dQ(x) / qx
                     G -= q1
@@ -248,7 +262,8 @@ def _laguerre_real_roots(f, bits):
             else:
                 return None
             found.append(flint.arb(x.mid()))
-            Q = (Q * flint.arb_poly([-found[-1], 1])) if len(found) > 1 else flint.arb_poly([-found[-1], 1])
+            lin = flint.arb_poly([-found[-1], 1])
+            Q = lin if Q is None else Q * lin
             dQ = Q.derivative()
             ddQ = dQ.derivative()
     # certificate: exact signs at r -+ eps, intervals disjoint

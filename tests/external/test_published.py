@@ -7,7 +7,7 @@ import pytest
 import sympy
 
 import symcluster as sc
-from reference_fock import FockReference, max_deviation
+from reference_fock import FockReference
 
 
 @functools.lru_cache(maxsize=None)

@@ -8,7 +8,7 @@ import pytest
 import sympy
 
 import symcluster as sc
-from reference_fock import FockReference, expand, max_deviation
+from reference_fock import FockReference, max_deviation
 
 SHAPES = {
     "chain(2)": lambda: sc.chain(2),
