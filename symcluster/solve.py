@@ -84,9 +84,12 @@ def _shift_poly(poly, shift):
     sh = ctx.from_dict({tuple(int(e) for e in m): int(c)
                         for m, c in sympy.Poly(shift, *gens).as_dict().items()})
     out = fp.compose(xs[0] - sh, *xs[1:])
-    rep2 = {tuple(int(e) for e in m): int(c) for m, c in out.to_dict().items()}
-    return sympy.Poly.from_dict(rep2, gens, domain=poly.domain) * sympy.Rational(
-        scale.numerator, scale.denominator)
+    if scale == 1:
+        rep2 = {tuple(int(e) for e in m): int(c) for m, c in out.to_dict().items()}
+        return sympy.Poly.from_dict(rep2, gens, domain=poly.domain)
+    s = sympy.Rational(scale.numerator, scale.denominator)
+    rep2 = {tuple(int(e) for e in m): int(c) * s for m, c in out.to_dict().items()}
+    return sympy.Poly.from_dict(rep2, gens, domain=poly.domain)
 
 
 def gauge_twins(model, plan, blocks):
