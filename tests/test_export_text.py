@@ -128,7 +128,10 @@ def test_implicit_root_is_named_with_its_polynomial():
         f"root 1 of {sympy.sstr(poly.as_expr())} = 0 (ascending in E)"
     assert "E**5" in energy_text(spec.levels[-1].energy)
     text = format_table(spec)
-    assert "Sz=1/2" in text and "root 1 of" in text
+    assert "Sz=1/2" in text and "root 1 of P1 (ascending in E)" in text
+    # the table lists the polynomial once, below the rows
+    assert text.count(sympy.sstr(poly.as_expr())) == 1
+    assert f"P1: {sympy.sstr(poly.as_expr())} = 0" in text
 
 
 def test_point_missing_coupling_is_a_model_error():

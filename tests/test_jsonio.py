@@ -3,6 +3,8 @@
 import json
 import os
 
+import mpmath
+
 import pytest
 import sympy
 from hypothesis import HealthCheck, given, settings, strategies as st
@@ -127,7 +129,7 @@ def test_deep_nesting_is_refused():
 
 def test_document_has_schema_keys_and_exact_values():
     doc = spectrum_to_dict(two_site_spectrum(), point={"t": 1, "U": 4}, digits=20)
-    assert doc["format"] == "symcluster-spectrum" and doc["version"] == 1
+    assert doc["format"] == "symcluster-spectrum" and doc["version"] == 2
     for key in ("model", "levels", "point", "digits", "verification", "symmetries"):
         assert key in doc
     assert doc["model"]["cluster"]["bonds"] == [[0, 1, "t"]]
@@ -203,3 +205,58 @@ def test_malformed_files_give_input_errors(tmp_path, content, words):
 def test_missing_file_is_an_input_error(tmp_path):
     with pytest.raises(InputError, match="cannot read"):
         read_json(tmp_path / "nope.json")
+
+
+def test_version_2_stores_each_polynomial_once_and_reloads_roots():
+    # chain(4) has implicit roots (degree > 4): their polynomial is shared by all its roots.
+    import symcluster as sc
+    from symcluster.algebra.roots import ImplicitRoot
+    spec = sc.solve(sc.hubbard(sc.chain(4)), electrons=[3])
+    doc = json.loads(dumps_spectrum(spec, point={"t": 1, "U": 4}, digits=30))
+    distinct = {l.polynomial for l in spec.levels if l.polynomial is not None}
+    assert len(doc["polynomials"]) == len(distinct)
+    refs = [l["polynomial"] for l in doc["levels"]]
+    assert sorted(set(refs)) == list(range(len(distinct)))
+    roots = [l for l in doc["levels"] if "root" in l["energy"]]
+    assert roots and all(r["energy"]["root"]["ref"] == r["polynomial"] for r in roots)
+    back = loads_spectrum(json.dumps(doc))
+    pt = {sympy.Symbol("t", real=True): sympy.Integer(1), sympy.Symbol("U", real=True): 4}
+    for entry in back["levels"]:
+        if isinstance(entry["energy"], ImplicitRoot):
+            assert entry["energy"].poly == entry["polynomial"]
+            with mpmath.workdps(30):
+                value = entry["energy"].numeric(pt, 30)
+                assert abs(value - mpmath.mpf(entry["values"]["30"])) < mpmath.mpf(10) ** -25
+
+
+@pytest.mark.parametrize("patch, words", [
+    ({"polynomial": 7}, "position 0..0"),
+    ({"energy": {"root": {"ref": 0, "var": "E", "index": 9}}}, "index 9"),
+    ({"energy": {"root": {"ref": 0, "var": "x", "index": 0}}}, "var 'x'"),
+    ({"energy": {"root": {"ref": 0, "index": 0}}}, "exactly the keys"),
+])
+def test_version_2_bad_references_give_input_errors(patch, words):
+    poly = {"poly": {"gens": [{"sym": "E"}, {"sym": "t"}], "domain": "ZZ",
+                     "terms": [[[2, 0], "1"], [[0, 2], "-1"]]}}
+    level = {"energy": {"root": {"ref": 0, "var": "E", "index": 1}}, "degeneracy": 1,
+             "quantum_numbers": {"N": 1}, "polynomial": 0}
+    level.update(patch)
+    doc = {"format": "symcluster-spectrum", "version": 2, "model": {}, "digits": 30,
+           "verification": {}, "polynomials": [{"name": "P1", "poly": poly}],
+           "levels": [level]}
+    with pytest.raises(InputError, match=words):
+        loads_spectrum(json.dumps(doc), root_factory=StandInRoot)
+
+
+def test_version_1_files_are_still_read():
+    # version 1 repeated the polynomial inside every level and root node
+    poly = {"poly": {"gens": [{"sym": "E"}, {"sym": "t"}], "domain": "ZZ",
+                     "terms": [[[2, 0], "1"], [[0, 2], "-1"]]}}
+    doc = {"format": "symcluster-spectrum", "version": 1, "model": {}, "digits": 30,
+           "verification": {}, "levels": [
+               {"energy": {"root": {"poly": poly, "var": "E", "index": 1}}, "degeneracy": 1,
+                "quantum_numbers": {"N": 1}, "polynomial": poly}]}
+    back = loads_spectrum(json.dumps(doc), root_factory=StandInRoot)
+    lev = back["levels"][0]
+    assert lev["polynomial"] == sympy.Poly(E**2 - t**2, E, t)
+    assert lev["energy"] == StandInRoot(lev["polynomial"], 1)

@@ -1,8 +1,12 @@
-"""A spectrum as a JSON file (format "symcluster-spectrum", version 1), and back.
+"""A spectrum as a JSON file (format "symcluster-spectrum", version 2), and back.
 
 The schema is written out in docs/outputs.md.  Exact numbers are strings,
 exact expressions are trees (:mod:`symcluster.export.exprtree`), and a file is
-always written whole or not at all (temporary file + ``os.replace``).
+always written whole or not at all (temporary file + ``os.replace``).  Version 2
+stores every distinct level polynomial once, in a top-level table that levels and
+implicit roots refer to by position (the 8-site clusters have factors of degree up
+to 336 shared by hundreds of levels); version 1 files, which repeat the polynomial
+in every level, are still read.
 """
 
 import json
@@ -14,15 +18,17 @@ import mpmath
 import sympy
 
 from ..errors import InputError
-from .exprtree import from_tree, poly_from_tree, to_tree
+from .exprtree import (_default_root_factory, from_tree, is_implicit_root, poly_from_tree,
+                       poly_to_tree, to_tree)
 from .text import energy_text, level_sort_key, numeric_values
-from .latex import energy_latex
+from .latex import _poly_tex, energy_latex
 
 __all__ = ["FORMAT", "VERSION", "spectrum_to_dict", "dumps_spectrum", "write_json",
            "read_json", "loads_spectrum", "decode_spectrum_dict", "write_text_atomic"]
 
 FORMAT = "symcluster-spectrum"
-VERSION = 1
+VERSION = 2
+READABLE_VERSIONS = (1, 2)
 _RATIONAL_KEYS = ("S", "Sz", "eta")
 _INT_KEYS = ("N", "irrep_dim")
 
@@ -104,16 +110,26 @@ def spectrum_to_dict(spectrum, point=None, digits=30, eigenvectors=True):
     values = numeric_values(spectrum, pt, digits) if pt is not None else None
     order = sorted(range(len(spectrum.levels)),
                    key=lambda i: level_sort_key(spectrum.levels[i], values, i))
+    table = _PolynomialTable()
     levels = []
     for i in order:
         lev = spectrum.levels[i]
+        energy = lev.energy
+        if is_implicit_root(energy):
+            j = table.index(energy.poly)
+            var = energy.poly.gens[0].name
+            tree = {"root": {"ref": j, "var": var, "index": int(energy.index)}}
+            text = f"root {int(energy.index) + 1} of P{j + 1} = 0 (ascending in {var})"
+            tex = rf"\operatorname{{root}}_{{{int(energy.index) + 1}}}\left[P_{{{j + 1}}}\right]"
+        else:
+            tree, text, tex = to_tree(energy), energy_text(energy), energy_latex(energy)
         entry = {
-            "energy": to_tree(lev.energy),
-            "energy_text": energy_text(lev.energy),
-            "energy_latex": energy_latex(lev.energy),
+            "energy": tree,
+            "energy_text": text,
+            "energy_latex": tex,
             "degeneracy": int(lev.degeneracy),
             "quantum_numbers": _qn_to_json(lev.quantum_numbers),
-            "polynomial": None if lev.polynomial is None else to_tree(lev.polynomial),
+            "polynomial": None if lev.polynomial is None else table.index(lev.polynomial),
             "block": str(lev.block or ""),
         }
         if values is not None:
@@ -133,11 +149,35 @@ def spectrum_to_dict(spectrum, point=None, digits=30, eigenvectors=True):
         "point": None if pt is None else {s.name: _rat_str(v) for s, v in pt.items()},
         "digits": int(digits),
         "n_states": int(spectrum.n_states),
+        "polynomials": table.entries,
         "levels": levels,
         "symmetries": _plain(spectrum.symmetries),
         "verification": _plain(spectrum.verification.as_dict()),
         "timings": _plain(spectrum.timings),
     }
+
+
+class _PolynomialTable:
+    """Distinct polynomials in order of first use: {"name", "poly", "text", "latex"} each."""
+
+    def __init__(self):
+        self.entries = []
+        self._by_id = {}       # id -> (object, position); the object keeps the id valid
+        self._by_value = {}
+
+    def index(self, poly):
+        hit = self._by_id.get(id(poly))
+        if hit is not None and hit[0] is poly:
+            return hit[1]
+        j = self._by_value.get(poly)
+        if j is None:
+            j = len(self.entries)
+            self._by_value[poly] = j
+            self.entries.append({"name": f"P{j + 1}", "poly": poly_to_tree(poly),
+                                 "text": energy_text(poly.as_expr()),
+                                 "latex": _poly_tex(poly)})
+        self._by_id[id(poly)] = (poly, j)
+        return j
 
 
 def dumps_spectrum(spectrum, point=None, digits=30):
@@ -229,9 +269,10 @@ def decode_spectrum_dict(data, source="<data>", root_factory=None):
         raise InputError(f"{source}: 'format' is {fmt!r}, expected {FORMAT!r}; give a file "
                          f"written by symcluster's --json option")
     version = data.get("version")
-    if version != VERSION:
+    if version not in READABLE_VERSIONS:
         raise InputError(f"{source}: version {version!r} is not supported (this symcluster "
-                         f"reads version {VERSION}); regenerate the file")
+                         f"reads versions {', '.join(map(str, READABLE_VERSIONS))}); "
+                         f"regenerate the file")
     _need(data, "model", dict, source)
     _need(data, "digits", int, source)
     levels = _need(data, "levels", list, source)
@@ -242,6 +283,15 @@ def decode_spectrum_dict(data, source="<data>", root_factory=None):
         if not isinstance(point, dict):
             raise InputError(f"{source}: 'point' must be an object such as {{\"t\": \"1\"}}")
         out["point"] = {k: from_tree({"rat": v}) for k, v in point.items()}
+    table = []
+    if version >= 2:
+        for j, item in enumerate(_need(data, "polynomials", list, source)):
+            where = f"{source}: polynomials[{j}]"
+            try:
+                table.append(poly_from_tree(_need(item, "poly", dict, where)))
+            except InputError as exc:
+                raise InputError(f"{where}: {exc}") from None
+        out["polynomials"] = table
     new_levels = []
     for i, lev in enumerate(levels):
         where = f"{source}: levels[{i}]"
@@ -249,9 +299,13 @@ def decode_spectrum_dict(data, source="<data>", root_factory=None):
         _need(lev, "degeneracy", int, where)
         entry = dict(lev)
         try:
-            entry["energy"] = from_tree(tree, root_factory=root_factory)
-            poly = lev.get("polynomial")
-            entry["polynomial"] = None if poly is None else poly_from_tree(poly)
+            if version >= 2:
+                entry["energy"] = _energy_v2(tree, table, root_factory)
+                entry["polynomial"] = _table_entry(lev.get("polynomial"), table, "polynomial")
+            else:
+                entry["energy"] = from_tree(tree, root_factory=root_factory)
+                poly = lev.get("polynomial")
+                entry["polynomial"] = None if poly is None else poly_from_tree(poly)
             vec = lev.get("eigenvector")
             if vec is not None:
                 if not isinstance(vec, list):
@@ -266,6 +320,33 @@ def decode_spectrum_dict(data, source="<data>", root_factory=None):
         new_levels.append(entry)
     out["levels"] = new_levels
     return out
+
+
+def _table_entry(ref, table, what):
+    if ref is None:
+        return None
+    if isinstance(ref, bool) or not isinstance(ref, int) or not 0 <= ref < len(table):
+        raise InputError(f"{what} {ref!r} must be a position 0..{len(table) - 1} in the "
+                         f"'polynomials' table")
+    return table[ref]
+
+
+def _energy_v2(tree, table, root_factory):
+    """An energy tree of version 2: a root node refers to the polynomial table."""
+    body = tree.get("root")
+    if body is None:
+        return from_tree(tree, root_factory=root_factory)
+    if set(tree) != {"root"} or not isinstance(body, dict) or set(body) != {"ref", "var", "index"}:
+        raise InputError("a root needs exactly the keys 'ref', 'var' and 'index'")
+    poly = _table_entry(body["ref"], table, "root ref")
+    index, deg = body["index"], poly.degree(poly.gens[0])
+    if isinstance(index, bool) or not isinstance(index, int) or not 0 <= index < deg:
+        raise InputError(f"root index {index!r} must be an integer from 0 to {deg - 1} "
+                         f"(roots counted from 0, ascending)")
+    if body["var"] != poly.gens[0].name:
+        raise InputError(f"root var {body['var']!r} is not the first generator "
+                         f"{poly.gens[0].name!r} of its polynomial")
+    return (root_factory or _default_root_factory())(poly, index)
 
 
 def loads_spectrum(text, source="<string>", root_factory=None):

@@ -95,6 +95,7 @@ def format_table(spectrum, point=None, digits=12):
     head = ["N", "S", "2S+1"] + (["eta"] if show_eta else []) + (["irrep"] if show_irrep else [])
     head += ["deg"] + (["value"] if values is not None else []) + ["energy"]
     rows = []
+    poly_names = {}
     for i in order:
         lev = spectrum.levels[i]
         qn = lev.quantum_numbers
@@ -108,7 +109,14 @@ def format_table(spectrum, point=None, digits=12):
         if values is not None:
             with mpmath.workdps(digits):
                 row.append(mpmath.nstr(values[i], digits))
-        row.append(energy_text(lev.energy))
+        if is_implicit_root(lev.energy):
+            # the polynomial once, below the table: high-degree factors are shared by
+            # hundreds of levels and run to thousands of terms
+            j = poly_names.setdefault(lev.energy.poly, len(poly_names) + 1)
+            row.append(f"root {int(lev.energy.index) + 1} of P{j} "
+                       f"(ascending in {lev.energy.poly.gens[0]})")
+        else:
+            row.append(energy_text(lev.energy))
         rows.append(row)
     widths = [max([len(h)] + [len(r[k]) for r in rows]) for k, h in enumerate(head)]
     numeric = {"N", "2S+1", "deg", "value"}
@@ -138,6 +146,9 @@ def format_table(spectrum, point=None, digits=12):
             lines.append("")
         last_n = n
         lines.append(fmt(row))
+    if poly_names:
+        lines += ["", "# polynomials of the implicit roots (root k = k-th smallest real root):"]
+        lines += [f"P{j}: {sympy.sstr(p.as_expr())} = 0" for p, j in poly_names.items()]
     return "\n".join(lines) + "\n"
 
 
