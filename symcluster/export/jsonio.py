@@ -20,7 +20,7 @@ import sympy
 from ..errors import InputError
 from .exprtree import (_default_root_factory, from_tree, is_implicit_root, poly_from_tree,
                        poly_to_tree, to_tree)
-from .text import energy_text, level_sort_key, numeric_values
+from .text import energy_text, level_sort_key, numeric_values, poly_text
 from .latex import _poly_tex, energy_latex
 
 __all__ = ["FORMAT", "VERSION", "spectrum_to_dict", "dumps_spectrum", "write_json",
@@ -174,7 +174,7 @@ class _PolynomialTable:
             j = len(self.entries)
             self._by_value[poly] = j
             self.entries.append({"name": f"P{j + 1}", "poly": poly_to_tree(poly),
-                                 "text": energy_text(poly.as_expr()),
+                                 "text": poly_text(poly),
                                  "latex": _poly_tex(poly)})
         self._by_id[id(poly)] = (poly, j)
         return j

@@ -12,7 +12,7 @@ import sympy
 from ..spectrum import energy_numeric
 from .exprtree import is_implicit_root
 
-__all__ = ["format_table", "format_symmetries", "energy_text", "spin_text",
+__all__ = ["format_table", "format_symmetries", "energy_text", "poly_text", "spin_text",
            "numeric_values", "level_sort_key"]
 
 
@@ -29,8 +29,51 @@ def energy_text(energy):
     if is_implicit_root(energy):
         poly = energy.poly
         return (f"root {int(energy.index) + 1} of "
-                f"{sympy.sstr(poly.as_expr())} = 0 (ascending in {poly.gens[0]})")
+                f"{poly_text(poly)} = 0 (ascending in {poly.gens[0]})")
     return sympy.sstr(energy)
+
+
+#: Polynomials with more terms than this are printed term by term from their coefficient
+#: dictionary; sympy's printers need seconds for the thousands of terms of a degree-88 factor.
+FAST_PRINT_TERMS = 50
+
+
+def poly_text(poly, latex=False):
+    """One-line text (sympy syntax) or LaTeX of a Poly with rational coefficients.
+
+    Terms are in decreasing powers of the first generator, then lexicographically; small
+    polynomials (at most FAST_PRINT_TERMS terms) go through sympy's own printers.
+    """
+    if len(poly.as_dict()) <= FAST_PRINT_TERMS:
+        return sympy.latex(poly.as_expr()) if latex else sympy.sstr(poly.as_expr())
+    names = [sympy.latex(g) if latex else g.name for g in poly.gens]
+    out = []
+    for monom, coeff in sorted(poly.terms(), key=lambda mc: mc[0], reverse=True):
+        c = sympy.Rational(coeff)
+        sign = "-" if c < 0 else "+"
+        c = abs(c)
+        factors = []
+        for name, e in zip(names, monom):
+            if e == 1:
+                factors.append(name)
+            elif e:
+                factors.append(f"{name}^{{{e}}}" if latex else f"{name}**{e}")
+        if c.q != 1:
+            num = rf"\frac{{{c.p}}}{{{c.q}}}" if latex else f"{c.p}/{c.q}"
+        else:
+            num = str(c.p)
+        if not factors:
+            body = num
+        elif c == 1:
+            body = (" " if latex else "*").join(factors)
+        else:
+            body = (" " if latex else "*").join([num] + factors)
+        out.append((sign, body))
+    first_sign, first = out[0]
+    text = ("-" if first_sign == "-" else "") + first
+    for sign, body in out[1:]:
+        text += f" {sign} {body}"
+    return text
 
 
 def _rat(x):
@@ -148,7 +191,7 @@ def format_table(spectrum, point=None, digits=12):
         lines.append(fmt(row))
     if poly_names:
         lines += ["", "# polynomials of the implicit roots (root k = k-th smallest real root):"]
-        lines += [f"P{j}: {sympy.sstr(p.as_expr())} = 0" for p, j in poly_names.items()]
+        lines += [f"P{j}: {poly_text(p)} = 0" for p, j in poly_names.items()]
     return "\n".join(lines) + "\n"
 
 
