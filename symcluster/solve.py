@@ -244,7 +244,7 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     try:
         todo = [i for i in range(len(blocks)) if i not in twins]
         solved = dict(zip(todo, _run_blocks([blocks[i] for i in todo], names, executor, prog)))
-        odd = set(model.cluster.hopping_labels)
+        odd = {h[2] for h in model.hops}     # the labels of H's hopping terms
         results = [solved[i] if i in solved else _negate_couplings(solved[twins[i]], odd)
                    for i in range(len(blocks))]
     finally:

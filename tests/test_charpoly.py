@@ -218,3 +218,16 @@ def test_integral_flag_lifts_the_block_itself():
         assert cp_mod._charpoly_flint(b, ("t", "U")) == {
             (2, 0, 0): 1, (1, 0, 1): -1, (0, 2, 0): -4}
         assert charpoly(b, ("t", "U"), backend="flint") == want
+
+
+def test_flint_block_wrongly_flagged_integral_is_still_right():
+    # integral=True is a promise of the caller (true for every block of build_blocks); a
+    # block that breaks it has rational coefficients (here -5/6 E t^2): the lift cannot
+    # settle, the final exact spot check fails, and the polynomial is recomputed without
+    # the promise instead of returning garbage.
+    h, third = Fraction(1, 2), Fraction(1, 3)
+    terms = {"t": {(0, 1): h, (1, 0): 1, (1, 2): third, (2, 1): 1}, "U": {(0, 0): 1, (2, 2): 2}}
+    b = LinearBlock(3, terms, integral=True)
+    want = reference_charpoly(LinearBlock(3, terms), (t, U))
+    assert charpoly(b, ("t", "U"), backend="flint") == want
+    assert want.coeff_monomial(E * t**2) == Fraction(-5, 6)

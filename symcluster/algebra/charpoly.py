@@ -226,7 +226,9 @@ def _parity_even(n, mats, idx, rng):
     Compares the characteristic polynomials at ``c_idx = r`` and ``c_idx = -r`` (other
     couplings random) modulo a random word-size prime.  A polynomial that is not even
     agrees at a random point with probability at most ``n / p < 2**-50``; the lifted
-    result is moreover checked exactly (spot check below, and the verification tiers).
+    result is moreover checked exactly at a random point before it is returned (and
+    recomputed without the evenness assumption if that check fails), and again by the
+    verification tiers.
     Sublattice gauge symmetry makes every block of a bipartite cluster that the gauge
     transformation maps to itself even in the hopping.
     """
@@ -280,6 +282,14 @@ def _charpoly_flint(block, names):
         hbits = _height_bits(n, [iterms[nm] for nm in present])
         lift_d = D if block.integral else 1   # else lift the integer multiple D*H
         table = _multimodular(n, lift_d, fm[fixed], [fm[nm] for nm in free], bounds, even, hbits, rng)
+        if table is None:
+            # an assumption failed (a block flagged integral that is not, or a wrong
+            # evenness guess): redo without either, where the coefficient bound is rigorous
+            even = [False] * len(free)
+            bounds = [ranks[nm] for nm in free]
+            lift_d = 1
+            table = _multimodular(n, 1, fm[fixed], [fm[nm] for nm in free], bounds, even,
+                                  hbits, rng)
         if lift_d != D:
             table = {key: Fraction(c, D ** (n - key[0])) for key, c in table.items()}
     # table: (a, beta_1..beta_m) -> coefficient of x^a prod u_i^beta_i in det(x - H(fixed=1, u))
@@ -388,6 +398,9 @@ def _multimodular(n, D, B0, Bs, bounds, even, hbits, rng):
                 nacc.append(c - new_mod if c > nhalf else c)
             acc, modulus = nacc, new_mod
         if math.log2(modulus) > hbits + 1:
+            # rigorous only if the grid assumptions hold (evenness, integral block)
+            if (any(even) or D != 1) and not _spot_check(n, D, B0, Bs, even, keys, acc, rng):
+                return None
             break
         if stable and _spot_check(n, D, B0, Bs, even, keys, acc, rng):
             break

@@ -274,7 +274,10 @@ def _laguerre_real_roots(f, bits):
         for polish in range(4):
             with flint.ctx.workprec(prec):
                 if polish:      # Newton on f itself, at full precision
-                    r = flint.arb((r - P(r) / dP(r)).mid())
+                    r = r - P(r) / dP(r)
+                    if not r.is_finite():
+                        return None  # f'(r) ~ 0: leave it to the general method
+                    r = flint.arb(r.mid())
                 eps = abs(r) * flint.arb(2) ** (-bits)
                 lo = flint.arb((r - eps).mid())
                 hi = flint.arb((r + eps).mid())
