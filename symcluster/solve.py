@@ -247,10 +247,23 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         odd = {h[2] for h in model.hops}     # the labels of H's hopping terms
         results = [solved[i] if i in solved else _negate_couplings(solved[twins[i]], odd)
                    for i in range(len(blocks))]
+    except BaseException:
+        if own_pool is not None:
+            own_pool.shutdown(cancel_futures=True)
+        raise
     finally:
         prog.close()
+    try:
+        return _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed,
+                       timings, t0, t1, executor)
+    finally:
         if own_pool is not None:
             own_pool.shutdown()
+
+
+def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, timings, t0, t1,
+            executor):
+    """Levels from the block results, then verification (through `executor` if given)."""
     timings["algebra"] = time.perf_counter() - t1
     t_levels = time.perf_counter()
     levels = []
@@ -300,7 +313,7 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     report.add("exact block characteristic polynomials vs. their factors "
                "(modulo a random 62-bit prime per point)", f"{n_checked} blocks", worst=0.0)
     proven = (("spin",) if plan.spin else ()) + (("eta",) if plan.eta else ())
-    verify_spectrum(spectrum, wanted, digits=digits, seed=seed, proven=proven)
+    verify_spectrum(spectrum, wanted, digits=digits, seed=seed, proven=proven, executor=executor)
     timings["verify"] = time.perf_counter() - t2
     timings["total"] = time.perf_counter() - t0
     return spectrum

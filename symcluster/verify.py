@@ -29,6 +29,8 @@ import mpmath
 import numpy as np
 import sympy
 
+from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched, isolation_key,
+                            prefetch_isolations)
 from .errors import VerificationError
 from .fock import sector_states
 from .models import coupling_symbol
@@ -287,7 +289,8 @@ def _fail(msg):
     raise VerificationError("verification failed: " + msg + "; the result was discarded")
 
 
-def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, proven=()):
+def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, proven=(),
+                    executor=None):
     """Run every check on ``spectrum``; fill its verification report; raise on failure.
 
     ``proven`` names symmetries that were proven exactly by operator identities
@@ -319,11 +322,20 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         _fail(f"degeneracies add up to {total}, expected {expected} states")
     report.add("state count", f"N in {sorted(wanted)}", worst=0.0, states=total)
 
-    # numeric values of every level at every point (closed forms and implicit roots)
+    # numeric values of every level at every point (closed forms and implicit roots);
+    # with an executor, the certified isolations of high-degree factors run on it first
     values = []
-    with mpmath.workdps(digits + 10):
-        for pt in points:
-            values.append([energy_numeric(l.energy, pt, digits + 5) for l in spectrum.levels])
+    try:
+        if executor is not None:
+            keys = [isolation_key(l.energy, pt, digits + 5) for pt in points
+                    for l in spectrum.levels
+                    if isinstance(l.energy, ImplicitRoot) and l.energy.degree >= LAGUERRE_MIN_DEGREE]
+            prefetch_isolations(keys, executor)
+        with mpmath.workdps(digits + 10):
+            for pt in points:
+                values.append([energy_numeric(l.energy, pt, digits + 5) for l in spectrum.levels])
+    finally:
+        clear_prefetched()
 
     # 2. each level is a root of its own polynomial (closed forms against polynomials)
     worst_root = 0.0

@@ -57,3 +57,25 @@ def test_any_executor_gives_the_same_levels():
     key = lambda spec: sorted((str(l.energy), l.degeneracy, str(l.quantum_numbers))
                               for l in spec.levels)
     assert key(serial) == key(threaded)
+
+
+def test_executor_also_runs_the_verification_root_isolations():
+    # grid(2,3) at half filling has factors of degree >= LAGUERRE_MIN_DEGREE: with an
+    # executor their certified isolations are submitted to it during verification (and
+    # the cache of prefetched results is emptied afterwards).
+    import symcluster.algebra.roots as roots_mod
+    model = sc.hubbard(sc.grid(2, 3))
+    submitted = []
+
+    class Counting(concurrent.futures.ThreadPoolExecutor):
+        def submit(self, fn, *args, **kwargs):
+            submitted.append(getattr(fn, "__name__", ""))
+            return super().submit(fn, *args, **kwargs)
+
+    with Counting(max_workers=2) as pool:
+        spec = sc.solve(model, electrons=[6], executor=pool, seed=5)
+    assert "_isolate_compute" in submitted
+    assert roots_mod._SEEDED == {}
+    serial = sc.solve(model, electrons=[6], executor="serial", seed=5)
+    pt = {"t": 1, "U": 3}
+    assert [str(v) for v, _ in spec.numeric(pt)] == [str(v) for v, _ in serial.numeric(pt)]

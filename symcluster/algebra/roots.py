@@ -297,8 +297,47 @@ def _laguerre_real_roots(f, bits):
     return balls
 
 
-@functools.lru_cache(maxsize=4096)
+#: Isolations computed elsewhere (e.g. on a process pool, see :func:`prefetch_isolations`),
+#: keyed like :func:`_isolate`; consulted first.
+_SEEDED = {}
+
+
 def _isolate(coeffs, digits):
+    hit = _SEEDED.get((coeffs, digits))
+    return hit if hit is not None else _isolate_compute(coeffs, digits)
+
+
+def isolation_key(root, point, digits):
+    """The arguments of the isolation that ``root.numeric(point, digits)`` performs."""
+    vals = _point_values(root.poly.gens[1:], point)
+    den = 1
+    for v in vals:
+        den = lcm(den, v.denominator)
+    nums = tuple(int(v * den) for v in vals)
+    coeffs = _homogeneous_ints(root._terms, root.degree, nums, den)
+    if coeffs is not None:
+        return coeffs, int(digits + 2)
+    return _univariate_ints(root._terms, root.degree, tuple(vals)), int(digits)
+
+
+def prefetch_isolations(keys, executor):
+    """Run the isolations ``keys`` (from :func:`isolation_key`) through ``executor``.
+
+    The results are only a cache: :func:`_isolate` returns them instead of recomputing.
+    Call :func:`clear_prefetched` when done.
+    """
+    keys = [k for k in dict.fromkeys(keys) if k not in _SEEDED]
+    futures = [(k, executor.submit(_isolate_compute, *k)) for k in keys]
+    for k, fut in futures:
+        _SEEDED[k] = fut.result()
+
+
+def clear_prefetched():
+    _SEEDED.clear()
+
+
+@functools.lru_cache(maxsize=4096)
+def _isolate_compute(coeffs, digits):
     """Certified real roots (ascending, with multiplicity) of an integer polynomial.
 
     The polynomial is first factored exactly (python-flint), so roots that
