@@ -194,8 +194,9 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         Precision of the numerical verification (>= 30).
     seed : int, optional
         Seed of the random verification points (recorded in the report).
-    executor : concurrent.futures.Executor, "auto" or None
-        Solve blocks through this executor (any object with ``submit``, e.g. a
+    executor : concurrent.futures.Executor, "serial" or None
+        Solve blocks, and run the verification's root isolations of high-degree
+        factors, through this executor (any object with ``submit``, e.g. a
         process pool or a distributed engine's executor).  None (default)
         picks a process pool on all cores when the blocks are large enough to
         pay for it; pass ``"serial"`` to stay in this process.
