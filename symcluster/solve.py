@@ -10,7 +10,8 @@ import sympy
 from .algebra.charpoly import charpoly
 from .algebra.factor import factor_charpoly
 from .algebra.roots import ImplicitRoot, roots_of
-from .blocks import build_blocks, eta_member_irrep, plan_symmetries, sectors_to_solve
+from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
+                     sectors_to_solve)
 from .resources import Progress, check_size
 from .errors import ModelError, VerificationError
 from .models import Model
@@ -106,7 +107,6 @@ def gauge_twins(model, plan, blocks):
     """
     if not plan.eta or not plan.sublattice_char or plan.lattice is None:
         return {}
-    from .blocks import _irrep_times_char
     index = {}
     for i, spec in enumerate(blocks):
         irrep = getattr(spec, "irrep", None)

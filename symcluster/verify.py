@@ -327,9 +327,11 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     values = []
     try:
         if executor is not None:
-            keys = [isolation_key(l.energy, pt, digits + 5) for pt in points
-                    for l in spectrum.levels
-                    if isinstance(l.energy, ImplicitRoot) and l.energy.degree >= LAGUERRE_MIN_DEGREE]
+            # one representative root per polynomial: the isolation does not depend on the index
+            reps = {id(l.energy.poly): l.energy for l in spectrum.levels
+                    if isinstance(l.energy, ImplicitRoot)
+                    and l.energy.degree >= LAGUERRE_MIN_DEGREE}
+            keys = [isolation_key(r, pt, digits + 5) for pt in points for r in reps.values()]
             prefetch_isolations(keys, executor)
         with mpmath.workdps(digits + 10):
             for pt in points:

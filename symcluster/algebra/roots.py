@@ -174,16 +174,11 @@ def _sign_at(poly, cs, x, prec):
         if not v.contains(0):
             return 1 if v > 0 else -1
         prec *= 2
-    num, den = _dyadic_fraction(x)   # exact: den^d f(num/den) in integers
+    exact = _exact_mid(x)            # exact: den^d f(num/den) in integers
+    num, den = exact.numerator, exact.denominator
     d = len(cs) - 1
     val = sum(c * num**j * den ** (d - j) for j, c in enumerate(cs))
     return (val > 0) - (val < 0)
-
-
-def _dyadic_fraction(x):
-    man, exp = x.mid().man_exp()
-    man, exp = int(man), int(exp)
-    return (man * 2**exp, 1) if exp >= 0 else (man, 2**-exp)
 
 
 def _laguerre_real_roots(f, bits):
@@ -309,15 +304,8 @@ def _isolate(coeffs, digits):
 
 def isolation_key(root, point, digits):
     """The arguments of the isolation that ``root.numeric(point, digits)`` performs."""
-    vals = _point_values(root.poly.gens[1:], point)
-    den = 1
-    for v in vals:
-        den = lcm(den, v.denominator)
-    nums = tuple(int(v * den) for v in vals)
-    coeffs = _homogeneous_ints(root._terms, root.degree, nums, den)
-    if coeffs is not None:
-        return coeffs, int(digits + 2)
-    return _univariate_ints(root._terms, root.degree, tuple(vals)), int(digits)
+    coeffs, den = root._integer_poly_at(point)
+    return coeffs, int(digits + 2 if den is not None else digits)
 
 
 def prefetch_isolations(keys, executor):
@@ -512,6 +500,21 @@ class ImplicitRoot:
         VerificationError
             If the polynomial is not real-rooted at the point or drops degree there.
         """
+        coeffs, den = self._integer_poly_at(point)
+        if den is not None:
+            # roots of P(x, nums) are den * E
+            roots = _roots_from_coeffs(coeffs, self.degree, digits + 2, self.poly, point)
+            with mpmath.workdps(digits):
+                return +(roots[self.index] / den)
+        roots = _roots_from_coeffs(coeffs, self.degree, digits, self.poly, point)
+        return roots[self.index]
+
+    def _integer_poly_at(self, point):
+        """(integer coefficients, den) of the polynomial at `point`, roots scaled by den.
+
+        Homogeneous polynomials give den = lcm of the point's denominators (the roots of the
+        integer polynomial are den * E); otherwise den is None and the roots are E itself.
+        """
         vals = _point_values(self.poly.gens[1:], point)
         den = 1
         for v in vals:
@@ -519,13 +522,8 @@ class ImplicitRoot:
         nums = tuple(int(v * den) for v in vals)
         coeffs = _homogeneous_ints(self._terms, self.degree, nums, den)
         if coeffs is not None:
-            # roots of P(x, nums) are den * E
-            roots = _roots_from_coeffs(coeffs, self.degree, digits + 2, self.poly, point)
-            with mpmath.workdps(digits):
-                return +(roots[self.index] / den)
-        coeffs = _univariate_ints(self._terms, self.degree, tuple(vals))
-        roots = _roots_from_coeffs(coeffs, self.degree, digits, self.poly, point)
-        return roots[self.index]
+            return coeffs, den
+        return _univariate_ints(self._terms, self.degree, tuple(vals)), None
 
     def latex(self, var="E"):
         r"""LaTeX ``\operatorname{root}_{k}\left[P(E)\right]``: the k-th smallest real root of P(E) = 0.

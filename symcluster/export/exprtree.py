@@ -28,8 +28,8 @@ import sympy
 
 from ..errors import InputError, ModelError
 
-__all__ = ["to_tree", "from_tree", "poly_to_tree", "poly_from_tree", "is_implicit_root",
-           "OPS", "MAX_DEPTH"]
+__all__ = ["to_tree", "from_tree", "poly_to_tree", "poly_from_tree", "root_of_poly",
+           "is_implicit_root", "OPS", "MAX_DEPTH"]
 
 #: operation name -> (sympy class, number of arguments or None for "two or more")
 OPS = {
@@ -261,6 +261,21 @@ def _default_root_factory():
     return ImplicitRoot
 
 
+def root_of_poly(poly, var, index, root_factory=None):
+    """The implicit root ``index`` (0-based, ascending) of `poly` in its first generator `var`.
+
+    Checks what a file may get wrong (index range, generator name) with InputError.
+    """
+    if isinstance(index, bool) or not isinstance(index, int) or not \
+            0 <= index < max(poly.degree(poly.gens[0]), 1):
+        _bad("root", f"index {_short(index)} must be an integer from 0 to "
+                     f"{poly.degree(poly.gens[0]) - 1} (roots counted from 0, ascending)")
+    if var != poly.gens[0].name:
+        _bad("root", f"var {var!r} is not the first generator "
+                     f"{poly.gens[0].name!r} of the polynomial")
+    return (root_factory or _default_root_factory())(poly, index)
+
+
 def from_tree(node, root_factory=None):
     """Decode a tree made by :func:`to_tree` (whitelisted node kinds only).
 
@@ -293,16 +308,8 @@ def from_tree(node, root_factory=None):
         if "poly" not in body or "index" not in body:
             _bad("root", "a root needs keys 'poly' and 'index'")
         poly = poly_from_tree(body["poly"], "root.poly")
-        index = body["index"]
-        if isinstance(index, bool) or not isinstance(index, int) or not \
-                0 <= index < max(poly.degree(poly.gens[0]), 1):
-            _bad("root", f"index {_short(index)} must be an integer from 0 to "
-                         f"{poly.degree(poly.gens[0]) - 1} (roots counted from 0, ascending)")
-        if body.get("var", poly.gens[0].name) != poly.gens[0].name:
-            _bad("root", f"var {body['var']!r} is not the first generator "
-                         f"{poly.gens[0].name!r} of the polynomial")
-        factory = root_factory or _default_root_factory()
-        return factory(poly, index)
+        return root_of_poly(poly, body.get("var", poly.gens[0].name), body["index"],
+                            root_factory)
     if isinstance(node, dict) and "poly" in node:
         return poly_from_tree(node)
     return _decode(node, "", 0)

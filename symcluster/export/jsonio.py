@@ -18,8 +18,8 @@ import mpmath
 import sympy
 
 from ..errors import InputError
-from .exprtree import (_default_root_factory, from_tree, is_implicit_root, poly_from_tree,
-                       poly_to_tree, to_tree)
+from .exprtree import (from_tree, is_implicit_root, poly_from_tree, poly_to_tree,
+                       root_of_poly, to_tree)
 from .text import energy_text, level_sort_key, numeric_values, poly_text
 from .latex import _poly_tex, energy_latex
 
@@ -339,14 +339,7 @@ def _energy_v2(tree, table, root_factory):
     if set(tree) != {"root"} or not isinstance(body, dict) or set(body) != {"ref", "var", "index"}:
         raise InputError("a root needs exactly the keys 'ref', 'var' and 'index'")
     poly = _table_entry(body["ref"], table, "root ref")
-    index, deg = body["index"], poly.degree(poly.gens[0])
-    if isinstance(index, bool) or not isinstance(index, int) or not 0 <= index < deg:
-        raise InputError(f"root index {index!r} must be an integer from 0 to {deg - 1} "
-                         f"(roots counted from 0, ascending)")
-    if body["var"] != poly.gens[0].name:
-        raise InputError(f"root var {body['var']!r} is not the first generator "
-                         f"{poly.gens[0].name!r} of its polynomial")
-    return (root_factory or _default_root_factory())(poly, index)
+    return root_of_poly(poly, body["var"], body["index"], root_factory)
 
 
 def loads_spectrum(text, source="<string>", root_factory=None):

@@ -22,7 +22,7 @@ import mpmath
 import sympy
 
 from .exprtree import is_implicit_root
-from .text import FAST_PRINT_TERMS, level_sort_key, numeric_values, poly_text
+from .text import level_sort_key, numeric_values, poly_text
 
 __all__ = ["latex_table", "energy_latex", "tex_escape", "name_subexpressions"]
 
@@ -72,8 +72,6 @@ def _tex(expr):
 
 
 def _poly_tex(poly):
-    if len(poly.as_dict()) <= FAST_PRINT_TERMS:
-        return _tex(poly.as_expr())
     return poly_text(poly, latex=True)
 
 
