@@ -44,6 +44,19 @@ EXACT_DIM = 500
 FLOAT_DIM = 6000
 
 
+def root_deviation(coeffs, x, scale):
+    """Backward error of ``x`` as a root of the polynomial with (mpmath) ``coeffs``.
+
+    |P(x)| relative to sum_k |c_k| r^k with r = max(|x|, scale): relative near the
+    roots' own size, and not fooled by a root that is exactly zero at the point (then
+    x is a rounding residue such as 1e-71, and |P(x)| / sum |c_k||x|^k would be 1 for
+    P = E).  ``scale`` is the energy scale of the point (largest |coupling|).
+    """
+    val = mpmath.polyval(coeffs, x)
+    size = mpmath.polyval([abs(c) for c in coeffs], max(abs(x), scale))
+    return abs(val) / size if size else abs(val)
+
+
 def random_points(symbols, count, seed):
     """``count`` random rational points; all values share one denominator per point."""
     rng = random.Random(seed)
@@ -342,6 +355,9 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     # 2. each level is a root of its own polynomial (closed forms against polynomials)
     worst_root = 0.0
     with mpmath.workdps(digits + 10):
+        # energies are homogeneous of degree one in the couplings: their scale at a point
+        scales = [max(abs(mpmath.mpf(int(v.p)) / int(v.q)) for v in pt.values()) if pt else
+                  mpmath.mpf(1) for pt in points]
         for pi, pt in enumerate(points):
             cache = {}
             for li, lev in enumerate(spectrum.levels):
@@ -353,12 +369,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                 if key not in cache:
                     cache[key] = [mpmath.mpf(c.numerator) / c.denominator
                                   for c in coeffs_at(lev.polynomial, pt)]
-                cs = cache[key]
-                x = values[pi][li]
-                val = mpmath.polyval(cs, x)
-                # backward error: |P(x)| relative to sum |c_k| |x|^k (robust at close roots)
-                size = mpmath.polyval([abs(c) for c in cs], abs(x))
-                dev = abs(val) / size if size else abs(val)
+                dev = root_deviation(cache[key], values[pi][li], scales[pi])
                 if dev > mpmath.mpf(10) ** (-digits):
                     _fail(f"level {lev.energy} (N={lev.quantum_numbers['N']}) is not a root of its "
                           f"polynomial at {pt}: deviation {mpmath.nstr(dev, 3)}")

@@ -291,3 +291,39 @@ def test_numeric_at_the_origin_where_closed_forms_are_zero_over_zero():
     vals = spec.numeric({"t": 0, "tp": 0, "U": 0})
     assert sum(d for _, d in vals) == 4**4
     assert all(v == 0 for v, _ in vals)
+
+
+def test_root_check_accepts_a_level_that_is_exactly_zero_at_the_point(monkeypatch):
+    # Regression (seen in CI): on two disconnected dimers (t, tp) the level U - t + tp
+    # is exactly 0 at t = 573/131, tp = 824/131, U = -251/131. Its 30-digit value is
+    # a rounding residue (~1e-71), and a purely relative backward error |P(x)| / |x|
+    # was 1 for P = E - (U - t + tp): a correct result was discarded. The check must
+    # measure the residue against the energy scale of the point instead.
+    import symcluster.verify as V
+
+    original = V.random_points
+    hit = {"t": sympy.Rational(573, 131), "tp": sympy.Rational(824, 131),
+           "U": sympy.Rational(-251, 131)}
+
+    def with_the_point(symbols, count, seed):
+        pts = original(symbols, count, seed)
+        pts[-1] = {s: hit[s.name] for s in symbols}
+        return pts
+
+    monkeypatch.setattr(V, "random_points", with_the_point)
+    spec = sc.solve(sc.hubbard(sc.cluster(4, [(0, 1), (2, 3, "tp")])), electrons=[4])
+    zero = [l for l in spec.levels if l.numeric(hit, digits=30) == 0]
+    assert zero, "the point was meant to make some closed form vanish exactly"
+
+
+def test_root_deviation_is_scale_aware_not_fooled_by_a_wrong_value():
+    # P = E (root 0): a rounding residue passes, a wrong value of order one fails;
+    # P = (E - 2)(E + 3): an exact root passes, a value off by 1e-6 fails.
+    from symcluster.verify import root_deviation
+    with mpmath.workdps(40):
+        one = mpmath.mpf(1)
+        assert root_deviation([one, 0], mpmath.mpf("1e-71"), mpmath.mpf(6)) < 1e-70
+        assert root_deviation([one, 0], mpmath.mpf("0.5"), mpmath.mpf(6)) > 1e-2
+        cs = [one, one, mpmath.mpf(-6)]
+        assert root_deviation(cs, mpmath.mpf(2), one) == 0
+        assert root_deviation(cs, mpmath.mpf(2) + mpmath.mpf("1e-6"), one) > 1e-8
