@@ -31,7 +31,7 @@ import sympy
 
 from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched, isolation_key,
                             prefetch_isolations)
-from .errors import VerificationError
+from .errors import ModelError, VerificationError
 from .fock import sector_states
 from .models import coupling_symbol
 from .operators import apply_hamiltonian
@@ -298,6 +298,26 @@ def verify_blocks(blocks, results, seed, n_points=2):
     return len(blocks)
 
 
+def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, tries=5):
+    """Values of all levels at ``points[pi]``; a point where a closed form is 0/0 is redrawn.
+
+    A random rational point can, rarely, fall where roots of some level polynomial
+    merge and its closed form is undefined (for instance a vanishing discriminant);
+    such a point says nothing about correctness, so it is replaced in ``points`` by
+    a fresh one (the same for every check that follows).
+    """
+    last = None
+    for attempt in range(tries):
+        pt = points[pi]
+        try:
+            return [energy_numeric(l.energy, pt, digits + 5, polynomial=l.polynomial)
+                    for l in spectrum.levels]
+        except (ZeroDivisionError, ValueError, ModelError) as exc:
+            last = exc
+            points[pi] = random_points(symbols, 1, seed + 1000 * (attempt + 1) + pi)[0]
+    _fail(f"no usable verification point after {tries} draws ({last})")
+
+
 def _fail(msg):
     raise VerificationError("verification failed: " + msg + "; the result was discarded")
 
@@ -347,8 +367,8 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
             keys = [isolation_key(r, pt, digits + 5) for pt in points for r in reps.values()]
             prefetch_isolations(keys, executor)
         with mpmath.workdps(digits + 10):
-            for pt in points:
-                values.append([energy_numeric(l.energy, pt, digits + 5) for l in spectrum.levels])
+            for pi in range(len(points)):
+                values.append(_values_at_usable_point(spectrum, symbols, points, pi, seed, digits))
     finally:
         clear_prefetched()
 

@@ -327,3 +327,28 @@ def test_root_deviation_is_scale_aware_not_fooled_by_a_wrong_value():
         cs = [one, one, mpmath.mpf(-6)]
         assert root_deviation(cs, mpmath.mpf(2), one) == 0
         assert root_deviation(cs, mpmath.mpf(2) + mpmath.mpf("1e-6"), one) > 1e-8
+
+
+def test_verification_redraws_a_point_where_a_closed_form_is_undefined(monkeypatch):
+    # If a random point falls where some closed form is undefined (0/0 where only some
+    # roots of its polynomial merge), the point proves nothing either way: verification
+    # must draw another point for every check, not crash or refuse a correct result.
+    import symcluster.verify as V
+
+    original = V.energy_numeric
+    bad = {}
+
+    def undefined_at_first_point(energy, point, digits=30, polynomial=None):
+        key = tuple(sorted((s.name, str(v)) for s, v in point.items()))
+        bad.setdefault("point", key)
+        if key == bad["point"]:
+            raise ZeroDivisionError("0/0 in a closed form")
+        return original(energy, point, digits, polynomial=polynomial)
+
+    monkeypatch.setattr(V, "energy_numeric", undefined_at_first_point)
+    spec = sc.solve(sc.hubbard(sc.chain(4)), electrons=[3])
+    assert spec.verification.worst < 1e-20
+    used = [tuple(sorted((str(k), v) for k, v in pt.items()))
+            for c in spec.verification.checks for pt in c.get("points", [])]
+    assert used, "no check recorded its points"
+    assert bad["point"] not in used, "the undefined point was used by a later check"
