@@ -21,7 +21,9 @@ Two back ends share the same hopping table:
   ``Matrix.eigenvals()`` sector by sector);
 * :func:`numpy_sector_matrix` — a dense float64 ``numpy`` array at one
   numerical parameter point (then :func:`numpy_full_spectrum` calls
-  ``numpy.linalg.eigvalsh`` on every sector).
+  ``numpy.linalg.eigvalsh`` on every sector);
+* :func:`numpy_fock_spectrum` — the plain full diagonalization: one dense
+  float64 matrix on the whole 4**L-state Fock space, one ``eigvalsh``.
 """
 
 from itertools import combinations
@@ -32,7 +34,7 @@ import sympy
 
 __all__ = [
     "masks", "sector_basis", "hop_entries", "sympy_sector_matrix", "numpy_sector_matrix",
-    "all_sectors", "naive_sympy_eigenvals", "numpy_full_spectrum",
+    "all_sectors", "naive_sympy_eigenvals", "numpy_full_spectrum", "numpy_fock_spectrum",
 ]
 
 
@@ -233,3 +235,35 @@ def numpy_full_spectrum(n_sites, bonds, values):
         build += t1 - t0
         diag += t2 - t1
     return np.sort(np.concatenate(parts)), build, diag
+
+
+def numpy_fock_spectrum(n_sites, bonds, values):
+    """All eigenvalues by one dense ``numpy.linalg.eigvalsh`` of the whole Fock space.
+
+    The plain full diagonalization that uses no symmetry at all: the basis is
+    every ``(up, dn)`` mask pair (``4**n_sites`` states), the matrix is dense.
+
+    Parameters
+    ----------
+    n_sites : int
+    bonds : sequence of (int, int, str)
+    values : dict
+        ``{label: float}`` for every bond label and ``"U"``.
+
+    Returns
+    -------
+    tuple
+        ``(eigenvalues, build_seconds, diag_seconds)``; ``eigenvalues`` is a
+        sorted float64 array of length ``4**n_sites``.
+    """
+    t0 = time.perf_counter()
+    basis = [(u, d) for u in range(2 ** n_sites) for d in range(2 ** n_sites)]
+    entries, diag = hop_entries(n_sites, bonds, basis)
+    m = np.zeros((len(basis), len(basis)))
+    m[np.diag_indices(len(basis))] = values["U"] * np.asarray(diag, dtype=float)
+    for r, c, lab, sign in entries:
+        m[r, c] -= sign * values[lab]
+    t1 = time.perf_counter()
+    eig = np.linalg.eigvalsh(m)
+    t2 = time.perf_counter()
+    return np.sort(eig), t1 - t0, t2 - t1

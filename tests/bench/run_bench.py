@@ -24,12 +24,15 @@ Measured items (names for ``--only`` in brackets):
    (``--cap``, default 400 s), vs symcluster.  The half-filled sector (3, 3)
    is attempted first, then the others by increasing dimension.
 3. [ring6-numpy] ring(6): symcluster vs float64 ``numpy.linalg.eigvalsh`` of
-   every dense sector matrix at t=1, U=4.
+   every dense sector matrix at t=1, U=4 (a baseline that already uses the
+   particle-number and Sz symmetry).
+3b. [ring6-fock] ring(6): symcluster vs the plain full diagonalization, one
+   float64 ``eigvalsh`` of the dense 4096 x 4096 Fock-space matrix at t=1, U=4.
 4. [ring6, grid2x3, cube, ring8, ladder4, ring6-tp] full-spectrum time, peak
    memory, level counts, block sizes, timing breakdown and verification
    summary, each under ``--case-cap`` (default 1800 s).
 
-``--quick`` runs items 1-3 only (the ring(6) row of item 4 comes free).
+``--quick`` runs items 1-3b only (the ring(6) row of item 4 comes free).
 Nothing is asserted: this file measures and reports.
 """
 
@@ -66,7 +69,7 @@ SC_CASES = {
                  ' + [(i, (i + 2) % 6, "tp") for i in range(6)])'),
 }
 FULL_CASES = ["ring6", "grid2x3", "cube", "ring8", "ladder4", "ring6-tp"]
-COMPARISONS = ["ring4", "ring6-naive", "ring6-numpy"]
+COMPARISONS = ["ring4", "ring6-naive", "ring6-numpy", "ring6-fock"]
 ALL_NAMES = COMPARISONS + [c for c in FULL_CASES if c not in COMPARISONS]
 
 
@@ -210,8 +213,8 @@ def worker_naive(case, events):
                 eigenvalues=sorted(eig), baseline_mb=baseline, peak_mb=_maxrss_mb())
 
 
-def worker_numpy(case, events, repeat):
-    """Dense float64 ``eigvalsh`` of every sector at t=1, U=4.
+def worker_numpy(case, events, repeat, fock=False):
+    """Dense float64 ``eigvalsh`` at t=1, U=4: of every sector, or (``fock``) of the Fock space.
 
     Parameters
     ----------
@@ -220,20 +223,23 @@ def worker_numpy(case, events, repeat):
     events : _Events
     repeat : int
         Number of extra ("warm") runs after the first one.
+    fock : bool
+        One dense matrix on all 4**L states instead of one per (N_up, N_dn) sector.
     """
     import naive
 
     baseline = _maxrss_mb()
     n, bonds = (4, RING4_BONDS) if case == "ring4" else (6, RING6_BONDS)
+    spectrum = naive.numpy_fock_spectrum if fock else naive.numpy_full_spectrum
     cpu0 = _cpu_seconds()
     t0 = time.perf_counter()
-    eig, build, diag = naive.numpy_full_spectrum(n, bonds, POINT)
+    eig, build, diag = spectrum(n, bonds, POINT)
     cold = time.perf_counter() - t0
     cpu = _cpu_seconds() - cpu0
     warm = []
     for _ in range(repeat):
         t0 = time.perf_counter()
-        naive.numpy_full_spectrum(n, bonds, POINT)
+        spectrum(n, bonds, POINT)
         warm.append(time.perf_counter() - t0)
     events.emit(event="result", status="ok", seconds=cold, warm=min(warm) if warm else None,
                 cpu=cpu, build=build, diag=diag, eigenvalues=eig.tolist(),
@@ -254,6 +260,8 @@ def worker_main(argv):
             worker_naive(case, events)
         elif kind == "numpy":
             worker_numpy(case, events, repeat)
+        elif kind == "numpy-fock":
+            worker_numpy(case, events, repeat, fock=True)
         else:
             raise ValueError(f"unknown worker kind {kind!r}")
     except Exception as exc:  # recorded in the table, never hidden
@@ -282,7 +290,7 @@ def run_worker(kind, case, cap, repeat=0, jobs=1, compare=False, log=print):
 
     Parameters
     ----------
-    kind : {"symcluster", "naive", "numpy"}
+    kind : {"symcluster", "naive", "numpy", "numpy-fock"}
     case : str
     cap : float
         Wall-clock cap in seconds (includes interpreter start and imports).
@@ -488,8 +496,12 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
                 f"sector (3,3) first) | {_cell_sc(s)} | {base} | {ratio} | — | "
                 f"{_agreement(s.get('eigenvalues'), b.get('eigenvalues'))} | {_mem_pair(s, b)} | "
                 f"{b['load']:.2f} |")
-        if "ring6" in numpy_res:
-            s, b = sc_res["ring6"], numpy_res["ring6"]
+        for key, what in (("ring6", "float64 numpy `eigvalsh` of all 49 dense (N↑,N↓) sectors"),
+                          ("ring6-fock", "plain full diagonalization: float64 numpy `eigvalsh` "
+                                         "of the dense 4096×4096 Fock-space matrix")):
+            if key not in numpy_res:
+                continue
+            s, b = sc_res["ring6"], numpy_res[key]
             if s["status"] == "ok" and b["status"] == "ok":
                 ratio = (f"symcluster/numpy = {s['seconds'] / b['seconds']:.2f} "
                          f"(warm {s['warm'] / b['warm']:.2f})" if s.get("warm") and b.get("warm")
@@ -500,8 +512,8 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
                 ratio = "—"
                 base = _fmt_s(b["seconds"]) if b["status"] == "ok" else _failure(b)
             lines.append(
-                f"| ring(6): exact spectrum vs float64 numpy `eigvalsh` of all 49 dense sectors "
-                f"at t=1, U=4 | {_cell_sc(s)} | {base} | {ratio} | symcluster/numpy ≤ 2 | "
+                f"| ring(6): exact spectrum vs {what} at t=1, U=4 | {_cell_sc(s)} | {base} | "
+                f"{ratio} | symcluster/numpy ≤ 2 | "
                 f"{_agreement(s.get('eigenvalues'), b.get('eigenvalues'))} | {_mem_pair(s, b)} | "
                 f"{b['load']:.2f} |")
         lines.append("")
@@ -556,7 +568,7 @@ def parse_args(argv):
     """Command-line options (see the module docstring)."""
     p = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
     p.add_argument("--quick", action="store_true",
-                   help="only the ring(4)/ring(6) comparisons (items 1-3)")
+                   help="only the ring(4)/ring(6) comparisons (items 1-3b)")
     p.add_argument("--cap", type=float, default=400.0,
                    help="time cap in seconds of the naive sympy ring(6) run (default 400)")
     p.add_argument("--case-cap", type=float, default=1800.0,
@@ -616,13 +628,17 @@ def main(argv=None):
         symcluster("ring4", True)
         naive_res["ring4"] = run_worker("naive", "ring4", max(args.cap, 600.0), log=log)
         write(partial=True)
-    if "ring6-naive" in names or "ring6-numpy" in names:
+    if "ring6-naive" in names or "ring6-numpy" in names or "ring6-fock" in names:
         symcluster("ring6", True)
     if "ring6-naive" in names:
         naive_res["ring6"] = run_worker("naive", "ring6", args.cap, log=log)
         write(partial=True)
     if "ring6-numpy" in names:
         numpy_res["ring6"] = run_worker("numpy", "ring6", 600.0, repeat=args.repeat, log=log)
+        write(partial=True)
+    if "ring6-fock" in names:
+        numpy_res["ring6-fock"] = run_worker("numpy-fock", "ring6", 600.0, repeat=args.repeat,
+                                             log=log)
         write(partial=True)
     for case in FULL_CASES:
         if case in names:
