@@ -20,6 +20,7 @@ symbolic sum rules sum deg*E = Tr H and sum deg*E^2 = Tr H^2 per sector; each
 closed form is checked against its own polynomial at >= ``digits`` digits.
 """
 
+import math
 import random
 from fractions import Fraction
 from math import comb
@@ -146,29 +147,54 @@ _TERMS = {}
 
 
 def _int_terms(poly):
-    """(monomial, int or Fraction) terms of a Poly, cached by identity for one verification run."""
+    """Integer form of a Poly, cached by identity for one verification run.
+
+    Returns ``(terms, den, top)``: ``terms`` lists ``(k, exps, c, total)`` with ``k`` the
+    power of E, ``exps`` the powers of the couplings, ``c`` an integer and ``total =
+    sum(exps)``; the polynomial is ``sum c E^k u^exps / den``; ``top`` is the largest
+    ``total``.
+    """
     key = id(poly)
     hit = _TERMS.get(key)
     if hit is None or hit[0] is not poly:
-        terms = [(m, Fraction(int(c.p), int(c.q)) if hasattr(c, "q") else int(c))
-                 for m, c in poly.as_dict(native=False).items()]
-        hit = _TERMS[key] = (poly, terms)
+        raw = [(m, Fraction(int(c.p), int(c.q)) if hasattr(c, "q") else Fraction(int(c)))
+               for m, c in poly.as_dict(native=False).items()]
+        den = math.lcm(*(c.denominator for _, c in raw)) if raw else 1
+        terms = [(m[0], m[1:], c.numerator * (den // c.denominator), sum(m[1:])) for m, c in raw]
+        top = max((tt[3] for tt in terms), default=0)
+        hit = _TERMS[key] = (poly, (terms, den, top))
     return hit[1]
 
 
 def coeffs_at(poly, point):
-    """Coefficients (highest power of E first) of P(E; point) as Fractions."""
+    """Coefficients (highest power of E first) of P(E; point) as Fractions.
+
+    Integer arithmetic throughout: with the coupling values ``x_i = n_i / q`` over a
+    common denominator ``q``, each term contributes ``c prod n_i^e_i q^(top - total)``
+    and every coefficient is divided by ``den q^top`` once at the end.
+    """
     gens = poly.gens
-    vals = [Fraction(int(point[g].p), int(point[g].q)) for g in gens[1:]]
+    vals = [point[g] for g in gens[1:]]
+    q = math.lcm(*(int(v.q) for v in vals)) if vals else 1
+    nums = [int(v.p) * (q // int(v.q)) for v in vals]
     deg = poly.degree(gens[0])
-    out = [Fraction(0)] * (deg + 1)
-    for monom, c in _int_terms(poly):
+    terms, den, top = _int_terms(poly)
+    powers = [{} for _ in nums]
+    qpow = [1]
+    for _ in range(top):
+        qpow.append(qpow[-1] * q)
+    acc = [0] * (deg + 1)
+    for k, exps, c, total in terms:
         v = c
-        for x, e in zip(vals, monom[1:]):
+        for i, e in enumerate(exps):
             if e:
-                v *= x ** e
-        out[deg - monom[0]] += v
-    return out
+                pw = powers[i].get(e)
+                if pw is None:
+                    pw = powers[i][e] = nums[i] ** e
+                v *= pw
+        acc[deg - k] += v * qpow[top - total]
+    full = den * qpow[top]
+    return [Fraction(a, full) for a in acc]
 
 
 def _power_sums(poly):

@@ -113,22 +113,23 @@ def test_trace_and_homogeneity(backend):
     assert all(sum(m) == 6 for m in P.monoms())
 
 
-def hubbard_ring_sector(L, n_up, n_dn):
-    """Independent builder of one (N_up, N_dn) sector of the Hubbard ring (test helper)."""
+def hubbard_sector_from_bonds(L, bonds, n_up, n_dn):
+    """Independent builder of one (N_up, N_dn) Hubbard sector from (i, j, label) bonds."""
     import itertools
 
     ups = [sum(1 << i for i in c) for c in itertools.combinations(range(L), n_up)]
     dns = [sum(1 << i for i in c) for c in itertools.combinations(range(L), n_dn)]
     states = [(u, d) for u in ups for d in dns]
     idx = {s: k for k, s in enumerate(states)}
-    hop, dbl = {}, {}
+    hops, dbl = {}, {}
     for k, (u, d) in enumerate(states):
         if u & d:
             dbl[(k, k)] = bin(u & d).count("1")
         for spin in (0, 1):
             occ = (u, d)[spin]
-            for i in range(L):
-                for a, b in ((i, (i + 1) % L), ((i + 1) % L, i)):
+            for i, j, label in bonds:
+                hop = hops.setdefault(label, {})
+                for a, b in ((i, j), (j, i)):
                     if occ >> b & 1 and not occ >> a & 1:
                         lo, hi = min(a, b), max(a, b)
                         between = occ & ((1 << hi) - 1) & ~((1 << (lo + 1)) - 1)
@@ -136,7 +137,12 @@ def hubbard_ring_sector(L, n_up, n_dn):
                         new = occ ^ (1 << a) ^ (1 << b)
                         key = (idx[(new, d) if spin == 0 else (u, new)], k)
                         hop[key] = hop.get(key, 0) - sign
-    return LinearBlock(len(states), {"t": hop, "U": dbl})
+    return LinearBlock(len(states), {**hops, "U": dbl})
+
+
+def hubbard_ring_sector(L, n_up, n_dn):
+    """Independent builder of one (N_up, N_dn) sector of the Hubbard ring (test helper)."""
+    return hubbard_sector_from_bonds(L, [(i, (i + 1) % L, "t") for i in range(L)], n_up, n_dn)
 
 
 def test_flint_medium_block_pointwise():
@@ -162,10 +168,56 @@ def test_flint_large_entries_need_several_primes():
     assert P == reference_charpoly(b, (t, U))
 
 
-def test_flint_three_couplings_tensor_grid():
+def test_flint_three_couplings_lower_set_grid():
     rng = random.Random(5)
     b = random_block(rng, 7, ("t", "U", "V"), density=0.3, rational=True)
     assert charpoly(b, ("t", "U", "V"), backend="flint") == reference_charpoly(b, (t, U, V))
+
+
+@pytest.mark.parametrize("seed", range(4))
+def test_flint_dense_blocks_where_the_total_degree_bound_binds(seed):
+    # Dense blocks: every coupling matrix has full rank, so the grid is cut by the total
+    # degree alone (every coefficient of det(x - B0 - sum u_i B_i) has total degree <= n
+    # in the u_i, each entry being affine in them); the result must still be exact.
+    rng = random.Random(100 + seed)
+    names = ("t", "U", "V")[: 2 + seed % 2]
+    b = random_block(rng, 6 + seed, names, density=0.9, span=4)
+    gens = {"t": t, "U": U, "V": V}
+    assert charpoly(b, names, backend="flint") == reference_charpoly(b, [gens[x] for x in names])
+
+
+def test_lower_set_counts_and_closure():
+    # Bounds (5, 5) and total 5: the monomials of total degree <= 5 in two variables,
+    # C(7, 2) = 21 of them (against 36 on the tensor grid).  An even coupling counts
+    # powers of its square with weight 2: 2a + b <= 6 with a <= 3, b <= 6 gives
+    # 7 + 5 + 3 + 1 = 16 points.  Every set is downward closed.
+    assert len(cp_mod.lower_set([5, 5], [False, False], 5)) == 21
+    assert len(cp_mod.lower_set([3, 6], [True, False], 6)) == 16
+    assert cp_mod.lower_set([4], [False], 9) == [(0,), (1,), (2,), (3,), (4,)]
+    pts = set(cp_mod.lower_set([4, 3, 5], [False, True, False], 7))
+    for q in pts:
+        for i in range(3):
+            if q[i]:
+                assert q[:i] + (q[i] - 1,) + q[i + 1:] in pts
+
+
+def test_even_coupling_with_a_second_hopping_on_the_weighted_grid():
+    # Ring(6) with nearest (t) and second-neighbour (tp) hopping: the gauge
+    # c_j -> (-1)^j c_j flips t (odd bonds) and keeps tp (even bonds), so the sector
+    # polynomial is even in t but not in tp; the weighted lower set (2a + b <= n) is used.
+    # A 36-state sector is too large for a symbolic reference: compare with the exact
+    # characteristic polynomial of the numeric matrix at rational points (sympy).
+    bonds = [(i, (i + 1) % 6, "t") for i in range(6)] + [(i, (i + 2) % 6, "tp") for i in range(6)]
+    b = hubbard_sector_from_bonds(6, bonds, 1, 1)
+    tp = sympy.Symbol("tp", real=True)
+    P = charpoly(b, ("t", "tp", "U"), backend="flint")
+    assert P.degree(E) == 36
+    assert all(m[1] % 2 == 0 for m in P.monoms()) and any(m[2] % 2 for m in P.monoms())
+    x = sympy.Symbol("x")
+    for tv, tpv, uv in [(1, 2, 3), (sympy.Rational(-2, 3), sympy.Rational(5, 7), -4)]:
+        want = to_sympy_matrix(b, {"t": tv, "tp": tpv, "U": uv}).charpoly(x).all_coeffs()
+        got = sympy.Poly(P.as_expr().subs({t: tv, tp: tpv, U: uv}), E).all_coeffs()
+        assert got == want
 
 
 def test_choose_backend():

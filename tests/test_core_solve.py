@@ -352,3 +352,19 @@ def test_verification_redraws_a_point_where_a_closed_form_is_undefined(monkeypat
             for c in spec.verification.checks for pt in c.get("points", [])]
     assert used, "no check recorded its points"
     assert bad["point"] not in used, "the undefined point was used by a later check"
+
+
+def test_coeffs_at_matches_sympy_substitution():
+    # The verification's integer-arithmetic evaluation of P(E; point) against plain
+    # sympy substitution, with rational coefficients and coupling values of
+    # different denominators (and a zero value).
+    from symcluster.verify import coeffs_at
+    E, t, tp, U = sympy.symbols("E t tp U", real=True)
+    expr = (E**3 - sympy.Rational(5, 6) * E**2 * t * U + 7 * E * tp**2
+            - sympy.Rational(3, 4) * t**2 * tp * U**2 + U**5 - 2)
+    P = sympy.Poly(expr, E, t, tp, U)
+    for pt in ({t: sympy.Rational(3, 7), tp: sympy.Rational(-5, 11), U: sympy.Rational(9, 2)},
+               {t: sympy.Integer(0), tp: sympy.Rational(1, 3), U: sympy.Integer(-4)}):
+        want = sympy.Poly(expr.subs(pt), E).all_coeffs()
+        got = coeffs_at(P, pt)
+        assert [sympy.Rational(g.numerator, g.denominator) for g in got] == want

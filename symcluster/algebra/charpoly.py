@@ -6,10 +6,13 @@ Two interchangeable backends compute the same polynomial:
     ``DomainMatrix.charpoly`` over ``ZZ[couplings]`` or ``QQ[couplings]``.
 ``"flint"`` (fast path)
     Homogeneity removes one coupling (it is set to 1 and restored at the end); the
-    remaining couplings are sampled on a tensor grid of small integers, the
-    characteristic polynomial of every sample is computed modulo word-size primes
+    remaining couplings are sampled at small integers on a lower set of exponents
+    (:func:`lower_set`: degree in each coupling at most the rank of its matrix, total
+    degree at most the dimension, so about half the tensor grid for two free couplings),
+    the characteristic polynomial of every sample is computed modulo word-size primes
     (python-flint ``nmod_mat.charpoly``), interpolated exactly modulo each prime
-    (inverse Vandermonde matrices), and lifted by Chinese remaindering.  A coupling in
+    (Newton divided differences along each axis, then conversion to monomials), and
+    lifted by Chinese remaindering.  A coupling in
     which the polynomial is even (the hopping of a bipartite cluster, by the sublattice
     gauge symmetry) is interpolated in its square, which halves its grid; the coupling
     that is set to 1 is the one that leaves the smallest grid.  The block's rational
@@ -24,7 +27,6 @@ The choice between them is made in one place, :func:`_choose_backend`.
 
 from __future__ import annotations
 
-import itertools
 import math
 import random
 from fractions import Fraction
@@ -265,9 +267,9 @@ def _charpoly_flint(block, names):
         parity = {nm: _parity_even(n, mats, i, rng) for i, nm in enumerate(present)}
 
         def grid_size(f):
-            return math.prod(
-                (ranks[nm] // 2 if parity[nm] else ranks[nm]) + 1 for nm in present if nm != f
-            )
+            rest = [nm for nm in present if nm != f]
+            return len(lower_set([ranks[nm] // 2 if parity[nm] else ranks[nm] for nm in rest],
+                                 [parity[nm] for nm in rest], n))
 
         # fix the coupling whose removal leaves the fewest interpolation points
         fixed = min(present, key=lambda nm: (grid_size(nm), -ranks[nm], present.index(nm)))
@@ -312,32 +314,113 @@ def _charpoly_flint(block, names):
     return out
 
 
-def _interp_axis(flat, shape, axis, vinv, p):
-    """Apply the (d+1)x(d+1) matrix `vinv` mod p along `axis` of a row-major array."""
-    m = shape[axis]
-    inner = math.prod(shape[axis + 1:])
-    outer = math.prod(shape[:axis])
-    # gather into a matrix m x (outer*inner)
-    cols = outer * inner
-    mat = [[0] * cols for _ in range(m)]
-    for o in range(outer):
-        base = o * m * inner
-        for i in range(m):
-            src = base + i * inner
-            mat[i][o * inner:(o + 1) * inner] = flat[src:src + inner]
-    res = (vinv * flint.nmod_mat(mat, p)).tolist()
-    out = [0] * len(flat)
-    for o in range(outer):
-        base = o * m * inner
-        for i in range(m):
-            dst = base + i * inner
-            out[dst:dst + inner] = [int(x) for x in res[i][o * inner:(o + 1) * inner]]
+def lower_set(bounds, even, total):
+    """Exponent vectors of the interpolation grid: a lower (downward-closed) set.
+
+    ``beta`` (one entry per free coupling; an even coupling counts powers of its square)
+    belongs to the set when ``beta_i <= bounds[i]`` (the rank of the coupling's matrix
+    bounds its degree) and ``sum_i w_i beta_i <= total`` with ``w_i = 2`` for an even
+    coupling, else 1: every coefficient of ``det(x - B0 - sum_i u_i B_i)`` has total
+    degree at most ``n`` in the ``u_i``, because every entry is affine in them.  The
+    set is much smaller than the tensor grid ``prod (bounds_i + 1)`` for two or more
+    free couplings.
+    """
+    weights = [2 if e else 1 for e in even]
+    out = []
+
+    def rec(i, prefix, left):
+        if i == len(bounds):
+            out.append(tuple(prefix))
+            return
+        for b in range(min(bounds[i], left // weights[i]) + 1):
+            prefix.append(b)
+            rec(i + 1, prefix, left - weights[i] * b)
+            prefix.pop()
+
+    rec(0, [], total)
     return out
 
 
-def _vandermonde_inverse(nodes, p):
-    V = flint.nmod_mat([[pow(x, j, p) for j in range(len(nodes))] for x in nodes], p)
-    return V.inv()
+_AXIS_MATS = {}
+
+
+def _axis_matrices(length, even, p):
+    """(Newton divided-difference matrix, Newton-to-monomial matrix) of the first nodes, mod p.
+
+    Nodes are ``z_j = j`` (or ``j**2`` for an even coupling), ``j < length``.  The
+    divided differences are ``N^-1`` with ``N[i][a] = prod_{j<a} (z_i - z_j)`` (lower
+    triangular); column ``a`` of the conversion matrix holds the monomial coefficients of
+    ``prod_{j<a} (s - z_j)``.  Both are triangular, so the matrices of a shorter line
+    are the leading blocks of these.
+    """
+    key = (length, even, p)
+    hit = _AXIS_MATS.get(key)
+    if hit is not None:
+        return hit
+    z = [(j * j if even else j) % p for j in range(length)]
+    N = [[0] * length for _ in range(length)]
+    for i in range(length):
+        acc = 1
+        for a in range(i + 1):
+            N[i][a] = acc
+            acc = acc * (z[i] - z[a]) % p
+    dd = flint.nmod_mat(N, p).inv().tolist()
+    conv = [[0] * length for _ in range(length)]
+    poly = [1]                                  # prod_{j<a} (s - z_j), ascending powers
+    for a in range(length):
+        for k, c in enumerate(poly):
+            conv[k][a] = c
+        poly = [((poly[k - 1] if k else 0) - z[a] * (poly[k] if k < len(poly) else 0)) % p
+                for k in range(len(poly) + 1)]
+    hit = ([[int(x) for x in row] for row in dd], conv)
+    if len(_AXIS_MATS) > 256:
+        _AXIS_MATS.clear()
+    _AXIS_MATS[key] = hit
+    return hit
+
+
+def _line_matrix(kind, length, even, p, full):
+    """The ``length x length`` matrix applied along one line, as an nmod_mat (cached).
+
+    ``kind`` is ``"dd"`` (leading block of the divided differences), ``"conv"`` (leading
+    block of the Newton-to-monomial conversion) or ``"both"`` (conversion after divided
+    differences, for the last axis, whose two passes may follow each other).
+    """
+    key = (kind, length, even, p, len(full[0]))
+    hit = _AXIS_MATS.get(key)
+    if hit is None:
+        dd, conv = full
+        lead_dd = flint.nmod_mat([r[:length] for r in dd[:length]], p)
+        lead_conv = flint.nmod_mat([r[:length] for r in conv[:length]], p)
+        hit = {"dd": lead_dd, "conv": lead_conv, "both": lead_conv * lead_dd}[kind]
+        _AXIS_MATS[key] = hit
+    return hit
+
+
+def _apply_lines(vals, points, axis, kind, even, full, p, width):
+    """Apply a triangular line matrix along `axis` to every line of the lower set.
+
+    ``vals`` maps each point of the lower set to its list of ``width`` residues; the
+    points of one line (other coordinates fixed) are ``0..m`` along `axis`, and a line of
+    length ``m + 1`` uses the leading ``(m+1) x (m+1)`` blocks (:func:`_line_matrix`).
+    """
+    lines = {}
+    for pt in points:
+        lines.setdefault(pt[:axis] + pt[axis + 1:], []).append(pt)
+    by_len = {}
+    for pts in lines.values():
+        pts.sort(key=lambda q: q[axis])
+        by_len.setdefault(len(pts), []).append(pts)
+    for m, group in by_len.items():
+        cols = len(group) * width
+        rows = [[0] * cols for _ in range(m)]
+        for g, pts in enumerate(group):
+            for i, q in enumerate(pts):
+                rows[i][g * width:(g + 1) * width] = vals[q]
+        res = (_line_matrix(kind, m, even, p, full) * flint.nmod_mat(rows, p)).tolist()
+        for g, pts in enumerate(group):
+            for i, q in enumerate(pts):
+                vals[q] = [int(x) for x in res[i][g * width:(g + 1) * width]]
 
 
 def _nodes(d, even):
@@ -345,9 +428,14 @@ def _nodes(d, even):
     return [(j, j * j if even else j) for j in range(d + 1)]
 
 
-def _one_prime(n, D, B0, Bs, bounds, even, p):
-    """Coefficients (row-major over the beta grid, then x power) of the interpolant mod p.
+def _one_prime(n, D, B0, Bs, bounds, even, p, points):
+    """Coefficients (over `points`, then x power) of the interpolant mod p.
 
+    `points` is the lower set of exponent vectors (:func:`lower_set`); the polynomial
+    is sampled at the couplings ``u_i = beta_i`` and interpolated on that set by
+    Newton divided differences along each axis in turn, then converted to monomials
+    axis by axis (valid on any lower set: a Newton basis polynomial vanishes at the
+    nodes before its own, so each line sees only its own coefficients).
     The matrices are ``B/D`` modulo p, so the result is the characteristic polynomial of
     the block itself, whose coefficients are integers (Gauss's lemma: it is a monic factor
     of the integer characteristic polynomial of the Fock-space Hamiltonian).
@@ -355,33 +443,40 @@ def _one_prime(n, D, B0, Bs, bounds, even, p):
     dinv = pow(D, -1, p)
     B0p = flint.nmod_mat(B0, p) * dinv if D != 1 else flint.nmod_mat(B0, p)
     Bps = [flint.nmod_mat(B, p) * dinv if D != 1 else flint.nmod_mat(B, p) for B in Bs]
-    shape = [d + 1 for d in bounds] + [n + 1]
-    axes = [_nodes(d, e) for d, e in zip(bounds, even)]
-    flat = []
-    for g in itertools.product(*axes):
+    vals = {}
+    for beta in points:
         M = B0p
-        for (u, _), Bp in zip(g, Bps):
+        for u, Bp in zip(beta, Bps):
             if u:
                 M = M + Bp * u
         cs = [int(c) for c in M.charpoly().coeffs()]
         cs += [0] * (n + 1 - len(cs))
-        flat.extend(cs)
-    for axis, nodes in enumerate(axes):
-        flat = _interp_axis(flat, shape, axis, _vandermonde_inverse([z for _, z in nodes], p), p)
+        vals[beta] = cs
+    # all divided differences before any conversion; the last axis does both at once
+    full = [_axis_matrices(d + 1, e, p) for d, e in zip(bounds, even)]
+    last = len(full) - 1
+    for axis in range(last):
+        _apply_lines(vals, points, axis, "dd", even[axis], full[axis], p, n + 1)
+    _apply_lines(vals, points, last, "both", even[last], full[last], p, n + 1)
+    for axis in range(last):
+        _apply_lines(vals, points, axis, "conv", even[axis], full[axis], p, n + 1)
+    flat = []
+    for beta in points:
+        flat.extend(vals[beta])
     return flat
 
 
 def _multimodular(n, D, B0, Bs, bounds, even, hbits, rng):
     """CRT-lift the interpolated coefficients; see the module docstring for the stop rule."""
-    shape = [d + 1 for d in bounds] + [n + 1]
-    keys = list(itertools.product(*[range(s) for s in shape]))
+    points = lower_set(bounds, even, n)
+    keys = [beta + (a,) for beta in points for a in range(n + 1)]
     acc = None
     modulus = 1
     k = 0
     while True:
         p = _prime(k)
         k += 1
-        res = _one_prime(n, D, B0, Bs, bounds, even, p)
+        res = _one_prime(n, D, B0, Bs, bounds, even, p, points)
         if acc is None:
             acc = [r if r <= p // 2 else r - p for r in res]
             modulus = p
