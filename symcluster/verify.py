@@ -45,16 +45,19 @@ EXACT_DIM = 500
 FLOAT_DIM = 6000
 
 
-def root_deviation(coeffs, x, scale):
+def root_deviation(coeffs, x, scale, digits):
     """Backward error of ``x`` as a root of the polynomial with (mpmath) ``coeffs``.
 
-    |P(x)| relative to sum_k |c_k| r^k with r = max(|x|, scale): relative near the
-    roots' own size, and not fooled by a root that is exactly zero at the point (then
-    x is a rounding residue such as 1e-71, and |P(x)| / sum |c_k||x|^k would be 1 for
-    P = E).  ``scale`` is the energy scale of the point (largest |coupling|).
+    ``|P(x)| / sum_k |c_k| r^k`` with ``r = max(|x|, scale * 10**-digits)``: relative to
+    the size of ``x`` itself, except for a level that is exactly zero at the point.  Its
+    computed value is then a rounding residue (about 1e-71 at 30 digits), and the purely
+    relative measure would be 1 for ``P = E``; the floor ``scale * 10**-digits``, with
+    ``scale`` the energy scale of the point (its largest |coupling|), accepts the residue
+    while a value wrong by more than ``10**-digits`` of the scale still fails.
     """
     val = mpmath.polyval(coeffs, x)
-    size = mpmath.polyval([abs(c) for c in coeffs], max(abs(x), scale))
+    r = max(abs(x), scale * mpmath.mpf(10) ** (-digits))
+    size = mpmath.polyval([abs(c) for c in coeffs], r)
     return abs(val) / size if size else abs(val)
 
 
@@ -340,7 +343,9 @@ def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, tries=5
                     for l in spectrum.levels]
         except (ZeroDivisionError, ValueError, ModelError) as exc:
             last = exc
-            points[pi] = random_points(symbols, 1, seed + 1000 * (attempt + 1) + pi)[0]
+            # the replacement is drawn like the point it replaces (only the first point
+            # has every hopping positive; later points take random signs)
+            points[pi] = random_points(symbols, pi + 1, seed + 1000 * (attempt + 1))[pi]
     _fail(f"no usable verification point after {tries} draws ({last})")
 
 
@@ -359,6 +364,13 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     sum rules, but not the numerical eigenvalue checks: their levels are the
     checked ones moved by an exactly proven symmetry.
     """
+    try:
+        return _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, executor)
+    finally:
+        _TERMS.clear()      # the integer forms hold the level polynomials alive
+
+
+def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, executor):
     model = spectrum.model
     report = spectrum.verification
     L = model.n_sites
@@ -415,7 +427,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                 if key not in cache:
                     cache[key] = [mpmath.mpf(c.numerator) / c.denominator
                                   for c in coeffs_at(lev.polynomial, pt)]
-                dev = root_deviation(cache[key], values[pi][li], scales[pi])
+                dev = root_deviation(cache[key], values[pi][li], scales[pi], digits)
                 if dev > mpmath.mpf(10) ** (-digits):
                     _fail(f"level {lev.energy} (N={lev.quantum_numbers['N']}) is not a root of its "
                           f"polynomial at {pt}: deviation {mpmath.nstr(dev, 3)}")

@@ -317,16 +317,26 @@ def test_root_check_accepts_a_level_that_is_exactly_zero_at_the_point(monkeypatc
 
 
 def test_root_deviation_is_scale_aware_not_fooled_by_a_wrong_value():
-    # P = E (root 0): a rounding residue passes, a wrong value of order one fails;
+    # P = E (root 0): a rounding residue passes, a value of order 1e-20 fails;
     # P = (E - 2)(E + 3): an exact root passes, a value off by 1e-6 fails.
+    # P = E^2 - U E - 4 t^2 at t = 1/137, U = 900/137 (two-site singlet sector): its small
+    # root -4t^2/U (1 + ...) ~ -3e-5 is far below the point's scale; a value wrong by a
+    # relative 1e-25 must still fail at 30 digits (the floor is scale * 1e-30, not scale).
     from symcluster.verify import root_deviation
-    with mpmath.workdps(40):
+    with mpmath.workdps(80):
         one = mpmath.mpf(1)
-        assert root_deviation([one, 0], mpmath.mpf("1e-71"), mpmath.mpf(6)) < 1e-70
-        assert root_deviation([one, 0], mpmath.mpf("0.5"), mpmath.mpf(6)) > 1e-2
+        six = mpmath.mpf(6)
+        assert root_deviation([one, 0], mpmath.mpf("1e-71"), six, 30) < 1e-40
+        assert root_deviation([one, 0], mpmath.mpf("1e-20"), six, 30) > 0.5
+        assert root_deviation([one, 0], mpmath.mpf("0.5"), six, 30) > 0.5
         cs = [one, one, mpmath.mpf(-6)]
-        assert root_deviation(cs, mpmath.mpf(2), one) == 0
-        assert root_deviation(cs, mpmath.mpf(2) + mpmath.mpf("1e-6"), one) > 1e-8
+        assert root_deviation(cs, mpmath.mpf(2), one, 30) == 0
+        assert root_deviation(cs, mpmath.mpf(2) + mpmath.mpf("1e-6"), one, 30) > 1e-8
+        tv, uv = mpmath.mpf(1) / 137, mpmath.mpf(900) / 137
+        cs = [one, -uv, -4 * tv**2]
+        small = (uv - mpmath.sqrt(uv**2 + 16 * tv**2)) / 2
+        assert root_deviation(cs, small, uv, 30) < 1e-60
+        assert root_deviation(cs, small * (1 + mpmath.mpf("1e-25")), uv, 30) > 1e-30
 
 
 def test_verification_redraws_a_point_where_a_closed_form_is_undefined(monkeypatch):
@@ -368,3 +378,32 @@ def test_coeffs_at_matches_sympy_substitution():
         want = sympy.Poly(expr.subs(pt), E).all_coeffs()
         got = coeffs_at(P, pt)
         assert [sympy.Rational(g.numerator, g.denominator) for g in got] == want
+
+
+def test_a_redrawn_second_point_keeps_random_signs(monkeypatch):
+    # Only the first verification point has every hopping positive; a replacement for a
+    # later point must be drawn like that point (random signs), or a closed form wrong
+    # only for negative hopping could pass every check with two positive points.
+    import symcluster.verify as V
+
+    original = V.energy_numeric
+    seen = []
+
+    def undefined_at_second_point(energy, point, digits=30, polynomial=None):
+        key = tuple(sorted((s.name, v) for s, v in point.items()))
+        if key not in seen:
+            seen.append(key)
+        if len(seen) == 2 and key == seen[1]:
+            raise ZeroDivisionError("0/0 in a closed form")
+        return original(energy, point, digits, polynomial=polynomial)
+
+    monkeypatch.setattr(V, "energy_numeric", undefined_at_second_point)
+    replacements = []
+    for seed in range(10):
+        seen.clear()
+        spec = sc.solve(sc.hubbard(sc.chain(3)), electrons=[2], seed=seed)
+        assert spec.verification.worst < 1e-20
+        assert len(seen) >= 3, "the second point was not redrawn"
+        replacements.append(dict(seen[2]))
+    # ten independent draws with all-positive hopping would have probability 2^-10
+    assert any(pt["t"] < 0 for pt in replacements), replacements

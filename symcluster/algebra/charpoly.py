@@ -373,7 +373,7 @@ def _axis_matrices(length, even, p):
         poly = [((poly[k - 1] if k else 0) - z[a] * (poly[k] if k < len(poly) else 0)) % p
                 for k in range(len(poly) + 1)]
     hit = ([[int(x) for x in row] for row in dd], conv)
-    if len(_AXIS_MATS) > 256:
+    if len(_AXIS_MATS) > 1024:
         _AXIS_MATS.clear()
     _AXIS_MATS[key] = hit
     return hit
@@ -389,10 +389,14 @@ def _line_matrix(kind, length, even, p, full):
     key = (kind, length, even, p, len(full[0]))
     hit = _AXIS_MATS.get(key)
     if hit is None:
-        dd, conv = full
-        lead_dd = flint.nmod_mat([r[:length] for r in dd[:length]], p)
-        lead_conv = flint.nmod_mat([r[:length] for r in conv[:length]], p)
-        hit = {"dd": lead_dd, "conv": lead_conv, "both": lead_conv * lead_dd}[kind]
+        if kind == "both":
+            hit = (_line_matrix("conv", length, even, p, full)
+                   * _line_matrix("dd", length, even, p, full))
+        else:
+            mat = full[0] if kind == "dd" else full[1]
+            hit = flint.nmod_mat([r[:length] for r in mat[:length]], p)
+        if len(_AXIS_MATS) > 1024:
+            _AXIS_MATS.clear()
         _AXIS_MATS[key] = hit
     return hit
 
@@ -421,11 +425,6 @@ def _apply_lines(vals, points, axis, kind, even, full, p, width):
         for g, pts in enumerate(group):
             for i, q in enumerate(pts):
                 vals[q] = [int(x) for x in res[i][g * width:(g + 1) * width]]
-
-
-def _nodes(d, even):
-    """Interpolation nodes 0..d of one coupling, as (value of the coupling, node)."""
-    return [(j, j * j if even else j) for j in range(d + 1)]
 
 
 def _one_prime(n, D, B0, Bs, bounds, even, p, points):
