@@ -1,6 +1,8 @@
 """Cost estimates, the memory guard and terminal progress for long runs."""
 
+import concurrent.futures
 import sys
+import threading
 import time
 from math import comb
 
@@ -82,3 +84,30 @@ class Progress:
         if self.enabled and self.shown:
             self.stream.write("\n")
             self.stream.flush()
+
+
+# ----------------------------------------------------------------------------
+# executors
+# ----------------------------------------------------------------------------
+
+_ONE_AT_A_TIME = threading.Lock()
+
+
+def _one_at_a_time(fn, *args):
+    with _ONE_AT_A_TIME:
+        return fn(*args)
+
+
+def submit(executor, fn, *args):
+    """``executor.submit(fn, *args)``, made safe for thread pools.
+
+    python-flint's and mpmath's working precisions are process-wide settings, changed
+    and restored around every high-precision step; two threads interleaving those steps
+    would compute at each other's precision (seen: a non-finite Laguerre step).  Tasks
+    on a ``ThreadPoolExecutor`` therefore run one at a time (same results, no speed-up);
+    process pools and other executors that run tasks in separate processes are used as
+    they are.
+    """
+    if isinstance(executor, concurrent.futures.ThreadPoolExecutor):
+        return executor.submit(_one_at_a_time, fn, *args)
+    return executor.submit(fn, *args)

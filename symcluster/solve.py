@@ -12,7 +12,7 @@ from .algebra.factor import factor_charpoly
 from .algebra.roots import ImplicitRoot, roots_of
 from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
                      sectors_to_solve)
-from .resources import Progress, check_size
+from .resources import Progress, check_size, submit
 from .errors import ModelError, VerificationError
 from .models import Model
 from .spectrum import Level, Spectrum, VerificationReport
@@ -166,7 +166,7 @@ def _run_blocks(blocks, names, executor, progress):
         return out
     # largest first, so that the pool stays busy; results put back in order
     order = sorted(range(len(blocks)), key=lambda i: -blocks[i].block.dim)
-    futures = {executor.submit(_solve_packed, blocks[i].block, names): i for i in order}
+    futures = {submit(executor, _solve_packed, blocks[i].block, names): i for i in order}
     out = [None] * len(blocks)
     for fut in concurrent.futures.as_completed(futures):
         out[futures[fut]] = _unpack(fut.result())
@@ -199,7 +199,9 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         factors, through this executor (any object with ``submit``, e.g. a
         process pool or a distributed engine's executor).  None (default)
         picks a process pool on all cores when the blocks are large enough to
-        pay for it; pass ``"serial"`` to stay in this process.
+        pay for it; pass ``"serial"`` to stay in this process.  A
+        ``ThreadPoolExecutor`` is accepted but runs one task at a time: the
+        working precision of python-flint and mpmath is process-wide.
     progress : bool, optional
         Progress line on stderr; default: only when stderr is a terminal and
         the run takes longer than a few seconds.

@@ -69,7 +69,9 @@ def test_executor_also_runs_the_verification_root_isolations():
 
     class Counting(concurrent.futures.ThreadPoolExecutor):
         def submit(self, fn, *args, **kwargs):
-            submitted.append(getattr(fn, "__name__", ""))
+            # tasks on a thread pool arrive wrapped (run one at a time): unwrap the name
+            inner = args[0] if args and callable(args[0]) else fn
+            submitted.append(getattr(inner, "__name__", ""))
             return super().submit(fn, *args, **kwargs)
 
     with Counting(max_workers=2) as pool:
@@ -79,3 +81,28 @@ def test_executor_also_runs_the_verification_root_isolations():
     serial = sc.solve(model, electrons=[6], executor="serial", seed=5)
     pt = {"t": 1, "U": 3}
     assert [str(v) for v, _ in spec.numeric(pt)] == [str(v) for v, _ in serial.numeric(pt)]
+
+
+def test_thread_pool_tasks_run_one_at_a_time():
+    # flint's and mpmath's working precision is process-wide: tasks submitted through
+    # symcluster to a thread pool must never overlap (they once computed at each other's
+    # precision and raised).  Each task counts the tasks running beside it.
+    import threading
+    import time as _time
+    from symcluster.resources import submit
+    state = {"running": 0, "most": 0}
+    lock = threading.Lock()
+
+    def task(k):
+        with lock:
+            state["running"] += 1
+            state["most"] = max(state["most"], state["running"])
+        _time.sleep(0.01)          # room for another thread to start, if it may
+        with lock:
+            state["running"] -= 1
+        return k
+
+    with concurrent.futures.ThreadPoolExecutor(max_workers=4) as pool:
+        results = [f.result() for f in [submit(pool, task, k) for k in range(8)]]
+    assert results == list(range(8))
+    assert state["most"] == 1, "thread-pool tasks overlapped"

@@ -30,6 +30,7 @@ from sympy.polys.domains import QQ, ZZ
 
 from symcluster.algebra.factor import content_and_factors, to_integer_dict
 from symcluster.errors import ModelError, VerificationError
+from symcluster.resources import submit
 
 try:
     import flint
@@ -315,7 +316,7 @@ def prefetch_isolations(keys, executor):
     Call :func:`clear_prefetched` when done.
     """
     keys = [k for k in dict.fromkeys(keys) if k not in _SEEDED]
-    futures = [(k, executor.submit(_isolate_compute, *k)) for k in keys]
+    futures = [(k, submit(executor, _isolate_compute, *k)) for k in keys]
     for k, fut in futures:
         _SEEDED[k] = fut.result()
 
