@@ -379,7 +379,7 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
     pre = "\n".join([
         r"\documentclass[10pt]{article}",
         r"\usepackage[T1]{fontenc}",
-        r"\usepackage{lmodern}",
+        r"\IfFileExists{lmodern.sty}{\usepackage{lmodern}}{}",   # scalable fonts where installed
         r"\usepackage[margin=2cm]{geometry}",
         _PACKAGES,
         r"\begin{document}",
