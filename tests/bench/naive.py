@@ -163,7 +163,11 @@ def numpy_sector_matrix(n_sites, bonds, n_up, n_dn, values):
     -------
     numpy.ndarray
     """
-    basis = sector_basis(n_sites, n_up, n_dn)
+    return _dense_float_matrix(n_sites, bonds, sector_basis(n_sites, n_up, n_dn), values)
+
+
+def _dense_float_matrix(n_sites, bonds, basis, values):
+    """Dense float64 Hamiltonian on any list of ``(up, dn)`` basis states."""
     entries, diag = hop_entries(n_sites, bonds, basis)
     m = np.zeros((len(basis), len(basis)))
     m[np.diag_indices(len(basis))] = values["U"] * np.asarray(diag, dtype=float)
@@ -258,11 +262,7 @@ def numpy_fock_spectrum(n_sites, bonds, values):
     """
     t0 = time.perf_counter()
     basis = [(u, d) for u in range(2 ** n_sites) for d in range(2 ** n_sites)]
-    entries, diag = hop_entries(n_sites, bonds, basis)
-    m = np.zeros((len(basis), len(basis)))
-    m[np.diag_indices(len(basis))] = values["U"] * np.asarray(diag, dtype=float)
-    for r, c, lab, sign in entries:
-        m[r, c] -= sign * values[lab]
+    m = _dense_float_matrix(n_sites, bonds, basis, values)
     t1 = time.perf_counter()
     eig = np.linalg.eigvalsh(m)
     t2 = time.perf_counter()
