@@ -20,10 +20,9 @@ symbolic sum rules sum deg*E = Tr H and sum deg*E^2 = Tr H^2 per sector; each
 closed form is checked against its own polynomial at >= ``digits`` digits.
 """
 
-import math
 import random
 from fractions import Fraction
-from math import comb
+from math import comb, lcm
 
 import flint
 import mpmath
@@ -162,7 +161,7 @@ def _int_terms(poly):
     if hit is None or hit[0] is not poly:
         raw = [(m, Fraction(int(c.p), int(c.q)) if hasattr(c, "q") else Fraction(int(c)))
                for m, c in poly.as_dict(native=False).items()]
-        den = math.lcm(*(c.denominator for _, c in raw)) if raw else 1
+        den = lcm(*(c.denominator for _, c in raw)) if raw else 1
         terms = [(m[0], m[1:], c.numerator * (den // c.denominator), sum(m[1:])) for m, c in raw]
         top = max((tt[3] for tt in terms), default=0)
         hit = _TERMS[key] = (poly, (terms, den, top))
@@ -178,7 +177,7 @@ def coeffs_at(poly, point):
     """
     gens = poly.gens
     vals = [point[g] for g in gens[1:]]
-    q = math.lcm(*(int(v.q) for v in vals)) if vals else 1
+    q = lcm(*(int(v.q) for v in vals)) if vals else 1
     nums = [int(v.p) * (q // int(v.q)) for v in vals]
     deg = poly.degree(gens[0])
     terms, den, top = _int_terms(poly)
