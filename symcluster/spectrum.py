@@ -135,9 +135,44 @@ def energy_numeric(energy, point, digits=30, polynomial=None):
     roots = real_roots_at(polynomial, point, digits)
     if roots and all(r == roots[0] for r in roots):
         return roots[0]
-    raise ModelError(
-        f"the closed form {energy} is undefined at {point} (0/0 where roots of its polynomial "
-        "merge); evaluate at a nearby point")
+    limit = _limit_along_a_ray(energy, point, digits, roots)
+    if limit is None:
+        raise ModelError(
+            f"the closed form {energy} is undefined at {point} (0/0 where roots of its "
+            "polynomial merge); evaluate at a nearby point")
+    return limit
+
+
+def _limit_along_a_ray(energy, point, digits, roots):
+    """The root of the level's polynomial that the closed form tends to at `point`.
+
+    Where a closed form is 0/0 (several roots of its polynomial merge, e.g. every
+    hopping zero), its value is its limit along a fixed ray p + eps d.  Eigenvalues of a
+    Hermitian matrix move by at most ||eps d . A|| (Weyl's inequality, Horn & Johnson,
+    Matrix Analysis, Thm 4.3.1), so for small eps the closed form lies next to exactly
+    one of the distinct roots at p.  Two decreasing eps must pick the same root, within
+    a third of the smallest gap between distinct roots; otherwise None.  All levels use
+    the same ray, so the values at p together are the roots with their multiplicities.
+    """
+    distinct = sorted(set(roots))
+    gap = min(b - a for a, b in zip(distinct, distinct[1:]))
+    syms = sorted(point, key=str)
+    scale = max([abs(v) for v in point.values()] + [sympy.Integer(1)])
+    ray = {s: sympy.Rational(7 + 3 * i, 11 + 5 * i) * (-1) ** i for i, s in enumerate(syms)}
+    picked = []
+    for exponent in (12, 20, 28):
+        eps = scale * sympy.Rational(1, 10 ** exponent)
+        near = {s: point[s] + eps * ray[s] for s in syms}
+        try:
+            value = _closed_numeric(energy, near, digits)
+        except (ZeroDivisionError, ValueError):
+            continue
+        best = min(distinct, key=lambda r: abs(r - value))
+        if abs(best - value) < gap / 3:
+            picked.append(best)
+    if len(picked) >= 2 and all(p == picked[0] for p in picked):
+        return picked[0]
+    return None
 
 
 def _closed_numeric(energy, point, digits):

@@ -293,6 +293,21 @@ def test_numeric_at_the_origin_where_closed_forms_are_zero_over_zero():
     assert all(v == 0 for v, _ in vals)
 
 
+def test_numeric_in_the_atomic_limit_where_closed_forms_are_zero_over_zero():
+    # Regression (found by hypothesis): with every hopping zero and U = 1, two electrons
+    # on four sites have E = U on the 4 doubly occupied states and E = 0 on the other
+    # C(8, 2) - 4 = 24 (atomic limit, counting). The cubic closed forms are 0/0 there
+    # while their polynomials' roots do not all merge; the value is the limit along a ray.
+    c = sc.cluster(4, [(0, 1, "t"), (0, 2, "tp"), (1, 3, "tp"), (2, 3, "t")])
+    spec = sc.solve(sc.hubbard(c), electrons=2)
+    vals = expand(spec.numeric({"t": 0, "tp": 0, "U": 1}))
+    assert vals == [0] * 24 + [1] * 4
+    # and where only one hopping vanishes, against the independent Fock-space reference
+    pt = {"t": 0, "tp": sympy.Rational(-3, 2), "U": sympy.Rational(7, 3)}
+    ref = FockReference(4, list(c.bonds)).eigenvalues(pt, n=2)
+    assert max_deviation(expand(spec.numeric(pt)), ref) < 1e-9   # float64 reference
+
+
 def test_root_check_accepts_a_level_that_is_exactly_zero_at_the_point(monkeypatch):
     # Regression (seen in CI): on two disconnected dimers (t, tp) the level U - t + tp
     # is exactly 0 at t = 573/131, tp = 824/131, U = -251/131. Its 30-digit value is
