@@ -4,11 +4,12 @@ import concurrent.futures
 import sys
 import threading
 import time
-from math import comb
+from math import comb, factorial
 
 from .errors import TooLargeError
 
-__all__ = ["available_memory", "estimate_cost", "check_size", "Progress"]
+__all__ = ["available_memory", "block_dimensions", "estimate_cost", "check_size", "Progress",
+           "submit"]
 
 
 def available_memory():
@@ -23,36 +24,107 @@ def available_memory():
     return None
 
 
-def estimate_cost(n_sites, sectors, group_order=1, spin=False):
+# Memory model, fitted to the peaks measured by tests/bench/run_bench.py on 6- and
+# 8-site clusters with one and two free coupling ratios (docs/performance.md lists
+# estimate and measurement side by side):
+_FIXED = 30 * 2 ** 20       # caches and first-use imports of a solve
+_PER_STATE = 600            # sparse integer vectors of the solved sectors' states
+_DENSE_COPIES = 2.5         # float64 sector matrix plus the eigensolver's workspace
+_PER_TERM_BIT = 8           # stored level polynomials: per term, per unit of degree
+
+
+def _sector_dim(n_sites, n_up, n_dn):
+    if not (0 <= n_up <= n_sites and 0 <= n_dn <= n_sites):
+        return 0
+    return comb(n_sites, n_up) * comb(n_sites, n_dn)
+
+
+def block_dimensions(n_sites, sectors, plan=None):
+    """Expected block dimensions of a solve, from state counting alone (no blocks built).
+
+    In a sector (N_up, N_dn) of dimension D, spin SU(2) keeps the states with S = Sz
+    (D(N_up, N_dn) - D(N_up + 1, N_dn - 1)), eta-pseudospin then keeps the lowest
+    weights (minus the same count one pair lower), and a lattice irrep Gamma of
+    dimension d in a group of order g takes about D d / g of what is left (exact for
+    the regular representation); a Galois orbit of irreps shares one block.
+
+    Parameters
+    ----------
+    n_sites : int
+    sectors : list of (int, int)
+    plan : SymmetryPlan or None
+
+    Returns
+    -------
+    list of float
+        One entry per expected block (approximate dimensions).
+    """
+    spin = bool(plan is not None and plan.spin)
+    eta = bool(plan is not None and plan.eta)
+    lattice = plan.lattice if plan is not None else None
+
+    def reduced(u, d):
+        dim = _sector_dim(n_sites, u, d)
+        return dim - _sector_dim(n_sites, u + 1, d - 1) if spin else dim
+
+    if lattice is not None:
+        order = len(lattice.group.elements)
+        shares = [irr.dim * (irr.orbit_size or 1) / order for irr in lattice.irreps]
+    else:
+        shares = [1.0]
+    out = []
+    for u, d in sectors:
+        dim = reduced(u, d) - (reduced(u - 1, d - 1) if eta else 0)
+        if dim > 0:
+            out.extend(max(1.0, dim * share) for share in shares)
+    return out
+
+
+def estimate_cost(n_sites, sectors, plan=None, n_free=1):
     """Rough peak memory (bytes) of a solve over ``sectors`` [(N_up, N_dn), ...].
 
-    Model (measured on ring(6), cube and ring(8), see docs/performance.md):
-    ~600 bytes per Fock state held as sparse integer vectors while the blocks
-    are built, the dense float64 matrix of the largest verified sector, and
-    the interpolation tables of the largest block (dim^2 integers per
-    evaluation point, dim points).
+    The terms, fitted to measured peaks (docs/performance.md): a fixed part; the
+    states of the solved sectors held as sparse integer vectors; the dense float64
+    matrix of the largest sector that is verified in float64; and the exact level
+    polynomials, which dominate from 8 sites on.  A block of dimension m with
+    ``n_free`` free coupling ratios (couplings minus one, by homogeneity) gives
+    polynomials with about m^(n_free+1)/(n_free+1)! terms whose integers grow
+    linearly with m; two or more free ratios cost about three times more per term.
+
+    Parameters
+    ----------
+    n_sites : int
+    sectors : list of (int, int)
+    plan : SymmetryPlan or None
+    n_free : int
+        Number of couplings minus one.
+
+    Returns
+    -------
+    int
     """
-    dims = [comb(n_sites, u) * comb(n_sites, d) for u, d in sectors]
+    dims = [_sector_dim(n_sites, u, d) for u, d in sectors]
     if not dims:
         return 0
-    largest = max(dims)
     from .verify import FLOAT_DIM
-    dense = 8 * min(largest, FLOAT_DIM) ** 2 * 2
-    reduce_by = max(1, group_order) * (2 if spin else 1)
-    block = max(1, largest // reduce_by)
-    interp = 16 * block ** 2 + 64 * block ** 2
-    return 600 * largest * 4 + dense + interp
+    k = max(1, n_free)
+    per_term = _PER_TERM_BIT * (1 if k == 1 else 3)
+    polys = sum(m ** (k + 2) for m in block_dimensions(n_sites, sectors, plan)) / factorial(k + 1)
+    dense = _DENSE_COPIES * 8 * min(max(dims), FLOAT_DIM) ** 2
+    return int(_FIXED + _PER_STATE * sum(dims) + dense + per_term * polys)
 
 
-def check_size(n_sites, sectors, group_order=1, spin=False, force=False):
+def check_size(n_sites, sectors, plan=None, n_free=1, force=False):
     """Raise TooLargeError if a run would clearly exceed the available memory."""
-    need = estimate_cost(n_sites, sectors, group_order, spin)
+    need = estimate_cost(n_sites, sectors, plan, n_free)
     have = available_memory()
     if have is not None and need > 0.8 * have and not force:
+        largest = max(block_dimensions(n_sites, sectors, plan), default=0)
         raise TooLargeError(
-            f"this run needs an estimated {need / 2 ** 30:.1f} GiB but only "
-            f"{have / 2 ** 30:.1f} GiB is available; solve fewer electron numbers "
-            f"(electrons=...) or pass force=True (command line: --force) to try anyway")
+            f"this run needs an estimated {need / 2 ** 30:.1f} GiB (blocks of up to about "
+            f"{largest:.0f} states) but only {have / 2 ** 30:.1f} GiB is available; solve "
+            f"fewer electron numbers (electrons=...; command line: --electrons) or pass "
+            f"force=True (command line: --force) to try anyway")
     return need
 
 

@@ -227,9 +227,8 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     timings = {}
     t0 = time.perf_counter()
     plan = plan_symmetries(model, lattice=lattice, spin=spin, eta=eta)
-    order = len(plan.lattice.group.elements) if plan.lattice is not None else 1
-    estimate = check_size(model.n_sites, sectors_to_solve(model.n_sites, plan, wanted),
-                          order, plan.spin, force)
+    estimate = check_size(model.n_sites, sectors_to_solve(model.n_sites, plan, wanted), plan,
+                          len(model.labels) - 1, force)
     timings["memory_estimate_bytes"] = estimate
     sizes = []
     blocks = build_blocks(model, plan, wanted, report=sizes)

@@ -7,6 +7,7 @@ import pytest
 
 import symcluster as sc
 from symcluster import resources
+from symcluster.blocks import build_blocks, plan_symmetries, sectors_to_solve
 from symcluster.errors import TooLargeError
 from symcluster.resources import Progress
 
@@ -29,6 +30,50 @@ def test_estimate_grows_with_the_sector_size():
     small = resources.estimate_cost(4, [(2, 2)])
     large = resources.estimate_cost(8, [(4, 4)])
     assert 0 < small < large
+
+
+def test_estimate_grows_with_the_number_of_free_couplings():
+    model = sc.hubbard(sc.ring(6))
+    plan = plan_symmetries(model)
+    sectors = sectors_to_solve(6, plan)
+    one = resources.estimate_cost(6, sectors, plan, n_free=1)
+    two = resources.estimate_cost(6, sectors, plan, n_free=2)
+    assert two > one
+
+
+@pytest.mark.parametrize("make", [lambda: sc.ring(4), lambda: sc.ring(6), lambda: sc.grid(2, 3),
+                                  lambda: sc.chain(6), sc.tetrahedron])
+def test_counted_block_dimensions_match_the_built_blocks(make):
+    # independent of the counting formula: the blocks that build_blocks constructs
+    model = sc.hubbard(make())
+    plan = plan_symmetries(model)
+    counted = resources.block_dimensions(model.n_sites, sectors_to_solve(model.n_sites, plan), plan)
+    built = [b.block.dim for b in build_blocks(model, plan, None)]
+    # the count is exact for regular representations; small blocks may be off by a state
+    assert abs(max(counted) - max(built)) <= max(1, 0.1 * max(built))
+
+
+def test_counting_without_symmetry_gives_the_sector_dimensions():
+    # no symmetry: one block per (N_up, N_dn) sector, C(L, N_up) C(L, N_dn) states
+    dims = resources.block_dimensions(4, [(2, 1), (3, 3)], None)
+    assert dims == [6 * 4, 4 * 4]
+
+
+def test_ten_site_ring_is_refused_on_a_24_gib_machine(monkeypatch):
+    # ring(10) at half filling has blocks of thousands of states: refused before any work
+    monkeypatch.setattr(resources, "available_memory", lambda: 24 * 2 ** 30)
+    with pytest.raises(TooLargeError) as info:
+        sc.solve(sc.hubbard(sc.ring(10)))
+    msg = str(info.value)
+    assert "GiB" in msg and "electrons=" in msg and "force=True" in msg and "states" in msg
+
+
+def test_few_electrons_on_ten_sites_pass_the_guard(monkeypatch):
+    monkeypatch.setattr(resources, "available_memory", lambda: 24 * 2 ** 30)
+    model = sc.hubbard(sc.ring(10))
+    plan = plan_symmetries(model)
+    need = resources.check_size(10, sectors_to_solve(10, plan, [2]), plan, 1)
+    assert need < 2 ** 30
 
 
 class _Tty(io.StringIO):

@@ -522,9 +522,11 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
     if full:
         lines += ["## Full verified exact spectra", "",
                   "| case | time s | target s | CPU s | blocks / algebra / levels / verify s | "
-                  "peak RSS MB (after imports) | levels | implicit-root levels | largest block | "
-                  "largest factor degree | states | verified | load |",
-                  "| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- |"]
+                  "peak RSS MB (after imports) | guard's estimate / measured growth MB | levels | "
+                  "implicit-root levels | largest block | largest factor degree | states | "
+                  "verified | load |",
+                  "| --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- | --- "
+                  "| --- |"]
         notes = []
         for c in full:
             name, n_sites, target, _ = SC_CASES[c]
@@ -532,7 +534,7 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
             tgt = "—" if target is None else f"≤ {target}"
             if r["status"] != "ok":
                 lines.append(f"| {name} | {_failure(r)} | {tgt} | — | — | "
-                             f"{_fmt_mb(r.get('peak_mb'))} | — | — | — | — | — | — | "
+                             f"{_fmt_mb(r.get('peak_mb'))} | — | — | — | — | — | — | — | "
                              f"{r['load']:.2f} |")
                 continue
             tm = r["timings"]
@@ -541,7 +543,9 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
             verified = "yes" if r["n_checks"] > 0 else "NO"
             lines.append(
                 f"| {name} | {_fmt_s(r['seconds'])} | {tgt} | {_fmt_s(r['cpu'])} | {breakdown} | "
-                f"{_fmt_mb(r['peak_mb'])} ({_fmt_mb(r['baseline_mb'])}) | {r['levels']} | "
+                f"{_fmt_mb(r['peak_mb'])} ({_fmt_mb(r['baseline_mb'])}) | "
+                f"{_fmt_mb(tm.get('memory_estimate_bytes', 0) / 2 ** 20)} / "
+                f"{_fmt_mb(r['peak_mb'] - r['baseline_mb'])} | {r['levels']} | "
                 f"{r['implicit']} | {r['largest_block']} | {r['max_degree']} | "
                 f"{r['n_states']}{'' if ok_states else ' (≠ 4^L!)'} | {verified}¹ | "
                 f"{r['load']:.2f} |")
