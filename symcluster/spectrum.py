@@ -165,7 +165,7 @@ def _limit_along_a_ray(energy, point, digits, roots):
         near = {s: point[s] + eps * ray[s] for s in syms}
         try:
             value = _closed_numeric(energy, near, digits)
-        except (ZeroDivisionError, ValueError):
+        except (ArithmeticError, ValueError):      # 0/0 again, or not real on this ray
             continue
         best = min(distinct, key=lambda r: abs(r - value))
         if abs(best - value) < gap / 3:
