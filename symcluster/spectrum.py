@@ -117,25 +117,54 @@ def _mp_eval(expr, env):
 def energy_numeric(energy, point, digits=30, polynomial=None):
     """Value of a closed-form expression or implicit root at an exact point, as mpmath.mpf.
 
-    Closed forms are evaluated with mpmath at ``2 digits + 10`` working digits
-    (square roots and acos near coinciding roots lose up to half their digits,
-    which the verification's tolerance accounts for).  A closed form is undefined
-    (0/0) where several roots of its polynomial merge, for instance at the origin of
-    a homogeneous polynomial; given the level's `polynomial`, such a point returns the
-    merged root when all roots of the polynomial coincide there, and raises
-    :class:`ModelError` naming the point otherwise.
+    Implicit roots are isolated with a certificate (``ImplicitRoot.numeric``).  A
+    closed form given with its level's `polynomial` is used only to decide *which*
+    root of that polynomial the level is; the value returned is that root, isolated
+    with a certificate like an implicit root, so all `digits` digits are right even
+    where the closed form itself loses digits to cancellation (nested radicals at
+    t = 0 or U = 0).  The choice is made as follows:
+
+    * all roots of the polynomial coincide at the point: that root;
+    * the closed form is defined there: the distinct root nearest its value, accepted
+      only when the distance is below a third of the gap to that root's neighbours
+      (the closed form is re-evaluated with more working digits until it is);
+    * the closed form is 0/0 or not real there: its limit along a fixed ray
+      (:func:`_limit_along_a_ray`).
+
+    Without `polynomial`, a closed form is evaluated directly with mpmath at
+    ``2 digits + 10`` working digits; the verification does this, so that its
+    comparison with the polynomial is not circular.
+
+    Raises
+    ------
+    ModelError
+        If no root can be chosen (the message names the point).
     """
     if hasattr(energy, "numeric"):
         return energy.numeric(point, digits=digits)
-    try:
+    if polynomial is None:
         return _closed_numeric(energy, point, digits)
-    except (ZeroDivisionError, ValueError):
-        if polynomial is None:
-            raise
     roots = real_roots_at(polynomial, point, digits)
-    if roots and all(r == roots[0] for r in roots):
-        return roots[0]
-    limit = _limit_along_a_ray(energy, point, digits, roots)
+    distinct = sorted(set(roots))
+    if len(distinct) == 1:
+        return distinct[0]
+    defined = False
+    for work in (digits, 2 * digits, 4 * digits):
+        try:
+            value = _closed_numeric(energy, point, work)
+        except ZeroDivisionError:                  # 0/0 at the point itself
+            break
+        except (ArithmeticError, ValueError):      # rounding made it complex: more digits
+            continue
+        defined = True
+        chosen = _unambiguous_root(value, distinct)
+        if chosen is not None:
+            return chosen
+    if defined:
+        raise ModelError(
+            f"cannot tell which root of its polynomial the level {energy} is at {point} "
+            "(roots closer than the closed form's accuracy); evaluate at a nearby point")
+    limit = _limit_along_a_ray(energy, point, digits, distinct)
     if limit is None:
         raise ModelError(
             f"the closed form {energy} is undefined at {point} (0/0 where roots of its "
@@ -143,35 +172,42 @@ def energy_numeric(energy, point, digits=30, polynomial=None):
     return limit
 
 
-def _limit_along_a_ray(energy, point, digits, roots):
-    """The root of the level's polynomial that the closed form tends to at `point`.
+def _unambiguous_root(value, distinct):
+    """The root in `distinct` nearest `value` if closer than a third of its local gap."""
+    k = min(range(len(distinct)), key=lambda i: abs(distinct[i] - value))
+    gaps = [abs(distinct[j] - distinct[k]) for j in (k - 1, k + 1) if 0 <= j < len(distinct)]
+    return distinct[k] if abs(distinct[k] - value) < min(gaps) / 3 else None
+
+
+def _limit_along_a_ray(energy, point, digits, distinct):
+    """The root in `distinct` that the closed form tends to at `point`, or None.
 
     Where a closed form is 0/0 (several roots of its polynomial merge, e.g. every
-    hopping zero), its value is its limit along a fixed ray p + eps d.  Eigenvalues of a
-    Hermitian matrix move by at most ||eps d . A|| (Weyl's inequality, Horn & Johnson,
-    Matrix Analysis, Thm 4.3.1), so for small eps the closed form lies next to exactly
-    one of the distinct roots at p.  Two decreasing eps must pick the same root, within
-    a third of the smallest gap between distinct roots; otherwise None.  All levels use
-    the same ray, so the values at p together are the roots with their multiplicities.
+    hopping zero), its value is its limit along a fixed ray p + eps d with |d_c| <= 1.
+    Eigenvalues of a Hermitian matrix move by at most ||eps sum_c d_c A_c|| (Weyl's
+    inequality, Horn & Johnson, Matrix Analysis, Thm 4.3.1); the coupling matrices A_c
+    of clusters of a few sites have norms of order 10, so steps eps = g 10^-4, g 10^-9,
+    g 10^-14, with g the smallest gap between the distinct roots at p, move the levels
+    by far less than g / 3 and put the closed form next to exactly one root.  The two
+    smallest steps at which the closed form is defined must pick the same root, each
+    within a third of its local gap.  All levels use the same ray, so the values at p
+    together are the roots with their multiplicities.
     """
-    distinct = sorted(set(roots))
     gap = min(b - a for a, b in zip(distinct, distinct[1:]))
+    decade = int(mpmath.floor(mpmath.log10(gap)))
     syms = sorted(point, key=str)
-    scale = max([abs(v) for v in point.values()] + [sympy.Integer(1)])
     ray = {s: sympy.Rational(7 + 3 * i, 11 + 5 * i) * (-1) ** i for i, s in enumerate(syms)}
     picked = []
-    for exponent in (12, 20, 28):
-        eps = scale * sympy.Rational(1, 10 ** exponent)
+    for below in (4, 9, 14):
+        eps = sympy.Rational(10) ** (decade - below)
         near = {s: point[s] + eps * ray[s] for s in syms}
         try:
-            value = _closed_numeric(energy, near, digits)
+            value = _closed_numeric(energy, near, 2 * digits)
         except (ArithmeticError, ValueError):      # 0/0 again, or not real on this ray
             continue
-        best = min(distinct, key=lambda r: abs(r - value))
-        if abs(best - value) < gap / 3:
-            picked.append(best)
-    if len(picked) >= 2 and all(p == picked[0] for p in picked):
-        return picked[0]
+        picked.append(_unambiguous_root(value, distinct))
+    if len(picked) >= 2 and picked[-1] is not None and picked[-2] == picked[-1]:
+        return picked[-1]
     return None
 
 

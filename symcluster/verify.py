@@ -338,9 +338,10 @@ def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, tries=5
     for attempt in range(tries):
         pt = points[pi]
         try:
-            return [energy_numeric(l.energy, pt, digits + 5, polynomial=l.polynomial)
-                    for l in spectrum.levels]
-        except (ZeroDivisionError, ValueError, ModelError) as exc:
+            # closed forms evaluated as they are (no polynomial): the checks that follow
+            # compare these values with the polynomials and with the blocks
+            return [energy_numeric(l.energy, pt, digits + 5) for l in spectrum.levels]
+        except (ArithmeticError, ValueError, ModelError) as exc:
             last = exc
             # the replacement is drawn like the point it replaces (only the first point
             # has every hopping positive; later points take random signs)

@@ -5,6 +5,7 @@ Jordan-Wigner Kronecker products and shares no code with symcluster.
 """
 
 import functools
+import importlib
 from math import comb
 
 import mpmath
@@ -302,10 +303,49 @@ def test_numeric_in_the_atomic_limit_where_closed_forms_are_zero_over_zero():
     spec = sc.solve(sc.hubbard(c), electrons=2)
     vals = expand(spec.numeric({"t": 0, "tp": 0, "U": 1}))
     assert vals == [0] * 24 + [1] * 4
+    # the same at every scale (homogeneity): E = 0 or U, for tiny U too
+    for k in (12, 20, 40):
+        u = sympy.Rational(1, 10**k)
+        got = expand(spec.numeric({"t": 0, "tp": 0, "U": u}))
+        with mpmath.workdps(60):
+            want = [0] * 24 + [mpmath.mpf(1) / 10**k] * 4
+            assert all(abs(a - b) <= mpmath.mpf(10) ** (-k - 28) for a, b in zip(got, want))
+        assert len(got) == len(want)
+    # four electrons: E = U x (number of doubly occupied sites); C(4,d) C(4-d,4-2d) 2^(4-2d)
+    # states have d of them: 16, 48, 6 for d = 0, 1, 2 (counting)
+    four = sc.solve(sc.hubbard(c), electrons=4)
+    assert expand(four.numeric({"t": 0, "tp": 0, "U": 1})) == [0] * 16 + [1] * 48 + [2] * 6
     # and where only one hopping vanishes, against the independent Fock-space reference
     pt = {"t": 0, "tp": sympy.Rational(-3, 2), "U": sympy.Rational(7, 3)}
     ref = FockReference(4, list(c.bonds)).eigenvalues(pt, n=2)
     assert max_deviation(expand(spec.numeric(pt)), ref) < 1e-9   # float64 reference
+
+
+def test_numeric_keeps_all_digits_where_closed_forms_cancel():
+    # At t = 0, U = 0 the cluster is two free dimers (bonds tp): every level is a sum of
+    # single-particle energies +-tp, an integer for tp = 1 (free fermions, textbook).
+    # Nested radicals lose digits to cancellation there; the returned value is the
+    # certified root of the level's polynomial, right to all requested digits.
+    c = sc.cluster(4, [(0, 1, "t"), (0, 2, "tp"), (1, 3, "tp"), (2, 3, "t")])
+    spec = sc.solve(sc.hubbard(c))
+    for e, _ in spec.numeric({"t": 0, "tp": 1, "U": 0}, digits=30):
+        assert abs(e - mpmath.nint(e)) < mpmath.mpf(10) ** -30
+
+
+def test_a_wrong_closed_form_is_rejected(monkeypatch):
+    # The verification must compare the closed forms themselves (not values re-derived
+    # from their polynomials) with the blocks: a formula off by t/10^6 must be caught.
+    solve_mod = importlib.import_module("symcluster.solve")
+    real = solve_mod.roots_of
+    t = sympy.Symbol("t", real=True)
+
+    def off(poly):
+        out = real(poly)
+        return [r + t / 10**6 if isinstance(r, sympy.Expr) and r.has(t) else r for r in out]
+
+    monkeypatch.setattr(solve_mod, "roots_of", off)
+    with pytest.raises(sc.VerificationError):
+        sc.solve(sc.hubbard(sc.chain(2)), executor="serial")
 
 
 def test_root_check_accepts_a_level_that_is_exactly_zero_at_the_point(monkeypatch):
