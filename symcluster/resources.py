@@ -31,6 +31,7 @@ _FIXED = 30 * 2 ** 20       # caches and first-use imports of a solve
 _PER_STATE = 600            # sparse integer vectors of the solved sectors' states
 _DENSE_COPIES = 2.5         # float64 sector matrix plus the eigensolver's workspace
 _PER_TERM_BIT = 8           # stored level polynomials: per term, per unit of degree
+_PER_WORKER = 100 * 2 ** 20  # a pool process: interpreter and imports (77 MB) plus its block
 
 
 def _sector_dim(n_sites, n_up, n_dn):
@@ -80,7 +81,7 @@ def block_dimensions(n_sites, sectors, plan=None):
     return out
 
 
-def estimate_cost(n_sites, sectors, plan=None, n_free=1):
+def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0):
     """Rough peak memory (bytes) of a solve over ``sectors`` [(N_up, N_dn), ...].
 
     The terms, fitted to measured peaks (docs/performance.md): a fixed part; the
@@ -90,6 +91,7 @@ def estimate_cost(n_sites, sectors, plan=None, n_free=1):
     ``n_free`` free coupling ratios (couplings minus one, by homogeneity) gives
     polynomials with about m^(n_free+1)/(n_free+1)! terms whose integers grow
     linearly with m; two or more free ratios cost about three times more per term.
+    Each process of a local process pool adds its own interpreter and block.
 
     Parameters
     ----------
@@ -98,6 +100,8 @@ def estimate_cost(n_sites, sectors, plan=None, n_free=1):
     plan : SymmetryPlan or None
     n_free : int
         Number of couplings minus one.
+    workers : int
+        Number of pool processes on this machine (each holds its own interpreter).
 
     Returns
     -------
@@ -110,13 +114,15 @@ def estimate_cost(n_sites, sectors, plan=None, n_free=1):
     k = max(1, n_free)
     per_term = _PER_TERM_BIT * (1 if k == 1 else 3)
     polys = sum(m ** (k + 2) for m in block_dimensions(n_sites, sectors, plan)) / factorial(k + 1)
-    dense = _DENSE_COPIES * 8 * min(max(dims), FLOAT_DIM) ** 2
-    return int(_FIXED + _PER_STATE * sum(dims) + dense + per_term * polys)
+    checked = max((d for d in dims if d <= FLOAT_DIM), default=0)   # larger: no float64 check
+    dense = _DENSE_COPIES * 8 * checked ** 2
+    return int(_FIXED + _PER_STATE * sum(dims) + dense + per_term * polys
+               + _PER_WORKER * max(0, workers))
 
 
-def check_size(n_sites, sectors, plan=None, n_free=1, force=False):
+def check_size(n_sites, sectors, plan=None, n_free=1, force=False, workers=0):
     """Raise TooLargeError if a run would clearly exceed the available memory."""
-    need = estimate_cost(n_sites, sectors, plan, n_free)
+    need = estimate_cost(n_sites, sectors, plan, n_free, workers)
     have = available_memory()
     if have is not None and need > 0.8 * have and not force:
         largest = max(block_dimensions(n_sites, sectors, plan), default=0)

@@ -12,7 +12,7 @@ from .algebra.factor import factor_charpoly
 from .algebra.roots import ImplicitRoot, roots_of
 from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
                      sectors_to_solve)
-from .resources import Progress, check_size, submit
+from .resources import Progress, block_dimensions, check_size, submit
 from .errors import ModelError, VerificationError
 from .models import Model
 from .spectrum import Level, Spectrum, VerificationReport
@@ -147,13 +147,26 @@ def _level_order(level):
     return (qn["N"], int(2 * spin), int(2 * qn.get("eta", 0)), str(qn.get("irrep", "")))
 
 
+_POOL_WORK = 2_000_000      # sum of dim^3 over the blocks from which a process pool pays
+
+
 def _default_executor(blocks):
     """A process pool on all cores when the algebra is heavy enough to pay for it."""
     work = sum(b.block.dim ** 3 for b in blocks)
     cores = os.cpu_count() or 1
-    if cores < 2 or work < 2_000_000:
+    if cores < 2 or work < _POOL_WORK:
         return None
     return concurrent.futures.ProcessPoolExecutor(max_workers=cores)
+
+
+def _expected_workers(executor, dims):
+    """Local pool processes a solve will start or use, for the memory estimate."""
+    if executor is None:
+        cores = os.cpu_count() or 1
+        return cores if cores >= 2 and sum(m ** 3 for m in dims) >= _POOL_WORK else 0
+    if isinstance(executor, concurrent.futures.ProcessPoolExecutor):
+        return getattr(executor, "_max_workers", os.cpu_count() or 1)
+    return 0       # "serial", threads, or a remote engine: no local processes
 
 
 def _run_blocks(blocks, names, executor, progress):
@@ -227,8 +240,10 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     timings = {}
     t0 = time.perf_counter()
     plan = plan_symmetries(model, lattice=lattice, spin=spin, eta=eta)
-    estimate = check_size(model.n_sites, sectors_to_solve(model.n_sites, plan, wanted), plan,
-                          len(model.labels) - 1, force)
+    sectors = sectors_to_solve(model.n_sites, plan, wanted)
+    estimate = check_size(model.n_sites, sectors, plan, len(model.labels) - 1, force,
+                          _expected_workers(executor, block_dimensions(model.n_sites, sectors,
+                                                                       plan)))
     timings["memory_estimate_bytes"] = estimate
     sizes = []
     blocks = build_blocks(model, plan, wanted, report=sizes)

@@ -1,6 +1,7 @@
 """Memory guard, progress line and the executor interface of sc.solve."""
 
 import concurrent.futures
+import importlib
 import io
 
 import pytest
@@ -62,6 +63,11 @@ def test_counting_without_symmetry_gives_the_sector_dimensions():
 def test_ten_site_ring_is_refused_on_a_24_gib_machine(monkeypatch):
     # ring(10) at half filling has blocks of thousands of states: refused before any work
     monkeypatch.setattr(resources, "available_memory", lambda: 24 * 2 ** 30)
+
+    def must_not_run(*args, **kwargs):
+        raise AssertionError("the guard let ring(10) through to the block construction")
+
+    monkeypatch.setattr(importlib.import_module("symcluster.solve"), "build_blocks", must_not_run)
     with pytest.raises(TooLargeError) as info:
         sc.solve(sc.hubbard(sc.ring(10)))
     msg = str(info.value)
@@ -151,3 +157,22 @@ def test_thread_pool_tasks_run_one_at_a_time():
         results = [f.result() for f in [submit(pool, task, k) for k in range(8)]]
     assert results == list(range(8))
     assert state["most"] == 1, "thread-pool tasks overlapped"
+
+
+def test_pool_processes_add_to_the_estimate():
+    # each local pool process holds its own interpreter: more workers, larger estimate
+    model = sc.hubbard(sc.ring(6))
+    plan = plan_symmetries(model)
+    sectors = sectors_to_solve(6, plan)
+    alone = resources.estimate_cost(6, sectors, plan, 1, workers=0)
+    pooled = resources.estimate_cost(6, sectors, plan, 1, workers=2)
+    assert pooled - alone == 2 * resources._PER_WORKER
+
+
+def test_sectors_too_large_for_float64_checks_cost_no_dense_matrix():
+    # a sector above verify.FLOAT_DIM is not diagonalised in float64 (docs/verification.md)
+    from symcluster.verify import FLOAT_DIM
+    big = [(5, 5)]                                   # C(10,5)^2 = 63504 states
+    assert 252 ** 2 > FLOAT_DIM
+    est = resources.estimate_cost(10, big)      # no symmetry: one block of 63504 states
+    assert est - resources._FIXED - resources._PER_STATE * 252 ** 2 == 8 * 63504 ** 3 // 2
