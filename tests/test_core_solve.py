@@ -315,7 +315,8 @@ def test_numeric_in_the_atomic_limit_where_closed_forms_are_zero_over_zero():
     # states have d of them: 16, 48, 6 for d = 0, 1, 2 (counting)
     four = sc.solve(sc.hubbard(c), electrons=4)
     assert expand(four.numeric({"t": 0, "tp": 0, "U": 1})) == [0] * 16 + [1] * 48 + [2] * 6
-    # and where only one hopping vanishes, against the independent Fock-space reference
+    # where only one hopping vanishes the closed forms are defined and only choose their
+    # roots; against the independent Fock-space reference
     pt = {"t": 0, "tp": sympy.Rational(-3, 2), "U": sympy.Rational(7, 3)}
     ref = FockReference(4, list(c.bonds)).eigenvalues(pt, n=2)
     assert max_deviation(expand(spec.numeric(pt)), ref) < 1e-9   # float64 reference
