@@ -341,11 +341,13 @@ def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, tries=5
             # closed forms evaluated as they are (no polynomial): the checks that follow
             # compare these values with the polynomials and with the blocks
             return [energy_numeric(l.energy, pt, digits + 5) for l in spectrum.levels]
-        except (ArithmeticError, ValueError, ModelError) as exc:
+        except (ZeroDivisionError, ValueError, ModelError) as exc:
             last = exc
             # the replacement is drawn like the point it replaces (only the first point
             # has every hopping positive; later points take random signs)
             points[pi] = random_points(symbols, pi + 1, seed + 1000 * (attempt + 1))[pi]
+        except ArithmeticError as exc:   # a closed form that is not real: wrong, not unlucky
+            _fail(str(exc))
     _fail(f"no usable verification point after {tries} draws ({last})")
 
 

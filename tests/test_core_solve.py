@@ -349,6 +349,34 @@ def test_a_wrong_closed_form_is_rejected(monkeypatch):
         sc.solve(sc.hubbard(sc.chain(2)), executor="serial")
 
 
+def test_a_closed_form_that_is_not_real_at_a_point_is_rejected_not_redrawn(monkeypatch):
+    # sqrt(t) - sqrt(t^3)/t is 0 for t > 0 and imaginary for t < 0: added to every closed
+    # form, the levels are right on half of the parameter space only. A verification point
+    # with t < 0 must reject them; redrawing it until t > 0 would accept a wrong formula.
+    verify_mod = importlib.import_module("symcluster.verify")
+    solve_mod = importlib.import_module("symcluster.solve")
+    real_roots, real_points = solve_mod.roots_of, verify_mod.random_points
+    t = sympy.Symbol("t", real=True)
+    bad = sympy.sqrt(t) - sympy.sqrt(t**3) / t
+
+    def partly_wrong(poly):
+        return [r + bad if isinstance(r, sympy.Expr) and r.has(t) else r
+                for r in real_roots(poly)]
+
+    def points(symbols, count, seed):
+        pts = real_points(symbols, count, seed)
+        if len(pts) > 1 and seed < 1000:          # the second first-draw point: t < 0;
+            pts[1] = {s: (-abs(v) if s.name == "t" else v) for s, v in pts[1].items()}
+        else:                                     # any redraw: t > 0
+            pts = [{s: (abs(v) if s.name == "t" else v) for s, v in p.items()} for p in pts]
+        return pts
+
+    monkeypatch.setattr(solve_mod, "roots_of", partly_wrong)
+    monkeypatch.setattr(verify_mod, "random_points", points)
+    with pytest.raises(sc.VerificationError, match="not real"):
+        sc.solve(sc.hubbard(sc.ring(3)), executor="serial", seed=5)
+
+
 def test_root_check_accepts_a_level_that_is_exactly_zero_at_the_point(monkeypatch):
     # Regression (seen in CI): on two disconnected dimers (t, tp) the level U - t + tp
     # is exactly 0 at t = 573/131, tp = 824/131, U = -251/131. Its 30-digit value is
