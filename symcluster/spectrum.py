@@ -122,14 +122,14 @@ def energy_numeric(energy, point, digits=30, polynomial=None):
     root of that polynomial the level is; the value returned is that root, isolated
     with a certificate like an implicit root, so all `digits` digits are right even
     where the closed form itself loses digits to cancellation (nested radicals at
-    t = 0 or U = 0).  The choice is made as follows:
+    t = 0 or U = 0, or couplings of very different sizes).  The choice:
 
     * all roots of the polynomial coincide at the point: that root;
-    * the closed form is defined there: the distinct root nearest its value, accepted
-      only when the distance is below a third of the gap to that root's neighbours
-      (the closed form is re-evaluated with more working digits until it is);
-    * the closed form is 0/0 or not real there: its limit along a fixed ray
-      (:func:`_limit_along_a_ray`).
+    * otherwise the closed form is evaluated in ball arithmetic (python-flint ``arb``),
+      which encloses its exact value, at doubling precision until the enclosure
+      overlaps exactly one of the certified roots: that root (a rigorous choice);
+    * where that never happens because the closed form is 0/0 or its sign terms are
+      undecidable at the point: its limit along a fixed ray (:func:`_limit_along_a_ray`).
 
     Without `polynomial`, a closed form is evaluated directly with mpmath at
     ``2 digits + 10`` working digits; the verification does this, so that its
@@ -144,42 +144,126 @@ def energy_numeric(energy, point, digits=30, polynomial=None):
         return energy.numeric(point, digits=digits)
     if polynomial is None:
         return _closed_numeric(energy, point, digits)
-    roots = real_roots_at(polynomial, point, digits)
-    distinct = sorted(set(roots))
+    distinct = sorted(set(real_roots_at(polynomial, point, digits)))
     if len(distinct) == 1:
         return distinct[0]
-    defined = False
-    for work in (digits, 2 * digits, 4 * digits):
-        try:
-            value = _closed_numeric(energy, point, work)
-        except ZeroDivisionError:                  # 0/0 at the point itself
-            break
-        except (ArithmeticError, ValueError):      # rounding made it complex: more digits
-            continue
-        defined = True
-        chosen = _unambiguous_root(value, distinct)
-        if chosen is not None:
-            return chosen
-    if defined:
+    chosen = _enclosed_root(energy, point, polynomial, digits)
+    if chosen is None:
+        chosen = _limit_along_a_ray(energy, point, digits, polynomial, distinct)
+    if chosen is None:
         raise ModelError(
-            f"cannot tell which root of its polynomial the level {energy} is at {point} "
-            "(roots closer than the closed form's accuracy); evaluate at a nearby point")
-    limit = _limit_along_a_ray(energy, point, digits, distinct)
-    if limit is None:
-        raise ModelError(
-            f"the closed form {energy} is undefined at {point} (0/0 where roots of its "
+            f"the closed form {energy} cannot be evaluated at {point} (0/0 where roots of its "
             "polynomial merge); evaluate at a nearby point")
-    return limit
+    with mpmath.workdps(digits):
+        return +chosen
 
 
-def _unambiguous_root(value, distinct):
-    """The root in `distinct` nearest `value` if closer than a third of its local gap."""
-    k = min(range(len(distinct)), key=lambda i: abs(distinct[i] - value))
-    gaps = [abs(distinct[j] - distinct[k]) for j in (k - 1, k + 1) if 0 <= j < len(distinct)]
-    return distinct[k] if abs(distinct[k] - value) < min(gaps) / 3 else None
+class _Undecided(Exception):
+    """A ball contains 0 where a sign or a division needs to know it is not 0."""
 
 
-def _limit_along_a_ray(energy, point, digits, distinct):
+_ARB_FUNCS = {sympy.cos: "cos", sympy.sin: "sin", sympy.tan: "tan", sympy.atan: "atan",
+              sympy.exp: "exp"}
+
+
+def _arb_eval(expr, env):
+    """Enclosure (python-flint arb) of a real closed form at the current flint precision.
+
+    Square roots and arc cosines of balls that reach past their domain use only the
+    admissible part (a correct real closed form never leaves its domain).  Raises
+    :class:`_Undecided` where a ball containing 0 is divided by or asked for its sign,
+    and NotImplementedError for node types closed forms are not made of.
+    """
+    import flint
+    if expr.is_Symbol:
+        return env[expr]
+    if expr.is_Rational:
+        return flint.arb(flint.fmpq(int(expr.p), int(expr.q)))
+    if expr is sympy.pi:
+        return flint.arb.pi()
+    if expr.is_Add or expr.is_Mul:
+        out = flint.arb(0 if expr.is_Add else 1)
+        for a in expr.args:
+            out = out + _arb_eval(a, env) if expr.is_Add else out * _arb_eval(a, env)
+        return out
+    if expr.is_Pow and expr.exp.is_Rational and expr.exp.q in (1, 2):
+        base = _arb_eval(expr.base, env)
+        p = int(expr.exp.p)
+        if expr.exp.q == 2:
+            base = base.nonnegative_part().sqrt()
+        if p < 0 and base.contains(0):
+            raise _Undecided
+        return base ** p
+    f = expr.func
+    if f in (sympy.acos, sympy.asin):
+        x = _arb_eval(expr.args[0], env)
+        lo, hi = (1 - x).nonnegative_part().sqrt(), (1 + x).nonnegative_part().sqrt()
+        acos = 2 * flint.arb.atan2(lo, hi)        # acos x = 2 atan2(sqrt(1-x), sqrt(1+x))
+        return acos if f is sympy.acos else flint.arb.pi() / 2 - acos
+    if f is sympy.sign:
+        x = _arb_eval(expr.args[0], env)
+        if x.is_zero():
+            return flint.arb(0)
+        if x > 0 or x < 0:
+            return flint.arb(1 if x > 0 else -1)
+        raise _Undecided
+    if f is sympy.Abs:
+        return abs(_arb_eval(expr.args[0], env))
+    if f is sympy.log:
+        x = _arb_eval(expr.args[0], env)
+        if not x > 0:
+            raise _Undecided
+        return x.log()
+    name = _ARB_FUNCS.get(f)
+    if name is None:
+        raise NotImplementedError(f"ball evaluation of {f}")
+    return getattr(_arb_eval(expr.args[0], env), name)()
+
+
+def _arb_of(value):
+    """The exact value of an mpmath.mpf as an arb."""
+    import flint
+    sign, man, exp, _ = value._mpf_
+    if not man:
+        return flint.arb(0)
+    return flint.arb(flint.fmpz(-man if sign else man)) * flint.arb(2) ** int(exp)
+
+
+def _enclosed_root(energy, point, polynomial, digits, max_bits=2 ** 14):
+    """The root of `polynomial` at `point` that the closed form's enclosure singles out.
+
+    Roots are isolated at 2 w + 10 digits for w = bits / 6.6, each widened to a ball of
+    relative radius 2^(8 - bits) (above their rounding error); the closed form's ball
+    must overlap exactly one distinct root.  None if that does not happen by
+    `max_bits` (0/0, or undecidable signs at the point).
+    """
+    import flint
+    bits = 8 * (digits + 10)
+    while bits <= max_bits:
+        work = int(bits / 6.6)
+        roots = sorted(set(real_roots_at(polynomial, point, 2 * work + 10)))
+        with flint.ctx.workprec(bits):
+            env = {s: flint.arb(flint.fmpq(int(point[s].p), int(point[s].q)))
+                   for s in energy.free_symbols}
+            try:
+                ball = _arb_eval(energy, env)
+            except _Undecided:
+                ball = None
+            except NotImplementedError:
+                return None
+            if ball is not None and ball.is_finite():
+                hits = []
+                for r in roots:
+                    mid = _arb_of(r)
+                    if ball.overlaps(mid + flint.arb(0, 1) * abs(mid) * flint.arb(2) ** (8 - bits)):
+                        hits.append(r)
+                if len(hits) == 1:
+                    return hits[0]
+        bits *= 2
+    return None
+
+
+def _limit_along_a_ray(energy, point, digits, polynomial, distinct):
     """The root in `distinct` that the closed form tends to at `point`, or None.
 
     Where a closed form is 0/0 (several roots of its polynomial merge, e.g. every
@@ -188,10 +272,11 @@ def _limit_along_a_ray(energy, point, digits, distinct):
     inequality, Horn & Johnson, Matrix Analysis, Thm 4.3.1); the coupling matrices A_c
     of clusters of a few sites have norms of order 10, so steps eps = g 10^-4, g 10^-9,
     g 10^-14, with g the smallest gap between the distinct roots at p, move the levels
-    by far less than g / 3 and put the closed form next to exactly one root.  The two
-    smallest steps at which the closed form is defined must pick the same root, each
-    within a third of its local gap.  All levels use the same ray, so the values at p
-    together are the roots with their multiplicities.
+    by far less than g / 3.  At each step the closed form's value near p is the root
+    its enclosure singles out there (:func:`_enclosed_root`), and it must lie within a
+    third of the local gap of one root at p.  The two smallest steps that give a value
+    must pick the same root.  All levels use the same ray, so the values at p together
+    are the roots with their multiplicities.
     """
     gap = min(b - a for a, b in zip(distinct, distinct[1:]))
     decade = int(mpmath.floor(mpmath.log10(gap)))
@@ -201,14 +286,21 @@ def _limit_along_a_ray(energy, point, digits, distinct):
     for below in (4, 9, 14):
         eps = sympy.Rational(10) ** (decade - below)
         near = {s: point[s] + eps * ray[s] for s in syms}
-        try:
-            value = _closed_numeric(energy, near, 2 * digits)
-        except (ArithmeticError, ValueError):      # 0/0 again, or not real on this ray
-            continue
-        picked.append(_unambiguous_root(value, distinct))
+        nearby = sorted(set(real_roots_at(polynomial, near, digits)))
+        value = nearby[0] if len(nearby) == 1 else _enclosed_root(energy, near, polynomial,
+                                                                  digits)
+        if value is not None:
+            picked.append(_unambiguous_root(value, distinct))
     if len(picked) >= 2 and picked[-1] is not None and picked[-2] == picked[-1]:
         return picked[-1]
     return None
+
+
+def _unambiguous_root(value, distinct):
+    """The root in `distinct` nearest `value` if closer than a third of its local gap."""
+    k = min(range(len(distinct)), key=lambda i: abs(distinct[i] - value))
+    gaps = [abs(distinct[j] - distinct[k]) for j in (k - 1, k + 1) if 0 <= j < len(distinct)]
+    return distinct[k] if abs(distinct[k] - value) < min(gaps) / 3 else None
 
 
 def _closed_numeric(energy, point, digits):

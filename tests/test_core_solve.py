@@ -333,6 +333,38 @@ def test_numeric_keeps_all_digits_where_closed_forms_cancel():
         assert abs(e - mpmath.nint(e)) < mpmath.mpf(10) ** -30
 
 
+@pytest.mark.parametrize("digits", [10, 30])
+def test_numeric_at_extreme_coupling_ratios_is_right_level_by_level(digits):
+    # Regression (a reviewer's case): at t = 0, tp = 1, U = 10^80 the closed forms lose all
+    # their digits to cancellation, and three levels of one quartic returned the same root.
+    # At t = 0 the cluster is two Hubbard dimers (bonds tp). Two electrons on one dimer:
+    # U/2 -+ sqrt(U^2/4 + 4 tp^2), U, and the triplet 0 (x3) (the two-site Hubbard model,
+    # a 4x4 diagonalization by hand); one on each dimer: sums of +-tp, 4 spin states each
+    # (free fermions). Each dimer holds the pair once, so the pair levels come twice.
+    c = sc.cluster(4, [(0, 1, "t"), (0, 2, "tp"), (1, 3, "tp"), (2, 3, "t")])
+    spec = sc.solve(sc.hubbard(c), electrons=2)
+    U = 10**80
+    got = sorted(expand(spec.numeric({"t": 0, "tp": 1, "U": U}, digits=digits)))
+    with mpmath.workdps(200):
+        u = mpmath.mpf(U)
+        root = mpmath.sqrt(u**2 / 4 + 4)
+        pair = [u / 2 - root, u / 2 + root, u, 0, 0, 0]
+        want = sorted(pair * 2 + [-2] * 4 + [0] * 8 + [2] * 4)
+        assert len(got) == len(want) == comb(8, 2)
+        for a, b in zip(got, want):
+            assert abs(a - b) <= abs(b) * mpmath.mpf(10) ** (1 - digits)
+
+
+def test_numeric_at_low_digits_where_roots_differ_in_the_last_digit():
+    # Regression (a reviewer's case): at t = 3e-12, U = 1 and digits = 10 two roots of one
+    # polynomial round to neighbouring 10-digit numbers; the choice of root must not fail.
+    # Against the independent Fock-space reference (float64).
+    pt = {"t": sympy.Rational(3, 10**12), "U": 1}
+    spec = solved("ring(4)")
+    ref = FockReference(4, [(i, (i + 1) % 4, "t") for i in range(4)]).eigenvalues(pt)
+    assert max_deviation(expand(spec.numeric(pt, digits=10)), ref) < 1e-9
+
+
 def test_a_wrong_closed_form_is_rejected(monkeypatch):
     # The verification must compare the closed forms themselves (not values re-derived
     # from their polynomials) with the blocks: a formula off by t/10^6 must be caught.
