@@ -190,6 +190,8 @@ def _arb_eval(expr, env):
         base = _arb_eval(expr.base, env)
         p = int(expr.exp.p)
         if expr.exp.q == 2:
+            if base < 0:                     # certainly negative: not a real closed form here
+                raise _Undecided
             base = base.nonnegative_part().sqrt()
         if p < 0 and base.contains(0):
             raise _Undecided
@@ -197,6 +199,8 @@ def _arb_eval(expr, env):
     f = expr.func
     if f in (sympy.acos, sympy.asin):
         x = _arb_eval(expr.args[0], env)
+        if x > 1 or x < -1:                  # certainly outside the domain
+            raise _Undecided
         lo, hi = (1 - x).nonnegative_part().sqrt(), (1 + x).nonnegative_part().sqrt()
         acos = 2 * flint.arb.atan2(lo, hi)        # acos x = 2 atan2(sqrt(1-x), sqrt(1+x))
         return acos if f is sympy.acos else flint.arb.pi() / 2 - acos
@@ -229,16 +233,17 @@ def _arb_of(value):
     return flint.arb(flint.fmpz(-man if sign else man)) * flint.arb(2) ** int(exp)
 
 
-def _enclosed_root(energy, point, polynomial, digits, max_bits=2 ** 14):
+def _enclosed_root(energy, point, polynomial, digits):
     """The root of `polynomial` at `point` that the closed form's enclosure singles out.
 
     Roots are isolated at 2 w + 10 digits for w = bits / 6.6, each widened to a ball of
     relative radius 2^(8 - bits) (above their rounding error); the closed form's ball
-    must overlap exactly one distinct root.  None if that does not happen by
-    `max_bits` (0/0, or undecidable signs at the point).
+    must overlap exactly one distinct root.  None if that does not happen within four
+    doublings of the starting precision (0/0, or undecidable signs at the point).
     """
     import flint
     bits = 8 * (digits + 10)
+    max_bits = max(2 ** 14, 16 * bits)
     while bits <= max_bits:
         work = int(bits / 6.6)
         roots = sorted(set(real_roots_at(polynomial, point, 2 * work + 10)))

@@ -365,6 +365,22 @@ def test_numeric_at_low_digits_where_roots_differ_in_the_last_digit():
     assert max_deviation(expand(spec.numeric(pt, digits=10)), ref) < 1e-9
 
 
+def test_numeric_at_thousands_of_digits_picks_the_same_root():
+    # Regression (a reviewer's case): the precision cap of the root choice stopped any
+    # request above ~2000 digits. The trigonometric (acos) levels of ring(4) at 2100 digits
+    # must agree with their own closed forms evaluated directly by sympy at 50 digits.
+    spec = solved("ring(4)")
+    point = {sympy.Symbol("t", real=True): 1, sympy.Symbol("U", real=True): 4}
+    trig = [lev for lev in spec.levels if isinstance(lev.energy, sympy.Expr)
+            and lev.energy.has(sympy.acos)]
+    assert trig
+    for lev in trig:
+        big = lev.numeric({"t": 1, "U": 4}, digits=2100)
+        with mpmath.workdps(60):
+            direct = mpmath.mpf(str(sympy.N(lev.energy.subs(point), 50)))
+            assert abs(big - direct) < mpmath.mpf(10) ** -40
+
+
 def test_a_wrong_closed_form_is_rejected(monkeypatch):
     # The verification must compare the closed forms themselves (not values re-derived
     # from their polynomials) with the blocks: a formula off by t/10^6 must be caught.
@@ -523,3 +539,21 @@ def test_a_redrawn_second_point_keeps_random_signs(monkeypatch):
         replacements.append(dict(seen[2]))
     # ten independent draws with all-positive hopping would have probability 2^-10
     assert any(pt["t"] < 0 for pt in replacements), replacements
+
+
+def test_ball_evaluation_refuses_arguments_certainly_outside_the_domain():
+    # sqrt of a negative number or acos of 2 is not a real closed form: the ball evaluation
+    # must not clamp it to the domain edge (a wrong value); it declines instead.
+    import flint
+    from symcluster.spectrum import _arb_eval, _Undecided
+    x = sympy.Symbol("x")
+    env = {x: flint.arb(-2)}
+    for expr in (sympy.sqrt(x), sympy.acos(x), sympy.asin(-x)):
+        with pytest.raises(_Undecided):
+            _arb_eval(expr, env)
+    # inside the domain the enclosure contains the value (mpmath at 30 digits)
+    env = {x: flint.arb(flint.fmpq(1, 3))}
+    for expr, ref in ((sympy.sqrt(x), mpmath.sqrt), (sympy.acos(x), mpmath.acos),
+                      (sympy.asin(x), mpmath.asin)):
+        with mpmath.workdps(30):
+            assert _arb_eval(expr, env).contains(flint.arb(str(ref(mpmath.mpf(1) / 3))))
