@@ -245,8 +245,6 @@ def _enclosed_root(energy, point, polynomial, digits):
     bits = 8 * (digits + 10)
     max_bits = max(2 ** 14, 16 * bits)
     while bits <= max_bits:
-        work = int(bits / 6.6)
-        roots = sorted(set(real_roots_at(polynomial, point, 2 * work + 10)))
         with flint.ctx.workprec(bits):
             env = {s: flint.arb(flint.fmpq(int(point[s].p), int(point[s].q)))
                    for s in energy.free_symbols}
@@ -256,14 +254,13 @@ def _enclosed_root(energy, point, polynomial, digits):
                 ball = None
             except NotImplementedError:
                 return None
-            if ball is not None and ball.is_finite():
-                hits = []
-                for r in roots:
-                    mid = _arb_of(r)
-                    if ball.overlaps(mid + flint.arb(0, 1) * abs(mid) * flint.arb(2) ** (8 - bits)):
-                        hits.append(r)
-                if len(hits) == 1:
-                    return hits[0]
+        if ball is not None and ball.is_finite():    # only then are the roots needed
+            roots = sorted(set(real_roots_at(polynomial, point, 2 * int(bits / 6.6) + 10)))
+            with flint.ctx.workprec(bits):
+                hits = [r for r in roots if ball.overlaps(
+                    _arb_of(r) + flint.arb(0, 1) * abs(_arb_of(r)) * flint.arb(2) ** (8 - bits))]
+            if len(hits) == 1:
+                return hits[0]
         bits *= 2
     return None
 
