@@ -145,9 +145,7 @@ def energy_numeric(energy, point, digits=30, polynomial=None):
     if polynomial is None:
         return _closed_numeric(energy, point, digits)
     distinct = sorted(set(real_roots_at(polynomial, point, digits)))
-    if len(distinct) == 1:
-        return distinct[0]
-    chosen = _enclosed_root(energy, point, polynomial, digits)
+    chosen = _designated_root(energy, point, polynomial, digits, distinct)
     if chosen is None:
         chosen = _limit_along_a_ray(energy, point, digits, polynomial, distinct)
     if chosen is None:
@@ -233,6 +231,13 @@ def _arb_of(value):
     return flint.arb(flint.fmpz(-man if sign else man)) * flint.arb(2) ** int(exp)
 
 
+def _designated_root(energy, point, polynomial, digits, distinct):
+    """The merged root if `distinct` has one element, else :func:`_enclosed_root`."""
+    if len(distinct) == 1:
+        return distinct[0]
+    return _enclosed_root(energy, point, polynomial, digits)
+
+
 def _enclosed_root(energy, point, polynomial, digits):
     """The root of `polynomial` at `point` that the closed form's enclosure singles out.
 
@@ -257,8 +262,9 @@ def _enclosed_root(energy, point, polynomial, digits):
         if ball is not None and ball.is_finite():    # only then are the roots needed
             roots = sorted(set(real_roots_at(polynomial, point, 2 * int(bits / 6.6) + 10)))
             with flint.ctx.workprec(bits):
-                hits = [r for r in roots if ball.overlaps(
-                    _arb_of(r) + flint.arb(0, 1) * abs(_arb_of(r)) * flint.arb(2) ** (8 - bits))]
+                widen = flint.arb(0, 1) * flint.arb(2) ** (8 - bits)
+                mids = [(r, _arb_of(r)) for r in roots]
+                hits = [r for r, mid in mids if ball.overlaps(mid + widen * abs(mid))]
             if len(hits) == 1:
                 return hits[0]
         bits *= 2
@@ -289,8 +295,7 @@ def _limit_along_a_ray(energy, point, digits, polynomial, distinct):
         eps = sympy.Rational(10) ** (decade - below)
         near = {s: point[s] + eps * ray[s] for s in syms}
         nearby = sorted(set(real_roots_at(polynomial, near, digits)))
-        value = nearby[0] if len(nearby) == 1 else _enclosed_root(energy, near, polynomial,
-                                                                  digits)
+        value = _designated_root(energy, near, polynomial, digits, nearby)
         if value is not None:
             picked.append(_unambiguous_root(value, distinct))
     if len(picked) >= 2 and picked[-1] is not None and picked[-2] == picked[-1]:
