@@ -150,20 +150,23 @@ def _level_order(level):
 _POOL_WORK = 2_000_000      # sum of dim^3 over the blocks from which a process pool pays
 
 
+def _pool_workers(dims):
+    """Processes of the default pool for blocks of these dimensions: all cores, or 0
+    when the algebra is too light to pay for a pool (or there is one core)."""
+    cores = os.cpu_count() or 1
+    return cores if cores >= 2 and sum(m ** 3 for m in dims) >= _POOL_WORK else 0
+
+
 def _default_executor(blocks):
     """A process pool on all cores when the algebra is heavy enough to pay for it."""
-    work = sum(b.block.dim ** 3 for b in blocks)
-    cores = os.cpu_count() or 1
-    if cores < 2 or work < _POOL_WORK:
-        return None
-    return concurrent.futures.ProcessPoolExecutor(max_workers=cores)
+    workers = _pool_workers([b.block.dim for b in blocks])
+    return concurrent.futures.ProcessPoolExecutor(max_workers=workers) if workers else None
 
 
 def _expected_workers(executor, dims):
     """Local pool processes a solve will start or use, for the memory estimate."""
     if executor is None:
-        cores = os.cpu_count() or 1
-        return cores if cores >= 2 and sum(m ** 3 for m in dims) >= _POOL_WORK else 0
+        return _pool_workers(dims)
     if isinstance(executor, concurrent.futures.ProcessPoolExecutor):
         return getattr(executor, "_max_workers", os.cpu_count() or 1)
     return 0       # "serial", threads, or a remote engine: no local processes
