@@ -340,7 +340,16 @@ def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, tries=5
         try:
             # closed forms evaluated as they are (no polynomial): the checks that follow
             # compare these values with the polynomials and with the blocks
-            return [energy_numeric(l.energy, pt, digits + 5) for l in spectrum.levels]
+            # levels that share an energy (multiplets in several label sets, twins) share
+            # its value: each distinct closed form or implicit root is evaluated once
+            seen = {}
+            out = []
+            for lev in spectrum.levels:
+                val = seen.get(lev.energy)
+                if val is None:
+                    val = seen[lev.energy] = energy_numeric(lev.energy, pt, digits + 5)
+                out.append(val)
+            return out
         except (ZeroDivisionError, ValueError, ModelError) as exc:
             last = exc
             # the replacement is drawn like the point it replaces (only the first point
@@ -385,6 +394,7 @@ def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, execut
     primes = [int(sympy.nextprime(rng.randrange(2 ** 61, 2 ** 62))) for _ in points]
     report.primes = primes
     coeff_cache = {}
+    sums_cache = {}
     _TERMS.clear()
     wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
 
@@ -458,7 +468,7 @@ def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, execut
                 continue
             states = sector_states(L, n_up, n_dn)
             terms = _sector_terms(model, states)
-            _check_sum_rules(spectrum, members, terms, dim, (n_up, n_dn))
+            _check_sum_rules(spectrum, members, terms, dim, (n_up, n_dn), sums_cache)
             mirrored = (("spin" in proven and n_up < n_dn)
                         or ("eta" in proven and n > L and (2 * L - n) in wanted))
             if mirrored:
@@ -533,11 +543,15 @@ def _factor_groups(spectrum, members, sector):
     return out
 
 
-def _check_sum_rules(spectrum, members, terms, dim, sector):
+def _check_sum_rules(spectrum, members, terms, dim, sector, sums_cache):
     tr1, tr2 = _traces(terms)
     s1, s2 = {}, {}
     for p, share in _factor_groups(spectrum, members, sector):
-        e1, e2 = _power_sums(p)
+        # one polynomial appears in every Sz sector of its multiplet: Vieta once per run
+        hit = sums_cache.get(id(p))
+        if hit is None or hit[0] is not p:
+            hit = sums_cache[id(p)] = (p, _power_sums(p))
+        e1, e2 = hit[1]
         _padd(s1, e1, share)
         _padd(s2, e2, share)
     if _clean(_padd(s1, tr1, -1)) or _clean(_padd(s2, tr2, -1)):
