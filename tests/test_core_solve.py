@@ -23,6 +23,7 @@ SHAPES = {
     "ring(3)": lambda: sc.ring(3),
     "ring(4)": lambda: sc.ring(4),
     "ring(5)": lambda: sc.ring(5),
+    "ring(6)": lambda: sc.ring(6),
     "star(4)": lambda: sc.star(4),
     "tetrahedron": lambda: sc.tetrahedron(),
 }
@@ -110,7 +111,7 @@ def _single_particle(kind, L, tv):
 
 
 @pytest.mark.parametrize("kind, L", [("chain", 2), ("chain", 3), ("chain", 4), ("chain", 5),
-                                     ("ring", 3), ("ring", 4),
+                                     ("ring", 3), ("ring", 4), ("ring", 6),
                                      pytest.param("ring", 5, marks=pytest.mark.slow)])
 @pytest.mark.parametrize("tv", [1, sympy.Rational(-5, 3)])
 def test_free_electrons(kind, L, tv):

@@ -89,22 +89,61 @@ def _lieb_wu(L, N, M, I, J, u, guess):
     return x[:N], x[N:], res
 
 
-@pytest.mark.parametrize("uv", [4, 2, 8])
-def test_bethe_ansatz_ring4_half_filling(uv):
-    # L = 4, N = 4, M = 2, I = {-1, 0, 1, 2}, J = +-1/2 (references.md), E = -2t sum cos k_j,
-    # compared with the solver's N = 4 ground level at 20 digits
+def _bethe_ground_state(L, uv):
+    """Lieb-Wu ground state of the half-filled L-ring: (energy, total momentum / pi).
+
+    Quantum numbers (references.md; E. H. Lieb, F. Y. Wu, PRL 20, 1445 (1968), from memory):
+    N = L, M = L/2 down spins; I_j integer if M is even, half-odd if M is odd, the L values
+    nearest 0 with the extra one on the positive side; J_a integer if N - M is odd, half-odd
+    if N - M is even, the M values nearest 0.  For L = 4 and 6 these are the sets listed in
+    references.md.  Summing the first equation over j and using the second (the
+    atan((lam_a - lam_b)/2u) terms cancel in pairs) gives the total momentum
+    P = sum_j k_j = 2 pi (sum I + sum J) / L (derived here, not quoted).
+    """
+    M = L // 2
+    half_i = M % 2 == 1
+    half_j = (L - M) % 2 == 0
+    i0 = sympy.Rational(1, 2) if half_i else 0
+    I = sorted(sorted((i0 + n for n in range(-L, L + 1)), key=lambda x: (abs(x), -x))[:L])
+    j0 = sympy.Rational(1, 2) if half_j else 0
+    J = sorted(sorted((j0 + n for n in range(-M, M + 1)), key=lambda x: (abs(x), -x))[:M])
+    momentum = (sum(I) + sum(J)) * sympy.Rational(2, L)         # exact, in units of pi
+    I, J = [_mpq(i) for i in I], [_mpq(j) for j in J]
+    guess = [2 * mpmath.pi * i / L for i in I] + J
+    k, lam, res = _lieb_wu(L, L, M, I, J, mpmath.mpf(uv) / 4, guess)
+    assert res < mpmath.mpf(10) ** -35, f"Bethe equations not solved: residual {res}"
+    return -2 * sum(mpmath.cos(kj) for kj in k), momentum
+
+
+def _lowest_level(spec, values, digits=30):
+    pt = spec.point(values)
+    return min(((l.numeric(pt, digits=digits), l) for l in spec.levels), key=lambda x: x[0])
+
+
+def _same_momentum(k_label, momentum_over_pi):
+    """k (a sympy multiple of pi in (-pi, pi]) equals momentum_over_pi * pi modulo 2 pi."""
+    return (sympy.nsimplify(k_label / sympy.pi) - momentum_over_pi) % 2 == 0
+
+
+@pytest.mark.parametrize("L, uv", [(4, 4), (4, 2), (4, 8),
+                                   (6, 4), (6, 1),
+                                   pytest.param(8, 4, marks=pytest.mark.slow)])
+def test_bethe_ansatz_ring_half_filling(L, uv):
+    # half-filled L-ring: the Lieb-Wu ground state energy E = -2t sum cos k_j equals the
+    # solver's lowest level at 20 digits (for L = 6 and 8 an implicit root of a
+    # high-degree factor), that level is a non-degenerate singlet (Lieb 1989, theorem (b),
+    # S = 0 on a bipartite ring), and its momentum label is the Bethe state's total momentum
     with mpmath.workdps(40):
-        I = [-1, 0, 1, 2]
-        J = [mpmath.mpf(-1) / 2, mpmath.mpf(1) / 2]
-        guess = [2 * mpmath.pi * i / 4 for i in I] + [mpmath.mpf(-0.5), mpmath.mpf(0.5)]
-        k, lam, res = _lieb_wu(4, 4, 2, I, J, mpmath.mpf(uv) / 4, guess)
-        assert res < mpmath.mpf(10) ** -35, f"Bethe equations not solved: residual {res}"
-        e_ba = -2 * sum(mpmath.cos(kj) for kj in k)
-        e0 = ring4_half().numeric({"t": 1, "U": uv}, digits=30)[0][0]
+        e_ba, momentum = _bethe_ground_state(L, uv)
+        spec = ring4_half() if L == 4 else sc.solve(sc.hubbard(sc.ring(L)), electrons=L)
+        e0, level = _lowest_level(spec, {"t": 1, "U": uv})
         assert abs(e0 - e_ba) < mpmath.mpf(10) ** -20, f"solver {e0}, Bethe ansatz {e_ba}"
-        # the Bethe state is the ground state of the independent reference too
-        ref = FockReference(4, list(sc.ring(4).bonds))
-        assert abs(ref.eigenvalues_mp({"t": 1, "U": uv}, 2, 2, digits=30)[0] - e_ba) < 1e-20
+        assert level.quantum_numbers["S"] == 0 and level.degeneracy == 1
+        assert _same_momentum(level.quantum_numbers["k"], momentum), (level.quantum_numbers, momentum)
+        if L == 4:
+            # the Bethe state is the ground state of the independent reference too
+            ref = FockReference(4, list(sc.ring(4).bonds))
+            assert abs(ref.eigenvalues_mp({"t": 1, "U": uv}, 2, 2, digits=30)[0] - e_ba) < 1e-20
 
 
 def test_shiba_pincus_dimer_grand_potential():
