@@ -20,6 +20,8 @@ integer polynomial obtained by substituting an exact rational point.
 
 from __future__ import annotations
 
+import collections
+import contextlib
 import functools
 from fractions import Fraction
 from math import lcm
@@ -424,6 +426,12 @@ def _roots_from_coeffs(coeffs, deg, digits, poly, point):
 # --------------------------------------------------------------------------- implicit roots
 
 
+#: The root lists of the most recently evaluated polynomials (least recently used dropped);
+#: mpf values are immutable, so the cached tuples are shared safely.
+_ALL_ROOTS = collections.OrderedDict()
+_ALL_ROOTS_MAX = 64
+
+
 class ImplicitRoot:
     """The ``index``-th real root (0-based, ascending) of an irreducible polynomial.
 
@@ -501,14 +509,35 @@ class ImplicitRoot:
         VerificationError
             If the polynomial is not real-rooted at the point or drops degree there.
         """
+        return self._all_roots_at(point, int(digits))[self.index]
+
+    def _all_roots_at(self, point, digits):
+        """Every root of the polynomial at `point` (ascending, mpf at `digits` digits).
+
+        Shared by the other roots of the same polynomial: a spectrum holds all
+        ``degree`` roots of each factor, and evaluating it level by level would
+        otherwise evaluate the polynomial and convert its roots ``degree`` times.
+        """
+        vals = tuple(_point_values(self.poly.gens[1:], point))
+        key = (self._terms, self.poly.gens, vals, digits)
+        hit = _ALL_ROOTS.get(key)
+        if hit is not None:
+            with contextlib.suppress(KeyError):     # another thread may have dropped it
+                _ALL_ROOTS.move_to_end(key)
+            return hit
         coeffs, den = self._integer_poly_at(point)
         if den is not None:
             # roots of P(x, nums) are den * E
             roots = _roots_from_coeffs(coeffs, self.degree, digits + 2, self.poly, point)
             with mpmath.workdps(digits):
-                return +(roots[self.index] / den)
-        roots = _roots_from_coeffs(coeffs, self.degree, digits, self.poly, point)
-        return roots[self.index]
+                roots = [+(r / den) for r in roots]
+        else:
+            roots = _roots_from_coeffs(coeffs, self.degree, digits, self.poly, point)
+        _ALL_ROOTS[key] = roots = tuple(roots)
+        while len(_ALL_ROOTS) > _ALL_ROOTS_MAX:
+            with contextlib.suppress(KeyError):
+                _ALL_ROOTS.popitem(last=False)
+        return roots
 
     def _integer_poly_at(self, point):
         """(integer coefficients, den) of the polynomial at `point`, roots scaled by den.
