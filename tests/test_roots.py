@@ -265,6 +265,25 @@ def test_implicit_root_protocol():
         a.numeric({t: 1, U: 0.5})
 
 
+def test_implicit_roots_share_root_lists_without_mixing_points_or_digits():
+    # the roots of one polynomial are computed once per (point, digits) and shared by its
+    # levels: interleaved points, digits and name/Symbol keys must each get their own
+    # values. Reference: sympy's exact real roots (CRootOf) evaluated at 60 digits.
+    P = sympy.Poly(E**5 - 5 * E**3 * t**2 + 4 * E * t**4 - U * t**4, E, t, U)
+    rs = [ImplicitRoot(P, k) for k in range(5)]
+    pts = [{t: 1, U: sympy.Rational(1, 3)}, {"t": 2, "U": -1}, {t: sympy.Rational(-3, 7), U: sympy.Rational(1, 10)}]
+    for digits in (15, 40):
+        for pt in pts + pts[::-1]:
+            sub = {t: sympy.Rational(pt.get(t, pt.get("t"))), U: sympy.Rational(pt.get(U, pt.get("U")))}
+            exact = sympy.Poly(P.as_expr().xreplace(sub), E).real_roots()
+            assert len(exact) == 5
+            for k, r in enumerate(rs):
+                got = r.numeric(pt, digits=digits)
+                with mpmath.workdps(60):
+                    want = mpmath.mpf(str(exact[k].evalf(60)))
+                    assert abs(got - want) <= abs(want) * mpmath.mpf(10) ** (1 - digits), (pt, k, digits)
+
+
 def test_implicit_root_not_real_rooted_raises():
     r = ImplicitRoot(sympy.Poly(E**2 + U**2 + 1, E, U), 0)
     with pytest.raises(VerificationError, match="non-real"):
