@@ -28,6 +28,7 @@ import flint
 import mpmath
 import numpy as np
 import sympy
+from sympy.polys.densebasic import dmp_to_dict
 
 from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched, isolation_key,
                             prefetch_isolations)
@@ -210,21 +211,37 @@ def _power_sums(poly):
     d = poly.degree(gens[0])
     lead = None
     c1, c2 = {}, {}
-    for monom, c in poly.terms():
-        k = monom[0]
-        coeff = Fraction(int(c.p), int(c.q)) if hasattr(c, "q") else Fraction(int(c))
-        key = tuple(sorted(n for n, e in zip(names, monom[1:]) for _ in range(e)))
-        if k == d:
-            if key:
-                raise VerificationError("leading coefficient in E is not a constant")
-            lead = coeff
-        elif k == d - 1:
-            c1[key] = c1.get(key, 0) + coeff
-        elif k == d - 2:
-            c2[key] = c2.get(key, 0) + coeff
+    for k, coeffs in _top_coefficients(poly, d):
+        for monom, c in coeffs.items():
+            c = poly.domain.to_sympy(c)
+            coeff = Fraction(int(c.p), int(c.q))
+            key = tuple(sorted(n for n, e in zip(names, monom) for _ in range(e)))
+            if k == d:
+                if key:
+                    raise VerificationError("leading coefficient in E is not a constant")
+                lead = coeff
+            elif k == d - 1:
+                c1[key] = c1.get(key, 0) + coeff
+            else:
+                c2[key] = c2.get(key, 0) + coeff
     e1 = {k: -v / lead for k, v in c1.items()}
     p2 = _padd(_pmul(e1, e1), {k: v / lead for k, v in c2.items()}, -2)
     return _clean(e1), _clean(p2)
+
+
+def _top_coefficients(poly, d):
+    """[(k, {coupling exponents: coefficient})] for k = d, d-1, d-2 (powers of E, k >= 0).
+
+    Read off the dense representation (highest power of E first), so that only the three
+    top coefficients are converted: a level polynomial of degree 336 has ~10^5 terms.
+    """
+    rep = poly.rep.to_list()
+    u = len(poly.gens) - 1
+    out = []
+    for j, k in enumerate(range(d, max(d - 3, -1), -1)):
+        sub = rep[j]
+        out.append((k, ({(): sub} if sub else {}) if u == 0 else dmp_to_dict(sub, u - 1)))
+    return out
 
 
 def _numeric_matrix(terms, dim, point_by_label):
