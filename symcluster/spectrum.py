@@ -9,6 +9,7 @@ the k-th real root, in ascending order, of an irreducible polynomial
 P(E; couplings).  Both evaluate at any precision through :func:`energy_numeric`.
 """
 
+import functools
 from dataclasses import dataclass, field
 from fractions import Fraction
 
@@ -16,7 +17,7 @@ import mpmath
 import sympy
 
 from .algebra.roots import real_roots_at
-from .errors import ModelError
+from .errors import ModelError, VerificationError
 
 __all__ = ["Level", "Spectrum", "VerificationReport", "coerce_point", "energy_numeric"]
 
@@ -119,15 +120,17 @@ def energy_numeric(energy, point, digits=30, polynomial=None):
 
     Implicit roots are isolated with a certificate (``ImplicitRoot.numeric``).  A
     closed form given with its level's `polynomial` is used only to decide *which*
-    root of that polynomial the level is; the value returned is that root, isolated
-    with a certificate like an implicit root, so all `digits` digits are right even
-    where the closed form itself loses digits to cancellation (nested radicals at
-    t = 0 or U = 0, or couplings of very different sizes).  The choice:
+    root of that polynomial the level is; the value returned is that root, enclosed
+    with a certificate, so all `digits` digits are right even where the closed form
+    itself loses digits to cancellation (nested radicals at t = 0 or U = 0, or
+    couplings of very different sizes).  The choice (:func:`_enclosed_root`):
 
-    * all roots of the polynomial coincide at the point: that root;
+    * all roots of the polynomial coincide at the point: that root (exact);
     * otherwise the closed form is evaluated in ball arithmetic (python-flint ``arb``),
-      which encloses its exact value, at doubling precision until the enclosure
-      overlaps exactly one of the certified roots: that root (a rigorous choice);
+      which encloses its exact value, at doubling precision until Sturm's theorem,
+      applied in exact rational arithmetic, shows that the ball contains exactly one
+      distinct root of the polynomial and the ball is narrower than `digits` need:
+      the ball's midpoint;
     * where that never happens because the closed form is 0/0 or its sign terms are
       undecidable at the point: its limit along a fixed ray (:func:`_limit_along_a_ray`).
 
@@ -139,15 +142,20 @@ def energy_numeric(energy, point, digits=30, polynomial=None):
     ------
     ModelError
         If no root can be chosen (the message names the point).
+    VerificationError
+        If the polynomial has non-real roots at the point or its degree drops there.
     """
     if hasattr(energy, "numeric"):
         return energy.numeric(point, digits=digits)
     if polynomial is None:
         return _closed_numeric(energy, point, digits)
-    distinct = sorted(set(real_roots_at(polynomial, point, digits)))
-    chosen = _designated_root(energy, point, polynomial, digits, distinct)
+    chosen = _enclosed_root(energy, point, polynomial, digits)
     if chosen is None:
-        chosen = _limit_along_a_ray(energy, point, digits, polynomial, distinct)
+        distinct = sorted(set(real_roots_at(polynomial, point, digits)))
+        if len(distinct) == 1:
+            chosen = distinct[0]
+        else:
+            chosen = _limit_along_a_ray(energy, point, digits, polynomial, distinct)
     if chosen is None:
         raise ModelError(
             f"the closed form {energy} cannot be evaluated at {point} (0/0 where roots of its "
@@ -222,51 +230,177 @@ def _arb_eval(expr, env):
     return getattr(_arb_eval(expr.args[0], env), name)()
 
 
-def _arb_of(value):
-    """The exact value of an mpmath.mpf as an arb."""
+def _exact_value(point, s):
+    """The coupling `s` at `point` (keyed by Symbol or name) as a python-flint fmpq."""
     import flint
-    sign, man, exp, _ = value._mpf_
-    if not man:
-        return flint.arb(0)
-    return flint.arb(flint.fmpz(-man if sign else man)) * flint.arb(2) ** int(exp)
+    v = point[s] if s in point else point.get(s.name)
+    if v is None:
+        raise ModelError(f"point {point!r} gives no value for coupling {s.name!r}; add it")
+    if isinstance(v, int) and not isinstance(v, bool):
+        v = sympy.Integer(v)
+    elif isinstance(v, Fraction):
+        v = sympy.Rational(v.numerator, v.denominator)
+    if not isinstance(v, sympy.Rational):
+        raise ModelError(f"value {v!r} for coupling {s.name!r} is not an exact rational; "
+                         "use sympy.Rational, int or fractions.Fraction")
+    return flint.fmpq(int(v.p), int(v.q))
 
 
-def _designated_root(energy, point, polynomial, digits, distinct):
-    """The merged root if `distinct` has one element, else :func:`_enclosed_root`."""
-    if len(distinct) == 1:
-        return distinct[0]
-    return _enclosed_root(energy, point, polynomial, digits)
+def _specialised(polynomial, point):
+    """Exact rational coefficients (ascending in E) of polynomial(E, point), as fmpq."""
+    import flint
+    gens = polynomial.gens
+    vals = [_exact_value(point, s) for s in gens[1:]]
+    coeffs = [flint.fmpq(0)] * (polynomial.degree(gens[0]) + 1)
+    for monom, c in polynomial.terms():
+        c = sympy.Rational(c)
+        x = flint.fmpq(int(c.p), int(c.q))
+        for v, e in zip(vals, monom[1:]):
+            if e:
+                x *= v ** e
+        coeffs[monom[0]] += x
+    return coeffs
+
+
+class _RootCounter:
+    """Exact count of the distinct real roots of a rational polynomial in a closed interval.
+
+    Sturm's theorem (C. Sturm, 1835; e.g. S. Basu, R. Pollack, M.-F. Roy, Algorithms in
+    Real Algebraic Geometry, ch. 2): for the squarefree part g of p and its Sturm chain
+    g_0 = g, g_1 = g', g_(k+1) = -rem(g_(k-1), g_k), the number of distinct real roots of
+    p in (a, b) is V(a) - V(b) for a < b not roots, where V(x) counts the sign changes of
+    g_0(x), g_1(x), ... with zeros dropped.  At a root r of g, g'(r) != 0 (g is
+    squarefree) and just right of r g and g' have one sign, so V(r) = V(r+) and the
+    count in the closed interval [a, b] is V(a) - V(b) + [g(a) = 0] for any a < b.
+    Every evaluation is exact (python-flint fmpq), so the counts are certificates; each
+    chain member is divided by the absolute value of its leading coefficient, which
+    changes no sign.
+    """
+
+    def __init__(self, coeffs):
+        import flint
+        p = flint.fmpq_poly(list(coeffs))
+        self.degree = p.degree()
+        g = p // p.gcd(p.derivative()) if self.degree > 0 else p
+        chain = [g, g.derivative()]
+        while chain[-1].degree() > 0:
+            chain.append(-(chain[-2] % chain[-1]))
+        chain = [c for c in chain if c.degree() >= 0 and c != 0]
+        self.chain = [c / abs(c.coeffs()[-1]) for c in chain]
+        self.squarefree = self.chain[0]
+        lead = [int(c.coeffs()[-1] > 0) * 2 - 1 for c in self.chain]
+        at_minus = [s * (-1) ** c.degree() for s, c in zip(lead, self.chain)]
+        self.n_real = self._changes(at_minus) - self._changes(lead)
+        self.n_distinct = self.squarefree.degree()
+        nums = [abs(int(c.p)) for c in coeffs if c != 0] + [abs(int(c.q)) for c in coeffs]
+        self.height_bits = max(n.bit_length() for n in nums)
+
+    @staticmethod
+    def _changes(signs):
+        signs = [s for s in signs if s]
+        return sum(1 for a, b in zip(signs, signs[1:]) if a != b)
+
+    def _variations(self, x):
+        return self._changes([(v > 0) - (v < 0) for v in (c(x) for c in self.chain)])
+
+    def is_root(self, x):
+        return self.squarefree(x) == 0
+
+    def count(self, lo, hi):
+        """Number of distinct real roots in [lo, hi] (exact fmpq bounds, lo <= hi)."""
+        on_lo = int(self.is_root(lo))
+        if lo == hi:
+            return on_lo
+        return self._variations(lo) - self._variations(hi) + on_lo
+
+    def only_root(self):
+        """The root when every root coincides (squarefree part linear): exact fmpq."""
+        c0, c1 = self.squarefree.coeffs()
+        return -c0 / c1
+
+
+@functools.lru_cache(maxsize=2048)
+def _root_counter(key):
+    import flint
+    return _RootCounter([flint.fmpq(p, q) for p, q in key])
+
+
+def _counter_at(polynomial, point):
+    """The :class:`_RootCounter` of polynomial(E, point); checks degree and real roots."""
+    coeffs = _specialised(polynomial, point)
+    if coeffs[-1] == 0:
+        raise VerificationError(
+            f"leading coefficient of {polynomial.as_expr()} in {polynomial.gens[0]} vanishes "
+            f"at {point}; choose another parameter point")
+    counter = _root_counter(tuple((int(c.p), int(c.q)) for c in coeffs))
+    if counter.n_real != counter.n_distinct:
+        raise VerificationError(
+            f"{polynomial.as_expr()} has {counter.n_distinct - counter.n_real} distinct non-real "
+            f"root(s) at {point}, but levels of a Hermitian block must be real; check the "
+            "block or the factor")
+    return counter
+
+
+def _fmpq_of(exact_arb):
+    """The value of an exact arb (zero radius: a midpoint or a radius) as an fmpq."""
+    import flint
+    man, exp = exact_arb.man_exp()
+    man, exp = int(man), int(exp)
+    return flint.fmpq(man * 2 ** exp) if exp >= 0 else flint.fmpq(man, 2 ** -exp)
+
+
+def _mpf_of(q, prec):
+    """An fmpq as an mpmath.mpf rounded to `prec` bits."""
+    with mpmath.workprec(prec):
+        return mpmath.mpf(int(q.p)) / int(q.q)
 
 
 def _enclosed_root(energy, point, polynomial, digits):
     """The root of `polynomial` at `point` that the closed form's enclosure singles out.
 
-    Roots are isolated at 2 w + 10 digits for w = bits / 6.6, each widened to a ball of
-    relative radius 2^(8 - bits) (above their rounding error); the closed form's ball
-    must overlap exactly one distinct root.  None if that does not happen within four
-    doublings of the starting precision (0/0, or undecidable signs at the point).
+    If every root coincides at the point (the squarefree part is linear) that root,
+    exactly.  Otherwise the closed form is evaluated in ball arithmetic from
+    8 (digits + 10) bits, doubling the precision, until the ball [m - r, m + r]
+    contains exactly one distinct root of the polynomial (Sturm count, exact) and is
+    narrow enough for `digits`: r <= |m| 2^-(p + 32) with p the binary precision of
+    `digits` decimal digits (or the root is exactly 0).  The ball's midpoint m is then
+    within r of a certified root; nothing about the closed form is trusted.  No root
+    isolation is needed, so roots that nearly coincide (t = 10^-300 against U = 1)
+    cost only the precision that separates them.
+
+    The precision cap max(2^14, 16 (start), 4 d h) bits, d the degree and h the largest
+    bit size of a numerator or denominator of the polynomial's coefficients at the
+    point, grows with `digits` and with the spread of the couplings (the distance
+    between roots of an integer polynomial is bounded below by a power of its height,
+    K. Mahler, Michigan Math. J. 11, 257 (1964); the factor 4 d is common practice, no
+    source).  The cap only bounds the work: nothing returned depends on it.  None if
+    no precision up to it decides (0/0, or undecidable signs at the point).
     """
     import flint
+    counter = _counter_at(polynomial, point)
+    need = mpmath.libmp.dps_to_prec(digits) + 32
+    if counter.n_distinct == 1:
+        return _mpf_of(counter.only_root(), need)
     bits = 8 * (digits + 10)
-    max_bits = max(2 ** 14, 16 * bits)
+    max_bits = max(2 ** 14, 16 * bits, 4 * counter.degree * counter.height_bits)
+    values = {s: _exact_value(point, s) for s in energy.free_symbols}
     while bits <= max_bits:
         with flint.ctx.workprec(bits):
-            env = {s: flint.arb(flint.fmpq(int(point[s].p), int(point[s].q)))
-                   for s in energy.free_symbols}
+            env = {s: flint.arb(v) for s, v in values.items()}
             try:
                 ball = _arb_eval(energy, env)
             except _Undecided:
                 ball = None
             except NotImplementedError:
                 return None
-        if ball is not None and ball.is_finite():    # only then are the roots needed
-            roots = sorted(set(real_roots_at(polynomial, point, 2 * int(bits / 6.6) + 10)))
-            with flint.ctx.workprec(bits):
-                widen = flint.arb(0, 1) * flint.arb(2) ** (8 - bits)
-                mids = [(r, _arb_of(r)) for r in roots]
-                hits = [r for r, mid in mids if ball.overlaps(mid + widen * abs(mid))]
-            if len(hits) == 1:
-                return hits[0]
+        if ball is not None and ball.is_finite():
+            mid, rad = _fmpq_of(ball.mid()), _fmpq_of(ball.rad())
+            lo, hi = mid - rad, mid + rad
+            if counter.count(lo, hi) == 1:
+                if lo <= 0 <= hi and counter.is_root(flint.fmpq(0)):
+                    return mpmath.mpf(0)
+                if rad * 2 ** need <= abs(mid):
+                    return _mpf_of(mid, max(need, bits))
         bits *= 2
     return None
 
@@ -294,8 +428,7 @@ def _limit_along_a_ray(energy, point, digits, polynomial, distinct):
     for below in (4, 9, 14):
         eps = sympy.Rational(10) ** (decade - below)
         near = {s: point[s] + eps * ray[s] for s in syms}
-        nearby = sorted(set(real_roots_at(polynomial, near, digits)))
-        value = _designated_root(energy, near, polynomial, digits, nearby)
+        value = _enclosed_root(energy, near, polynomial, digits)
         if value is not None:
             picked.append(_unambiguous_root(value, distinct))
     if len(picked) >= 2 and picked[-1] is not None and picked[-2] == picked[-1]:

@@ -1,0 +1,259 @@
+"""Values of levels at points where roots of their polynomials nearly coincide.
+
+At t = 10^-150 against U of order 1 the levels of a Hubbard cluster crowd around the
+atomic-limit values 0, U, 2U, ... and split only by powers of t (10^-150, 10^-300, ...),
+so roots of one polynomial agree to hundreds of digits while every returned digit must
+still be right.
+
+The reference shares no code with symcluster: the exact characteristic polynomial of
+every (N_up, N_dn) sector of the Jordan-Wigner Fock-space Hamiltonian of
+tests/reference_fock.py at the exact rational point (python-flint over Q), factored
+exactly (python-flint), each factor's real roots isolated exactly by sympy
+(``Poly.intervals``) and then narrowed by exact bisection on the sign of the factor to a
+relative width of 10^-(digits + 10).  An irreducible factor has only simple roots and
+changes sign at each, so every bisection step keeps the root (intermediate value theorem).
+"""
+
+import functools
+from math import comb
+
+import flint
+import mpmath
+import pytest
+import sympy
+
+import symcluster as sc
+from symcluster.spectrum import _RootCounter, energy_numeric
+from reference_fock import FockReference
+
+R = sympy.Rational
+_X = sympy.Symbol("x")
+
+TWO_HOPPINGS = [(0, 1, "t"), (0, 2, "tp"), (1, 3, "tp"), (2, 3, "t")]
+
+
+# ---------------------------------------------------------------- independent reference
+
+def _sign(f, x):
+    v = f(x)
+    return (v > 0) - (v < 0)
+
+
+def _exponent(q):
+    """e with 2^(e-1) < |q| < 2^(e+1), for a nonzero fmpq q."""
+    q = abs(q)
+    return int(q.p).bit_length() - int(q.q).bit_length()
+
+
+def _split(s, t):
+    """A point strictly inside (s, t): a power of two between the ends while they have one
+    sign and differ by more than a factor 4 (so a root of size 10^-300 costs a few dozen
+    steps to reach, not a thousand), else the mean; 0 if the ends have opposite signs."""
+    if s < 0 < t:
+        return flint.fmpq(0)
+    if t <= 0:
+        return -_split(-t, -s)
+    if t > 4 * s:
+        e = _exponent(t) - 64 if s == 0 else (_exponent(s) + _exponent(t)) // 2
+        m = flint.fmpq(2) ** e
+        if s < m < t:
+            return m
+    return (s + t) / 2
+
+
+def _bisect(f, s, t, rel):
+    """The root of the irreducible fmpq_poly f isolated in [s, t], to relative width rel."""
+    if s == t:
+        return s
+    fs, ft = _sign(f, s), _sign(f, t)
+    if fs == 0 or ft == 0:
+        return s if fs == 0 else t
+    assert fs != ft, "an isolating interval of a simple root must show a sign change"
+    while not ((s > 0 or t < 0) and t - s <= min(abs(s), abs(t)) * rel):
+        m = _split(s, t)
+        fm = _sign(f, m)
+        if fm == 0:
+            return m
+        if fm == fs:
+            s = m
+        else:
+            t = m
+    return (s + t) / 2
+
+
+@functools.lru_cache(maxsize=None)
+def _factor_roots(coeffs, digits):
+    """Real roots (ascending, fmpq) of the irreducible rational polynomial `coeffs`."""
+    f = flint.fmpq_poly([flint.fmpq(p, q) for p, q in coeffs])
+    sp = sympy.Poly([R(p, q) for p, q in reversed(coeffs)], _X)
+    rel = flint.fmpq(1, 10 ** (digits + 10))
+    out = []
+    for (s, t), _mult in sp.intervals():
+        out.append(_bisect(f, flint.fmpq(int(s.p), int(s.q)), flint.fmpq(int(t.p), int(t.q)), rel))
+    return out
+
+
+def reference_levels(n_sites, bonds, values, digits, sectors=None):
+    """{N: ascending exact eigenvalues (fmpq, with multiplicity)} of the Fock reference,
+    for every N or those in `sectors`."""
+    ref = FockReference(n_sites, bonds)
+    point = {k: flint.fmpq(int(R(v).p), int(R(v).q)) for k, v in values.items()}
+    out = {}
+    for n_up, n_dn in ref.sectors():
+        if sectors is not None and n_up + n_dn not in sectors:
+            continue
+        idx = ref.sector_indices(n_up, n_dn)
+        d = len(idx)
+        m = flint.fmpq_mat(d, d)
+        for name, block in ref.integer_block(idx).items():
+            for r in range(d):
+                for c in range(d):
+                    if block[r, c]:
+                        m[r, c] += int(block[r, c]) * point[name]
+        _, factors = m.charpoly().factor()
+        roots = out.setdefault(n_up + n_dn, [])
+        for f, mult in factors:
+            key = tuple((int(c.p), int(c.q)) for c in f.coeffs())
+            found = _factor_roots(key, digits)
+            assert len(found) == f.degree(), "a Hermitian sector has only real eigenvalues"
+            roots.extend(found * mult)
+    return {n: sorted(v) for n, v in out.items()}
+
+
+def by_n(spec, values, digits):
+    """{N: ascending values, each repeated by its degeneracy}, via Level.numeric."""
+    pt = spec.point(values)
+    out = {}
+    with mpmath.workdps(digits):
+        for lev in spec.levels:
+            v = +mpmath.mpf(lev.numeric(pt, digits=digits))
+            out.setdefault(lev.quantum_numbers["N"], []).extend([v] * lev.degeneracy)
+    return {n: sorted(v) for n, v in out.items()}
+
+
+def assert_all_digits(got, want, digits, n_sites, sectors=None):
+    """Every N sector (or those in `sectors`) has C(2L, N) states and every value is right
+    to `digits` significant digits (exact zeros exactly)."""
+    sectors = list(range(2 * n_sites + 1)) if sectors is None else sorted(sectors)
+    assert sorted(got) == sectors
+    for n in sectors:
+        assert len(got[n]) == len(want[n]) == comb(2 * n_sites, n), n
+        with mpmath.workdps(digits + 20):
+            for a, b in zip(got[n], want[n]):
+                exact = mpmath.mpf(int(b.p)) / int(b.q)
+                if b == 0:
+                    assert a == 0, (n, a)
+                else:
+                    # relative error below one unit in the last requested digit
+                    assert abs(a - exact) <= abs(exact) * mpmath.mpf(10) ** (1 - digits), (n, a, b)
+
+
+# ---------------------------------------------------------------- the reference itself
+
+def test_reference_bisection_against_known_roots():
+    # roots of (x - 10^-300)(x + 7/3)(x^2 - 2) are known in closed form
+    f = flint.fmpq_poly([flint.fmpq(-1, 10**300), 1]) * flint.fmpq_poly([flint.fmpq(7, 3), 1]) \
+        * flint.fmpq_poly([-2, 0, 1])
+    found = []
+    for p, _ in f.factor()[1]:
+        found += _factor_roots(tuple((int(c.p), int(c.q)) for c in p.coeffs()), 40)
+    with mpmath.workdps(400):
+        got = sorted(mpmath.mpf(int(r.p)) / int(r.q) for r in found)
+        want = sorted([mpmath.mpf(10) ** -300, mpmath.mpf(-7) / 3, mpmath.sqrt(2), -mpmath.sqrt(2)])
+        assert len(got) == len(want)
+        for x, w in zip(got, want):
+            assert abs(x - w) <= abs(w) * mpmath.mpf(10) ** -49
+
+
+# ---------------------------------------------------------------- nearly coinciding roots
+
+RING4 = [(i, (i + 1) % 4, "t") for i in range(4)]
+
+
+@functools.lru_cache(maxsize=None)
+def ring4():
+    return sc.solve(sc.hubbard(sc.ring(4)))
+
+
+@pytest.mark.parametrize("values, digits", [
+    ({"t": R(1, 10**150), "U": R(-5, 3)}, 30),   # a reviewer's case
+    ({"t": R(1, 10**300), "U": 1}, 30),
+    ({"t": R(-2, 10**300), "U": R(5, 3)}, 60),
+])
+def test_ring4_where_levels_split_by_powers_of_a_tiny_hopping(values, digits):
+    got = by_n(ring4(), values, digits)
+    want = reference_levels(4, RING4, values, digits)
+    assert_all_digits(got, want, digits, 4)
+
+
+# N = 4 of this cluster has an implicit (degree-6) level, whose value comes from the
+# general root isolation of symcluster.algebra.roots rather than from a closed form
+# (about 20 s at these points, 2-core Xeon); the sectors below have closed forms only.
+@pytest.mark.parametrize("values", [
+    # two Hubbard dimers (bonds tp = 1) coupled by t = 10^-300: every level sits within
+    # about t of a level of the two separate dimers
+    {"t": R(1, 10**300), "tp": 1, "U": R(-5, 3)},
+    # both hoppings tiny: levels crowd around 0, U, 2U
+    {"t": R(1, 10**150), "tp": R(3, 7 * 10**150), "U": R(-5, 3)},
+])
+def test_two_hoppings_where_levels_nearly_coincide(values):
+    spec = sc.solve(sc.hubbard(sc.cluster(4, TWO_HOPPINGS)), electrons=[2, 3])
+    got = by_n(spec, values, 30)
+    want = reference_levels(4, TWO_HOPPINGS, values, 30, sectors=[2, 3])
+    assert_all_digits(got, want, 30, 4, sectors=[2, 3])
+
+
+# ---------------------------------------------------------------- the certificate's parts
+
+def test_root_counter_counts_distinct_real_roots_in_closed_intervals():
+    # (x - 1)(x - 2)^2(x - 3)(x^2 + 1): distinct real roots 1, 2, 3 (by construction)
+    F = flint.fmpq
+    p = flint.fmpq_poly([-1, 1]) * flint.fmpq_poly([-2, 1]) ** 2 * flint.fmpq_poly([-3, 1]) \
+        * flint.fmpq_poly([1, 0, 1])
+    counter = _RootCounter(p.coeffs())
+    assert (counter.n_real, counter.n_distinct) == (3, 5)
+    cases = [((0, 10), 3), ((1, 2), 2), ((F(3, 2), F(5, 2)), 1), ((2, 2), 1),
+             ((F(5, 2), 3), 1), ((-5, F(1, 2)), 0), ((F(21, 10), F(29, 10)), 0), ((3, 3), 1)]
+    for (lo, hi), n in cases:
+        assert counter.count(F(lo), F(hi)) == n, (lo, hi)
+
+
+def test_a_polynomial_with_non_real_roots_is_rejected():
+    # E^2 + t^2 has the roots +-i t: not the levels of a Hermitian block
+    E, t = sympy.symbols("E t", real=True)
+    poly = sympy.Poly(E**2 + t**2, E, t)
+    with pytest.raises(sc.VerificationError):
+        energy_numeric(t, {t: R(1, 3)}, 30, poly)
+
+
+def test_a_closed_form_that_is_not_a_root_is_not_snapped_to_one():
+    # t + 10^-6 is no root of E^2 - t^2 (roots +-t) anywhere: its enclosure never holds a
+    # root, so no value may be returned, also not the nearby root t
+    E, t = sympy.symbols("E t", real=True)
+    poly = sympy.Poly(E**2 - t**2, E, t)
+    with pytest.raises(sc.ModelError):
+        energy_numeric(t + R(1, 10**6), {t: R(1, 3)}, 30, poly)
+
+
+def test_merged_roots_are_exact():
+    # (E - t)^2 (E + t) at t = 0: every root is 0; at t = 2/7 the double root is 2/7
+    E, t = sympy.symbols("E t", real=True)
+    poly = sympy.Poly((E - t) ** 2 * (E + t), E, t)
+    assert energy_numeric(t, {t: 0}, 40, poly) == 0
+    with mpmath.workdps(40):
+        assert energy_numeric(t, {t: R(2, 7)}, 40, poly) == mpmath.mpf(2) / 7
+        assert energy_numeric(-t, {t: R(2, 7)}, 40, poly) == -mpmath.mpf(2) / 7
+
+
+def test_a_level_that_is_exactly_zero_is_returned_as_zero():
+    # Hubbard dimer singlet pair E = U/2 -+ sqrt(U^2/4 + 4 t^2), roots of E^2 - U E - 4 t^2
+    # (a 2x2 diagonalization by hand). At t = 0 they are exactly 0 and U. The ball of the
+    # closed form straddles 0 (sqrt(4/9) is not a dyadic number) and never gets narrow
+    # relative to its midpoint; the value must still be exactly 0, and the other exactly U.
+    E, t, U = sympy.symbols("E t U", real=True)
+    poly = sympy.Poly(E**2 - U * E - 4 * t**2, E, t, U)
+    root = sympy.sqrt(U**2 / 4 + 4 * t**2)
+    point = {t: 0, U: R(4, 3)}
+    assert energy_numeric(U / 2 - root, point, 30, poly) == 0
+    with mpmath.workdps(30):
+        assert energy_numeric(U / 2 + root, point, 30, poly) == mpmath.mpf(4) / 3
