@@ -9,6 +9,7 @@ import sympy
 
 from .algebra.charpoly import charpoly
 from .algebra.factor import factor_charpoly
+from .algebra.polydict import poly_from_dict
 from .algebra.roots import ImplicitRoot, roots_of
 from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
                      sectors_to_solve)
@@ -64,7 +65,7 @@ def _unpack(packed):
     out = []
     for rep, names, mult, roots in packed:
         gens = tuple(coupling_symbol(n) for n in names)
-        fac = sympy.Poly.from_dict(rep, gens, domain=sympy.ZZ)
+        fac = poly_from_dict(rep, gens, sympy.ZZ)
         out.append((fac, mult, [ImplicitRoot(fac, r) if kind == "implicit" else r
                                 for kind, r in roots]))
     return out
@@ -87,10 +88,10 @@ def _shift_poly(poly, shift):
     out = fp.compose(xs[0] - sh, *xs[1:])
     if scale == 1:
         rep2 = {tuple(int(e) for e in m): int(c) for m, c in out.to_dict().items()}
-        return sympy.Poly.from_dict(rep2, gens, domain=poly.domain)
+        return poly_from_dict(rep2, gens, poly.domain)
     s = sympy.Rational(scale.numerator, scale.denominator)
     rep2 = {tuple(int(e) for e in m): int(c) * s for m, c in out.to_dict().items()}
-    return sympy.Poly.from_dict(rep2, gens, domain=poly.domain)
+    return poly_from_dict(rep2, gens, poly.domain)
 
 
 def gauge_twins(model, plan, blocks):
@@ -133,7 +134,7 @@ def _negate_couplings(factors, odd):
         flip = [g.name in odd for g in gens]
         rep = {m: (-c if sum(e for e, f in zip(m, flip) if f) % 2 else c)
                for m, c in fac.as_dict(native=True).items()}
-        new = sympy.Poly.from_dict(rep, gens, domain=fac.domain)
+        new = poly_from_dict(rep, gens, fac.domain)
         sub = {g: -g for g, f in zip(gens, flip) if f}
         out.append((new, mult, [ImplicitRoot(new, r.index) if isinstance(r, ImplicitRoot)
                                 else r.xreplace(sub) for r in roots]))

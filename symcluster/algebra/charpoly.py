@@ -36,6 +36,7 @@ from sympy.polys.domains import QQ, ZZ
 from sympy.polys.matrices import DomainMatrix
 
 from symcluster.algebra.block import ENERGY, LinearBlock, coupling_symbol
+from symcluster.algebra.polydict import poly_from_dict
 from symcluster.errors import ModelError, VerificationError
 
 try:  # pragma: no cover - exercised implicitly
@@ -139,13 +140,13 @@ def _to_poly(coeffs, names):
     gens = (ENERGY,) + tuple(coupling_symbol(n) for n in names)
     if all(Fraction(c).denominator == 1 for c in coeffs.values()):
         rep = {m: ZZ(int(c)) for m, c in coeffs.items() if c != 0}
-        return sympy.Poly.from_dict(rep, gens, domain=ZZ)
+        return poly_from_dict(rep, gens, ZZ)
     rep = {}
     for m, c in coeffs.items():
         if c != 0:
             c = Fraction(c)
             rep[m] = QQ(c.numerator, c.denominator)
-    return sympy.Poly.from_dict(rep, gens, domain=QQ)
+    return poly_from_dict(rep, gens, QQ)
 
 
 # --------------------------------------------------------------------------- simple path

@@ -12,6 +12,7 @@ from fractions import Fraction
 import sympy
 from sympy.polys.domains import ZZ
 
+from symcluster.algebra.polydict import poly_from_dict
 from symcluster.errors import ModelError
 from symcluster.linalg import integer_multiple
 
@@ -101,7 +102,7 @@ def content_and_factors(poly):
     for frep, m in facs:
         s, frep = _normalize(frep)
         sign *= s**m
-        out.append((sympy.Poly.from_dict({k: ZZ(v) for k, v in frep.items()}, gens, domain=ZZ), m))
+        out.append((poly_from_dict(frep, gens, ZZ), m))
     out.sort(key=lambda fm: (fm[0].degree(gens[0]), sorted(fm[0].as_dict().items())))
     c = scale * sign
     return sympy.Rational(c.numerator, c.denominator), out
