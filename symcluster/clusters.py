@@ -103,6 +103,13 @@ class Cluster:
         return f"{self.name}: {self.n_sites} {sites}, {nb} {plural} (hopping {labels})"
 
 
+#: Largest number of sites a cluster may have.  Whole spectra are exact up to about 8
+#: sites; few electrons on larger clusters are possible, and the memory guard of
+#: ``solve`` decides what actually runs.  The cap only keeps absurd sizes (a typo in
+#: a cluster file) from allocating memory before any check.
+MAX_SITES = 10_000
+
+
 def cluster(n_sites, bonds, site_labels=None, name="custom"):
     """Validated cluster from a bond list.
 
@@ -125,6 +132,10 @@ def cluster(n_sites, bonds, site_labels=None, name="custom"):
         raise ClusterError(f"number of sites {n_sites!r} is not an integer; give e.g. 4")
     if n_sites < 1:
         raise ClusterError(f"a cluster needs at least one site, got {n_sites}; give n_sites >= 1")
+    if n_sites > MAX_SITES:
+        raise ClusterError(
+            f"{n_sites} sites is far beyond exact diagonalization (at most {MAX_SITES} sites are "
+            f"accepted, and full spectra reach about 8); give fewer sites")
     seen = {}
     for raw in bonds:
         try:
@@ -308,4 +319,7 @@ def load_cluster_file(path):
             text = fh.read()
     except OSError as exc:
         raise InputError(f"cannot read cluster file {path!r}: {exc.strerror}; check the path") from None
+    except UnicodeDecodeError as exc:
+        raise InputError(f"cluster file {path!r} is not UTF-8 text (byte {exc.start}); "
+                         "save it as UTF-8 TOML") from None
     return parse_cluster_toml(text, source=str(path))

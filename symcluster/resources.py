@@ -7,9 +7,10 @@ import time
 from math import comb, factorial
 
 from .errors import TooLargeError
+from .symmetry.groups import _MAX_ORDER as MAX_GROUP_ORDER
 
-__all__ = ["available_memory", "block_dimensions", "estimate_cost", "check_size", "Progress",
-           "submit"]
+__all__ = ["available_memory", "block_dimensions", "estimate_cost", "optimistic_cost",
+           "check_early", "check_size", "Progress", "submit"]
 
 
 def available_memory():
@@ -85,7 +86,8 @@ def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0):
     """Rough peak memory (bytes) of a solve over ``sectors`` [(N_up, N_dn), ...].
 
     The terms, fitted to measured peaks (docs/performance.md): a fixed part; the
-    states of the solved sectors held as sparse integer vectors; the dense float64
+    states of the solved sectors held as sparse integer vectors (and the states with at
+    most two electrons on which the symmetry detection works); the dense float64
     matrix of the largest sector that is verified in float64; and the exact level
     polynomials, which dominate from 8 sites on.  A block of dimension m with
     ``n_free`` free coupling ratios (couplings minus one, by homogeneity) gives
@@ -116,8 +118,63 @@ def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0):
     polys = sum(m ** (k + 2) for m in block_dimensions(n_sites, sectors, plan)) / factorial(k + 1)
     checked = max((d for d in dims if d <= FLOAT_DIM), default=0)   # larger: no float64 check
     dense = _DENSE_COPIES * 8 * checked ** 2
-    return int(_FIXED + _PER_STATE * sum(dims) + dense + per_term * polys
-               + _PER_WORKER * max(0, workers))
+    return int(_FIXED + _PER_STATE * (sum(dims) + _detection_states(n_sites)) + dense
+               + per_term * polys + _PER_WORKER * max(0, workers))
+
+
+def _detection_states(n_sites):
+    """States on which the spin and eta commutators are checked exactly (<= 2 electrons)."""
+    return sum(comb(2 * n_sites, n) for n in range(3))
+
+
+def optimistic_cost(n_sites, electrons=None, n_free=1, max_order=MAX_GROUP_ORDER, stop_above=None):
+    """A lower bound of :func:`estimate_cost`, known before any symmetry is detected.
+
+    It assumes every reduction succeeds: spin SU(2) and eta-pseudospin SU(2) both hold
+    (highest weights of N_up >= N_dn sectors with N <= L only) and the lattice group
+    has the largest order the detection accepts (`max_order`), so that each sector's
+    largest block is at least its reduced dimension / `max_order` (the block of an
+    irrep of dimension d takes about D d / |G| states).  Every term of the real
+    estimate is at least as large, so a run refused here would be refused after the
+    detection too.  The exact detection itself (commutators on every state with at
+    most two electrons) is counted like the states of a sector.  The sum stops early,
+    still a lower bound, once it passes `stop_above` (huge clusters have millions of
+    sectors).
+    """
+    L = n_sites
+    wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
+    k = max(1, n_free)
+    per_term = _PER_TERM_BIT * (1 if k == 1 else 3)
+
+    def reduced(u, d):
+        return _sector_dim(L, u, d) - _sector_dim(L, u + 1, d - 1)
+
+    need = _FIXED + _PER_STATE * _detection_states(L)
+    for n in range(L + 1):
+        if stop_above is not None and need > stop_above:
+            break
+        if not any(n <= m <= 2 * L - n and (m - n) % 2 == 0 for m in wanted):
+            continue
+        for u in range((n + 1) // 2, min(n, L) + 1):
+            d = n - u
+            block = max(1, (reduced(u, d) - reduced(u - 1, d - 1)) // max_order)
+            need += _PER_STATE * _sector_dim(L, u, d) + per_term * block ** (k + 2) // factorial(k + 1)
+    return int(need)
+
+
+def check_early(n_sites, electrons=None, n_free=1, force=False, max_order=MAX_GROUP_ORDER):
+    """Refuse, before any symmetry is detected, a run that cannot fit even if every
+    reduction succeeds (:func:`optimistic_cost`); the message is that of :func:`check_size`."""
+    have = available_memory()
+    need = optimistic_cost(n_sites, electrons, n_free, max_order,
+                           stop_above=None if have is None else have)
+    if have is not None and need > 0.8 * have and not force:
+        raise TooLargeError(
+            f"a cluster of {n_sites} sites needs at least an estimated {need / 2 ** 30:.3g} GiB "
+            f"even if every symmetry reduction succeeds, but only {have / 2 ** 30:.1f} GiB is "
+            f"available; solve fewer electron numbers (electrons=...; command line: "
+            f"--electrons) or pass force=True (command line: --force) to try anyway")
+    return need
 
 
 def check_size(n_sites, sectors, plan=None, n_free=1, force=False, workers=0):

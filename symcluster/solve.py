@@ -13,7 +13,7 @@ from .algebra.polydict import poly_from_dict
 from .algebra.roots import ImplicitRoot, roots_of
 from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
                      sectors_to_solve)
-from .resources import Progress, block_dimensions, check_size, submit
+from .resources import Progress, block_dimensions, check_early, check_size, submit
 from .errors import ModelError, VerificationError
 from .models import Model
 from .spectrum import Level, Spectrum, VerificationReport
@@ -243,6 +243,9 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     wanted = _check_electrons(model, electrons)
     timings = {}
     t0 = time.perf_counter()
+    # before the detection, whose cost also grows with the cluster (commutators on every
+    # state with at most two electrons, the automorphism search)
+    check_early(model.n_sites, wanted, len(model.labels) - 1, force)
     plan = plan_symmetries(model, lattice=lattice, spin=spin, eta=eta)
     sectors = sectors_to_solve(model.n_sites, plan, wanted)
     estimate = check_size(model.n_sites, sectors, plan, len(model.labels) - 1, force,

@@ -211,3 +211,21 @@ def test_toml_unsupported_version():
     with pytest.raises(InputError, match="version"):
         sc.parse_cluster_toml('format = "symcluster-cluster"\nversion = 2\nsites = 2\n'
                               'bonds = [[0, 1]]\n')
+
+
+def test_absurd_site_count_is_refused_before_allocating(tmp_path):
+    # a typo such as sites = 100000000000 must give one message, not a MemoryError
+    with pytest.raises(ClusterError, match="sites"):
+        sc.cluster(10**11, [(0, 1)])
+    p = tmp_path / "huge.toml"
+    p.write_text('format = "symcluster-cluster"\nversion = 1\nsites = 100000000000\n'
+                 'bonds = [[0, 1], [1, 2]]\n', encoding="utf-8")
+    with pytest.raises(ClusterError, match="huge.toml.*sites"):
+        sc.load_cluster_file(p)
+
+
+def test_cluster_file_that_is_not_utf8(tmp_path):
+    p = tmp_path / "b.toml"
+    p.write_bytes(b"\xff\xfe sites = 2")
+    with pytest.raises(InputError, match="not UTF-8"):
+        sc.load_cluster_file(p)

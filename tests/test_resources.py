@@ -175,4 +175,47 @@ def test_sectors_too_large_for_float64_checks_cost_no_dense_matrix():
     big = [(5, 5)]                                   # C(10,5)^2 = 63504 states
     assert 252 ** 2 > FLOAT_DIM
     est = resources.estimate_cost(10, big)      # no symmetry: one block of 63504 states
-    assert est - resources._FIXED - resources._PER_STATE * 252 ** 2 == 8 * 63504 ** 3 // 2
+    # the symmetry detection's states: at most two electrons in 20 orbitals, 1 + 20 + 190
+    states = 252 ** 2 + 1 + 20 + 190
+    assert est - resources._FIXED - resources._PER_STATE * states == 8 * 63504 ** 3 // 2
+
+
+@pytest.mark.parametrize("make, electrons", [
+    (lambda: sc.ring(4), None), (lambda: sc.ring(6), None), (lambda: sc.ring(6), [3, 4]),
+    (lambda: sc.grid(2, 3), None), (lambda: sc.chain(5), [2]), (sc.tetrahedron, None),
+    (lambda: sc.cluster(3, [(0, 1, "t"), (1, 2, "tp")]), None)])
+def test_early_bound_never_exceeds_the_estimate(make, electrons):
+    # the early bound assumes every reduction succeeds (spin, eta, a lattice group of the
+    # largest accepted order), so it is below the estimate made after the real detection
+    # for every cluster, electron choice and number of couplings
+    model = sc.hubbard(make())
+    plan = plan_symmetries(model)
+    n_free = len(model.labels) - 1
+    late = resources.estimate_cost(model.n_sites, sectors_to_solve(model.n_sites, plan, electrons),
+                                   plan, n_free)
+    early = resources.optimistic_cost(model.n_sites, electrons, n_free)
+    assert 0 < early <= late
+
+
+@pytest.mark.parametrize("make", [lambda: sc.chain(100), lambda: sc.ring(3000),
+                                  lambda: sc.star(5000)])
+def test_huge_clusters_are_refused_before_the_symmetry_detection(monkeypatch, make):
+    # the detection itself grows with the cluster (commutators on every state with at most
+    # two electrons): a cluster that cannot fit must be refused before it starts
+    monkeypatch.setattr(resources, "available_memory", lambda: 24 * 2 ** 30)
+
+    def must_not_run(*args, **kwargs):
+        raise AssertionError("the symmetry detection ran for a cluster that cannot fit")
+
+    monkeypatch.setattr(importlib.import_module("symcluster.solve"), "plan_symmetries", must_not_run)
+    with pytest.raises(TooLargeError) as info:
+        sc.solve(sc.hubbard(make()))
+    msg = str(info.value)
+    assert "sites" in msg and "GiB" in msg and "electrons=" in msg and "force=True" in msg
+
+
+def test_huge_cluster_on_the_command_line_exits_2(capsys):
+    from symcluster.cli import main
+    assert main(["levels", "chain", "100"]) == 2
+    err = capsys.readouterr().err
+    assert err.count("\n") == 1 and "--electrons" in err and "--force" in err
