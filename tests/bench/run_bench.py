@@ -133,6 +133,7 @@ def worker_symcluster(case, events, repeat, jobs, compare):
         Also report the sorted float eigenvalues at t=1, U=4 (not timed).
     """
     import symcluster as sc  # noqa: F401  (used by the case expressions)
+    from sympy.core.cache import clear_cache
 
     baseline = _maxrss_mb()
     model = sc.hubbard(eval(SC_CASES[case][3], {"sc": sc}))
@@ -151,6 +152,14 @@ def worker_symcluster(case, events, repeat, jobs, compare):
         t0 = time.perf_counter()
         sc.solve(model, **kwargs)
         warm.append(time.perf_counter() - t0)
+    # "steady": sympy's one-time imports are paid, but its expression cache is emptied
+    # before each call, so nothing is reused from the previous solve of the same model
+    steady = []
+    for _ in range(repeat):
+        clear_cache()
+        t0 = time.perf_counter()
+        sc.solve(model, **kwargs)
+        steady.append(time.perf_counter() - t0)
     if executor is not None:
         executor.shutdown()
     implicit = sum(1 for lev in spec.levels if not lev.is_closed_form)
@@ -158,6 +167,7 @@ def worker_symcluster(case, events, repeat, jobs, compare):
                for lev in spec.levels if lev.polynomial is not None]
     result = {
         "status": "ok", "seconds": cold, "warm": min(warm) if warm else None, "cpu": cpu,
+        "steady": min(steady) if steady else None,
         "levels": len(spec.levels), "implicit": implicit,
         "largest_block": max((s.get("largest_block", 0) for s in spec.symmetries), default=0),
         "max_degree": max(degrees, default=0), "n_states": spec.n_states,
@@ -431,7 +441,20 @@ def machine_info():
             f"Python {platform.python_version()}; {', '.join(versions)}; symcluster at {rev}")
 
 
-def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_start, load_end):
+def first_sympy_addition():
+    """Seconds of the first ``x + y`` in a fresh Python process (sympy's first-use imports)."""
+    code = ("import time, sympy; x, y = sympy.symbols('x y'); t = time.perf_counter(); "
+            "x + y; print(time.perf_counter() - t)")
+    try:
+        out = subprocess.run([sys.executable, "-c", code], capture_output=True, text=True,
+                             timeout=120, check=True)
+        return float(out.stdout.strip())
+    except (subprocess.SubprocessError, ValueError, OSError):
+        return None
+
+
+def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_start, load_end,
+                 first_add=None):
     """Assemble the Markdown report.
 
     Parameters
@@ -459,12 +482,19 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
     lines.append("")
     lines.append("Times: seconds of the computation in a fresh subprocess after imports; "
                  "symcluster = `sc.solve(sc.hubbard(cluster))` with verification on. "
-                 "\"cold\" = first call in the process (headline), \"warm\" = best further call.")
+                 "\"cold\" = first call in the process (headline), \"warm\" = best further call, "
+                 "\"steady\" = best further call after `sympy.core.cache.clear_cache()` (sympy's "
+                 "one-time imports paid, no expressions reused from the previous solve).")
+    if first_add is not None:
+        lines.append("")
+        lines.append(f"For scale: the first sympy addition `x + y` in a fresh process takes "
+                     f"{first_add * 1000:.1f} ms (sympy imports its tensor and combinatorics "
+                     f"modules on first use); both sides of the ring(4) comparison pay it once.")
     lines.append("")
 
     if naive_res or numpy_res:
         lines += ["## Symcluster vs baselines (same run)", "",
-                  "| comparison | symcluster cold (warm) s | baseline s | ratio | target | "
+                  "| comparison | symcluster cold (warm; steady) s | baseline s | ratio | target | "
                   "spectra agree at t=1, U=4 | peak RSS MB symcluster / baseline | load |",
                   "| --- | --- | --- | --- | --- | --- | --- | --- |"]
         if "ring4" in naive_res:
@@ -561,10 +591,13 @@ def _mem_pair(a, b):
 
 
 def _cell_sc(res):
-    """Symcluster time cell: cold (warm)."""
+    """Symcluster time cell: cold (warm; steady)."""
     if res["status"] != "ok":
         return _failure(res)
-    warm = f" ({_fmt_s(res['warm'])})" if res.get("warm") is not None else ""
+    warm = ""
+    if res.get("warm") is not None:
+        steady = f"; {_fmt_s(res['steady'])}" if res.get("steady") is not None else ""
+        warm = f" ({_fmt_s(res['warm'])}{steady})"
     return _fmt_s(res["seconds"]) + warm
 
 
@@ -610,11 +643,12 @@ def main(argv=None):
     started = time.strftime("%Y-%m-%d %H:%M:%S")
     load_start = os.getloadavg()
     sc_res, naive_res, numpy_res = {}, {}, {}
+    first_add = first_sympy_addition() if "ring4" in names else None
 
     def write(partial):
         report = build_report(args, sc_res, naive_res, numpy_res, started,
                               time.strftime("%Y-%m-%d %H:%M:%S") + (" (partial)" if partial else ""),
-                              load_start, os.getloadavg())
+                              load_start, os.getloadavg(), first_add)
         if args.out:  # rewritten after every case, so an interrupted run leaves its rows
             with open(args.out, "w") as fh:
                 fh.write(report + "\n")
