@@ -16,7 +16,7 @@ from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_sym
 from .resources import Progress, block_dimensions, check_early, check_size, submit
 from .errors import ModelError, VerificationError
 from .models import Model
-from .spectrum import Level, Spectrum, VerificationReport
+from .spectrum import Level, Spectrum, VerificationReport, check_digits
 from .verify import verify_blocks, verify_spectrum
 
 __all__ = ["solve", "solve_block"]
@@ -27,6 +27,9 @@ def _check_electrons(model, electrons):
         return None
     if isinstance(electrons, int) and not isinstance(electrons, bool):
         electrons = [electrons]
+    if isinstance(electrons, (str, bytes)):
+        raise ModelError(f"electrons={electrons!r} is text; give an integer or a list of "
+                         "integers, e.g. electrons=2 or electrons=[2, 3]")
     try:
         wanted = sorted(set(electrons))
     except TypeError:
@@ -238,8 +241,11 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         raise ModelError(f"solve() needs a Model such as hubbard(ring(4)), got {type(model).__name__}")
     if verify is not True:
         raise ModelError("verification cannot be switched off; call solve(model) without verify=")
-    if not isinstance(digits, int) or digits < 30:
+    if isinstance(digits, bool) or not isinstance(digits, int) or digits < 30:
         raise ModelError(f"digits={digits!r}: verification needs at least 30 digits; use digits>=30")
+    check_digits(digits, minimum=30)
+    if seed is not None and (isinstance(seed, bool) or not isinstance(seed, int)):
+        raise ModelError(f"seed={seed!r} is not an integer; give e.g. seed=1 or leave it out")
     wanted = _check_electrons(model, electrons)
     timings = {}
     t0 = time.perf_counter()

@@ -34,7 +34,10 @@ def _to_rational(name, value):
     if isinstance(value, float):
         if value != value or value in (float("inf"), float("-inf")):
             raise ModelError(f"value of {name} is {value}; give a finite number")
-        return sympy.Rational(value)
+        # the decimal the float was written as (its shortest repr: 0.1 -> 1/10), not its
+        # binary value (0.1 -> 3602879701896397/36028797018963968), whose "certified"
+        # digits would belong to another point
+        return sympy.Rational(Fraction(repr(value)))
     if isinstance(value, mpmath.mpf):
         return sympy.Rational(str(value))
     if isinstance(value, str):
@@ -47,6 +50,19 @@ def _to_rational(name, value):
     if isinstance(value, sympy.Expr) and value.is_number:
         return value
     raise ModelError(f"value {value!r} of {name} is not a number; write e.g. 4, -2.5 or 3/2")
+
+
+#: Largest number of digits accepted for values and for the verification.
+MAX_DIGITS = 10000
+
+
+def check_digits(digits, minimum=1):
+    """Validate a requested number of significant digits; returns it."""
+    if isinstance(digits, bool) or not isinstance(digits, int):
+        raise ModelError(f"digits={digits!r} is not an integer; give e.g. digits=30")
+    if not minimum <= digits <= MAX_DIGITS:
+        raise ModelError(f"digits={digits} is outside {minimum}..{MAX_DIGITS}; give e.g. digits=30")
+    return digits
 
 
 def coerce_point(symbols, values):
@@ -540,6 +556,7 @@ class Level:
         return not hasattr(self.energy, "numeric")
 
     def numeric(self, values, digits=30, symbols=None):
+        check_digits(digits)
         syms = symbols if symbols is not None else _free_symbols(self)
         point = coerce_point(syms, values) if not _is_exact_point(values) else values
         with mpmath.workdps(digits):
@@ -594,6 +611,7 @@ class Spectrum:
 
     def numeric(self, values, digits=30):
         """Every level's value with its degeneracy, ascending: list of (mpmath.mpf, int)."""
+        check_digits(digits)
         pt = self.point(values)
         with mpmath.workdps(digits):
             out = [(+energy_numeric(l.energy, pt, digits, l.polynomial), l.degeneracy)

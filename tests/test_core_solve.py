@@ -558,3 +558,35 @@ def test_ball_evaluation_refuses_arguments_certainly_outside_the_domain():
                       (sympy.asin(x), mpmath.asin)):
         with mpmath.workdps(30):
             assert _arb_eval(expr, env).contains(flint.arb(str(ref(mpmath.mpf(1) / 3))))
+
+
+# ---------------------------------------------------------------- inputs of solve and numeric
+def test_float_values_mean_the_decimal_they_were_written_as():
+    # 0.1 is the point U = 1/10, not the binary double 3602879701896397/2^55: the 30 digits
+    # must be those of the independent Fock reference at U = 1/10
+    spec = solved("ring(4)")
+    got = sorted(x for x, d in spec.numeric({"t": 1.0, "U": 0.1}, digits=30) for _ in range(d))
+    ref = FockReference(4, list(sc.ring(4).bonds))
+    exp = sorted(v for nu in range(5) for nd in range(5)
+                 for v in ref.eigenvalues_mp({"t": 1, "U": sympy.Rational(1, 10)}, nu, nd, digits=40))
+    assert len(got) == len(exp) == 256
+    with mpmath.workdps(40):
+        assert max(abs(a - b) for a, b in zip(got, exp)) < mpmath.mpf(10) ** -28
+
+
+@pytest.mark.parametrize("digits", [0, -5, 2.5, "x", True, 10**6])
+def test_numeric_refuses_bad_digits(digits):
+    spec = solved("chain(2)")
+    with pytest.raises(sc.ModelError, match="digits"):
+        spec.numeric({"t": 1, "U": 4}, digits=digits)
+    with pytest.raises(sc.ModelError, match="digits"):
+        spec.levels[0].numeric({"t": 1, "U": 4}, digits=digits)
+
+
+@pytest.mark.parametrize("kwargs, match", [({"seed": "x"}, "seed"), ({"seed": 1.5}, "seed"),
+                                           ({"electrons": "2"}, "text"),
+                                           ({"digits": 10**6}, "digits"),
+                                           ({"digits": 30.0}, "digits")])
+def test_solve_refuses_bad_arguments_with_one_message(kwargs, match):
+    with pytest.raises(sc.ModelError, match=match):
+        sc.solve(sc.hubbard(sc.chain(2)), **kwargs)
