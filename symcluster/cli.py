@@ -3,8 +3,10 @@
 Thin by design: every computation is :func:`symcluster.solve` and the
 functions of :mod:`symcluster.export`.  Any :class:`SymclusterError` or usage
 mistake becomes exactly one line ``symcluster: error: <problem>; <fix>`` on
-stderr and exit code 2.  Output files are produced in memory first and written
-(atomically) only after everything succeeded.
+stderr and exit code 2.  Output paths are checked (a file can be created there)
+before the solve; after it, all outputs are produced in memory, written to
+temporary files beside their targets and renamed into place only when every one
+succeeded (all files or none).
 """
 
 import argparse
@@ -94,6 +96,9 @@ _FRACTION = re.compile(r"^[+-]?[0-9]+/[0-9]+$")
 def parse_number(text, what):
     """Exact sympy Rational from ``4``, ``-2.5``, ``1e-3`` or ``3/2`` (no evaluation)."""
     text = text.strip()
+    if len(text) > 1000:
+        raise InputError(f"{what} is a number of {len(text)} characters; give at most 1000 "
+                         f"(e.g. a fraction 3/2 or a decimal 2.5)")
     if _FRACTION.match(text):
         num, den = text.split("/")
         if int(den) == 0:
@@ -244,6 +249,8 @@ def _digits(text):
 
 
 def _check_outputs(paths):
+    """Before the solve: distinct paths, each one creatable (export.check_writable)."""
+    from .export import check_writable
     seen = set()
     for p in paths:
         if p is None:
@@ -252,12 +259,7 @@ def _check_outputs(paths):
         if full in seen:
             raise InputError(f"{p!r} is given for two outputs; give each output its own file")
         seen.add(full)
-        d = os.path.dirname(full)
-        if not os.path.isdir(d):
-            raise InputError(f"cannot write {p!r}: directory {d!r} does not exist; create it "
-                             f"or choose another path")
-        if os.path.isdir(full):
-            raise InputError(f"cannot write {p!r}: it is a directory; give a file name")
+        check_writable(p)
 
 
 def _check_point(point, model):
@@ -302,7 +304,7 @@ def _solve(model, electrons, force=False, serial=False):
 
 def _run_levels(args, out, err):
     from .export import (dumps_spectrum, format_symmetries, format_table, latex_table,
-                         write_text_atomic)
+                         write_texts_atomic)
     from .models import hubbard
     from .clusters import load_cluster_file
     if args.cluster_file and args.cluster:
@@ -325,13 +327,15 @@ def _run_levels(args, out, err):
     tex = latex_table(spectrum, point=point, digits=args.digits,
                       standalone=args.standalone) if args.latex else None
     js = dumps_spectrum(spectrum, point=point, digits=args.digits) if args.json else None
+    files = [(path, text) for path, text in ((args.latex, tex), (args.json, js)) if path]
+    # all files or none: temporaries first, renamed into place only if every one succeeded;
+    # the table is printed only after that, so exit code 2 means no output at all
+    write_texts_atomic(files)
     out.write(table)
     if sym:
         out.write("\n" + sym)
-    for path, text in ((args.latex, tex), (args.json, js)):
-        if path:
-            write_text_atomic(path, text)
-            err.write(f"symcluster: wrote {path}\n")
+    for path, _ in files:
+        err.write(f"symcluster: wrote {path}\n")
     return 0
 
 

@@ -168,3 +168,17 @@ def test_large_polynomials_are_printed_term_by_term_and_exactly():
     py = re.sub(r"\^\{(\d+)\}", r"**\1", py)
     py = re.sub(r"(?<=[\w)]) (?=[\w(])", "*", py)
     assert sympy.expand(sympy.parse_expr(py, local_dict=names) - expr) == 0
+
+
+def test_exact_printers_agree_with_sympy_and_handle_any_integer_length():
+    """The export printers are sympy's printers except that integers may exceed 4300 digits."""
+    from symcluster.export.text import exact_latex, exact_sstr
+    samples = [U / 2 - DELTA / 2, R(-3, 7) * t**2 + U / 5, sympy.sqrt(R(1, 3) * U**2 + 2 * t**2),
+               sympy.acos(U / (U**2 + 3 * t**2) ** R(3, 2)) / 3, -t - R(22, 7) * U, R(-5, 2)]
+    for e in samples:
+        assert exact_sstr(e) == sympy.sstr(e)
+        assert exact_latex(e, inv_trig_style="full") == sympy.latex(e, inv_trig_style="full")
+    big = sympy.Integer(10) ** 5000 - 1                      # 5000 nines
+    assert exact_sstr(big * t) == "9" * 5000 + "*t"
+    assert exact_latex(t / (big + 1)) == r"\frac{t}{1" + "0" * 5000 + "}"
+    assert energy_text(-big / 3) == "-" + "3" * 5000        # 99...9 / 3 = 33...3

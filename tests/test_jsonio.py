@@ -160,6 +160,11 @@ def test_json_text_round_trip_reloads_equal_objects():
     root = [l for l in doc["levels"] if isinstance(l["energy"], StandInRoot)][0]
     assert root["energy"] == spec.levels[-1].energy
     assert root["quantum_numbers"]["Sz"] == R(1, 2)
+    # every quantum number comes back as the object that was written
+    by_energy = {(l.quantum_numbers["N"], l.energy): l.quantum_numbers for l in spec.levels}
+    for entry in doc["levels"]:
+        key = (entry["quantum_numbers"]["N"], entry["energy"])
+        assert entry["quantum_numbers"] == by_energy[key]
     assert doc["point"] == {"t": R(1, 3), "U": R(5, 2)}
     polys = [l["polynomial"] for l in doc["levels"] if l["polynomial"] is not None]
     assert sympy.Poly(E**2 - U * E - 4 * t**2, E, t, U) in polys
@@ -260,3 +265,82 @@ def test_version_1_files_are_still_read():
     lev = back["levels"][0]
     assert lev["polynomial"] == sympy.Poly(E**2 - t**2, E, t)
     assert lev["energy"] == StandInRoot(lev["polynomial"], 1)
+
+
+PI = sympy.pi
+
+
+def test_momenta_reload_as_exact_multiples_of_pi():
+    """k is written as text ("-pi/2") but must come back as the sympy object r*pi."""
+    spec = two_site_spectrum()
+    momenta = [sympy.Integer(0), PI, (-PI / 2, PI / 2), (R(-2, 3) * PI, R(2, 3) * PI), -PI,
+               R(3, 4) * PI, sympy.Integer(0), PI, (-PI / 2, PI / 2), PI]
+    for lev, k in zip(spec.levels, momenta):
+        lev.quantum_numbers["k"] = k
+    doc = loads_spectrum(dumps_spectrum(spec))
+    # without a point the levels keep their order within each N (sorted by N, stable)
+    order = sorted(range(len(spec.levels)), key=lambda i: (spec.levels[i].quantum_numbers["N"], i))
+    for j, i in enumerate(order):
+        assert doc["levels"][j]["quantum_numbers"] == spec.levels[i].quantum_numbers
+    ks = [doc["levels"][j]["quantum_numbers"]["k"] for j in range(len(order))]
+    assert ks[order.index(2)] == (-PI / 2, PI / 2) and isinstance(ks[order.index(2)], tuple)
+    assert ks[order.index(3)] == (sympy.Rational(-2, 3) * PI, sympy.Rational(2, 3) * PI)
+    assert ks[order.index(0)] == 0 and isinstance(ks[order.index(0)], sympy.Basic)
+
+
+def test_real_ring_round_trip_keeps_all_quantum_numbers():
+    import symcluster as sc
+    spec = sc.solve(sc.hubbard(sc.ring(4)), electrons=[1, 2])
+    assert any(isinstance(l.quantum_numbers.get("k"), tuple) for l in spec.levels)
+    doc = loads_spectrum(dumps_spectrum(spec))
+    order = sorted(range(len(spec.levels)), key=lambda i: (spec.levels[i].quantum_numbers["N"], i))
+    assert len(doc["levels"]) == len(order)
+    for j, i in enumerate(order):
+        assert doc["levels"][j]["quantum_numbers"] == spec.levels[i].quantum_numbers
+
+
+@pytest.mark.parametrize("k", ["pi/0", "sqrt(2)", "__import__('os')", "0*pi", ["pi", 3], []])
+def test_bad_momenta_give_input_errors(k):
+    doc = json.loads(dumps_spectrum(two_site_spectrum()))
+    doc["levels"][0]["quantum_numbers"]["k"] = k
+    with pytest.raises(InputError, match="not a momentum"):
+        loads_spectrum(json.dumps(doc))
+
+
+@pytest.mark.parametrize("bad", ["NaN", "Infinity", "-Infinity", "1e999"])
+def test_non_finite_numbers_are_refused(tmp_path, bad):
+    text = dumps_spectrum(two_site_spectrum())
+    assert '"worst_deviation": 1e-40' in text
+    path = tmp_path / "s.json"
+    path.write_text(text.replace('"worst_deviation": 1e-40', f'"worst_deviation": {bad}'))
+    with pytest.raises(InputError, match="not strict JSON"):
+        read_json(path)
+
+
+def test_integers_longer_than_4300_digits_are_written_and_read():
+    # Python refuses str(int)/int(str) beyond 4300 digits by default; exact files may not
+    big = sympy.Integer(10) ** 5000 + 7                 # "1", 4996 zeros, "7"
+    digits = "1" + "0" * 4999 + "7"
+    assert to_tree(big) == {"int": digits}
+    assert from_tree({"int": digits}) == big
+    assert from_tree({"rat": "-" + digits + "/3"}) == -big / 3
+    expr = big * t + U / (big + 2)
+    assert from_tree(json.loads(json.dumps(to_tree(expr)))) == expr
+    # a whole document with such a coefficient in a level and in its polynomial
+    spec = two_site_spectrum()
+    p = sympy.Poly(E**2 - big * U * E - t**2, E, t, U)
+    spec.levels[3].energy = big * U / 2 + sympy.sqrt(big**2 * U**2 + 4 * t**2) / 2
+    spec.levels[3].polynomial = p
+    doc = loads_spectrum(dumps_spectrum(spec))
+    assert p in doc["polynomials"]
+    assert any(l["energy"] == spec.levels[3].energy for l in doc["levels"])
+    assert any(digits in l["energy_text"] for l in json.loads(dumps_spectrum(spec))["levels"])
+
+
+def test_integers_beyond_the_reader_limit_name_the_true_reason():
+    with pytest.raises(InputError, match="100001 digits, more than the 100000"):
+        from_tree({"int": "1" * 100001})
+    with pytest.raises(InputError, match="denominator has 100001 digits"):
+        from_tree({"rat": "1/" + "3" * 100001})
+    with pytest.raises(ModelError, match="at most 100000"):
+        to_tree(sympy.Integer(10) ** 100000)

@@ -29,7 +29,8 @@ import sympy
 from ..errors import InputError, ModelError
 
 __all__ = ["to_tree", "from_tree", "poly_to_tree", "poly_from_tree", "root_of_poly",
-           "is_implicit_root", "OPS", "MAX_DEPTH"]
+           "is_implicit_root", "int_to_decimal", "decimal_to_int", "parse_pi_multiple", "OPS",
+           "MAX_DEPTH", "MAX_DIGITS"]
 
 #: operation name -> (sympy class, number of arguments or None for "two or more")
 OPS = {
@@ -61,12 +62,82 @@ _ASSUMPTIONS = ("real", "positive", "negative", "nonnegative", "nonpositive", "n
                 "integer")
 _DOMAINS = {"ZZ": sympy.ZZ, "QQ": sympy.QQ}
 
-_INT = re.compile(r"^-?[0-9]{1,4000}$")
-_RAT = re.compile(r"^-?[0-9]{1,4000}(/[0-9]{1,4000})?$")
+#: most decimal digits of one integer (numerator or denominator) written or read; far
+#: beyond real coefficients, small enough that a hostile file cannot stall the reader
+MAX_DIGITS = 100_000
+
+_INT = re.compile(r"^-?[0-9]+$")
+_RAT = re.compile(r"^-?[0-9]+(/[0-9]+)?$")
 _NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]{0,63}$")
+_PI_MULTIPLE = re.compile(r"^(-?)(?:([0-9]{1,9})\*)?pi(?:/([0-9]{1,9}))?$")
 
 #: deepest nesting accepted when decoding (real energies are far shallower)
 MAX_DEPTH = 200
+
+# Python refuses str(int) and int(str) beyond 4300 digits (sys.get_int_max_str_digits);
+# below this size the built-in conversions are used directly
+_CHUNK = 4000
+
+
+def int_to_decimal(n):
+    """Decimal text of an integer of any size (not subject to Python's 4300-digit limit).
+
+    Raises
+    ------
+    ModelError
+        If the integer has more than MAX_DIGITS digits (the most a reader accepts).
+    """
+    n = int(n)
+    if n.bit_length() * 0.30102 > MAX_DIGITS + 10:      # clearly too long: do not convert
+        text = None
+    else:
+        text = _to_decimal(abs(n))
+    if text is None or len(text) > MAX_DIGITS:
+        raise ModelError(f"an integer of about {int(n.bit_length() * 0.30103)} digits cannot be "
+                         f"stored (at most {MAX_DIGITS}); this is far beyond any real "
+                         f"coefficient, please report it")
+    return "-" + text if n < 0 else text
+
+
+def _to_decimal(n):
+    if n.bit_length() <= 3 * _CHUNK:          # < 10**3612: the built-in str is allowed
+        return str(n)
+    half = int(n.bit_length() * 0.30103) // 2
+    hi, lo = divmod(n, 10 ** half)
+    return _to_decimal(hi) + _to_decimal(lo).rjust(half, "0")
+
+
+def decimal_to_int(digits):
+    """Integer from a string of decimal digits (optional leading ``-``), of any length.
+
+    The caller checks the characters; this only converts (in pieces of <= 4000 digits).
+    """
+    if digits.startswith("-"):
+        return -decimal_to_int(digits[1:])
+    if len(digits) <= _CHUNK:
+        return int(digits)
+    half = len(digits) // 2
+    return decimal_to_int(digits[:-half]) * 10 ** half + decimal_to_int(digits[-half:])
+
+
+def parse_pi_multiple(text):
+    """A momentum such as ``"0"``, ``"pi"``, ``"-pi/2"``, ``"2*pi/3"`` as the sympy object r*pi.
+
+    The only grammar accepted is ``0`` or ``[-][p*]pi[/q]`` with decimal p, q (how sympy
+    prints a rational multiple of pi); nothing is evaluated.  Returns None if ``text``
+    does not match.
+    """
+    if not isinstance(text, str):
+        return None
+    if text == "0":
+        return sympy.Integer(0)
+    m = _PI_MULTIPLE.match(text)
+    if not m:
+        return None
+    p, q = int(m.group(2) or 1), int(m.group(3) or 1)
+    if p == 0 or q == 0:
+        return None
+    return sympy.Rational(-p if m.group(1) else p, q) * sympy.pi
 
 
 def is_implicit_root(obj):
@@ -132,9 +203,9 @@ def to_tree(expr):
     if expr in _CONST_NAME:
         return {"const": _CONST_NAME[expr]}
     if isinstance(expr, sympy.Integer):
-        return {"int": str(int(expr))}
+        return {"int": int_to_decimal(expr.p)}
     if isinstance(expr, sympy.Rational):
-        return {"rat": f"{expr.p}/{expr.q}"}
+        return {"rat": f"{int_to_decimal(expr.p)}/{int_to_decimal(expr.q)}"}
     if isinstance(expr, sympy.Symbol):
         return _sym_tree(expr)
     name = _OP_OF_CLASS.get(type(expr))
@@ -154,7 +225,8 @@ def poly_to_tree(poly):
     terms = []
     for monom, coeff in poly.terms():
         c = sympy.Rational(coeff)
-        terms.append([list(monom), str(c.p) if c.q == 1 else f"{c.p}/{c.q}"])
+        terms.append([list(monom), int_to_decimal(c.p) if c.q == 1
+                      else f"{int_to_decimal(c.p)}/{int_to_decimal(c.q)}"])
     return {"poly": {"gens": [_sym_tree(g) for g in poly.gens], "domain": dom, "terms": terms}}
 
 
@@ -183,19 +255,30 @@ def _short(obj):
     return text if len(text) <= 60 else text[:57] + "..."
 
 
+def _check_length(digits, path, what):
+    n = len(digits.lstrip("-"))
+    if n > MAX_DIGITS:
+        _bad(path, f"{what} has {n} digits, more than the {MAX_DIGITS} this reader accepts; "
+                   f"the file is corrupt or was not written by symcluster")
+
+
 def _parse_int(text, path):
     if not isinstance(text, str) or not _INT.match(text):
         _bad(path, f"integer {_short(text)} must be a string of digits such as \"-3\"")
-    return sympy.Integer(int(text))
+    _check_length(text, path, "integer")
+    return sympy.Integer(decimal_to_int(text))
 
 
 def _parse_rat(text, path):
     if not isinstance(text, str) or not _RAT.match(text):
         _bad(path, f"rational {_short(text)} must be a string such as \"3/2\" or \"-4\"")
     num, _, den = text.partition("/")
-    if den and int(den) == 0:
-        _bad(path, f"rational {text!r} has a zero denominator; write a nonzero denominator")
-    return sympy.Rational(int(num), int(den) if den else 1)
+    _check_length(num, path, "numerator")
+    _check_length(den, path, "denominator")
+    if den and not den.strip("0"):
+        _bad(path, f"rational {_short(text)} has a zero denominator; write a nonzero "
+                   f"denominator")
+    return sympy.Rational(decimal_to_int(num), decimal_to_int(den) if den else 1)
 
 
 def _parse_sym(node, path):

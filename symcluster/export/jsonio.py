@@ -18,13 +18,14 @@ import mpmath
 import sympy
 
 from ..errors import InputError
-from .exprtree import (from_tree, is_implicit_root, poly_from_tree, poly_to_tree,
-                       root_of_poly, to_tree)
+from .exprtree import (from_tree, int_to_decimal, is_implicit_root, parse_pi_multiple,
+                       poly_from_tree, poly_to_tree, root_of_poly, to_tree)
 from .text import energy_text, level_sort_key, numeric_values, poly_text
 from .latex import _poly_tex, energy_latex
 
 __all__ = ["FORMAT", "VERSION", "spectrum_to_dict", "dumps_spectrum", "write_json",
-           "read_json", "loads_spectrum", "decode_spectrum_dict", "write_text_atomic"]
+           "read_json", "loads_spectrum", "decode_spectrum_dict", "write_text_atomic",
+           "write_texts_atomic", "check_writable"]
 
 FORMAT = "symcluster-spectrum"
 VERSION = 2
@@ -35,7 +36,8 @@ _INT_KEYS = ("N", "irrep_dim")
 
 def _rat_str(x):
     x = sympy.Rational(x)
-    return str(x.p) if x.q == 1 else f"{x.p}/{x.q}"
+    p = int_to_decimal(x.p)
+    return p if x.q == 1 else f"{p}/{int_to_decimal(x.q)}"
 
 
 def _plain(obj):
@@ -185,6 +187,100 @@ def dumps_spectrum(spectrum, point=None, digits=30):
     return json.dumps(spectrum_to_dict(spectrum, point, digits), indent=1, allow_nan=False) + "\n"
 
 
+def check_writable(path):
+    """Check, before any long computation, that a file can be created at ``path``.
+
+    The directory must exist, ``path`` must not be a directory, and a file must
+    be creatable there: a temporary file is created in the directory and removed
+    again (so a read-only directory or a place such as /proc is caught now, not
+    after the solve).
+
+    Raises
+    ------
+    InputError
+        Naming the path, the problem and the fix.
+    """
+    path = os.fspath(path)
+    full = os.path.abspath(path)
+    directory = os.path.dirname(full)
+    if not os.path.isdir(directory):
+        raise InputError(f"cannot write {path!r}: directory {directory!r} does not exist; "
+                         f"create it or choose another path")
+    if os.path.isdir(full):
+        raise InputError(f"cannot write {path!r}: it is a directory; give a file name")
+    try:
+        fd, tmp = tempfile.mkstemp(prefix=".symcluster-check-", suffix=".tmp", dir=directory)
+    except OSError as exc:
+        raise InputError(f"cannot write {path!r}: no file can be created in directory "
+                         f"{directory!r} ({exc.strerror}); choose a writable directory") from None
+    os.close(fd)
+    try:
+        os.unlink(tmp)
+    except OSError:
+        pass
+
+
+def _remove_quietly(path):
+    try:
+        os.unlink(path)
+    except OSError:
+        pass
+
+
+def write_texts_atomic(outputs):
+    """Write several files all or none: ``outputs`` is a list of ``(path, text)``.
+
+    Every text is first written in full to a temporary file in its target
+    directory; only when all of them succeeded are they renamed into place
+    (``os.replace``).  On any failure the temporaries are removed and no target
+    file is created or changed (if a rename itself fails, the files already
+    renamed that did not exist before are removed again).
+
+    Raises
+    ------
+    InputError
+        If a directory does not exist or is not writable, or a write fails.
+    """
+    outputs = [(os.fspath(p), t) for p, t in outputs]
+    temps = []
+    try:
+        umask = os.umask(0)
+        os.umask(umask)
+        for path, text in outputs:
+            directory = os.path.dirname(os.path.abspath(path))
+            try:
+                fd, tmp = tempfile.mkstemp(prefix=".symcluster-", suffix=".tmp", dir=directory)
+            except OSError as exc:
+                raise InputError(f"cannot write {path!r}: {exc.strerror}; check that the "
+                                 f"directory exists and is writable") from None
+            temps.append(tmp)
+            try:
+                with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
+                    fh.write(text)
+                    fh.flush()
+                    os.fsync(fh.fileno())
+                os.chmod(tmp, 0o666 & ~umask)
+            except OSError as exc:
+                raise InputError(f"cannot write {path!r}: {exc.strerror}; choose another "
+                                 f"output path") from None
+        placed = []
+        for (path, _), tmp in zip(outputs, temps):
+            existed = os.path.lexists(path)
+            try:
+                os.replace(tmp, path)
+            except OSError as exc:
+                for done in placed:
+                    _remove_quietly(done)
+                raise InputError(f"cannot write {path!r}: {exc.strerror}; choose another "
+                                 f"output path") from None
+            if not existed:
+                placed.append(path)
+    finally:
+        for tmp in temps:
+            if os.path.lexists(tmp):
+                _remove_quietly(tmp)
+
+
 def write_text_atomic(path, text):
     """Write ``text`` to ``path`` whole or not at all (temporary file + os.replace).
 
@@ -193,28 +289,7 @@ def write_text_atomic(path, text):
     InputError
         If the directory does not exist or is not writable.
     """
-    path = os.fspath(path)
-    directory = os.path.dirname(os.path.abspath(path))
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=".symcluster-", suffix=".tmp", dir=directory)
-    except OSError as exc:
-        raise InputError(f"cannot write {path!r}: {exc.strerror}; check that the directory "
-                         f"exists and is writable") from None
-    try:
-        with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-            fh.write(text)
-            fh.flush()
-            os.fsync(fh.fileno())
-        umask = os.umask(0)
-        os.umask(umask)
-        os.chmod(tmp, 0o666 & ~umask)
-        os.replace(tmp, path)
-    except OSError as exc:
-        raise InputError(f"cannot write {path!r}: {exc.strerror}; choose another output "
-                         f"path") from None
-    finally:
-        if os.path.exists(tmp):
-            os.unlink(tmp)
+    write_texts_atomic([(path, text)])
 
 
 def write_json(spectrum, path, point=None, digits=30):
@@ -246,7 +321,21 @@ def _qn_from_json(qn, where):
                 out[key] = from_tree(tree)
             except InputError as exc:
                 raise InputError(f"{where}: quantum number {key}: {exc}") from None
+    if "k" in out:
+        out["k"] = _momentum_from_json(out["k"], where)
     return out
+
+
+def _momentum_from_json(val, where):
+    """Quantum number k: "0", "pi/2", ... or a list of them (an orbit of momenta)."""
+    items = val if isinstance(val, list) else [val]
+    back = [parse_pi_multiple(v) for v in items]
+    if any(b is None for b in back) or not items:
+        bad = next((v for v, b in zip(items, back) if b is None), val)
+        raise InputError(f"{where}: quantum number k = {bad!r} is not a momentum; write a "
+                         f"multiple of pi such as \"0\", \"pi\", \"-pi/2\" or \"2*pi/3\" "
+                         f"(or a list of them)")
+    return tuple(back) if isinstance(val, list) else back[0]
 
 
 def decode_spectrum_dict(data, source="<data>", root_factory=None):
@@ -342,10 +431,45 @@ def _energy_v2(tree, table, root_factory):
     return root_of_poly(poly, body["var"], body["index"], root_factory)
 
 
+class _NonFiniteNumber(Exception):
+    pass
+
+
+class _LongBareInteger(Exception):
+    pass
+
+
+def _refuse_constant(name):
+    raise _NonFiniteNumber(name)
+
+
+def _finite_float(text):
+    value = float(text)
+    if not math.isfinite(value):           # e.g. 1e999 overflows to infinity
+        raise _NonFiniteNumber(text if len(text) <= 30 else text[:27] + "...")
+    return value
+
+
+def _short_int(text):
+    if len(text.lstrip("-")) > 1000:
+        raise _LongBareInteger(len(text.lstrip("-")))
+    return int(text)
+
+
 def loads_spectrum(text, source="<string>", root_factory=None):
     """Parse JSON text and return :func:`decode_spectrum_dict` of it."""
     try:
-        data = json.loads(text)
+        data = json.loads(text, parse_constant=_refuse_constant, parse_float=_finite_float,
+                          parse_int=_short_int)
+    except _NonFiniteNumber as exc:
+        raise InputError(f"{source}: not strict JSON: {exc.args[0]} is not a finite number "
+                         f"(NaN, Infinity and numbers that overflow are not allowed in this "
+                         f"format); the file was not written by symcluster or was edited, "
+                         f"regenerate it") from None
+    except _LongBareInteger as exc:
+        raise InputError(f"{source}: a bare JSON integer has {exc.args[0]} digits; in this "
+                         f"format only small counts are bare numbers (exact numbers are "
+                         f"strings such as {{\"int\": \"...\"}}), regenerate the file") from None
     except (json.JSONDecodeError, RecursionError) as exc:
         msg = getattr(exc, "msg", "nested too deeply")
         line = getattr(exc, "lineno", "?")

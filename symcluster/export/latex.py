@@ -21,10 +21,18 @@ import re
 import mpmath
 import sympy
 
-from .exprtree import is_implicit_root
-from .text import level_sort_key, numeric_values, poly_text
+from .exprtree import int_to_decimal, is_implicit_root
+from .text import exact_latex, level_sort_key, numeric_values, poly_text
 
-__all__ = ["latex_table", "energy_latex", "tex_escape", "name_subexpressions"]
+__all__ = ["latex_table", "energy_latex", "tex_escape", "name_subexpressions", "wrap_tex_lines",
+           "MAX_LINE", "LONG_POLY_CHARS"]
+
+#: longest source line latex_table emits: TeX reads a whole line into a fixed buffer
+#: (pdflatex: 200000 characters), and short lines keep the file readable and diffable
+MAX_LINE = 100
+#: a polynomial whose one-line LaTeX is longer than this is typeset coefficient by
+#: coefficient (powers of E), each coefficient a formula that breaks across lines
+LONG_POLY_CHARS = 800
 
 _SPECIAL = {"\\": r"\textbackslash{}", "{": r"\{", "}": r"\}", "$": r"\$", "&": r"\&",
             "#": r"\#", "^": r"\^{}", "_": r"\_", "%": r"\%", "~": r"\textasciitilde{}",
@@ -68,7 +76,7 @@ def _comment(text):
 
 
 def _tex(expr):
-    return sympy.latex(expr, inv_trig_style="full")
+    return exact_latex(expr, inv_trig_style="full")
 
 
 def _poly_tex(poly):
@@ -179,6 +187,122 @@ def name_subexpressions(exprs, taken=()):
     return new, [(final[d], v.xreplace(final)) for d, v in defs]
 
 
+# ----------------------------------------------------------------------------- long polynomials
+
+def _poly_item(j, poly):
+    """The ``\\item`` lines of P_j: one formula, or coefficient by coefficient if long.
+
+    A long polynomial (one-line LaTeX over LONG_POLY_CHARS characters) is written as
+    ``P_j(E) = sum_n p_n E^n`` followed by a list with one entry ``p_n = ...`` per
+    nonzero coefficient, highest power first.  Each coefficient is an inline formula,
+    which TeX breaks between terms (after + and -) across lines and pages, and the
+    list gives continuation lines a hanging indent.
+    """
+    var = _tex(poly.gens[0])
+    plain = _poly_tex(poly)
+    if len(plain) <= LONG_POLY_CHARS:
+        return [rf"\item $P_{{{j}}}({var}) = {plain}$"]
+    rest = poly.gens[1:]
+    by_power = {}
+    for monom, coeff in poly.terms():
+        by_power.setdefault(monom[0], {})[tuple(monom[1:])] = coeff
+    deg = max(by_power)
+    lines = [rf"\item $P_{{{j}}}({var}) = \sum_{{n=0}}^{{{deg}}} p_{{n}}\, {var}^{{n}}$ "
+             rf"(degree {deg} in ${var}$, {len(poly.terms())} terms), with",
+             r"\begin{list}{}{\setlength{\leftmargin}{3em}\setlength{\itemindent}{-2em}",
+             r"  \setlength{\itemsep}{1pt}\setlength{\parsep}{0pt}\setlength{\topsep}{2pt}}",
+             r"\raggedright"]
+    for n in sorted(by_power, reverse=True):
+        terms = by_power[n]
+        if rest:
+            coeff = _poly_tex(sympy.Poly.from_dict(terms, *rest, domain=poly.get_domain()))
+        else:
+            coeff = _tex(sympy.Rational(terms[()]))
+        lines.append(rf"\item[] $p_{{{n}}} = {coeff}$" + ("," if n != min(by_power) else "."))
+    zero = deg + 1 - len(by_power)
+    if zero:
+        lines.append(rf"\item[] (the other {zero} coefficients are zero)")
+    lines.append(r"\end{list}")
+    return lines
+
+
+# ----------------------------------------------------------------------------- source lines
+
+def wrap_tex_lines(text, width=MAX_LINE):
+    """Break every line of LaTeX source longer than ``width`` into shorter lines.
+
+    Lines are broken at a space, preferably one before a ``+`` or ``-`` (between two
+    terms of a formula); a newline is a space to TeX, and spaces are ignored in math
+    mode, so the typeset result is unchanged.  Comment lines continue as comment
+    lines.  A run longer than ``width`` without any space (e.g. a huge integer) is cut
+    with a ``%`` at the end of the line, which joins it to the next (never inside a
+    control word).  No empty line (paragraph break) is ever created.
+    """
+    out = []
+    for line in text.split("\n"):
+        out.extend(_wrap_line(line, width))
+    return "\n".join(out)
+
+
+def _wrap_line(line, width):
+    if len(line) <= width:
+        return [line]
+    if line.startswith("%"):
+        return ["% " + c for c in _comment_chunks(line.lstrip("%").strip(), width - 2)]
+    chunks, rest = [], line
+    while len(rest) > width:
+        cut = _space_cut(rest, width)
+        if cut is not None:
+            chunks.append(rest[:cut].rstrip(" "))
+            rest = rest[cut:].lstrip(" ")
+            continue
+        cut = _hard_cut(rest, width - 1)
+        if cut is None:
+            break
+        chunks.append(rest[:cut] + "%")
+        rest = rest[cut:]
+    if rest.strip():
+        chunks.append(rest)
+    return chunks
+
+
+def _space_cut(line, width):
+    """Position of a space to break at (the best one within ``width``), or None."""
+    best = None
+    for i in range(min(width, len(line) - 1), 0, -1):
+        if line[i] != " " or line[i - 1] == "\\" or not line[:i].strip():
+            continue
+        if best is None:
+            best = i
+        if line[i + 1:i + 3] in ("+ ", "- "):
+            return i if i >= width // 2 else best
+    return best
+
+
+def _hard_cut(line, width):
+    """A position <= width that is not inside a control word or right after a backslash."""
+    for i in range(width, 1, -1):
+        if line[i - 1] == "\\":
+            continue
+        k = i
+        while k > 0 and line[k - 1].isalpha():
+            k -= 1
+        if line[i].isalpha() and k > 0 and line[k - 1] == "\\":
+            continue      # would split a control word such as \frac
+        return i
+    return None
+
+
+def _comment_chunks(text, width):
+    chunks = []
+    while len(text) > width:
+        cut = text.rfind(" ", 1, width + 1)
+        cut = cut if cut > 0 else width
+        chunks.append(text[:cut].rstrip())
+        text = text[cut:].lstrip()
+    return chunks + [text]
+
+
 # ----------------------------------------------------------------------------- table
 
 def _canonical(levels, symbols):
@@ -209,7 +333,8 @@ def _canonical(levels, symbols):
 
 def _rat(x):
     x = sympy.Rational(x)
-    return str(x.p) if x.q == 1 else rf"{x.p}/{x.q}"
+    p = int_to_decimal(x.p)
+    return p if x.q == 1 else f"{p}/{int_to_decimal(x.q)}"
 
 
 _IRREP = re.compile(r"^([A-Z])([0-9]*)([gu]?)('*)$")
@@ -371,9 +496,9 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
                    r"in ascending order from the lowest, of $P_j(E) = 0$, where")
         out.append(r"\begin{itemize}")
         for j, p in enumerate(polys, 1):
-            out.append(rf"\item $P_{{{j}}}({_tex(p.gens[0])}) = {_poly_tex(p)}$")
+            out += _poly_item(j, p)
         out.append(r"\end{itemize}")
-    body = "\n".join(out) + "\n"
+    body = wrap_tex_lines("\n".join(out)) + "\n"
     if not standalone:
         return body
     pre = "\n".join([
@@ -385,4 +510,4 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
         r"\begin{document}",
         "",
     ])
-    return pre + "\n" + body + "\n\\end{document}\n"
+    return wrap_tex_lines(pre) + "\n" + body + "\n\\end{document}\n"

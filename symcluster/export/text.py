@@ -10,10 +10,54 @@ import mpmath
 import sympy
 
 from ..spectrum import energy_numeric
-from .exprtree import is_implicit_root
+from sympy.printing.latex import LatexPrinter
+from sympy.printing.str import StrPrinter
+
+from .exprtree import int_to_decimal, is_implicit_root
 
 __all__ = ["format_table", "format_symmetries", "energy_text", "poly_text", "spin_text",
            "numeric_values", "level_sort_key"]
+
+
+class _ExactStrPrinter(StrPrinter):
+    """sympy's one-line printer, with integers of any length (no 4300-digit limit)."""
+
+    def _print_Integer(self, expr):
+        return int_to_decimal(expr.p)
+
+    def _print_int(self, expr):
+        return int_to_decimal(expr)
+
+    def _print_Rational(self, expr):
+        if expr.q == 1:
+            return int_to_decimal(expr.p)
+        return f"{int_to_decimal(expr.p)}/{int_to_decimal(expr.q)}"
+
+
+class _ExactLatexPrinter(LatexPrinter):
+    """sympy's LaTeX printer, with integers of any length (no 4300-digit limit)."""
+
+    def _print_int(self, expr):
+        return int_to_decimal(expr)
+
+    def _print_Rational(self, expr):
+        if expr.q == 1:
+            return int_to_decimal(expr.p)
+        sign = "- " if expr.p < 0 else ""
+        p, q = int_to_decimal(abs(expr.p)), int_to_decimal(expr.q)
+        if self._settings["fold_short_frac"]:
+            return f"{sign}{p} / {q}"
+        return rf"{sign}\frac{{{p}}}{{{q}}}"
+
+
+def exact_sstr(expr):
+    """``sympy.sstr(expr)`` for exact expressions with integers of any size."""
+    return _ExactStrPrinter().doprint(expr)
+
+
+def exact_latex(expr, **settings):
+    """``sympy.latex(expr, **settings)`` for exact expressions with integers of any size."""
+    return _ExactLatexPrinter(settings).doprint(expr)
 
 
 def energy_text(energy):
@@ -30,7 +74,7 @@ def energy_text(energy):
         poly = energy.poly
         return (f"root {int(energy.index) + 1} of "
                 f"{poly_text(poly)} = 0 (ascending in {poly.gens[0]})")
-    return sympy.sstr(energy)
+    return exact_sstr(energy)
 
 
 #: Polynomials with more terms than this are printed term by term from their coefficient
@@ -45,7 +89,7 @@ def poly_text(poly, latex=False):
     polynomials (at most FAST_PRINT_TERMS terms) go through sympy's own printers.
     """
     if len(poly.as_dict()) <= FAST_PRINT_TERMS:
-        return sympy.latex(poly.as_expr()) if latex else sympy.sstr(poly.as_expr())
+        return exact_latex(poly.as_expr()) if latex else exact_sstr(poly.as_expr())
     names = [sympy.latex(g) if latex else g.name for g in poly.gens]
     out = []
     for monom, coeff in sorted(poly.terms(), key=lambda mc: mc[0], reverse=True):
@@ -59,9 +103,10 @@ def poly_text(poly, latex=False):
             elif e:
                 factors.append(f"{name}^{{{e}}}" if latex else f"{name}**{e}")
         if c.q != 1:
-            num = rf"\frac{{{c.p}}}{{{c.q}}}" if latex else f"{c.p}/{c.q}"
+            p, q = int_to_decimal(c.p), int_to_decimal(c.q)
+            num = rf"\frac{{{p}}}{{{q}}}" if latex else f"{p}/{q}"
         else:
-            num = str(c.p)
+            num = int_to_decimal(c.p)
         if not factors:
             body = num
         elif c == 1:
@@ -78,7 +123,8 @@ def poly_text(poly, latex=False):
 
 def _rat(x):
     x = sympy.Rational(x)
-    return str(x.p) if x.q == 1 else f"{x.p}/{x.q}"
+    p = int_to_decimal(x.p)
+    return p if x.q == 1 else f"{p}/{int_to_decimal(x.q)}"
 
 
 def spin_text(qn):
