@@ -283,7 +283,7 @@ def parse_cluster_toml(text, source="<string>"):
             f"{source}: missing or wrong 'format' key ({fmt!r}); the first line must be "
             f"format = \"symcluster-cluster\"")
     version = data.get("version", 1)
-    if version != 1:
+    if type(version) is not int or version != 1:      # true and 1.0 equal 1 in Python
         raise InputError(f"{source}: cluster file version {version!r} is not supported; use version = 1")
     allowed = {"format", "version", "name", "sites", "bonds", "site_energy"}
     extra = sorted(set(data) - allowed)

@@ -107,6 +107,8 @@ def test_failed_solve_writes_nothing(monkeypatch, tmp_path, capsys):
     (["levels", "--cluster-file", "/nonexistent/c.toml"], "cannot read cluster file"),
     (["levels", "chain", "2", "--standalone"], "--standalone needs --latex"),
     (["levels", "chain", "2", "--json", "/nonexistent/dir/x.json"], "does not exist"),
+    (["levels", "chain", "2", "--at", "t=1,U=" + "1" * 5000], "at most 1000"),
+    (["gaps", "chain", "2", "--sector", "2", "--at", "t=1", "U=" + "1" * 5000], "at most 1000"),
 ])
 def test_bad_input_is_one_line_and_exit_2(fake_solve, capsys, argv, words):
     assert main(argv) == 2
@@ -192,3 +194,71 @@ def test_analysis_subcommand_without_cluster_is_one_line_error(capsys):
     code = main(["gaps", "--sector", "2"])
     err = capsys.readouterr().err
     assert code == 2 and err.count("\n") == 1 and "no cluster given" in err
+
+
+def test_unwritable_second_output_is_refused_before_the_solve(fake_solve, tmp_path, capsys):
+    """/proc exists but no file can be created there: caught before solving, nothing written."""
+    tex = tmp_path / "a.tex"
+    rc = main(["levels", "chain", "2", "--latex", str(tex), "--json", "/proc/a.json"])
+    assert rc == 2
+    line = _one_error_line(capsys)
+    assert "/proc/a.json" in line and "writable directory" in line
+    assert fake_solve == []                  # refused before the (possibly long) solve
+    assert os.listdir(tmp_path) == []        # in particular a.tex was not written
+    assert not os.path.exists("/proc/a.json")
+    assert capsys.readouterr().out == ""
+
+
+def test_unwritable_single_latex_output_is_refused_before_the_solve(fake_solve, capsys):
+    assert main(["levels", "chain", "2", "--latex", "/proc/a.tex"]) == 2
+    assert "/proc/a.tex" in _one_error_line(capsys)
+    assert fake_solve == []
+
+
+def test_failure_while_writing_leaves_no_file_at_all(monkeypatch, tmp_path, capsys):
+    """The JSON directory disappears during the solve: the LaTeX file must not appear either."""
+    sub = tmp_path / "sub"
+    sub.mkdir()
+    tex, js = tmp_path / "a.tex", sub / "a.json"
+
+    def solve(model, electrons=None, verify=True):
+        sub.rmdir()                           # the check before the solve has passed by now
+        spec = two_site_spectrum()
+        spec.model = model
+        return spec
+
+    monkeypatch.setattr(symcluster, "solve", solve, raising=False)
+    rc = main(["levels", "chain", "2", "--latex", str(tex), "--json", str(js)])
+    assert rc == 2
+    assert str(js) in _one_error_line(capsys)
+    assert os.listdir(tmp_path) == []         # neither a.tex nor a temporary file
+    assert capsys.readouterr().out == ""      # no table either: exit 2 means no output
+
+
+def test_analysis_latex_to_unwritable_place_is_refused_before_the_solve(monkeypatch, capsys):
+    calls = []
+    monkeypatch.setattr(symcluster, "solve",
+                        lambda *a, **k: calls.append(a) or two_site_spectrum(), raising=False)
+    rc = main(["gaps", "chain", "2", "--sector", "2", "--at", "t=1", "U=4",
+               "--latex", "/proc/g.tex"])
+    assert rc == 2
+    assert "/proc/g.tex" in _one_error_line(capsys)
+    assert calls == []
+
+
+def test_cluster_file_docs_match_the_reader_on_version(fake_solve, tmp_path, capsys):
+    """docs/cluster-files.md's example loads with and without its 'version' line, as documented."""
+    root = os.path.dirname(os.path.dirname(os.path.abspath(__file__)))
+    with open(os.path.join(root, "docs", "cluster-files.md"), encoding="utf-8") as fh:
+        doc = fh.read()
+    example = doc.split("```toml\n", 1)[1].split("```", 1)[0]
+    version_line = [l for l in example.splitlines() if l.startswith("version")][0]
+    assert "required" not in version_line and "optional" in version_line
+    for text in (example, example.replace(version_line + "\n", "")):
+        f = tmp_path / "dimer.toml"
+        f.write_text(text)
+        assert main(["levels", "--cluster-file", str(f)]) == 0, capsys.readouterr().err
+    assert fake_solve[-1][0].cluster.n_sites == 3
+    f.write_text(example.replace(version_line, "version = 2"))
+    assert main(["levels", "--cluster-file", str(f)]) == 2
+    assert "version 2 is not supported" in _one_error_line(capsys)

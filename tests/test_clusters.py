@@ -207,9 +207,11 @@ def test_toml_bad_bond_names_source():
     assert "outside 0..1" in str(exc.value)
 
 
-def test_toml_unsupported_version():
+@pytest.mark.parametrize("version", ["2", "true", "1.0", '"1"'])
+def test_toml_unsupported_version(version):
+    # only the integer 1 (true and 1.0 compare equal to 1 in Python, but are not versions)
     with pytest.raises(InputError, match="version"):
-        sc.parse_cluster_toml('format = "symcluster-cluster"\nversion = 2\nsites = 2\n'
+        sc.parse_cluster_toml(f'format = "symcluster-cluster"\nversion = {version}\nsites = 2\n'
                               'bonds = [[0, 1]]\n')
 
 

@@ -29,6 +29,9 @@ _RANGE = re.compile(rf"^\s*({_NUM})\s*:\s*({_NUM})\s*$")
 
 
 def _number(text, what):
+    if len(text.strip()) > 1000:
+        raise InputError(f"{what} is a number of {len(text.strip())} characters; give at most "
+                         f"1000 (e.g. a fraction 7/2 or a decimal 2.5)")
     if not re.fullmatch(_NUM, text.strip()):
         raise InputError(f"{what} {text!r} is not a number; write e.g. 4, -2.5 or 7/2")
     try:
@@ -147,8 +150,23 @@ def _runner(build_spectrum):
         if build_spectrum is None:
             raise InputError("no model given to the analysis command; the main command line "
                              "must pass build_spectrum to add_commands")
+        _check_output_paths(args)        # before the (possibly long) solve
         return run_analysis(build_spectrum(args), args)
     return run
+
+
+def _check_output_paths(args):
+    """Refuse output paths where no file can be created, before anything is computed."""
+    from ..export.jsonio import check_writable
+    paths = []
+    if getattr(args, "latex", None):
+        paths.append(args.latex)
+    if getattr(args, "analysis", None) == "plot":
+        import pathlib
+        stem = str(pathlib.Path(args.output).with_suffix(""))   # as plots.plot_levels does
+        paths += [stem + ".png", stem + ".pdf"]
+    for p in paths:
+        check_writable(p)
 
 
 def _level_at(spec, args, pt):
@@ -233,7 +251,8 @@ def run_analysis(spec, args, out=None):
     else:
         raise InputError(f"unknown analysis {kind!r}; choose one of {', '.join(_COMMANDS)}")
     if args.latex and frags:
-        with open(args.latex, "w", encoding="utf-8") as fh:
-            fh.write(lx.latex_document(*frags, comment=f"symcluster {kind}"))
+        from ..export.jsonio import write_text_atomic
+        # whole file or none (temporary file beside it, then rename)
+        write_text_atomic(args.latex, lx.latex_document(*frags, comment=f"symcluster {kind}"))
         out.write(f"wrote {args.latex}\n")
     return 0
