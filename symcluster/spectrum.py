@@ -19,7 +19,17 @@ import sympy
 from .algebra.roots import real_roots_at
 from .errors import ModelError, VerificationError
 
-__all__ = ["Level", "Spectrum", "VerificationReport", "coerce_point", "energy_numeric"]
+__all__ = ["Level", "Spectrum", "VerificationReport", "coerce_point", "energy_numeric",
+           "to_rational", "check_digits"]
+
+
+def to_rational(name, value):
+    """One coupling value as an exact sympy number (the rules of docs/quickstart.md).
+
+    Integers, Fractions, sympy Rationals and strings such as "3/2" or "-2.5" are exact; a
+    float (numpy floats included) means the decimal it was written as: 0.1 is 1/10.
+    """
+    return _to_rational(name, value)
 
 
 def _to_rational(name, value):
@@ -37,7 +47,7 @@ def _to_rational(name, value):
         # the decimal the float was written as (its shortest repr: 0.1 -> 1/10), not its
         # binary value (0.1 -> 3602879701896397/36028797018963968), whose "certified"
         # digits would belong to another point
-        return sympy.Rational(Fraction(repr(value)))
+        return sympy.Rational(Fraction(float.__repr__(value)))   # numpy floats too
     if isinstance(value, mpmath.mpf):
         return sympy.Rational(str(value))
     if isinstance(value, str):

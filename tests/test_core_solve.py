@@ -566,6 +566,10 @@ def test_float_values_mean_the_decimal_they_were_written_as():
     # must be those of the independent Fock reference at U = 1/10
     spec = solved("ring(4)")
     got = sorted(x for x, d in spec.numeric({"t": 1.0, "U": 0.1}, digits=30) for _ in range(d))
+    # numpy floats (e.g. from numpy.linspace) follow the same rule
+    import numpy as np
+    assert got == sorted(x for x, d in spec.numeric({"t": np.float64(1), "U": np.float64(0.1)},
+                                                    digits=30) for _ in range(d))
     ref = FockReference(4, list(sc.ring(4).bonds))
     exp = sorted(v for nu in range(5) for nd in range(5)
                  for v in ref.eigenvalues_mp({"t": 1, "U": sympy.Rational(1, 10)}, nu, nd, digits=40))

@@ -206,3 +206,12 @@ def test_command_line_subcommands_in_process(tmp_path, capsys):
     for bad in (["U=__import__('os')"], ["U"], ["U=1/0"]):
         with pytest.raises(InputError):
             parse_assignment(bad)
+
+
+def test_float_couplings_mean_their_decimal():
+    # as everywhere in symcluster (docs/quickstart.md), t = 0.1 is the point 1/10. The dimer's
+    # transitions are at U = -sqrt(2) t and U = 3 t (worked out by hand in
+    # test_all_sectors_exact_points), so at t = 0.1 exactly -sqrt(2)/10 and 3/10; the binary
+    # double 0.1 would give other exact numbers
+    pts = transitions(two_site_spectrum(), None, "U", (-10, 10), {"t": 0.1})
+    assert [p.value for p in pts] == [-sympy.sqrt(2) / 10, sympy.Rational(3, 10)]

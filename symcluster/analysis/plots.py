@@ -10,6 +10,7 @@ display is required.
 import sympy
 
 from ..errors import ModelError
+from ..spectrum import to_rational
 from .observables import level_value
 from .transitions import transitions
 
@@ -60,9 +61,9 @@ def plot_levels(spec, path, coupling="U", interval=(0, 10), fixed=None, n_electr
     levels = spec.levels if n_electrons is None else spec.select(N=n_electrons)
     if not levels:
         raise ModelError(f"no levels with N={n_electrons}")
-    lo, hi = (sympy.Rational(v) for v in interval)
+    lo, hi = (to_rational("interval", v) for v in interval)
     xs = [lo + (hi - lo) * sympy.Rational(i, n_points - 1) for i in range(n_points)]
-    units = [k for k, v in fixed.items() if sympy.Rational(v) == 1]
+    units = [k for k, v in fixed.items() if to_rational(str(k), v) == 1]
     unit = units[0] if len(units) == 1 else None
     keys = sorted({str(l.quantum_numbers.get(color_by, "?")) for l in levels})
     cmap = plt.get_cmap("tab10" if len(keys) <= 10 else "viridis")

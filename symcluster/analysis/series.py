@@ -26,6 +26,7 @@ import mpmath
 import sympy
 
 from ..errors import ModelError, VerificationError
+from ..spectrum import to_rational
 from .observables import find_symbol, level_polynomial, level_symbols, level_value
 
 __all__ = ["series", "series_coefficients"]
@@ -40,7 +41,7 @@ def _prepare(level, coupling, about, fixed):
     syms = level_symbols(level)
     x = find_symbol(syms, coupling)
     Es = P.gens[0]
-    fixed_pt = {find_symbol(syms, k): sympy.Rational(v) for k, v in (fixed or {}).items()}
+    fixed_pt = {find_symbol(syms, k): to_rational(str(k), v) for k, v in (fixed or {}).items()}
     expr = P.as_expr().subs(fixed_pt)
     if about is sympy.oo:
         pe = sympy.Poly(expr, Es, x)
@@ -100,12 +101,12 @@ def series_coefficients(level, coupling="U", n_terms=8, about=sympy.oo, at=None,
     -------
     list of sympy.Expr
     """
-    about = sympy.oo if about in ("oo", "inf", sympy.oo, float("inf")) else sympy.Rational(about)
+    about = sympy.oo if about in ("oo", "inf", sympy.oo, float("inf")) else to_rational("about", about)
     x, syms, fixed_pt, Q = _prepare(level, coupling, about, fixed)
     others = [s for s in syms if s != x and s not in fixed_pt]
     at_pt = {s: sympy.Rational(10 + k, 10) for k, s in enumerate(others)}
     for k, v in (at or {}).items():
-        at_pt[find_symbol(syms, k)] = sympy.Rational(v)
+        at_pt[find_symbol(syms, k)] = to_rational(str(k), v)
     full = dict(fixed_pt)
     full.update(at_pt)
     deg = Q.degree(_v)
@@ -235,7 +236,7 @@ def series(level, coupling="U", order=7, about=sympy.oo, at=None, fixed=None):
     >>> series(lev, "U", order=3)
     -4*t**2/U + 16*t**4/U**3
     """
-    about = sympy.oo if about in ("oo", "inf", sympy.oo, float("inf")) else sympy.Rational(about)
+    about = sympy.oo if about in ("oo", "inf", sympy.oo, float("inf")) else to_rational("about", about)
     if not isinstance(order, int) or order < 0:
         raise ModelError(f"order={order!r} must be a non-negative integer")
     x = find_symbol(level_symbols(level), coupling)
@@ -254,7 +255,7 @@ def _self_check(level, x, expr, about, at, fixed, order):
     others = [s for s in syms if s != x]
     pt = {s: sympy.Rational(10 + k, 10) for k, s in enumerate(others)}
     for k, v in list((fixed or {}).items()) + list((at or {}).items()):
-        pt[find_symbol(syms, k)] = sympy.Rational(v)
+        pt[find_symbol(syms, k)] = to_rational(str(k), v)
     step = sympy.Rational(1, 10 ** 6)
     pt[x] = 1 / step if about is sympy.oo else about + step
     with mpmath.workdps(60):

@@ -30,6 +30,7 @@ import mpmath
 import sympy
 
 from ..errors import ModelError, VerificationError
+from ..spectrum import to_rational
 from .observables import find_symbol, level_polynomial, level_symbols, level_value
 
 __all__ = ["Transition", "GroundPiece", "transitions", "ground_states", "crossings"]
@@ -246,7 +247,7 @@ def _exact(name, v):
         except (ValueError, ZeroDivisionError):
             raise ModelError(f"value {v!r} for {name} is not a number; write e.g. 4 or 3/2") from None
     if isinstance(v, float):
-        return sympy.Rational(Fraction(v))
+        return to_rational(name, v)          # the decimal it was written as (0.1 is 1/10)
     if isinstance(v, Fraction):
         return sympy.Rational(v.numerator, v.denominator)
     v = sympy.sympify(v) if isinstance(v, int) else v
