@@ -131,12 +131,14 @@ def optimistic_cost(n_sites, electrons=None, n_free=1, max_order=MAX_GROUP_ORDER
     """A lower bound of :func:`estimate_cost`, known before any symmetry is detected.
 
     It assumes every reduction succeeds: spin SU(2) and eta-pseudospin SU(2) both hold
-    (highest weights of N_up >= N_dn sectors with N <= L only) and the lattice group
-    has the largest order the detection accepts (`max_order`), so that each sector's
-    largest block is at least its reduced dimension / `max_order` (the block of an
-    irrep of dimension d takes about D d / |G| states).  Every term of the real
-    estimate is at least as large, so a run refused here would be refused after the
-    detection too.  The exact detection itself (commutators on every state with at
+    (highest weights of N_up >= N_dn sectors) and the lattice group has the largest
+    order the detection accepts (`max_order`), so that each sector's largest block is
+    at least its reduced dimension / `max_order` (the block of an irrep of dimension d
+    takes about D d / |G| states).  Only the sectors of N* = min(N, 2L - N) for each
+    wanted N are counted: a plan with eta solves N* (and lower ones), a plan without it
+    solves N itself, whose sectors have the same sizes (C(L, a) C(L, b) is unchanged by
+    a -> L - a, b -> L - b).  Every term of the real estimate is at least as large, so
+    a run refused here would be refused after the detection too.  The exact detection itself (commutators on every state with at
     most two electrons) is counted like the states of a sector.  The sum stops early,
     still a lower bound, once it passes `stop_above` (huge clusters have millions of
     sectors).
@@ -150,15 +152,16 @@ def optimistic_cost(n_sites, electrons=None, n_free=1, max_order=MAX_GROUP_ORDER
         return _sector_dim(L, u, d) - _sector_dim(L, u + 1, d - 1)
 
     need = _FIXED + _PER_STATE * _detection_states(L)
-    for n in range(L + 1):
+    for n in sorted({min(m, 2 * L - m) for m in wanted if 0 <= m <= 2 * L}):
         if stop_above is not None and need > stop_above:
             break
-        if not any(n <= m <= 2 * L - n and (m - n) % 2 == 0 for m in wanted):
-            continue
         for u in range((n + 1) // 2, min(n, L) + 1):
             d = n - u
-            block = max(1, (reduced(u, d) - reduced(u - 1, d - 1)) // max_order)
-            need += _PER_STATE * _sector_dim(L, u, d) + per_term * block ** (k + 2) // factorial(k + 1)
+            need += _PER_STATE * _sector_dim(L, u, d)
+            lowest = reduced(u, d) - reduced(u - 1, d - 1)
+            if lowest > 0:          # block_dimensions counts no block for an empty sector
+                block = max(1, lowest // max_order)
+                need += per_term * block ** (k + 2) // factorial(k + 1)
     return int(need)
 
 

@@ -182,8 +182,12 @@ def test_sectors_too_large_for_float64_checks_cost_no_dense_matrix():
 
 @pytest.mark.parametrize("make, electrons", [
     (lambda: sc.ring(4), None), (lambda: sc.ring(6), None), (lambda: sc.ring(6), [3, 4]),
-    (lambda: sc.grid(2, 3), None), (lambda: sc.chain(5), [2]), (sc.tetrahedron, None),
-    (lambda: sc.cluster(3, [(0, 1, "t"), (1, 2, "tp")]), None)])
+    (lambda: sc.grid(2, 3), None), (lambda: sc.chain(5), [2]), (lambda: sc.chain(2), [2]), (sc.tetrahedron, None),
+    (lambda: sc.cluster(3, [(0, 1, "t"), (1, 2, "tp")]), None),
+    # plans without eta (not bipartite; site energies) and electron subsets (a reviewer's cases)
+    (lambda: sc.complete(3), [3]), (lambda: sc.complete(4), [1, 5]), (sc.tetrahedron, [2, 6]),
+    (lambda: sc.cluster(2, [(0, 1, "t")], site_labels=["a", "b"]), [2]),
+    (lambda: sc.cluster(4, [(0, 1), (1, 2), (2, 3)], site_labels={0: "e"}), [3, 5])])
 def test_early_bound_never_exceeds_the_estimate(make, electrons):
     # the early bound assumes every reduction succeeds (spin, eta, a lattice group of the
     # largest accepted order), so it is below the estimate made after the real detection
@@ -195,6 +199,11 @@ def test_early_bound_never_exceeds_the_estimate(make, electrons):
                                    plan, n_free)
     early = resources.optimistic_cost(model.n_sites, electrons, n_free)
     assert 0 < early <= late
+    # and with eta switched off by hand (chain(2) with eta=False was a reviewer's case)
+    plan = plan_symmetries(model, eta=False)
+    late = resources.estimate_cost(model.n_sites, sectors_to_solve(model.n_sites, plan, electrons),
+                                   plan, n_free)
+    assert early <= late
 
 
 @pytest.mark.parametrize("make", [lambda: sc.chain(100), lambda: sc.ring(3000),
