@@ -344,3 +344,35 @@ def test_integers_beyond_the_reader_limit_name_the_true_reason():
         from_tree({"rat": "1/" + "3" * 100001})
     with pytest.raises(ModelError, match="at most 100000"):
         to_tree(sympy.Integer(10) ** 100000)
+
+
+def test_failed_rename_restores_files_that_existed(tmp_path):
+    # all files or none: an output renamed over an existing file before a later output
+    # fails must be put back (a reviewer's case: the second target is a directory)
+    from symcluster.export.jsonio import write_texts_atomic
+    a = tmp_path / "a.txt"
+    a.write_text("old\n")
+    (tmp_path / "d").mkdir()
+    with pytest.raises(InputError, match="directory"):
+        write_texts_atomic([(a, "new\n"), (tmp_path / "d", "x")])
+    assert a.read_text() == "old\n"
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["a.txt", "d"]
+
+
+def test_failed_rename_removes_new_files_and_keeps_old_ones(tmp_path, monkeypatch):
+    from symcluster.export import jsonio
+    old, new = tmp_path / "old.tex", tmp_path / "new.json"
+    old.write_text("kept\n")
+    real_replace = os.replace
+
+    def flaky_replace(src, dst):
+        if str(dst).endswith("third.txt"):
+            raise PermissionError(13, "Permission denied")
+        return real_replace(src, dst)
+
+    monkeypatch.setattr(jsonio.os, "replace", flaky_replace)
+    with pytest.raises(InputError, match="third.txt"):
+        jsonio.write_texts_atomic([(old, "changed\n"), (new, "{}\n"), (tmp_path / "third.txt", "x")])
+    monkeypatch.setattr(jsonio.os, "replace", real_replace)
+    assert old.read_text() == "kept\n" and not new.exists()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["old.tex"]

@@ -12,6 +12,7 @@ in every level, are still read.
 import json
 import math
 import os
+import shutil
 import tempfile
 
 import mpmath
@@ -233,8 +234,9 @@ def write_texts_atomic(outputs):
     Every text is first written in full to a temporary file in its target
     directory; only when all of them succeeded are they renamed into place
     (``os.replace``).  On any failure the temporaries are removed and no target
-    file is created or changed (if a rename itself fails, the files already
-    renamed that did not exist before are removed again).
+    file is created or changed: an existing target is kept under a temporary
+    name (a hard link, or a copy) until every rename succeeded, and put back if a
+    later rename fails; a new target is removed again.
 
     Raises
     ------
@@ -263,22 +265,51 @@ def write_texts_atomic(outputs):
             except OSError as exc:
                 raise InputError(f"cannot write {path!r}: {exc.strerror}; choose another "
                                  f"output path") from None
-        placed = []
-        for (path, _), tmp in zip(outputs, temps):
-            existed = os.path.lexists(path)
-            try:
-                os.replace(tmp, path)
-            except OSError as exc:
-                for done in placed:
+        placed = []                    # (path, backup or None), in the order renamed
+        try:
+            for (path, _), tmp in zip(outputs, temps):
+                if os.path.isdir(path):
+                    raise InputError(f"cannot write {path!r}: it is a directory; give a file name")
+                backup = _backup(path) if os.path.lexists(path) else None
+                if backup is not None:
+                    temps.append(backup)   # removed in the end either way
+                try:
+                    os.replace(tmp, path)
+                except OSError as exc:
+                    raise InputError(f"cannot write {path!r}: {exc.strerror}; choose another "
+                                     f"output path") from None
+                placed.append((path, backup))
+        except InputError:
+            for done, backup in reversed(placed):
+                if backup is None:
                     _remove_quietly(done)
-                raise InputError(f"cannot write {path!r}: {exc.strerror}; choose another "
-                                 f"output path") from None
-            if not existed:
-                placed.append(path)
+                else:
+                    try:
+                        os.replace(backup, done)
+                    except OSError:
+                        pass
+            raise
     finally:
         for tmp in temps:
             if os.path.lexists(tmp):
                 _remove_quietly(tmp)
+
+
+def _backup(path):
+    """A temporary second name (hard link, else a copy) of the existing file ``path``."""
+    directory = os.path.dirname(os.path.abspath(path))
+    try:
+        fd, name = tempfile.mkstemp(prefix=".symcluster-old-", suffix=".tmp", dir=directory)
+        os.close(fd)
+        os.unlink(name)
+        try:
+            os.link(path, name)
+        except OSError:
+            shutil.copy2(path, name)
+        return name
+    except OSError as exc:
+        raise InputError(f"cannot write {path!r}: the existing file cannot be kept aside while "
+                         f"the outputs are written ({exc.strerror}); choose another path") from None
 
 
 def write_text_atomic(path, text):
