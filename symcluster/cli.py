@@ -243,9 +243,8 @@ def _make_parser():
 
 
 def _digits(text):
-    if not re.match(r"^[0-9]{1,4}$", text.strip()) or not 1 <= int(text) <= 1000:
-        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number from 1 to 1000")
-    return int(text)
+    from .analysis.commands import digits_argument     # one rule for every subcommand
+    return digits_argument(text)
 
 
 def _check_outputs(paths):

@@ -12,6 +12,7 @@ Coupling values use a small grammar, never evaluated as code:
 ``U=-2.5``, ``U=7/2``); ranges are ``lo:hi`` with the same numbers.
 """
 
+import argparse
 import re
 import sys
 from fractions import Fraction
@@ -26,6 +27,13 @@ __all__ = ["add_commands", "run_analysis", "parse_assignment", "parse_range"]
 _NUM = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:/\d+)?"
 _ASSIGN = re.compile(rf"^\s*([A-Za-z_][A-Za-z0-9_]*)\s*=\s*({_NUM})\s*$")
 _RANGE = re.compile(rf"^\s*({_NUM})\s*:\s*({_NUM})\s*$")
+
+
+def digits_argument(text):
+    """argparse type of --digits: a whole number from 1 to 1000 (all subcommands)."""
+    if not re.match(r"^[0-9]{1,4}$", text.strip()) or not 1 <= int(text) <= 1000:
+        raise argparse.ArgumentTypeError(f"{text!r} is not a whole number from 1 to 1000")
+    return int(text)
 
 
 def _number(text, what):
@@ -75,7 +83,8 @@ def _common(p, sweep=False, point=False, sector=True):
     if point:
         p.add_argument("--at", nargs="*", default=["t=1", "U=4"],
                        help="values of every coupling, name=number (default t=1 U=4)")
-    p.add_argument("--digits", type=int, default=30)
+    p.add_argument("--digits", type=digits_argument, default=30, metavar="D",
+                   help="significant digits of numerical values, 1 to 1000 (default 30)")
     p.add_argument("--latex", default=None, metavar="FILE", help="also write a LaTeX document")
 
 
