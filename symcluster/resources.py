@@ -138,10 +138,10 @@ def optimistic_cost(n_sites, electrons=None, n_free=1, max_order=MAX_GROUP_ORDER
     wanted N are counted: a plan with eta solves N* (and lower ones), a plan without it
     solves N itself, whose sectors have the same sizes (C(L, a) C(L, b) is unchanged by
     a -> L - a, b -> L - b).  Every term of the real estimate is at least as large, so
-    a run refused here would be refused after the detection too.  The exact detection itself (commutators on every state with at
-    most two electrons) is counted like the states of a sector.  The sum stops early,
-    still a lower bound, once it passes `stop_above` (huge clusters have millions of
-    sectors).
+    a run refused here would be refused after the detection too.  The exact detection
+    itself (commutators on every state with at most two electrons) is counted like the
+    states of a sector.  The sum stops early, still a lower bound, once it passes
+    `stop_above` (huge clusters have millions of sectors).
     """
     L = n_sites
     wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
