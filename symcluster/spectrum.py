@@ -29,10 +29,6 @@ def to_rational(name, value):
     Integers, Fractions, sympy Rationals and strings such as "3/2" or "-2.5" are exact; a
     float (numpy floats included) means the decimal it was written as: 0.1 is 1/10.
     """
-    return _to_rational(name, value)
-
-
-def _to_rational(name, value):
     if isinstance(value, bool):
         raise ModelError(f"value of {name} is a boolean; give a number such as 1 or 3/2")
     if isinstance(value, sympy.Rational):
@@ -87,7 +83,7 @@ def coerce_point(symbols, values):
         if name not in by_name:
             known = ", ".join(sorted(by_name)) or "(none)"
             raise ModelError(f"unknown coupling {name!r}; this model's couplings are {known}")
-        out[by_name[name]] = _to_rational(name, value)
+        out[by_name[name]] = to_rational(name, value)
     missing = sorted(n for n, s in by_name.items() if s not in out)
     if missing:
         raise ModelError(
