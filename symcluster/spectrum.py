@@ -10,6 +10,8 @@ P(E; couplings).  Both evaluate at any precision through :func:`energy_numeric`.
 """
 
 import functools
+import math
+import numbers
 from dataclasses import dataclass, field
 from fractions import Fraction
 
@@ -33,17 +35,19 @@ def to_rational(name, value):
         raise ModelError(f"value of {name} is a boolean; give a number such as 1 or 3/2")
     if isinstance(value, sympy.Rational):
         return value
-    if isinstance(value, int):
-        return sympy.Integer(value)
+    if isinstance(value, numbers.Integral):          # int, numpy integers
+        return sympy.Integer(int(value))
     if isinstance(value, Fraction):
         return sympy.Rational(value.numerator, value.denominator)
-    if isinstance(value, float):
-        if value != value or value in (float("inf"), float("-inf")):
+    if isinstance(value, float) or (isinstance(value, numbers.Real) and hasattr(value, "dtype")):
+        if not math.isfinite(float(value)):
             raise ModelError(f"value of {name} is {value}; give a finite number")
         # the decimal the float was written as (its shortest repr: 0.1 -> 1/10), not its
         # binary value (0.1 -> 3602879701896397/36028797018963968), whose "certified"
-        # digits would belong to another point
-        return sympy.Rational(Fraction(float.__repr__(value)))   # numpy floats too
+        # digits would belong to another point; numpy floats print their shortest
+        # decimal in their own precision (np.float32(0.1) -> "0.1")
+        text = float.__repr__(value) if type(value) is float else str(value)
+        return sympy.Rational(Fraction(text))
     if isinstance(value, mpmath.mpf):
         return sympy.Rational(str(value))
     if isinstance(value, str):

@@ -570,6 +570,8 @@ def test_float_values_mean_the_decimal_they_were_written_as():
     import numpy as np
     assert got == sorted(x for x, d in spec.numeric({"t": np.float64(1), "U": np.float64(0.1)},
                                                     digits=30) for _ in range(d))
+    assert got == sorted(x for x, d in spec.numeric({"t": np.int64(1), "U": np.float32(0.1)},
+                                                    digits=30) for _ in range(d))
     ref = FockReference(4, list(sc.ring(4).bonds))
     exp = sorted(v for nu in range(5) for nd in range(5)
                  for v in ref.eigenvalues_mp({"t": 1, "U": sympy.Rational(1, 10)}, nu, nd, digits=40))

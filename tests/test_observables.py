@@ -46,3 +46,15 @@ def test_kinetic_plus_interaction_is_energy():
         lhs = kinetic_energy(g, pt, ("t",), 35) + \
             mpmath.mpf(5) / 3 * double_occupancy(g).numeric(pt, 35)
         assert abs(lhs - g.numeric(pt, 35)) < mpmath.mpf(10) ** -30
+
+
+def test_float_points_mean_their_decimal():
+    # {Symbol: 0.1} is the point t = 1/10 (docs/quickstart.md), also for numpy numbers:
+    # Euler's relation E = t dE/dt + U dE/dU must hold at that point to 30 digits, with E
+    # taken at the exact point t = 1/10, U = 4
+    g = two_site_levels()[5]
+    exact = {t: sympy.Rational(1, 10), U: sympy.Integer(4)}
+    with mpmath.workdps(40):
+        for pt in ({t: 0.1, U: 4}, {t: np.float32(0.1), U: np.int64(4)}):
+            lhs = kinetic_energy(g, pt, ("t",), 35) + 4 * double_occupancy(g).numeric(pt, 35)
+            assert abs(lhs - g.numeric(exact, 35)) < mpmath.mpf(10) ** -30

@@ -148,3 +148,13 @@ def test_four_site_ring_half_filling_against_independent_sum():
                "susceptibility": b * (avg(lambda i: terms[i][1] ** 2) - mag ** 2)}
         for key, val in ref.items():
             assert abs(rows[0][key] - val) < mpmath.mpf(10) ** -25 * (1 + abs(val)), key
+
+
+def test_numpy_temperatures_mean_their_decimal():
+    # numpy numbers (e.g. from numpy.linspace) are read like Python ones: T = 0.5 is 1/2
+    import numpy as np
+    spec = two_site_spectrum()
+    ref = thermo_table(spec, {"t": 1, "U": 4}, [sympy.Rational(1, 2)], n_electrons=2)[0]
+    for T in (np.float64(0.5), np.float32(0.5), 0.5):
+        row = thermo_table(spec, {"t": np.int64(1), "U": 4}, [T], n_electrons=2)[0]
+        assert row["energy"] == ref["energy"] and row["entropy"] == ref["entropy"]

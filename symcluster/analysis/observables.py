@@ -23,6 +23,7 @@ import mpmath
 import sympy
 
 from ..errors import ModelError
+from ..spectrum import to_rational
 
 __all__ = ["LevelDerivative", "energy_derivative", "double_occupancy", "kinetic_energy",
            "level_polynomial", "level_symbols"]
@@ -112,6 +113,7 @@ class LevelDerivative:
             If ∂P/∂E vanishes there (two branches of the polynomial meet and the
             derivative of this level is not defined); move the point.
         """
+        point = _exact_point(point)
         subs = {s: point[s] for s in self.expr.free_symbols if s in point}
         with mpmath.workdps(digits + 10):
             if self.implicit:
@@ -170,6 +172,17 @@ def double_occupancy(level, coupling="U"):
     return energy_derivative(level, coupling)
 
 
+def _exact_point(point):
+    """{Symbol: value} with every value exact (spectrum.to_rational: 0.1 is 1/10)."""
+    out = {}
+    for s, v in point.items():
+        r = to_rational(str(s), v)
+        if not isinstance(r, sympy.Rational):
+            raise ModelError(f"value {v!r} of {s} is not an exact rational; use e.g. 3/2 or 1.5")
+        out[s] = r
+    return out
+
+
 def kinetic_energy(level, point, hoppings=("t",), digits=30):
     """⟨T⟩ = Σ_b t_b ∂E/∂t_b of a level at an exact point, as mpmath.mpf.
 
@@ -183,6 +196,7 @@ def kinetic_energy(level, point, hoppings=("t",), digits=30):
     digits : int
     """
     syms = level_symbols(level)
+    point = _exact_point(point)
     with mpmath.workdps(digits + 5):
         total = mpmath.mpf(0)
         for name in hoppings:

@@ -20,6 +20,7 @@ import mpmath
 import sympy
 
 from ..errors import ModelError
+from ..spectrum import to_rational
 from .observables import energy_derivative, level_polynomial, level_value
 
 __all__ = ["partition_function", "thermo_table", "high_temperature_series", "QUANTITIES"]
@@ -138,7 +139,9 @@ def thermo_table(spec, at, temperatures, n_electrons=None, mus=(0,), h=0, digits
 def _mp(x):
     if isinstance(x, mpmath.mpf):
         return x
-    r = sympy.Rational(x) if not isinstance(x, float) else sympy.Rational(repr(x))
+    r = to_rational("value", x)
+    if not isinstance(r, sympy.Rational):
+        raise ModelError(f"value {x!r} is not an exact rational; use e.g. 1/2 or 0.5")
     return mpmath.mpf(r.p) / r.q
 
 

@@ -23,7 +23,6 @@ same polynomial and root).  A transition is a point where that set changes.
 """
 
 from dataclasses import dataclass
-from fractions import Fraction
 
 import flint
 import mpmath
@@ -241,16 +240,8 @@ class _Sweep:
 
 
 def _exact(name, v):
-    if isinstance(v, str):
-        try:
-            return sympy.Rational(Fraction(v))
-        except (ValueError, ZeroDivisionError):
-            raise ModelError(f"value {v!r} for {name} is not a number; write e.g. 4 or 3/2") from None
-    if isinstance(v, float):
-        return to_rational(name, v)          # the decimal it was written as (0.1 is 1/10)
-    if isinstance(v, Fraction):
-        return sympy.Rational(v.numerator, v.denominator)
-    v = sympy.sympify(v) if isinstance(v, int) else v
+    if not isinstance(v, sympy.Basic):
+        v = to_rational(name, v)      # the rules of docs/quickstart.md (0.1 is 1/10)
     if not (isinstance(v, sympy.Rational)):
         raise ModelError(f"value {v!r} for {name} must be an exact rational (int, Fraction, '3/2')")
     return v
