@@ -110,8 +110,6 @@ def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0):
     int
     """
     dims = [_sector_dim(n_sites, u, d) for u, d in sectors]
-    if not dims:
-        return 0
     from .verify import FLOAT_DIM
     k = max(1, n_free)
     per_term = _PER_TERM_BIT * (1 if k == 1 else 3)

@@ -182,7 +182,8 @@ def test_sectors_too_large_for_float64_checks_cost_no_dense_matrix():
 
 @pytest.mark.parametrize("make, electrons", [
     (lambda: sc.ring(4), None), (lambda: sc.ring(6), None), (lambda: sc.ring(6), [3, 4]),
-    (lambda: sc.grid(2, 3), None), (lambda: sc.chain(5), [2]), (lambda: sc.chain(2), [2]), (sc.tetrahedron, None),
+    (lambda: sc.grid(2, 3), None), (lambda: sc.chain(5), [2]), (lambda: sc.chain(2), [2]), (lambda: sc.chain(2), []),
+    (sc.tetrahedron, None),
     (lambda: sc.cluster(3, [(0, 1, "t"), (1, 2, "tp")]), None),
     # plans without eta (not bipartite; site energies) and electron subsets (a reviewer's cases)
     (lambda: sc.complete(3), [3]), (lambda: sc.complete(4), [1, 5]), (sc.tetrahedron, [2, 6]),
