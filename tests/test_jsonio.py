@@ -376,3 +376,46 @@ def test_failed_rename_removes_new_files_and_keeps_old_ones(tmp_path, monkeypatc
     monkeypatch.setattr(jsonio.os, "replace", real_replace)
     assert old.read_text() == "kept\n" and not new.exists()
     assert sorted(p.name for p in tmp_path.iterdir()) == ["old.tex"]
+
+
+def test_restore_that_fails_keeps_the_old_content_and_names_it(tmp_path, monkeypatch):
+    # if putting an existing file back fails too, its old content must survive (a
+    # reviewer's case: every os.replace after the first fails)
+    from symcluster.export import jsonio
+    a, b = tmp_path / "a.txt", tmp_path / "b.txt"
+    a.write_text("A-old")
+    b.write_text("B-old")
+    real_replace, calls = os.replace, []
+
+    def failing_after_first(src, dst):
+        calls.append(dst)
+        if len(calls) > 1:
+            raise PermissionError(13, "Permission denied")
+        return real_replace(src, dst)
+
+    monkeypatch.setattr(jsonio.os, "replace", failing_after_first)
+    with pytest.raises(InputError, match="old content is in") as info:
+        jsonio.write_texts_atomic([(a, "A-new"), (b, "B-new")])
+    monkeypatch.setattr(jsonio.os, "replace", real_replace)
+    kept = [p for p in tmp_path.iterdir() if p.name.startswith(".symcluster-old-")]
+    assert len(kept) == 1 and kept[0].read_text() == "A-old" and str(kept[0]) in str(info.value)
+    assert b.read_text() == "B-old"
+
+
+def test_interruption_between_renames_is_undone(tmp_path, monkeypatch):
+    from symcluster.export import jsonio
+    a, b = tmp_path / "a.txt", tmp_path / "b.txt"
+    a.write_text("A-old")
+    real_replace = os.replace
+
+    def interrupted(src, dst):
+        if str(dst) == str(b):
+            raise KeyboardInterrupt
+        return real_replace(src, dst)
+
+    monkeypatch.setattr(jsonio.os, "replace", interrupted)
+    with pytest.raises(KeyboardInterrupt):
+        jsonio.write_texts_atomic([(a, "A-new"), (b, "B-new")])
+    monkeypatch.setattr(jsonio.os, "replace", real_replace)
+    assert a.read_text() == "A-old" and not b.exists()
+    assert sorted(p.name for p in tmp_path.iterdir()) == ["a.txt"]

@@ -279,7 +279,8 @@ def write_texts_atomic(outputs):
                     raise InputError(f"cannot write {path!r}: {exc.strerror}; choose another "
                                      f"output path") from None
                 placed.append((path, backup))
-        except InputError:
+        except BaseException:          # also an interruption between two renames
+            stranded = []
             for done, backup in reversed(placed):
                 if backup is None:
                     _remove_quietly(done)
@@ -287,7 +288,11 @@ def write_texts_atomic(outputs):
                     try:
                         os.replace(backup, done)
                     except OSError:
-                        pass
+                        temps.remove(backup)           # keep the old content, and say where
+                        stranded.append(f"{done!r} (its old content is in {backup!r})")
+            if stranded:
+                raise InputError("writing the outputs failed and could not be undone for "
+                                 + ", ".join(stranded) + "; restore them by hand") from None
             raise
     finally:
         for tmp in temps:
