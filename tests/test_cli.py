@@ -263,3 +263,23 @@ def test_cluster_file_docs_match_the_reader_on_version(fake_solve, tmp_path, cap
     f.write_text(example.replace(version_line, "version = 2"))
     assert main(["levels", "--cluster-file", str(f)]) == 2
     assert "version 2 is not supported" in _one_error_line(capsys)
+
+
+@pytest.mark.parametrize("digits", [3, 40])
+def test_thermo_prints_the_digits_asked_for(capsys, digits):
+    # dimer, N = 2, t = 1, U = 4, T = 1: levels 0 (x3), U, U/2 -+ sqrt(U^2/4 + 4t^2)
+    # (references.md, two-site cluster), so <E> = sum E e^-E / sum e^-E, computed here
+    import mpmath
+    with mpmath.workdps(60):
+        r = mpmath.sqrt(8)
+        levels = [0, 0, 0, 4, 2 - r, 2 + r]
+        z = sum(mpmath.exp(-e) for e in levels)
+        ref = sum(e * mpmath.exp(-e) for e in levels) / z
+        want = mpmath.nstr(ref, digits)
+    code = main(["thermo", "chain", "2", "--sector", "2", "--at", "t=1", "U=4",
+                 "--temperatures", "1", "--digits", str(digits)])
+    out = capsys.readouterr().out.splitlines()
+    assert code == 0
+    header = out[0].split("\t")
+    row = out[1].split("\t")
+    assert row[header.index("energy")] == want

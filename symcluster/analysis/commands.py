@@ -242,9 +242,9 @@ def run_analysis(spec, args, out=None):
                 "density", "susceptibility"]
         out.write("\t".join(cols) + "\n")
         for r in rows:
-            out.write("\t".join(mpmath.nstr(r[c], 12) if isinstance(r[c], mpmath.mpf)
+            out.write("\t".join(mpmath.nstr(r[c], args.digits) if isinstance(r[c], mpmath.mpf)
                                 else str(r[c]) for c in cols) + "\n")
-        frags.append(lx.latex_thermo_table(rows))
+        frags.append(lx.latex_thermo_table(rows, digits=args.digits))
     elif kind == "plot":
         from .plots import plot_levels
         files = plot_levels(spec, args.output, args.coupling, rng, fixed, args.sector,
