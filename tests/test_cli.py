@@ -110,6 +110,7 @@ def test_failed_solve_writes_nothing(monkeypatch, tmp_path, capsys):
     (["levels", "chain", "2", "--at", "t=1,U=" + "1" * 5000], "at most 1000"),
     (["gaps", "chain", "2", "--sector", "2", "--at", "t=1", "U=" + "1" * 5000], "at most 1000"),
     (["gaps", "chain", "2", "--sector", "2", "--digits", "0"], "from 1 to 1000"),
+    (["gaps", "chain", "2", "--sector", "2", "--at", "t=2.5/3", "U=4"], "not of the form"),
 ])
 def test_bad_input_is_one_line_and_exit_2(fake_solve, capsys, argv, words):
     assert main(argv) == 2

@@ -24,7 +24,9 @@ from ..errors import InputError, ModelError
 
 __all__ = ["add_commands", "run_analysis", "parse_assignment", "parse_range"]
 
-_NUM = r"[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:/\d+)?"
+# the grammar of the levels command (cli.parse_number): a decimal with an optional exponent,
+# or a fraction of integers ("2.5/3" is neither: Fraction() would refuse it)
+_NUM = r"(?:[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d{1,3})?|[+-]?\d+/\d+)"
 _ASSIGN = re.compile(rf"^\s*([A-Za-z_][A-Za-z0-9_]*)\s*=\s*({_NUM})\s*$")
 _RANGE = re.compile(rf"^\s*({_NUM})\s*:\s*({_NUM})\s*$")
 
