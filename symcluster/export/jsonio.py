@@ -215,10 +215,7 @@ def check_writable(path):
         raise InputError(f"cannot write {path!r}: no file can be created in directory "
                          f"{directory!r} ({exc.strerror}); choose a writable directory") from None
     os.close(fd)
-    try:
-        os.unlink(tmp)
-    except OSError:
-        pass
+    _remove_quietly(tmp)
 
 
 def _remove_quietly(path):
