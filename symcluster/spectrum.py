@@ -22,7 +22,7 @@ from .algebra.roots import real_roots_at
 from .errors import ModelError, VerificationError
 
 __all__ = ["Level", "Spectrum", "VerificationReport", "coerce_point", "energy_numeric",
-           "to_rational", "check_digits"]
+           "to_rational", "exact_rational", "check_digits"]
 
 
 def to_rational(name, value):
@@ -64,6 +64,15 @@ def to_rational(name, value):
 
 #: Largest number of digits accepted for values and for the verification.
 MAX_DIGITS = 10000
+
+
+def exact_rational(name, value):
+    """:func:`to_rational`, refusing values that are not rational (sqrt(2), sympy Floats)."""
+    r = to_rational(name, value)
+    if not isinstance(r, sympy.Rational):
+        raise ModelError(f"value {value!r} of {name} is not an exact rational; use e.g. 3/2, "
+                         f"1.5 or a Fraction")
+    return r
 
 
 def check_digits(digits, minimum=1):

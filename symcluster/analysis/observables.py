@@ -23,7 +23,7 @@ import mpmath
 import sympy
 
 from ..errors import ModelError
-from ..spectrum import to_rational
+from ..spectrum import exact_rational
 
 __all__ = ["LevelDerivative", "energy_derivative", "double_occupancy", "kinetic_energy",
            "level_polynomial", "level_symbols"]
@@ -174,13 +174,7 @@ def double_occupancy(level, coupling="U"):
 
 def _exact_point(point):
     """{Symbol: value} with every value exact (spectrum.to_rational: 0.1 is 1/10)."""
-    out = {}
-    for s, v in point.items():
-        r = to_rational(str(s), v)
-        if not isinstance(r, sympy.Rational):
-            raise ModelError(f"value {v!r} of {s} is not an exact rational; use e.g. 3/2 or 1.5")
-        out[s] = r
-    return out
+    return {s: exact_rational(str(s), v) for s, v in point.items()}
 
 
 def kinetic_energy(level, point, hoppings=("t",), digits=30):

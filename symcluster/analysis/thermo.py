@@ -20,7 +20,7 @@ import mpmath
 import sympy
 
 from ..errors import ModelError
-from ..spectrum import to_rational
+from ..spectrum import exact_rational
 from .observables import energy_derivative, level_polynomial, level_value
 
 __all__ = ["partition_function", "thermo_table", "high_temperature_series", "QUANTITIES"]
@@ -139,9 +139,7 @@ def thermo_table(spec, at, temperatures, n_electrons=None, mus=(0,), h=0, digits
 def _mp(x):
     if isinstance(x, mpmath.mpf):
         return x
-    r = to_rational("value", x)
-    if not isinstance(r, sympy.Rational):
-        raise ModelError(f"value {x!r} is not an exact rational; use e.g. 1/2 or 0.5")
+    r = exact_rational("value", x)
     return mpmath.mpf(r.p) / r.q
 
 

@@ -29,7 +29,7 @@ import mpmath
 import sympy
 
 from ..errors import ModelError, VerificationError
-from ..spectrum import to_rational
+from ..spectrum import exact_rational
 from .observables import find_symbol, level_polynomial, level_symbols, level_value
 
 __all__ = ["Transition", "GroundPiece", "transitions", "ground_states", "crossings"]
@@ -109,12 +109,12 @@ class _Sweep:
             s = find_symbol(syms, key)
             if s == self.x:
                 raise ModelError(f"coupling {s} is both swept and fixed; drop it from fixed=")
-            self.fixed[s] = _exact(s.name, val)
+            self.fixed[s] = exact_rational(s.name, val)
         missing = [s.name for s in syms if s != self.x and s not in self.fixed]
         if missing:
             raise ModelError("no fixed value for " + ", ".join(missing)
                              + f"; pass fixed={{'{missing[0]}': 1}} (every coupling but {self.x})")
-        a, b = (_exact("interval", v) for v in interval)
+        a, b = (exact_rational("interval", v) for v in interval)
         if not a < b:
             raise ModelError(f"interval ({a}, {b}) is empty; give (lower, upper) with lower < upper")
         self.a, self.b = a, b
@@ -237,14 +237,6 @@ class _Sweep:
                 out.append((root, None, root.num))
         self._cross[key] = out
         return out
-
-
-def _exact(name, v):
-    if not isinstance(v, sympy.Basic):
-        v = to_rational(name, v)      # the rules of docs/quickstart.md (0.1 is 1/10)
-    if not (isinstance(v, sympy.Rational)):
-        raise ModelError(f"value {v!r} for {name} must be an exact rational (int, Fraction, '3/2')")
-    return v
 
 
 class _AlgRoot:
