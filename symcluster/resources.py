@@ -66,8 +66,7 @@ def block_dimensions(n_sites, sectors, plan=None):
     lattice = plan.lattice if plan is not None else None
 
     def reduced(u, d):
-        dim = _sector_dim(n_sites, u, d)
-        return dim - _sector_dim(n_sites, u + 1, d - 1) if spin else dim
+        return _spin_highest(n_sites, u, d) if spin else _sector_dim(n_sites, u, d)
 
     if lattice is not None:
         order = len(lattice.group.elements)
@@ -80,6 +79,11 @@ def block_dimensions(n_sites, sectors, plan=None):
         if dim > 0:
             out.extend(max(1.0, dim * share) for share in shares)
     return out
+
+
+def _spin_highest(n_sites, n_up, n_dn):
+    """States with S = Sz in sector (n_up, n_dn): D(n_up, n_dn) - D(n_up + 1, n_dn - 1)."""
+    return _sector_dim(n_sites, n_up, n_dn) - _sector_dim(n_sites, n_up + 1, n_dn - 1)
 
 
 def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0):
@@ -146,9 +150,6 @@ def optimistic_cost(n_sites, electrons=None, n_free=1, max_order=MAX_GROUP_ORDER
     k = max(1, n_free)
     per_term = _PER_TERM_BIT * (1 if k == 1 else 3)
 
-    def reduced(u, d):
-        return _sector_dim(L, u, d) - _sector_dim(L, u + 1, d - 1)
-
     need = _FIXED + _PER_STATE * _detection_states(L)
     for n in sorted({min(m, 2 * L - m) for m in wanted if 0 <= m <= 2 * L}):
         if stop_above is not None and need > stop_above:
@@ -156,7 +157,7 @@ def optimistic_cost(n_sites, electrons=None, n_free=1, max_order=MAX_GROUP_ORDER
         for u in range((n + 1) // 2, min(n, L) + 1):
             d = n - u
             need += _PER_STATE * _sector_dim(L, u, d)
-            lowest = reduced(u, d) - reduced(u - 1, d - 1)
+            lowest = _spin_highest(L, u, d) - _spin_highest(L, u - 1, d - 1)
             if lowest > 0:          # block_dimensions counts no block for an empty sector
                 block = max(1, lowest // max_order)
                 need += per_term * block ** (k + 2) // factorial(k + 1)
