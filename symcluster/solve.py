@@ -7,14 +7,15 @@ import time
 
 import sympy
 
-from .algebra.charpoly import charpoly
-from .algebra.factor import factor_charpoly
+from .algebra.charpoly import charpoly_dict
+from .algebra.factor import factor_integer_dict
 from .algebra.polydict import poly_from_dict
-from .algebra.roots import ImplicitRoot, roots_of
+from .algebra.roots import ImplicitRoot, closed_forms
 from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
                      sectors_to_solve)
 from .resources import Progress, block_dimensions, check_early, check_size, submit
 from .errors import ModelError, VerificationError
+from .linalg import integer_multiple
 from .models import Model
 from .spectrum import Level, Spectrum, VerificationReport, check_digits
 from .verify import verify_blocks, verify_spectrum
@@ -53,13 +54,18 @@ def _solve_packed(block, names):
     sympy Polys pickle by rebuilding their expressions, which is slow for
     high-degree factors; integer term dicts and generator names travel instead.
     """
-    poly = charpoly(block, names)
+    from .symbols import ENERGY, coupling_symbol
+    names = tuple(names)
+    gens = (ENERGY,) + tuple(coupling_symbol(n) for n in names)
+    _, ints = integer_multiple(charpoly_dict(block, names))
     out = []
-    for fac, mult in factor_charpoly(poly):
-        roots = [("implicit", r.index) if isinstance(r, ImplicitRoot) else ("closed", r)
-                 for r in roots_of(fac)]
-        rep = {m: int(c) for m, c in fac.as_dict(native=True).items()}
-        out.append((rep, tuple(g.name for g in fac.gens), mult, roots))
+    for rep, mult in factor_integer_dict(ints, gens)[1]:
+        closed = closed_forms(rep, gens)
+        if closed is None:
+            roots = [("implicit", k) for k in range(max(m[0] for m in rep))]
+        else:
+            roots = [("closed", r) for r in closed]
+        out.append((rep, tuple(g.name for g in gens), mult, roots))
     return out
 
 
@@ -74,27 +80,38 @@ def _unpack(packed):
     return out
 
 
-def _shift_poly(poly, shift):
-    """P(E - shift) as a Poly in the same generators (python-flint composition)."""
-    if shift == 0:
-        return poly
-    import flint
-    from .algebra.factor import to_integer_dict
-    gens = poly.gens
-    names = tuple(g.name for g in gens)
-    ctx = flint.fmpz_mpoly_ctx.get(names, "lex")
-    scale, rep = to_integer_dict(poly)
-    fp = ctx.from_dict(rep)
-    xs = ctx.gens()
-    sh = ctx.from_dict({tuple(int(e) for e in m): int(c)
-                        for m, c in sympy.Poly(shift, *gens).as_dict().items()})
-    out = fp.compose(xs[0] - sh, *xs[1:])
-    if scale == 1:
-        rep2 = {tuple(int(e) for e in m): int(c) for m, c in out.to_dict().items()}
-        return poly_from_dict(rep2, gens, poly.domain)
-    s = sympy.Rational(scale.numerator, scale.denominator)
-    rep2 = {tuple(int(e) for e in m): int(c) * s for m, c in out.to_dict().items()}
-    return poly_from_dict(rep2, gens, poly.domain)
+class _Shifter:
+    """``P(E) -> P(E - k*shift)`` for the eta members of one solve (python-flint composition).
+
+    ``shift`` (the energy of one eta pair, linear in the couplings) is converted once;
+    the factors are integer Polys in the generators ``(E, *couplings)``.
+    """
+
+    def __init__(self, shift):
+        self.shift = shift
+        self._ctx = None
+
+    def _setup(self, gens):
+        import flint
+        self.gens = gens
+        self._ctx = flint.fmpz_mpoly_ctx.get(tuple(f"x{i}" for i in range(len(gens))), "lex")
+        sh = sympy.Poly(self.shift, *gens)
+        if not sh.domain.is_ZZ:
+            raise VerificationError(f"eta shift {self.shift} is not integral in {gens}")
+        self._sh = self._ctx.from_dict({tuple(int(e) for e in m): int(c)
+                                        for m, c in sh.as_dict(native=True).items()})
+        self._x = self._ctx.gens()
+
+    def __call__(self, poly, k):
+        """``poly(E - k*shift)`` as a Poly in the same generators (``poly`` for k = 0)."""
+        if k == 0 or self.shift == 0:
+            return poly
+        if self._ctx is None or poly.gens != self.gens:
+            self._setup(poly.gens)
+        fp = self._ctx.from_dict({m: int(c) for m, c in poly.as_dict(native=True).items()})
+        out = fp.compose(self._x[0] - k * self._sh, *self._x[1:])
+        return poly_from_dict({tuple(int(e) for e in m): int(c) for m, c in out.to_dict().items()},
+                              poly.gens, sympy.ZZ)
 
 
 def gauge_twins(model, plan, blocks):
@@ -298,6 +315,7 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     t_levels = time.perf_counter()
     levels = []
     shift = plan.eta_shift
+    shifter = _Shifter(shift)
     for spec, factors in zip(blocks, results):
         for fac, mult, roots in factors:
             if mult % spec.copies:
@@ -315,7 +333,7 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
                     qn["irrep"] = irr.label if irr is not None else qn["irrep"] + "*"
                     if irr is not None and getattr(irr, "momentum", None) is not None:
                         qn["k"] = irr.momentum
-                poly = _shift_poly(fac, k * shift) if k else fac
+                poly = shifter(fac, k)
                 for r in roots:
                     if not k:
                         energy = r

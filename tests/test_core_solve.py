@@ -386,14 +386,14 @@ def test_a_wrong_closed_form_is_rejected(monkeypatch):
     # The verification must compare the closed forms themselves (not values re-derived
     # from their polynomials) with the blocks: a formula off by t/10^6 must be caught.
     solve_mod = importlib.import_module("symcluster.solve")
-    real = solve_mod.roots_of
+    real = solve_mod.closed_forms
     t = sympy.Symbol("t", real=True)
 
-    def off(poly):
-        out = real(poly)
-        return [r + t / 10**6 if isinstance(r, sympy.Expr) and r.has(t) else r for r in out]
+    def off(rep, gens):
+        out = real(rep, gens)
+        return None if out is None else [r + t / 10**6 if r.has(t) else r for r in out]
 
-    monkeypatch.setattr(solve_mod, "roots_of", off)
+    monkeypatch.setattr(solve_mod, "closed_forms", off)
     with pytest.raises(sc.VerificationError):
         sc.solve(sc.hubbard(sc.chain(2)), executor="serial")
 
@@ -404,13 +404,13 @@ def test_a_closed_form_that_is_not_real_at_a_point_is_rejected_not_redrawn(monke
     # with t < 0 must reject them; redrawing it until t > 0 would accept a wrong formula.
     verify_mod = importlib.import_module("symcluster.verify")
     solve_mod = importlib.import_module("symcluster.solve")
-    real_roots, real_points = solve_mod.roots_of, verify_mod.random_points
+    real_roots, real_points = solve_mod.closed_forms, verify_mod.random_points
     t = sympy.Symbol("t", real=True)
     bad = sympy.sqrt(t) - sympy.sqrt(t**3) / t
 
-    def partly_wrong(poly):
-        return [r + bad if isinstance(r, sympy.Expr) and r.has(t) else r
-                for r in real_roots(poly)]
+    def partly_wrong(rep, gens):
+        out = real_roots(rep, gens)
+        return None if out is None else [r + bad if r.has(t) else r for r in out]
 
     def points(symbols, count, seed):
         pts = real_points(symbols, count, seed)
@@ -420,7 +420,7 @@ def test_a_closed_form_that_is_not_real_at_a_point_is_rejected_not_redrawn(monke
             pts = [{s: (abs(v) if s.name == "t" else v) for s, v in p.items()} for p in pts]
         return pts
 
-    monkeypatch.setattr(solve_mod, "roots_of", partly_wrong)
+    monkeypatch.setattr(solve_mod, "closed_forms", partly_wrong)
     monkeypatch.setattr(verify_mod, "random_points", points)
     with pytest.raises(sc.VerificationError, match="not real"):
         sc.solve(sc.hubbard(sc.ring(3)), executor="serial", seed=5)

@@ -12,7 +12,7 @@ from hypothesis import strategies as st
 from symcluster.algebra.block import ENERGY
 from symcluster.algebra.roots import (
     ImplicitRoot,
-    _roots_irreducible,
+    roots_of_irreducible,
     real_roots_at,
     roots_of,
     verify_roots,
@@ -118,7 +118,7 @@ def test_trig_cubic_on_products_of_linear_factors(rts, lead):
     # The closed-form solver is called directly (roots_of would factor first) and
     # compared with mpmath.polyroots (independent, numeric).
     f = sympy.Poly(lead * sympy.Mul(*[(E - r) for r in rts]), E)
-    r = _roots_irreducible(f, 4)
+    r = roots_of_irreducible(f, 4)
     assert all(x.has(sympy.acos) or x.is_number for x in r)
     got = numeric_values(r, {})
     with mpmath.workdps(40):
@@ -133,7 +133,7 @@ def test_trig_cubic_with_couplings_products_of_linear_factors():
     for _ in range(5):
         ab = [(rng.randint(-4, 4), rng.randint(-4, 4)) for _ in range(3)]
         f = sympy.Poly(sympy.Mul(*[E - a * t - b * U for a, b in ab]), E, t, U)
-        r = _roots_irreducible(f, 4)
+        r = roots_of_irreducible(f, 4)
         for _ in range(3):
             pt = rand_point(rng)
             with mpmath.workdps(40):

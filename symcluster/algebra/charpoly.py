@@ -47,7 +47,7 @@ except ImportError:  # pragma: no cover
     flint = None
     HAVE_FLINT = False
 
-__all__ = ["charpoly", "BACKENDS"]
+__all__ = ["charpoly", "charpoly_dict", "BACKENDS"]
 
 BACKENDS = ("flint", "sympy")
 
@@ -112,6 +112,16 @@ def charpoly(block, names, backend=None):
     >>> charpoly(b, ("t", "U")).as_expr()
     E**2 - E*U - 4*t**2
     """
+    return _to_poly(charpoly_dict(block, names, backend), tuple(names))
+
+
+def charpoly_dict(block, names, backend=None):
+    """:func:`charpoly` as a plain ``{(a, e_1, ..., e_k): int or Fraction}`` dictionary.
+
+    The exponent tuples list the power of ``E`` first, then those of the couplings in
+    the order of `names`; zero coefficients are absent.  Same parameters and errors
+    as :func:`charpoly`, for callers that go on in python-flint without a sympy Poly.
+    """
     names = tuple(names)
     if not isinstance(block, LinearBlock):
         raise ModelError(f"charpoly needs a LinearBlock, got {type(block).__name__}; build one first")
@@ -132,7 +142,7 @@ def charpoly(block, names, backend=None):
         coeffs = _charpoly_sympy(block, names)
     else:
         raise ModelError(f"unknown charpoly backend {backend!r}; use None, 'flint' or 'sympy'")
-    return _to_poly(coeffs, names)
+    return {m: c for m, c in coeffs.items() if c != 0}
 
 
 def _to_poly(coeffs, names):

@@ -24,7 +24,7 @@ except ImportError:  # pragma: no cover
     flint = None
     HAVE_FLINT = False
 
-__all__ = ["factor_charpoly", "content_and_factors", "to_integer_dict"]
+__all__ = ["factor_charpoly", "content_and_factors", "factor_integer_dict", "to_integer_dict"]
 
 
 def to_integer_dict(poly):
@@ -93,6 +93,33 @@ def content_and_factors(poly):
         raise ModelError("cannot factor the zero polynomial; check the block it came from")
     scale, rep = to_integer_dict(poly)
     gens = poly.gens
+    const, facs = factor_integer_dict(rep, gens)
+    c = scale * const
+    return (sympy.Rational(c.numerator, c.denominator),
+            [(poly_from_dict(frep, gens, ZZ), m) for frep, m in facs])
+
+
+def factor_integer_dict(rep, gens):
+    """:func:`content_and_factors` on plain data: ``{exponent tuple: int}`` in, dicts out.
+
+    Parameters
+    ----------
+    rep : dict[tuple[int, ...], int]
+        A nonzero polynomial with integer coefficients; exponent tuples have one entry
+        per generator, the first generator (``E``) first.
+    gens : sequence
+        The generators (only their number is used by python-flint; the sympy fallback
+        needs the symbols).
+
+    Returns
+    -------
+    constant : int
+        With ``rep == constant * prod(f**m)``.
+    factors : list of (dict, int)
+        Irreducible non-constant integer factors (primitive, lex-leading coefficient
+        positive) with multiplicities, sorted by (degree in the first generator,
+        sorted terms).
+    """
     if len(gens) > 0 and HAVE_FLINT:
         const, facs = _factor_flint(rep, gens)
     else:  # pragma: no cover - only without python-flint
@@ -102,10 +129,9 @@ def content_and_factors(poly):
     for frep, m in facs:
         s, frep = _normalize(frep)
         sign *= s**m
-        out.append((poly_from_dict(frep, gens, ZZ), m))
-    out.sort(key=lambda fm: (fm[0].degree(gens[0]), sorted(fm[0].as_dict().items())))
-    c = scale * sign
-    return sympy.Rational(c.numerator, c.denominator), out
+        out.append((frep, m))
+    out.sort(key=lambda fm: (max(k[0] for k in fm[0]), sorted(fm[0].items())))
+    return sign, out
 
 
 def factor_charpoly(poly):

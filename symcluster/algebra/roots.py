@@ -28,8 +28,9 @@ from math import lcm
 
 import mpmath
 import sympy
-from sympy.polys.domains import QQ, ZZ
+from sympy.polys.domains import ZZ
 
+from symcluster.algebra.closed import closed_form_roots
 from symcluster.algebra.factor import content_and_factors, to_integer_dict
 from symcluster.errors import ModelError, VerificationError
 from symcluster.resources import submit
@@ -39,9 +40,8 @@ try:
 except ImportError:  # pragma: no cover
     flint = None
 
-__all__ = ["ImplicitRoot", "roots_of", "verify_roots", "real_roots_at"]
+__all__ = ["ImplicitRoot", "closed_forms", "roots_of", "roots_of_irreducible", "verify_roots", "real_roots_at"]
 
-_DUMMY = sympy.Dummy("one")
 
 
 # --------------------------------------------------------------------------- numerics
@@ -606,154 +606,55 @@ def _latex_in_E(poly, var):
 # --------------------------------------------------------------------------- closed forms
 
 
-def _coeffs_in_E(poly):
-    """Coefficients of E^k (ascending) as Polys over QQ in the couplings (or a dummy)."""
-    cgens = tuple(poly.gens[1:]) or (_DUMMY,)
-    deg = poly.degree(poly.gens[0])
-    groups = [dict() for _ in range(deg + 1)]
-    for mon, c in poly.as_dict(native=True).items():
-        key = mon[1:] if len(poly.gens) > 1 else (0,)
-        groups[mon[0]][key] = QQ.convert_from(c, poly.domain)
-    return cgens, [sympy.Poly.from_dict(g, cgens, domain=QQ) for g in groups]
+def closed_forms(rep, gens, max_closed_degree=4):
+    """Closed forms of an irreducible factor given as plain data, or None.
 
+    Parameters
+    ----------
+    rep : dict[tuple[int, ...], int]
+        Irreducible over Q, integer coefficients, exponent tuples in ``gens``.
+    gens : tuple of sympy.Symbol
+        ``(E, *couplings)``.
+    max_closed_degree : int, optional
 
-def _expr(P):
-    return P.as_expr()
-
-
-def _sqrt_split(P):
-    """Return ``(c, f, g)`` with ``P = c f**2 g``: c > 0 Rational, f and g integer Polys."""
-    one = sympy.Poly(1, *P.gens, domain=QQ)
-    if P.is_zero:
-        return sympy.Integer(0), one, one
-    const, facs = content_and_factors(P)
-    f, g = one, one
-    for h, m in facs:
-        h = h.set_domain(QQ)
-        f = f * h ** (m // 2)
-        g = g * h ** (m % 2)
-    if const < 0:
-        const, g = -const, -g
-    return const, f, g
-
-
-def _sqrt_expr(P):
-    """An expression S with ``S**2 == P`` (up to the sign of pulled-out factors)."""
-    c, f, g = _sqrt_split(P)
-    return sympy.sqrt(c) * _expr(f) * sympy.sqrt(_expr(g))
-
-
-def _trig_cubic(P, Q, ordered):
-    """Roots of ``w**3 + P w + Q`` (P, Q Polys) in the real-rooted case.
-
-    ``w_k = 2 rho cos(acos(-Q / (2 rho**3)) / 3 - 2 pi k / 3)`` with ``rho = sqrt(-P/3)``,
-    listed for k = 2, 1, 0 (ascending when ``rho >= 0``).  A square factor ``f**2`` of
-    ``-P/3`` is pulled out of the root, and ``f**3`` is cancelled against ``Q`` when it
-    divides it, so the form stays defined where the roots merge along ``f = 0``.
-
-    With ``ordered=False`` the factor is used as ``f``: the multiset of the three values
-    is still right for ``f < 0`` (replacing rho by -rho and Q by -Q negates every root
-    and the negated cubic's roots are the negated roots), and the form is shorter.
-    With ``ordered=True`` it is used as ``|f|`` (and ``Q / |f|**3 = sign(f) Q / f**3``),
-    which keeps the list ascending everywhere.
+    Returns
+    -------
+    list of sympy.Expr or None
+        The ``deg_E`` closed forms; None where the roots are implicit (degree above
+        `max_closed_degree` and at least 3, or a non-constant leading coefficient in
+        ``E`` at degree 3 or 4).
     """
-    m = -P * sympy.Rational(1, 3)
-    c, f, g = _sqrt_split(m)
-    fe = _expr(f)
-    sg = sympy.sqrt(_expr(g))
-    use_abs = ordered and not f.is_ground
-    rho = sympy.sqrt(c) * (sympy.Abs(fe) if use_abs else fe) * sg
-    quo, rem = Q.div(f**3)
-    if rem.is_zero:
-        sgn = sympy.sign(fe) if use_abs else sympy.Integer(1)
-        arg = -sgn * _expr(quo) / (2 * c ** sympy.Rational(3, 2) * sg**3)
-    else:
-        arg = -_expr(Q) / (2 * rho**3)
-    theta = sympy.acos(arg)
-    if not theta.free_symbols:
-        return [2 * rho * sympy.cos(theta / 3 - 2 * sympy.pi * k / 3) for k in (2, 1, 0)]
-    # sympy's own normal forms of cos(a - 4pi/3), cos(a - 2pi/3), cos(a) for a symbolic
-    # a = theta/3, built directly: evaluating cos() there costs ~40 ms per cubic cold
-    third = theta / 3
-    return [-2 * rho * sympy.sin(third + sympy.pi / 6, evaluate=False),
-            -2 * rho * sympy.cos(third + sympy.pi / 3, evaluate=False),
-            2 * rho * sympy.cos(third, evaluate=False)]
+    deg = max(m[0] for m in rep)
+    if deg <= 2:
+        return closed_form_roots(rep, gens)
+    if deg <= max_closed_degree and all(not any(m[1:]) for m in rep if m[0] == deg):
+        return closed_form_roots(rep, gens)
+    return None
 
 
-def _roots_linear(cf):
-    return [-_expr(cf[0]) / _expr(cf[1])]
+def roots_of_irreducible(f, max_closed_degree=4):
+    """Roots in ``E`` of a polynomial already known to be irreducible over Q.
 
+    The same forms as :func:`roots_of`, without factoring again: for the factors
+    that :func:`~symcluster.algebra.factor.factor_charpoly` returns.
 
-def _roots_quadratic(cf):
-    c, b, a = cf
-    S = _sqrt_expr(b**2 - 4 * a * c)
-    a2 = 2 * _expr(a)
-    mid = -_expr(b) / a2
-    return [mid - S / a2, mid + S / a2]
+    Parameters
+    ----------
+    f : sympy.Poly
+        Irreducible over Q, integer coefficients, generators ``(E, *couplings)``.
+    max_closed_degree : int, optional
 
-
-def _roots_cubic(cf):
-    d, c, b, a = [x * (1 / cf[3].LC()) for x in cf]  # monic: a == 1
-    del a
-    p = c - b**2 / 3
-    q = 2 * b**3 / 27 - b * c / 3 + d
-    shift = -_expr(b) / 3
-    return [shift + w for w in _trig_cubic(p, q, ordered=False)]
-
-
-def _roots_quartic(cf):
-    e, d, c, b, a = [x * (1 / cf[4].LC()) for x in cf]
-    del a
-    p = c - 3 * b**2 / 8
-    q = b**3 / 8 - b * c / 2 + d
-    r = e - 3 * b**4 / 256 + b**2 * c / 16 - b * d / 4
-    shift = -_expr(b) / 4
-    if q.is_zero:
-        cr, fr, gr = _sqrt_split(r)
-        if r.is_zero or (gr.is_ground and gr.LC() == 1 and sympy.sqrt(cr).is_Rational):
-            # y^4 + p y^2 + s^2: roots (±sqrt(2s - p) ± sqrt(-2s - p)) / 2
-            s = fr * sympy.sqrt(cr) if not r.is_zero else fr * 0
-            A = _sqrt_expr(2 * s - p)
-            B = _sqrt_expr(-2 * s - p)
-            ys = [(-A - B) / 2, (-A + B) / 2, (A - B) / 2, (A + B) / 2]
-        else:
-            S = _sqrt_expr(p**2 - 4 * r)
-            wm = (-_expr(p) - S) / 2
-            wp = (-_expr(p) + S) / 2
-            ys = [-sympy.sqrt(wp), -sympy.sqrt(wm), sympy.sqrt(wm), sympy.sqrt(wp)]
-        return [shift + y for y in ys]
-    # resolvent z^3 + 2p z^2 + (p^2 - 4r) z - q^2, roots (a1+a2)^2, ... >= 0
-    P = -(p**2) / 3 - 4 * r
-    Q = -2 * p**3 / 27 + 8 * p * r / 3 - q**2
-    zshift = -2 * _expr(p) / 3
-    z2, z1, z0 = [zshift + w for w in _trig_cubic(P, Q, ordered=True)]  # z2 smallest
-    s0, s1, s2 = sympy.sqrt(z0), sympy.sqrt(z1), sympy.sqrt(z2)
-    sig = -sympy.sign(_expr(q))
-    ys = [
-        (-s0 - s1 + sig * s2) / 2,
-        (-s0 + s1 - sig * s2) / 2,
-        (s0 - s1 - sig * s2) / 2,
-        (s0 + s1 + sig * s2) / 2,
-    ]
-    return [shift + y for y in ys]
-
-
-def _roots_irreducible(f, max_closed_degree):
-    E = f.gens[0]
-    deg = f.degree(E)
+    Returns
+    -------
+    list of (sympy.Expr or ImplicitRoot)
+        ``deg_E(f)`` entries.
+    """
+    deg = f.degree(f.gens[0])
     if deg == 0:
         return []
-    cgens, cf = _coeffs_in_E(f)
-    if deg == 1:
-        return _roots_linear(cf)
-    if deg == 2:
-        return _roots_quadratic(cf)
-    if deg <= max_closed_degree and cf[-1].is_ground:
-        if deg == 3:
-            return _roots_cubic(cf)
-        if deg == 4:
-            return _roots_quartic(cf)
-    return [ImplicitRoot(f, k) for k in range(deg)]
+    closed = closed_forms({m: int(c) for m, c in f.as_dict(native=True).items()}, f.gens,
+                          max_closed_degree)
+    return closed if closed is not None else [ImplicitRoot(f, k) for k in range(deg)]
 
 
 def roots_of(poly, max_closed_degree=4):
@@ -790,7 +691,7 @@ def roots_of(poly, max_closed_degree=4):
     _, facs = content_and_factors(poly)
     out = []
     for f, m in facs:
-        out.extend(_roots_irreducible(f, max_closed_degree) * m)
+        out.extend(roots_of_irreducible(f, max_closed_degree) * m)
     return out
 
 

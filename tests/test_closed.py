@@ -1,0 +1,69 @@
+"""Closed forms written from python-flint coefficient algebra (symcluster/algebra/closed.py).
+
+The values of the forms are checked against numerical roots in tests/test_roots.py; here:
+the forms are the ones derived by hand, and they are in sympy's canonical form, so that
+rebuilding them (as the JSON reader and any sympy manipulation do) changes nothing.
+"""
+
+import random
+
+import mpmath
+import pytest
+import sympy
+
+from symcluster.algebra.closed import closed_form_roots
+
+E, t, U = sympy.symbols("E t U", real=True)
+GENS = (E, t, U)
+
+
+def _rep(expr):
+    return {m: int(c) for m, c in sympy.Poly(expr, *GENS).as_dict().items()}
+
+
+def _rebuild(expr):
+    """The same tree rebuilt bottom-up with sympy's evaluating constructors."""
+    if not expr.args:
+        return expr
+    return expr.func(*[_rebuild(a) for a in expr.args])
+
+
+def test_cubic_of_the_four_ring_has_the_hand_derived_acos_argument():
+    # E^3 - U E^2 - 16 t^2 E + 8 U t^2 (a block of the half-filled 4-ring): depressed,
+    # p = -(U^2 + 48 t^2)/3 and q = -2U^3/27 + 8 U t^2/3 (derived by hand), so
+    # rho = sqrt(U^2 + 48 t^2)/3 and cos(theta) = -q / (2 rho^3).
+    roots = closed_form_roots(_rep(E**3 - U * E**2 - 16 * t**2 * E + 8 * U * t**2), GENS)
+    args = {a.args[0] for r in roots for a in r.atoms(sympy.acos)}
+    assert args == {(U**3 - 36 * U * t**2) / (U**2 + 48 * t**2) ** sympy.Rational(3, 2)}
+    assert all(r.has(sympy.sqrt(U**2 + 48 * t**2)) for r in roots)
+
+
+def test_quadratic_form_of_the_dimer_singlets():
+    # E^2 - U E - 4 t^2: (U -+ sqrt(U^2 + 16 t^2)) / 2 (the dimer, references.md)
+    roots = closed_form_roots(_rep(E**2 - U * E - 4 * t**2), GENS)
+    Delta = sympy.sqrt(U**2 + 16 * t**2)
+    assert roots == [U / 2 - Delta / 2, U / 2 + Delta / 2]
+
+
+def _real_rooted(deg, rng):
+    """Random integer polynomial in E with roots a_i t + b_i U (real-rooted, reducible),
+    and its roots."""
+    roots = [rng.randint(-4, 4) * t + rng.randint(-4, 4) * U for _ in range(deg)]
+    return sympy.expand(sympy.Mul(*[E - r for r in roots])), roots
+
+
+@pytest.mark.parametrize("deg", [1, 2, 3, 4])
+def test_forms_are_canonical_and_give_the_roots(deg):
+    rng = random.Random(deg)
+    for _ in range(8):
+        P, exact = _real_rooted(deg, rng)
+        roots = closed_form_roots(_rep(P), GENS)
+        assert len(roots) == deg
+        for r in roots:
+            assert _rebuild(r) == r                  # canonical: rebuilding is a no-op
+        # the multiset of values is the multiset of roots at a generic point
+        pt = {t: sympy.Rational(rng.randint(1, 9), 7), U: sympy.Rational(rng.randint(-9, 9), 5)}
+        want = sorted(r.subs(pt) for r in exact)
+        with mpmath.workdps(40):
+            got = sorted(complex(sympy.N(r.subs(pt), 40)).real for r in roots)
+        assert all(abs(float(w) - g) < 1e-9 * (1 + abs(float(w))) for w, g in zip(want, got))
