@@ -1,6 +1,10 @@
 """The one place where coupling names become sympy symbols."""
 
 import sympy
+# sympy imports its tensor module (and with it sympy.combinatorics) on the first evaluated
+# addition of a process, about 20 ms on 2 cores; importing it here puts that one-time
+# cost into `import symcluster` (measured there) instead of into the first solve.
+import sympy.tensor.tensor  # noqa: F401
 
 __all__ = ["coupling_symbol", "ENERGY"]
 

@@ -15,7 +15,7 @@ from symcluster.errors import ModelError
 
 E = ENERGY
 t, U, V = sympy.symbols("t U V", real=True)
-BACKENDS = ["flint", "sympy"]
+BACKENDS = ["flint", "mpoly", "sympy"]
 
 
 def reference_charpoly(block, gens):
@@ -82,7 +82,9 @@ def test_random_blocks_match_sympy_matrix(backend, names, rational):
 def test_backends_agree(n, seed, names):
     rng = random.Random(seed)
     b = random_block(rng, n, names, density=0.4, rational=bool(seed % 2))
-    assert charpoly(b, names, backend="flint") == charpoly(b, names, backend="sympy")
+    ref = charpoly(b, names, backend="sympy")
+    assert charpoly(b, names, backend="flint") == ref
+    assert charpoly(b, names, backend="mpoly") == ref
 
 
 @pytest.mark.parametrize("backend", BACKENDS)
@@ -221,7 +223,9 @@ def test_even_coupling_with_a_second_hopping_on_the_weighted_grid():
 
 
 def test_choose_backend():
-    assert _choose_backend(LinearBlock(2, {})) == "sympy"
+    assert _choose_backend(LinearBlock(2, {})) == ("mpoly" if cp_mod.HAVE_FLINT else "sympy")
+    assert _choose_backend(LinearBlock(5, {})) == ("mpoly" if cp_mod.HAVE_FLINT else "sympy")
+    assert _choose_backend(LinearBlock(6, {})) == ("flint" if cp_mod.HAVE_FLINT else "sympy")
     assert _choose_backend(LinearBlock(40, {})) == ("flint" if cp_mod.HAVE_FLINT else "sympy")
 
 
