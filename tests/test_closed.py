@@ -67,3 +67,51 @@ def test_forms_are_canonical_and_give_the_roots(deg):
         with mpmath.workdps(40):
             got = sorted(complex(sympy.N(r.subs(pt), 40)).real for r in roots)
         assert all(abs(float(w) - g) < 1e-9 * (1 + abs(float(w))) for w, g in zip(want, got))
+
+
+def _symmetric_charpoly_factors(rng, n):
+    """Irreducible factors (integer dicts) of det(E - A) for a random symmetric A whose
+    entries are a t + b U: real-rooted at every real point, so every form applies."""
+    A = sympy.zeros(n, n)
+    for i in range(n):
+        for j in range(i, n):
+            A[i, j] = A[j, i] = rng.randint(-3, 3) * t + rng.randint(-2, 2) * U
+    _, facs = sympy.factor_list((E * sympy.eye(n) - A).det(method="berkowitz"), E, t, U)
+    return [_rep(f) for f, _ in facs if sympy.Poly(f, E).degree() >= 1]
+
+
+@pytest.fixture
+def evaluating():
+    import symcluster.algebra.closed as closed
+    closed.EVALUATE = True
+    yield
+    closed.EVALUATE = False
+
+
+def _forms(reps, evaluate):
+    import symcluster.algebra.closed as closed
+    old = closed.EVALUATE
+    closed.EVALUATE = evaluate
+    try:
+        return [closed_form_roots(r, GENS) for r in reps]
+    finally:
+        closed.EVALUATE = old
+
+
+@pytest.mark.parametrize("n", [2, 3, 4])
+def test_direct_construction_equals_sympys_evaluating_constructors(n):
+    # The builders assemble sympy's canonical trees without evaluating; built again with
+    # sympy's own Mul/Add/Pow (EVALUATE) every form must be the identical tree.
+    rng = random.Random(100 + n)
+    reps = []
+    for _ in range(12):
+        reps.extend(_symmetric_charpoly_factors(rng, n))
+    rng2 = random.Random(7 * n)
+    for deg in range(1, n + 1):
+        reps.extend(_rep(_real_rooted(deg, rng2)[0]) for _ in range(4))
+    reps = [r for r in reps if max(m[0] for m in r) <= 4
+            and all(not any(m[1:]) for m in r if m[0] == max(k[0] for k in r))]
+    fast = _forms(reps, False)
+    slow = _forms(reps, True)
+    for a, b in zip(fast, slow):
+        assert [sympy.srepr(x) for x in a] == [sympy.srepr(x) for x in b]

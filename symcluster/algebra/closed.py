@@ -37,6 +37,102 @@ def _rational(q):
     return sympy.Rational(int(q.p), int(q.q))
 
 
+# ----------------------------------------------------------------- canonical builders
+#
+# sympy's evaluating constructors spend most of their time on assumption queries and
+# rewrites that never apply to these forms.  The builders below return the tree those
+# constructors return (sympy's canonical form, so that rebuilding it changes nothing)
+# by sorting arguments the way sympy does, and fall back to the evaluating constructor
+# whenever a rewrite could apply (like terms or bases, a rational times a sum, numbers
+# under roots).  tests/test_closed.py builds every form both ways and compares trees.
+
+#: Set by the tests to build every form with sympy's evaluating constructors.
+EVALUATE = False
+
+_MINUS = sympy.S.NegativeOne
+
+
+def _mul(*factors):
+    """``sympy.Mul(*factors)``."""
+    if EVALUATE:
+        return sympy.Mul(*factors)
+    coeff = sympy.S.One
+    rest = []
+    for f in factors:
+        if f.is_Mul:
+            for a in f.args:
+                if a.is_Rational:
+                    coeff = coeff * a
+                else:
+                    rest.append(a)
+        elif f.is_Rational:
+            coeff = coeff * f
+        else:
+            rest.append(f)
+    if coeff.is_zero:
+        return sympy.S.Zero
+    bases = set()
+    numeric = 0
+    for f in rest:
+        b = f.base if f.is_Pow else f
+        if b in bases or not (f.is_Pow or f.is_Symbol or f.is_Add or f.is_Function):
+            return sympy.Mul(*factors)
+        bases.add(b)
+        numeric += b.is_Number
+    if numeric > 1 or (len(rest) == 1 and rest[0].is_Add and coeff is not sympy.S.One):
+        return sympy.Mul(*factors)
+    if not rest:
+        return coeff
+    if len(rest) == 1 and coeff is sympy.S.One:
+        return rest[0]
+    rest.sort(key=_SORT_KEY)
+    if coeff is not sympy.S.One:
+        rest.insert(0, coeff)
+    return sympy.Mul._from_args(rest)
+
+
+def _add(*terms):
+    """``sympy.Add(*terms)``."""
+    if EVALUATE:
+        return sympy.Add(*terms)
+    coeff = sympy.S.Zero
+    rest = []
+    for t in terms:
+        for a in (t.args if t.is_Add else (t,)):
+            if a.is_Rational:
+                coeff = coeff + a
+            elif a.is_Number:
+                return sympy.Add(*terms)
+            else:
+                rest.append(a)
+    seen = set()
+    for a in rest:
+        c, m = a.as_coeff_Mul()
+        if m in seen or (m.is_Add and c is not sympy.S.One):
+            return sympy.Add(*terms)
+        seen.add(m)
+    if not rest:
+        return coeff
+    if len(rest) == 1 and coeff.is_zero:
+        return rest[0]
+    rest.sort(key=_SORT_KEY)
+    if not coeff.is_zero:
+        rest.insert(0, coeff)
+    return sympy.Add._from_args(rest)
+
+
+def _sqrt(x):
+    """``sympy.sqrt(x)``; only a sum with rational coefficients is built directly."""
+    if EVALUATE or not x.is_Add or not all(a.as_coeff_Mul()[0].is_Rational for a in x.args):
+        return sympy.sqrt(x)
+    if x.is_number:
+        return sympy.sqrt(x)
+    return sympy.Pow(x, sympy.S.Half, evaluate=False)
+
+
+from sympy.core.basic import _args_sortkey as _SORT_KEY  # noqa: E402  (sympy's own order)
+
+
 class _Ring:
     """Polynomials in the couplings: python-flint arithmetic, sympy only for output.
 
@@ -73,8 +169,8 @@ class _Ring:
             for g, e in zip(self.gens, mon):
                 if e:
                     parts.append(g if e == 1 else sympy.Pow(g, e))
-            terms.append(sympy.Mul(*parts))
-        out = sympy.Add(*terms)
+            terms.append(_mul(*parts))
+        out = _add(*terms)
         self._exprs[key] = out
         return out
 
@@ -94,7 +190,7 @@ class _Ring:
     def sqrt_expr(self, p):
         """An expression ``S`` with ``S**2 == p`` (up to the sign of pulled-out factors)."""
         c, f, g = self.sqrt_split(p)
-        return sympy.sqrt(_rational(c)) * self.expr(f) * sympy.sqrt(self.expr(g))
+        return _mul(sympy.sqrt(_rational(c)), self.expr(f), _sqrt(self.expr(g)))
 
 
 def _primitive(p):
@@ -129,9 +225,9 @@ def _trig_cubic(R, P, Q, ordered):
     c, f, g = R.sqrt_split(-P / 3)
     fe = R.expr(f)
     ge = R.expr(g)
-    sg = sympy.sqrt(ge)
+    sg = _sqrt(ge)
     use_abs = ordered and not f.is_constant()
-    rho = sympy.sqrt(_rational(c)) * (sympy.Abs(fe) if use_abs else fe) * sg
+    rho = _mul(sympy.sqrt(_rational(c)), sympy.Abs(fe) if use_abs else fe, sg)
     quo, rem = divmod(Q, f ** 3)
     if rem.is_zero():
         # -quo / (2 c^(3/2) g^(3/2)), with the rational content of quo in front
@@ -139,21 +235,30 @@ def _trig_cubic(R, P, Q, ordered):
         scale = -r / (2 * c)
         if scale < 0 and len(prim.coeffs()) > 1:
             scale, prim = -scale, -prim
-        # this order keeps a rational factor from being distributed over a sum
-        arg = R.expr(prim) * sg ** -3 * sympy.sqrt(_rational(1 / c)) * _rational(scale)
+        g_pow = (sympy.Pow(ge, sympy.Rational(-3, 2), evaluate=False) if sg is not ge and sg.is_Pow
+                 and sg.base is ge and ge.is_Add else sg ** -3)
+        # one product: a rational factor is distributed over a sum only when the sum is
+        # all there is (as sympy does it)
+        arg = _mul(R.expr(prim), g_pow, sympy.sqrt(_rational(1 / c)), _rational(scale))
         if use_abs:
             arg = sympy.sign(fe) * arg
     else:
         arg = -R.expr(Q) / (2 * rho ** 3)
-    theta = sympy.acos(arg)
+    if arg.free_symbols and not arg.has(sympy.I):
+        # acos.eval leaves such an argument (a ratio of real polynomials and roots) as
+        # it is, after a costly search for an imaginary-unit coefficient: skip it
+        theta = sympy.acos(arg, evaluate=False)
+    else:
+        theta = sympy.acos(arg)
     if not theta.free_symbols:
         return [2 * rho * sympy.cos(theta / 3 - 2 * sympy.pi * k / 3) for k in (2, 1, 0)]
     # sympy's own normal forms of cos(a - 4pi/3), cos(a - 2pi/3), cos(a) for a symbolic
     # a = theta/3, built directly: evaluating cos() there costs ~40 ms per cubic cold
-    third = theta / 3
-    return [-2 * rho * sympy.sin(third + sympy.pi / 6, evaluate=False),
-            -2 * rho * sympy.cos(third + sympy.pi / 3, evaluate=False),
-            2 * rho * sympy.cos(third, evaluate=False)]
+    third = _mul(sympy.Rational(1, 3), theta)
+    two = sympy.Integer(2)
+    return [_mul(-two, rho, sympy.sin(_add(third, sympy.pi / 6), evaluate=False)),
+            _mul(-two, rho, sympy.cos(_add(third, sympy.pi / 3), evaluate=False)),
+            _mul(two, rho, sympy.cos(third, evaluate=False))]
 
 
 def _roots_linear(R, cf):
@@ -169,11 +274,11 @@ def _roots_quadratic(R, cf):
     if a.is_constant():
         lc = a.leading_coefficient()
         mid = R.expr(-b / (2 * lc))
-        half = _rational(1 / (2 * lc)) * S
-    else:
-        a2 = 2 * R.expr(a)
-        mid = -R.expr(b) / a2
-        half = S / a2
+        half = _rational(1 / (2 * lc))
+        return [_add(mid, _mul(-half, S)), _add(mid, _mul(half, S))]
+    a2 = 2 * R.expr(a)
+    mid = -R.expr(b) / a2
+    half = S / a2
     return [mid - half, mid + half]
 
 
@@ -183,7 +288,7 @@ def _roots_cubic(R, cf):
     p = c - b ** 2 / 3
     q = 2 * b ** 3 / 27 - b * c / 3 + d
     shift = R.expr(-b / 3)
-    return [shift + w for w in _trig_cubic(R, p, q, ordered=False)]
+    return [_add(shift, w) for w in _trig_cubic(R, p, q, ordered=False)]
 
 
 def _roots_quartic(R, cf):
@@ -193,36 +298,39 @@ def _roots_quartic(R, cf):
     q = b ** 3 / 8 - b * c / 2 + d
     r = e - 3 * b ** 4 / 256 + b ** 2 * c / 16 - b * d / 4
     shift = R.expr(-b / 4)
+    half = sympy.Rational(1, 2)
     if q.is_zero():
         cr, fr, gr = R.sqrt_split(r)
         root_cr = sympy.sqrt(_rational(cr))
         if r.is_zero() or (gr == R.one and root_cr.is_Rational):
             # y^4 + p y^2 + s^2: roots (±sqrt(2s - p) ± sqrt(-2s - p)) / 2
             s = fr * flint.fmpq(int(root_cr.p), int(root_cr.q)) if not r.is_zero() else R.zero
-            A = R.sqrt_expr(2 * s - p)
-            B = R.sqrt_expr(-2 * s - p)
-            ys = [(-A - B) / 2, (-A + B) / 2, (A - B) / 2, (A + B) / 2]
+            A = _mul(half, R.sqrt_expr(2 * s - p))
+            B = _mul(half, R.sqrt_expr(-2 * s - p))
+            ys = [_add(_mul(_MINUS, A), _mul(_MINUS, B)), _add(_mul(_MINUS, A), B), _add(A, _mul(_MINUS, B)),
+                  _add(A, B)]
         else:
             S = R.sqrt_expr(p ** 2 - 4 * r)
             pe = R.expr(p)
-            wm = (-pe - S) / 2
-            wp = (-pe + S) / 2
-            ys = [-sympy.sqrt(wp), -sympy.sqrt(wm), sympy.sqrt(wm), sympy.sqrt(wp)]
-        return [shift + y for y in ys]
+            wm = sympy.Mul(half, _add(_mul(_MINUS, pe), _mul(_MINUS, S)))
+            wp = sympy.Mul(half, _add(_mul(_MINUS, pe), S))
+            ys = [_mul(_MINUS, _sqrt(wp)), _mul(_MINUS, _sqrt(wm)), _sqrt(wm), _sqrt(wp)]
+        return [_add(shift, y) for y in ys]
     # resolvent z^3 + 2p z^2 + (p^2 - 4r) z - q^2, roots (a1+a2)^2, ... >= 0
     P = -(p ** 2) / 3 - 4 * r
     Q = -2 * p ** 3 / 27 + 8 * p * r / 3 - q ** 2
     zshift = R.expr(-2 * p / 3)
-    z2, z1, z0 = [zshift + w for w in _trig_cubic(R, P, Q, ordered=True)]  # z2 smallest
-    s0, s1, s2 = sympy.sqrt(z0), sympy.sqrt(z1), sympy.sqrt(z2)
+    z2, z1, z0 = [_add(zshift, w) for w in _trig_cubic(R, P, Q, ordered=True)]  # z2 smallest
+    s0, s1, s2 = [_mul(half, _sqrt(z)) for z in (z0, z1, z2)]
     sig = -sympy.sign(R.expr(q))
+    t2 = _mul(sig, s2)
     ys = [
-        (-s0 - s1 + sig * s2) / 2,
-        (-s0 + s1 - sig * s2) / 2,
-        (s0 - s1 - sig * s2) / 2,
-        (s0 + s1 + sig * s2) / 2,
+        _add(_mul(_MINUS, s0), _mul(_MINUS, s1), t2),
+        _add(_mul(_MINUS, s0), s1, _mul(_MINUS, t2)),
+        _add(s0, _mul(_MINUS, s1), _mul(_MINUS, t2)),
+        _add(s0, s1, t2),
     ]
-    return [shift + y for y in ys]
+    return [_add(shift, y) for y in ys]
 
 
 def closed_form_roots(rep, gens):
