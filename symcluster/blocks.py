@@ -16,6 +16,7 @@ an H-invariant subspace.  Invariance is checked exactly while the matrix is
 read off.
 """
 
+import random
 from dataclasses import dataclass, field
 from fractions import Fraction
 from math import lcm
@@ -26,7 +27,7 @@ from .algebra.block import LinearBlock
 from .errors import VerificationError
 from .fock import sector_states
 from .linalg import check_reduced, kernel_of, reduce_basis
-from .operators import apply_eta_minus, apply_hamiltonian, apply_s_plus
+from .operators import HamiltonianAction, apply_eta_minus, apply_s_plus, per_state_memo
 from .symmetry.lattice import lattice_symmetry
 from .symmetry.spin import eta_symmetry, has_spin_symmetry, shift_expr
 
@@ -41,6 +42,8 @@ class SymmetryPlan:
     eta: object            # None or (signs, shift dict)
     lattice: object        # None or the lattice-symmetry object of symmetry.lattice
     sublattice_char: list = field(default_factory=list)  # +-1 per group element
+    # H on basis states, as computed by the checks; build_blocks reuses it (same solve)
+    action: object = field(default=None, repr=False, compare=False)
 
     @property
     def eta_shift(self):
@@ -78,8 +81,9 @@ def plan_symmetries(model, lattice=True, spin=True, eta=True):
     The flags switch a reduction off (for cross-checks); a symmetry that is
     switched on is still used only where the exact check finds it.
     """
-    spin = spin and has_spin_symmetry(model)
-    eta = eta_symmetry(model) if eta else None
+    h = HamiltonianAction(model)
+    spin = spin and has_spin_symmetry(model, h)
+    eta = eta_symmetry(model, h) if eta else None
     lat = None
     sub_char = []
     if lattice and model.n_sites > 1:
@@ -99,7 +103,7 @@ def plan_symmetries(model, lattice=True, spin=True, eta=True):
                     sub_char = []
                     break
                 sub_char.append(chi)
-    return SymmetryPlan(spin, eta, lat, sub_char)
+    return SymmetryPlan(spin, eta, lat, sub_char, action=h)
 
 
 def sectors_to_solve(n_sites, plan, electrons=None):
@@ -125,80 +129,132 @@ def sectors_to_solve(n_sites, plan, electrons=None):
     return out
 
 
-def _matrix_of_h(model, vectors, pivots, rng=None):
+def _check_coefficients(k, memo=None):
+    """The random integers of the invariance check of a k-dimensional block.
+
+    Drawn from ``random.Random(k)`` (reproducible); ``memo`` (a dict kept by
+    the caller for one build) avoids re-seeding for every block of equal size.
+    """
+    out = memo.get(k) if memo is not None else None
+    if out is None:
+        rng = random.Random(k)
+        out = [rng.randint(-9, 9) or 1 for _ in range(k)]
+        if memo is not None:
+            memo[k] = out
+    return out
+
+
+def _matrix_of_h(h, vectors, pivots, rng=None, coeff_memo=None):
     """H restricted to span(vectors) in the reduced basis.
 
     Entry (i, j) is (H w_j) at pivot i divided by w_i's pivot value; only the
     rows of H at the pivots are needed (H is real symmetric in the Fock
     basis).  Invariance of the span is then checked exactly on a random
     integer combination of the basis vectors.
+
+    Parameters
+    ----------
+    h : HamiltonianAction
+    vectors, pivots : list
+        A reduced basis (see :mod:`symcluster.linalg`).
+    rng : random.Random, optional
+        Source of the combination; by default ``random.Random(len(vectors))``.
+    coeff_memo : dict, optional
+        Per-build memo of the default combinations (see :func:`_check_coefficients`).
     """
-    import random
-    rng = rng or random.Random(len(vectors))
     k = len(vectors)
     # inverted index: state -> [(j, coefficient of w_j at that state)]
     index = {}
     for j, w in enumerate(vectors):
         for st, x in w.items():
-            index.setdefault(st, []).append((j, x))
+            hits = index.get(st)
+            if hits is None:
+                index[st] = [(j, x)]
+            else:
+                hits.append((j, x))
     terms = {}
     for i, p in enumerate(pivots):
         piv_val = vectors[i][p]
         acc = {}
         # (H w_j)[p] = sum_s H[p, s] w_j[s]; H[p, s] = H[s, p] read from H|p>
-        for st, labs in apply_hamiltonian(model, *p).items():
+        for st, lab, a in h[p]:
             hits = index.get(st)
-            if not hits:
-                continue
-            for lab, a in labs.items():
-                row = acc.setdefault(lab, {})
+            if hits:
+                row = acc.get(lab)
+                if row is None:
+                    row = acc[lab] = {}
                 for j, x in hits:
                     row[j] = row.get(j, 0) + a * x
         for lab, row in acc.items():
-            mat = terms.setdefault(lab, {})
+            mat = terms.get(lab)
+            if mat is None:
+                mat = terms[lab] = {}
             for j, v in row.items():
                 if v:
-                    mat[(i, j)] = Fraction(v, piv_val)
+                    mat[(i, j)] = Fraction(v) if piv_val == 1 else Fraction(v, piv_val)
     # exact invariance check on a random combination r = sum a_j w_j
-    coeffs = [rng.randint(-9, 9) or 1 for _ in range(k)]
+    if rng is None:
+        coeffs = _check_coefficients(k, coeff_memo)
+    else:
+        coeffs = [rng.randint(-9, 9) or 1 for _ in range(k)]
     r = {}
     for a, w in zip(coeffs, vectors):
         for s, x in w.items():
             r[s] = r.get(s, 0) + a * x
-    hr = {}
-    for s, x in r.items():
-        if x:
-            for s2, labs in apply_hamiltonian(model, *s).items():
-                tgt = hr.setdefault(s2, {})
-                for lab, a in labs.items():
-                    tgt[lab] = tgt.get(lab, 0) + a * x
-    # H r must equal sum_i c_i w_i with c_i = sum_j M_ij a_j = num_i / piv_i; compare
-    # scale * H r with sum_i (scale / piv_i) num_i w_i in integers (scale = lcm of pivots)
+    # H r must equal sum_i c_i w_i with c_i = sum_j M_ij a_j; compare scale * H r with
+    # sum_i (scale c_i) w_i in integers (scale = lcm of the pivot values, a multiple of
+    # every entry's denominator), one label at a time
     scale = 1
     for i, p in enumerate(pivots):
         scale = lcm(scale, abs(vectors[i][p]))
+    res = {lab: {} for lab in h.labels}
+    for s, x in r.items():
+        if x:
+            x *= scale
+            for s2, lab, a in h[s]:
+                d = res[lab]
+                d[s2] = d.get(s2, 0) + a * x
+    scaled = {}
     for lab, mat in terms.items():
         num = {}
         for (i, j), v in mat.items():
-            num[i] = num.get(i, 0) + v * coeffs[j]          # Fraction = num_i / piv_i
-        for s_ in hr:
-            if lab in hr[s_]:
-                hr[s_][lab] *= scale
-        for i, c in num.items():
-            ci = c * scale
-            if ci.denominator != 1:
+            q, rem = divmod(scale, v.denominator)
+            if rem:
                 raise VerificationError("internal error: block coordinates are not consistent")
-            ci = int(ci)
+            num[i] = num.get(i, 0) + v.numerator * q * coeffs[j]
+        scaled[lab] = num
+        d = res.get(lab)
+        if d is None:
+            d = res[lab] = {}
+        for i, ci in num.items():
             if ci:
                 for st, x in vectors[i].items():
-                    tgt = hr.setdefault(st, {})
-                    tgt[lab] = tgt.get(lab, 0) - ci * x
-    for st, labs in hr.items():
-        if any(v != 0 for v in labs.values()):
-            raise VerificationError(
-                f"internal error: reduced basis is not invariant under H (state {st}); "
-                "please report this cluster")
+                    d[st] = d.get(st, 0) - ci * x
+    if any(any(d.values()) for d in res.values()):
+        st = _first_failure(h, r, vectors, scaled, res)
+        raise VerificationError(
+            f"internal error: reduced basis is not invariant under H (state {st}); "
+            "please report this cluster")
     return LinearBlock(k, terms, integral=True)
+
+
+def _first_failure(h, r, vectors, scaled, res):
+    """The state named by a failed invariance check: the first one, in the order the
+    check meets states (H r's terms, then the basis vectors), where a label's residual
+    is non-zero."""
+    bad = {st for d in res.values() for st, v in d.items() if v}
+    for s, x in r.items():
+        if x:
+            for s2, _, _ in h[s]:
+                if s2 in bad:
+                    return s2
+    for num in scaled.values():
+        for i, ci in num.items():
+            if ci:
+                for st in vectors[i]:
+                    if st in bad:
+                        return st
+    return None
 
 
 def _irrep_times_char(lattice, irrep, char):
@@ -215,16 +271,21 @@ def build_blocks(model, plan, electrons=None, report=None):
     Returns a list of BlockSpec; appends per-sector reduction sizes to ``report``.
     """
     L = model.n_sites
+    h = plan.action
+    if h is None or h.model is not model:
+        h = HamiltonianAction(model)
+    coeff_memo = {}
+    s_plus = per_state_memo(lambda s: apply_s_plus(L, *s))
+    if plan.eta:
+        signs = plan.eta[0]
+        eta_minus = per_state_memo(lambda s: apply_eta_minus(signs, *s))
     blocks = []
     for n_up, n_dn in sectors_to_solve(L, plan, electrons):
         states = sector_states(L, n_up, n_dn)
         n = n_up + n_dn
         if plan.lattice is not None:
-            from .symmetry.lattice import adapted_basis, state_orbits
-            orbits = state_orbits(states, plan.lattice.group)
             parts = []
-            for irrep in plan.lattice.irreps:
-                vecs = adapted_basis(states, plan.lattice.group, irrep, orbits=orbits)
+            for irrep, vecs in zip(plan.lattice.irreps, plan.lattice.adapted_bases(states)):
                 if vecs:
                     piv = [next(iter(v)) for v in vecs]
                     if not check_reduced(vecs, piv):
@@ -242,13 +303,12 @@ def build_blocks(model, plan, electrons=None, report=None):
                 stages.append(("lattice " + irrep.label, len(vecs)))
             if plan.spin:
                 if n_dn > 0 and n_up < L:      # otherwise every state is already highest weight
-                    vecs, piv = kernel_of(lambda s: apply_s_plus(L, *s), vecs, piv)
+                    vecs, piv = kernel_of(s_plus, vecs, piv)
                 stages.append(("spin highest weight", len(vecs)))
                 spin_max = max(spin_max, len(vecs))
             if plan.eta:
                 if n_up > 0 and n_dn > 0:      # otherwise eta- annihilates every state
-                    signs = plan.eta[0]
-                    vecs, piv = kernel_of(lambda s: apply_eta_minus(signs, *s), vecs, piv)
+                    vecs, piv = kernel_of(eta_minus, vecs, piv)
                 stages.append(("eta lowest weight", len(vecs)))
                 eta_max = max(eta_max, len(vecs))
             if not vecs:
@@ -272,7 +332,7 @@ def build_blocks(model, plan, electrons=None, report=None):
                 if getattr(irrep, "momentum", None) is not None:
                     labels["k"] = irrep.momentum
                 dim, copies = irrep.dim, getattr(irrep, "copies", 1)
-            blk = _matrix_of_h(model, vecs, piv)
+            blk = _matrix_of_h(h, vecs, piv, coeff_memo=coeff_memo)
             spec = BlockSpec((n_up, n_dn), labels, spin_mult * dim, copies, blk,
                              vecs, piv, members, stages)
             spec.irrep = irrep

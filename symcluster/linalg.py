@@ -46,6 +46,8 @@ def integer_multiple(values):
 
 def _components(vectors):
     """Group vector indices whose supports overlap (connected through shared states)."""
+    if sum(map(len, vectors)) == len(set().union(*vectors)):     # disjoint supports
+        return [[k] for k in range(len(vectors))]
     parent = list(range(len(vectors)))
 
     def find(a):
@@ -71,11 +73,16 @@ def _components(vectors):
 
 def _rref(rows, ncols):
     """Integer RREF: returns (R as list of int rows, den, pivot columns); R/den is the RREF."""
-    mat = flint.fmpz_mat(len(rows), ncols, [x for r in rows for x in r])
-    red, den, rank = mat.rref()
+    return _rref_flat(len(rows), ncols, [x for r in rows for x in r])
+
+
+def _rref_flat(nrows, ncols, entries):
+    """:func:`_rref` of the matrix given row by row as one flat list of ints."""
+    red, den, rank = flint.fmpz_mat(nrows, ncols, entries).rref()
+    entries = [int(x) for x in red.entries()[:rank * ncols]]
     out, piv = [], []
     for r in range(rank):
-        row = [int(red[r, c]) for c in range(ncols)]
+        row = entries[r * ncols:(r + 1) * ncols]
         piv.append(next(c for c in range(ncols) if row[c]))
         out.append(row)
     return out, int(den), piv
@@ -121,7 +128,7 @@ def apply_op(op, vector):
     for s, c in vector.items():
         for a, s2 in op(s):
             out[s2] = out.get(s2, 0) + a * c
-    return {s: c for s, c in out.items() if c}
+    return out if all(out.values()) else {s: c for s, c in out.items() if c}
 
 
 def kernel_of(op, vectors, pivots):
@@ -132,19 +139,24 @@ def kernel_of(op, vectors, pivots):
     if not vectors:
         return [], []
     images = [apply_op(op, v) for v in vectors]
+    if not any(images):             # op annihilates every vector
+        return list(vectors), list(pivots)
     new_vecs, new_piv = [], []
     for group in _components(images):
-        if len(group) == 1 and not images[group[0]]:
-            new_vecs.append(vectors[group[0]])
-            new_piv.append(pivots[group[0]])
+        if len(group) == 1:
+            if not images[group[0]]:
+                new_vecs.append(vectors[group[0]])
+                new_piv.append(pivots[group[0]])
+            # else: one vector with a non-zero image, no kernel (rank 1, no free column)
             continue
+        ncols = len(group)
         rows_states = sorted({s for c in group for s in images[c]})
-        ridx = {s: r for r, s in enumerate(rows_states)}
-        dense = [[0] * len(group) for _ in rows_states]
+        start = {s: r * ncols for r, s in enumerate(rows_states)}
+        flat = [0] * (len(rows_states) * ncols)       # row = state, column = vector
         for cc, c in enumerate(group):
             for s, a in images[c].items():
-                dense[ridx[s]][cc] = a
-        red, den, piv_cols = _rref(dense, len(group))
+                flat[start[s] + cc] = a
+        red, den, piv_cols = _rref_flat(len(rows_states), ncols, flat)
         pset = set(piv_cols)
         for f in range(len(group)):
             if f in pset:

@@ -12,6 +12,8 @@ where n_G(sector) is the character count of irrep G in that sector and Gx
 is G times the sublattice character (eta- changes the lattice irrep by it).
 """
 
+import re
+
 import pytest
 import sympy
 
@@ -163,3 +165,132 @@ def test_gauge_twin_blocks_have_t_negated_characteristic_polynomials(cluster):
         pj = charpoly(blocks[j].block, model.labels).as_expr()
         pi = charpoly(blocks[i].block, model.labels).as_expr()
         assert sympy.expand(pj - pi.subs(t, -t)) == 0
+
+
+# ---------------------------------------------------------------- block matrices
+def _reference_terms(cluster):
+    """Integer matrices per coupling of the Jordan-Wigner reference, and its state index."""
+    from reference_fock import FockReference
+    labels = {i: lab for i, lab in enumerate(cluster.site_labels) if lab}
+    ref = FockReference(cluster.n_sites, list(cluster.bonds), labels)
+    return {k: v.toarray() for k, v in ref.terms.items()}, FockReference.state_index
+
+
+@pytest.mark.parametrize("cluster", [sc.ring(4), sc.cluster(4, [(0, 1), (1, 2, "tp"), (2, 3)],
+                                                            site_labels={1: "e"})],
+                         ids=["ring4", "labels"])
+def test_block_entries_are_reference_matrix_elements(cluster):
+    # M_ij = (H w_j)[p_i] / w_i[p_i] with H from the independent reference
+    from fractions import Fraction
+    model = sc.hubbard(cluster)
+    plan = plan_symmetries(model)
+    dense, index = _reference_terms(cluster)
+    L = cluster.n_sites
+    for b in build_blocks(model, plan):
+        for name, mat in dense.items():
+            got = b.block.terms.get(name, {})
+            assert all(type(v) is Fraction for v in got.values())
+            for i, p in enumerate(b.pivots):
+                row = index(*p, L)
+                for j, w in enumerate(b.vectors):
+                    hw = sum(int(mat[row, index(*s, L)]) * x for s, x in w.items())
+                    assert got.get((i, j), 0) == Fraction(hw, b.vectors[i][p]), (b.sector, name)
+
+
+def test_invariance_check_names_the_first_state_outside_the_span():
+    # one basis vector |s>: H|s> leaves its span at every state a hop reaches
+    from symcluster.blocks import _matrix_of_h
+    from symcluster.errors import VerificationError
+    from symcluster.operators import HamiltonianAction, apply_hamiltonian
+    model = sc.hubbard(sc.ring(4))
+    s = (0b0011, 0b0101)
+    first = next(st for st in apply_hamiltonian(model, *s) if st != s)
+    message = re.escape(f"not invariant under H (state {first})")
+    with pytest.raises(VerificationError, match=message):
+        _matrix_of_h(HamiltonianAction(model), [{s: 1}], [s])
+    # an invariant one passes: the whole sector with its identity basis
+    states = [(u, d) for u in (3, 5, 6, 9, 10, 12) for d in (3, 5, 6, 9, 10, 12)]
+    blk = _matrix_of_h(HamiltonianAction(model), [{st: 1} for st in states], states)
+    assert blk.dim == 36
+
+
+def test_blocks_do_not_depend_on_the_shared_hamiltonian_memo():
+    import dataclasses
+    model = sc.hubbard(sc.grid(2, 2))
+    plan = plan_symmetries(model)
+    assert plan.action is not None and len(plan.action) > 0     # filled by the checks
+    shared = build_blocks(model, plan)
+    fresh = build_blocks(model, dataclasses.replace(plan, action=None))
+    assert len(shared) == len(fresh)
+    for a, b in zip(shared, fresh):
+        assert (a.sector, a.labels, a.pivots) == (b.sector, b.labels, b.pivots)
+        assert a.vectors == b.vectors
+        assert a.block.terms == b.block.terms
+
+
+# ---------------------------------------------------------------- kernels (linalg)
+def test_kernel_of_shortcuts_and_a_brute_force_null_space():
+    from symcluster.linalg import apply_op, kernel_of
+    from symcluster.operators import apply_s_plus
+    L = 4
+    op = lambda s: apply_s_plus(L, *s)
+    # S+ annihilates every state without down electrons: the input comes back
+    vecs = [{(0b0011, 0): 1}, {(0b0101, 0): 2, (0b1001, 0): -1}]
+    assert kernel_of(op, vecs, [(0b0011, 0), (0b0101, 0)]) == (vecs, [(0b0011, 0), (0b0101, 0)])
+    # one vector with a non-zero image: nothing of its span survives
+    assert kernel_of(op, [{(0b0001, 0b0010): 1}], [(0b0001, 0b0010)]) == ([], [])
+    # the whole sector (2, 1): kernel = highest-weight states, dimension
+    # C(4,2) C(4,1) - C(4,3) C(4,0) = 20 (spin counting)
+    states = sector_states(L, 2, 1)
+    basis, piv = kernel_of(op, [{s: 1} for s in states], list(states))
+    assert len(basis) == 20
+    for i, (v, p) in enumerate(zip(basis, piv)):
+        assert not apply_op(op, v)
+        assert v[p] and all(p not in w for j, w in enumerate(basis) if j != i)
+    # same span as sympy's null space of the S+ matrix
+    targets = sector_states(L, 3, 0)
+    col = {s: c for c, s in enumerate(states)}
+    m = sympy.zeros(len(targets), len(states))
+    for s in states:
+        for a, t2 in op(s):
+            m[targets.index(t2), col[s]] += a
+    null = m.nullspace()
+    ours = sympy.Matrix([[v.get(s, 0) for s in states] for v in basis]).T
+    assert ours.rank() == len(null) == sympy.Matrix.hstack(ours, *null).rank()
+
+
+# ---------------------------------------------------------------- symmetry detection
+@pytest.mark.parametrize("cluster", [sc.ring(4), sc.chain(3),
+                                     sc.cluster(4, [(0, 1), (1, 2), (2, 3), (3, 0)],
+                                                site_labels=["e"] * 4),
+                                     sc.cluster(4, [(0, 1), (1, 2), (2, 3), (3, 0)],
+                                                site_labels={0: "e"}),
+                                     sc.ring(3)],
+                         ids=["ring4", "chain3", "uniform_e", "one_e", "ring3"])
+def test_eta_detection_agrees_with_reference_commutators(cluster):
+    # [H_lab, eta+] = c_lab eta+ for every coupling, computed on the full Fock space of the
+    # reference, exactly when the plan reports eta symmetry with shift {lab: c_lab}
+    import numpy as np
+    from reference_fock import FockReference
+    model = sc.hubbard(cluster)
+    plan = plan_symmetries(model)
+    assert plan.spin                       # every model here is spin-independent
+    sub = cluster.sublattices()
+    if sub is None:
+        assert plan.eta is None
+        return
+    signs = [1 if i in sub[0] else -1 for i in range(cluster.n_sites)]
+    labels = {i: lab for i, lab in enumerate(cluster.site_labels) if lab}
+    ref = FockReference(cluster.n_sites, list(cluster.bonds), labels)
+    eta = ref.eta_plus(signs).toarray()
+    shift, ok = {}, True
+    for lab, mat in ref.terms.items():
+        comm = mat.toarray() @ eta - eta @ mat.toarray()
+        c = comm[np.nonzero(eta)][0] / eta[np.nonzero(eta)][0]
+        ok = ok and np.array_equal(comm, c * eta)
+        if c:
+            shift[lab] = int(c)
+    if ok:
+        assert plan.eta == (signs, shift)
+    else:
+        assert plan.eta is None

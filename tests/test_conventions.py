@@ -172,3 +172,92 @@ def test_energies_carry_units_of_couplings():
     with mpmath.workdps(40):
         b = [mpmath.mpf(9) / 4 * e for e in _energies(spec, {"t": 1, "U": uv / tv})]
     assert max_deviation(a, sorted(b)) < 1e-25
+
+
+# ---------------------------------------------------------------- memoised operator layer
+@pytest.mark.parametrize("cluster", [sc.ring(4), sc.chain(3),
+                                     sc.cluster(4, [(0, 1), (1, 2, "tp"), (2, 3), (0, 3, "tp")],
+                                                site_labels={0: "e", 2: "e", 3: "f"})],
+                         ids=["ring4", "chain3", "labels"])
+def test_hamiltonian_action_matches_reference_and_apply_hamiltonian(cluster):
+    # HamiltonianAction (the per-solve memo) gives every matrix element of the Jordan-Wigner
+    # reference, and exactly apply_hamiltonian's entries in the same order
+    from symcluster.operators import HamiltonianAction, apply_hamiltonian
+    L = cluster.n_sites
+    model = sc.hubbard(cluster)
+    labels = {i: lab for i, lab in enumerate(cluster.site_labels) if lab}
+    ref = FockReference(L, list(cluster.bonds), labels)
+    dense = {k: v.toarray() for k, v in ref.terms.items()}
+    h = HamiltonianAction(model)
+    assert set(h.labels) == set(dense)
+    for up in range(2 ** L):
+        for dn in range(2 ** L):
+            got = h[up, dn]
+            assert h[up, dn] is got                         # computed once, then kept
+            flat = [(s2, lab, a) for s2, row in apply_hamiltonian(model, up, dn).items()
+                    for lab, a in row.items()]
+            assert list(got) == flat
+            col = _state_index(up, dn, L)
+            for name, mat in dense.items():
+                exp = {r: int(mat[r, col]) for r in np.nonzero(mat[:, col])[0]}
+                have = {_state_index(*st, L): a for st, lab, a in got if lab == name}
+                assert have == exp, f"{name} column (up={up:b}, dn={dn:b})"
+
+
+def test_hamiltonian_action_merges_repeated_bonds_and_site_terms():
+    # a hand-made model: bond (0, 1) twice with label t and once reversed, a site energy
+    # repeated on one site; H is then the reference with those terms counted that often
+    from symcluster.models import Model
+    from symcluster.operators import HamiltonianAction
+    c = sc.ring(4)
+    hops = c.bonds + ((0, 1, "t"), (1, 0, "t"))
+    onsite = ((0, "e"), (0, "e"), (2, "e"))
+    model = Model(c, hops, onsite, "U", "custom")
+    ref = FockReference(4, list(hops))
+    site = {i: FockReference(4, [], {i: "e"}).terms["e"] for i in (0, 2)}
+    e_ref = 2 * site[0] + site[2]
+    dense = {"t": ref.terms["t"].toarray(), "U": ref.terms["U"].toarray(), "e": e_ref.toarray()}
+    h = HamiltonianAction(model)
+    for up in range(16):
+        for dn in range(16):
+            got = h[up, dn]
+            keys = [(st, lab) for st, lab, _ in got]
+            assert len(set(keys)) == len(keys) and all(a for _, _, a in got)
+            col = _state_index(up, dn, 4)
+            for name, mat in dense.items():
+                exp = {r: int(mat[r, col]) for r in np.nonzero(mat[:, col])[0]}
+                have = {_state_index(*st, 4): a for st, lab, a in got if lab == name}
+                assert have == exp, f"{name} column (up={up:b}, dn={dn:b})"
+
+
+def test_lowering_operators_in_up_first_ordering():
+    # S- = (S+)^T and eta- = (eta+)^T in the real Fock basis, against the reference
+    from symcluster.operators import apply_eta_minus, apply_s_minus
+    L = 4
+    signs = [1, -1, -1, 1]
+    ref = FockReference(L, list(sc.ring(4).bonds))
+    sm = ref.spin_plus().T.toarray()
+    em = ref.eta_plus(signs).T.toarray()
+    for up in range(2 ** L):
+        for dn in range(2 ** L):
+            col = _state_index(up, dn, L)
+            for got, mat in ((apply_s_minus(L, up, dn), sm), (apply_eta_minus(signs, up, dn), em)):
+                have = {_state_index(*st, L): c for c, st in got}
+                exp = {r: int(mat[r, col]) for r in np.nonzero(mat[:, col])[0]}
+                assert have == exp, f"column (up={up:b}, dn={dn:b})"
+
+
+def test_per_state_memo_calls_the_operator_once_per_state():
+    from symcluster.operators import apply_s_plus, per_state_memo
+    calls = []
+
+    def op(state):
+        calls.append(state)
+        return apply_s_plus(3, *state)
+
+    f = per_state_memo(op)
+    states = [(0b001, 0b110), (0b000, 0b111), (0b001, 0b110)]
+    got = [f(s) for s in states]
+    assert calls == states[:2]
+    assert got == [apply_s_plus(3, *s) for s in states]
+    assert got[0] is got[2]

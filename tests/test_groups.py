@@ -192,3 +192,43 @@ def test_verification_catches_a_wrong_table():
     bad[1].orbit_sum = tuple(s)
     with pytest.raises(VerificationError):
         _verify_table(CharacterTable(g, bad, good.orbits), {1: list(range(len(g.classes)))})
+
+
+# --- multiplication table and the products read from it --------------------------------
+
+@pytest.mark.parametrize("cluster", [ring(4), ring(6), complete(4), cube(), grid(2, 3), chain(2)])
+def test_table_products_powers_and_classes_by_composition(cluster, monkeypatch):
+    # the table (built at once for small groups) against composing the permutations,
+    # and the same group with the table built only on request gives the same answers
+    import symcluster.symmetry.groups as groups_mod
+    n, bonds = cluster
+    els = automorphisms(n, bonds)
+    eager = PermutationGroup(els)
+    monkeypatch.setattr(groups_mod, "_EAGER_TABLE", 0)
+    lazy = PermutationGroup(els)
+    assert lazy._table is None and eager._table is not None
+    index = {g: a for a, g in enumerate(els)}
+    ident = tuple(range(n))
+    for grp in (eager, lazy):
+        for a, g in enumerate(els):
+            order, r = 1, g
+            while r != ident:
+                r, order = compose(g, r), order + 1
+            assert grp.element_order(a) == order
+            r = ident
+            for k in range(2 * order + 1):
+                assert grp.power(a, k) == index[r]
+                r = compose(g, r)
+            for b, h in enumerate(els):
+                assert grp.mul(a, b) == index[compose(g, h)]
+        cls = {a: {index[compose(compose(h, g), inverse(h))] for h in els}
+               for a, g in enumerate(els)}
+        assert all(set(c) == cls[c[0]] for c in grp.classes)
+        assert sorted(a for c in grp.classes for a in c) == list(range(len(els)))
+    assert eager.classes == lazy.classes and eager.class_of == lazy.class_of
+    rows, cols = eager.table_rows(), eager.table_columns()
+    assert lazy.table_rows() == rows and lazy.table_columns() == cols
+    assert eager.table().tolist() == rows
+    for a in range(len(els)):
+        for b in range(len(els)):
+            assert rows[a][b] == cols[b][a] == index[compose(els[a], els[b])]

@@ -14,7 +14,7 @@ from symcluster.errors import InputError
 from symcluster.fock import sector_states
 from symcluster.symmetry.groups import compose
 from symcluster.symmetry.lattice import (
-    adapted_basis, lattice_symmetry, multiplicity, permute_state, state_orbits,
+    adapted_basis, adapted_bases, lattice_symmetry, multiplicity, permute_state, state_orbits,
 )
 
 
@@ -293,3 +293,117 @@ def test_periodic_3x3_grid():
     states = sector_states(9, 2, 1)
     assert sum(multiplicity(states, sym.group, r) * r.dim * r.orbit_size
                for r in sym.irreps) == len(states)
+
+
+# --- exact normal form of the adapted bases ------------------------------------------
+
+def ref_adapted_basis(states, group, irrep, n):
+    """Brute force over the rationals, from the reference sign rules of this module.
+
+    Per orbit of basis states (in order of first appearance): project its members one
+    by one with P_lam P_psi, keep the independent ones in reduced echelon form (pivot:
+    the lowest-ranked state left after reduction), then scale each row to coprime
+    integers, positive at its pivot, pivot first, then the orbit's states in order.
+    """
+    from fractions import Fraction
+    pos = {s: i for i, s in enumerate(states)}
+    sub, lam = irrep.reducer
+    seen, out = set(), []
+    for s in states:
+        if s in seen:
+            continue
+        orbit = sorted({(u, d) for g in group.elements
+                        for _, u, d in [ref_permute(g, *s, n)]}, key=pos.__getitem__)
+        seen |= set(orbit)
+        rank = {st: i for i, st in enumerate(orbit)}
+        rows = []                                   # [(pivot, {state: Fraction})]
+        for x in orbit:
+            v = ref_projector(group, irrep.character, {x: 1}, n)
+            w = {}
+            for k, l in zip(sub, lam):
+                for st, c in ref_apply_group_element(group.elements[k], v, n).items():
+                    w[st] = w.get(st, 0) + l * c
+            w = {st: Fraction(c) for st, c in w.items() if c}
+            for p, row in rows:
+                a = w.get(p, 0)
+                for st, c in row.items():
+                    w[st] = w.get(st, 0) - a * c
+                w = {st: c for st, c in w.items() if c}
+            if not w:
+                continue
+            p = min(w, key=rank.__getitem__)
+            w = {st: c / w[p] for st, c in w.items()}
+            for i, (q, row) in enumerate(rows):
+                b = row.get(p, 0)
+                if b:
+                    new = dict(row)
+                    for st, c in w.items():
+                        new[st] = new.get(st, 0) - b * c
+                    rows[i] = (q, {st: c for st, c in new.items() if c})
+            rows.append((p, w))
+        for p, row in sorted(rows, key=lambda pr: rank[pr[0]]):
+            den = 1
+            for c in row.values():
+                den = den * c.denominator // sympy.igcd(den, c.denominator)
+            ints = {st: int(c * den) for st, c in row.items()}
+            g = 0
+            for c in ints.values():
+                g = sympy.igcd(g, c)
+            vec = {p: ints[p] // g}
+            vec.update((st, ints[st] // g) for st in orbit if st in ints and st != p)
+            out.append(vec)
+    return out
+
+
+@pytest.mark.parametrize("cluster,nu,nd", [(ring(4), 2, 2), (ring(4), 2, 1), (ring(6), 2, 1),
+                                           (complete(4), 2, 1), (grid(2, 3), 2, 2),
+                                           (star(4), 1, 1)])
+def test_adapted_bases_equal_brute_force_normal_form(cluster, nu, nd):
+    # the integer basis (values, signs, pivots, key order) is the one a reduction over
+    # the rationals gives, orbit by orbit, for every irrep
+    n, bonds = cluster
+    sym = lattice_symmetry(n, bonds)
+    states = sector_states(n, nu, nd)
+    got = adapted_bases(states, sym.group, sym.irreps)
+    assert got == sym.adapted_bases(states)
+    for r, basis in zip(sym.irreps, got):
+        exp = ref_adapted_basis(states, sym.group, r, n)
+        assert [list(v.items()) for v in basis] == [list(v.items()) for v in exp], r.label
+        assert basis == adapted_basis(states, sym.group, r)
+
+
+def test_state_orbits_share_their_cache_between_sectors():
+    # images of spin blocks kept between sectors give the same orbits as a fresh call,
+    # and every image is the reference signed permutation
+    n, bonds = ring(5)
+    sym = lattice_symmetry(n, bonds)
+    cache = {}
+    for nu, nd in [(2, 1), (2, 2), (1, 2), (3, 2)]:
+        states = sector_states(n, nu, nd)
+        shared = state_orbits(states, sym.group, cache)
+        assert shared == state_orbits(states, sym.group) == sym.state_orbits(states)
+        for members, images in shared:
+            r = members[0]
+            for g, (sign, st) in zip(sym.group.elements, images):
+                assert (sign, *st) == ref_permute(g, *r, n)
+    assert cache and all(len(v) == sym.group.order for v in cache.values())
+
+
+def test_momenta_are_rational_multiples_of_pi():
+    # k = 2 pi m / L on an L-ring, written as sympy would write Rational(2m, L) * pi
+    for L in (3, 4, 5, 6, 8):
+        sym = lattice_symmetry(*ring(L))
+        seen = set()
+        for r in sym.irreps:
+            ks = r.momentum if isinstance(r.momentum, tuple) else (r.momentum,)
+            for k in ks:
+                m = sympy.nsimplify(k / sympy.pi) * L / 2
+                assert m.is_integer and -L < 2 * m <= L
+                exp = sympy.Rational(2 * m, L) * sympy.pi
+                assert k == exp and sympy.srepr(k) == sympy.srepr(exp) and hash(k) == hash(exp)
+                seen.add(k)
+        assert len(seen) == L
+        # irreps come by smallest |k| first
+        kmin = [min(abs(k) for k in (r.momentum if isinstance(r.momentum, tuple)
+                                     else (r.momentum,))) for r in sym.irreps]
+        assert kmin == sorted(kmin)

@@ -29,6 +29,9 @@ from symcluster.errors import ClusterError, TooLargeError, VerificationError
 __all__ = ["automorphisms", "PermutationGroup", "CharacterTable", "IrrepCharacter"]
 
 _MAX_ORDER = 20000
+#: groups up to this order build their multiplication table at once (it then serves
+#: every product); larger ones only when asked, since it has order**2 entries
+_EAGER_TABLE = 1024
 
 
 # ----------------------------------------------------------------------------
@@ -220,7 +223,9 @@ class PermutationGroup:
         self._inv = [self.index.get(inverse(g)) for g in elements]
         if None in self._inv:
             raise VerificationError("the elements are not closed under inversion; pass a whole group")
-        self._table = None
+        self._table = self._rows = self._cols = None
+        if len(elements) <= _EAGER_TABLE:
+            self.table()
         self._classes()
 
     # -- basic operations ---------------------------------------------------
@@ -232,7 +237,7 @@ class PermutationGroup:
     def mul(self, a, b):
         """Index of ``elements[a] * elements[b]``."""
         if self._table is not None:
-            return int(self._table[a, b])
+            return self._rows[a][b]
         return self.index[compose(self.elements[a], self.elements[b])]
 
     def inv(self, a):
@@ -243,23 +248,42 @@ class PermutationGroup:
         """The multiplication table as an ``order x order`` integer array (built once)."""
         if self._table is None:
             els, idx = self.elements, self.index
-            t = np.empty((len(els), len(els)), dtype=np.int32)
-            for a, g in enumerate(els):
-                for b, h in enumerate(els):
-                    t[a, b] = idx[tuple(g[x] for x in h)]
-            self._table = t
+            self._rows = [[idx[tuple([g[x] for x in h])] for h in els] for g in els]
+            self._table = np.array(self._rows, dtype=np.int32)
         return self._table
+
+    def table_rows(self):
+        """The multiplication table as lists: ``[a][b]`` = index of ``a * b`` (built once)."""
+        self.table()
+        return self._rows
+
+    def table_columns(self):
+        """The multiplication table by columns: ``[b][a]`` = index of ``a * b`` (built once)."""
+        if self._cols is None:
+            self._cols = [list(col) for col in zip(*self.table_rows())]
+        return self._cols
 
     def power(self, a, k):
         """Index of ``elements[a] ** k`` for an integer ``k >= 0``."""
+        steps = k % self.element_order(a) if k else 0
+        if self._rows is not None:
+            row, x = self._rows[a], 0
+            for _ in range(steps):
+                x = row[x]
+            return x
         g = self.elements[a]
         r = tuple(range(self.n_sites))
-        for _ in range(k % self.element_order(a) if k else 0):
+        for _ in range(steps):
             r = compose(g, r)
         return self.index[r]
 
     def element_order(self, a):
         """Order of ``elements[a]``."""
+        if self._rows is not None:
+            row, x, k = self._rows[a], a, 1
+            while x != 0:
+                x, k = row[x], k + 1
+            return k
         g = self.elements[a]
         ident = tuple(range(self.n_sites))
         r, k = g, 1
@@ -282,17 +306,20 @@ class PermutationGroup:
         return len(self.classes) == self.order
 
     def _classes(self):
-        els, idx = self.elements, self.index
+        els, idx, rows, inv = self.elements, self.index, self._rows, self._inv
         class_of = [-1] * len(els)
         classes = []
         for a, g in enumerate(els):
             if class_of[a] >= 0:
                 continue
             c = len(classes)
-            members = set()
-            for h in els:
-                hinv = inverse(h)
-                members.add(idx[compose(h, compose(g, hinv))])
+            if rows is not None:
+                members = {rows[rows[h][a]][inv[h]] for h in range(len(els))}
+            else:
+                members = set()
+                for h in els:
+                    hinv = inverse(h)
+                    members.add(idx[compose(h, compose(g, hinv))])
             members = sorted(members)
             for m in members:
                 class_of[m] = c
@@ -429,9 +456,12 @@ def _character_table(group, seed=20240601):
     reps = [c[0] for c in group.classes]
     powmap = {u: [group.class_of[group.power(r, u)] for r in reps] for u in units}
 
+    char_rows = np.array(chars)
+
     def match(vec):
-        best = min(range(k), key=lambda j: np.abs(chars[j] - vec).max())
-        if np.abs(chars[best] - vec).max() > 1e-6:
+        dist = np.abs(char_rows - vec).max(axis=1)
+        best = int(np.argmin(dist))             # the first closest character
+        if dist[best] > 1e-6:
             raise VerificationError(f"a Galois conjugate of a character of a group of order "
                                     f"{group.order} is not in the table; report this as a bug")
         return best
@@ -460,8 +490,10 @@ def _character_table(group, seed=20240601):
     oorder = sorted(range(len(orbits)), key=okey)
     irreps, new_orbits = [], []
     for on, o in enumerate(oorder):
-        members = sorted(orbits[o], key=lambda j: tuple(
-            (round(-c.real, 6), round(-c.imag, 6)) for c in chars[j]))
+        members = orbits[o]
+        if len(members) > 1:
+            members = sorted(members, key=lambda j: tuple(zip(
+                np.round(-chars[j].real, 6).tolist(), np.round(-chars[j].imag, 6).tolist())))
         idxs = []
         for j in members:
             dim = sums[o][0] // len(orbits[o])

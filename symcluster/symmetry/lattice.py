@@ -30,17 +30,17 @@ References
 """
 
 from fractions import Fraction
+from math import gcd
 
 import numpy as np
 import sympy
 
 from symcluster.errors import InputError, VerificationError
-from symcluster.linalg import integer_multiple
 from symcluster.symmetry.groups import PermutationGroup, automorphisms
 
 __all__ = [
     "permute_state", "RationalIrrep", "LatticeSymmetry", "lattice_symmetry",
-    "multiplicity", "adapted_basis", "state_orbits",
+    "multiplicity", "adapted_basis", "adapted_bases", "state_orbits",
 ]
 
 
@@ -50,22 +50,18 @@ __all__ = [
 
 def _permute_mask(perm, mask):
     """(sign, new_mask) for one spin block."""
-    imgs = []
+    new = 0
+    odd = 0
     i = 0
     m = mask
     while m:
         if m & 1:
-            imgs.append(perm[i])
+            x = perm[i]
+            odd ^= (new >> x).bit_count() & 1     # images placed so far that exceed x
+            new |= 1 << x
         m >>= 1
         i += 1
-    new = 0
-    inv = 0
-    for a, x in enumerate(imgs):
-        new |= 1 << x
-        for y in imgs[a + 1:]:
-            if y < x:
-                inv += 1
-    return (-1 if inv & 1 else 1), new
+    return (-1 if odd else 1), new
 
 
 def permute_state(perm, up, dn):
@@ -93,13 +89,16 @@ def permute_state(perm, up, dn):
     return su * sd, u2, d2
 
 
-def state_orbits(states, group):
+def state_orbits(states, group, cache=None):
     """Orbits of the group on a closed set of basis states.
 
     Parameters
     ----------
     states : sequence of (int, int)
     group : PermutationGroup
+    cache : dict, optional
+        ``mask -> [(sign, mask') per group element]`` for one spin block, to
+        share between calls with the same group (filled as needed).
 
     Returns
     -------
@@ -114,21 +113,29 @@ def state_orbits(states, group):
     InputError
         ``states`` is not closed under the group.
     """
+    if cache is None:
+        cache = {}
+    els = group.elements
+
+    def block_images(mask):
+        out = cache.get(mask)
+        if out is None:
+            out = cache[mask] = [_permute_mask(g, mask) for g in els]
+        return out
+
     pos = {s: i for i, s in enumerate(states)}
     seen = set()
     out = []
     for s in states:
         if s in seen:
             continue
-        images = []
-        members = set()
-        for g in group.elements:
-            sign, u, d = permute_state(g, *s)
-            if (u, d) not in pos:
-                raise InputError(f"state {s} maps to {(u, d)} outside the given states under {g}; "
+        images = [(su * sd, (u, d))
+                  for (su, u), (sd, d) in zip(block_images(s[0]), block_images(s[1]))]
+        for g, (_, st) in zip(els, images):
+            if st not in pos:
+                raise InputError(f"state {s} maps to {st} outside the given states under {g}; "
                                  "pass a set closed under the group, e.g. a whole (N_up, N_dn) sector")
-            images.append((sign, (u, d)))
-            members.add((u, d))
+        members = {st for _, st in images}
         seen |= members
         out.append((sorted(members, key=pos.__getitem__), images))
     return out
@@ -268,35 +275,51 @@ def _translation(group):
 
 
 def _format_pi(r):
-    """Format the rational r as r*pi ('0', 'π', '-π/2', '2π/3')."""
+    """Format the rational r (a Fraction) as r*pi ('0', 'π', '-π/2', '2π/3')."""
     if r == 0:
         return "0"
     sign = "-" if r < 0 else ""
     r = abs(r)
-    num = "π" if r.p == 1 else f"{r.p}π"
-    return sign + (num if r.q == 1 else f"{num}/{r.q}")
+    num = "π" if r.numerator == 1 else f"{r.numerator}π"
+    return sign + (num if r.denominator == 1 else f"{num}/{r.denominator}")
 
 
-def _momenta(group, t, numeric):
-    """Sorted momenta (sympy Rationals r, k = r*pi) present in a character."""
+def _momenta(group, t, numerics):
+    """Per character: sorted momenta (Fractions r, k = r*pi) present in it."""
     n = group.n_sites
     powers, x = [0], 0
     for _ in range(n - 1):
         x = group.mul(t, x)
         powers.append(x)
-    vals = np.array([numeric[group.class_of[p]] for p in powers])
-    out, total = [], 0
-    for m in range(-((n - 1) // 2), n // 2 + 1):
-        k = 2 * np.pi * m / n
-        c = np.sum(vals * np.exp(1j * k * np.arange(n))) / n
-        if abs(c - round(c.real)) > 1e-6:
-            raise VerificationError(f"momentum content {c} of a character is not an integer")
-        if round(c.real):
-            out.append(sympy.Rational(2 * m, n))
-            total += round(c.real)
-    if total != round(numeric[0].real):
-        raise VerificationError("momentum multiplicities do not add up to the dimension")
-    return out
+    cls = [group.class_of[p] for p in powers]
+    vals = np.array([[numeric[c] for c in cls] for numeric in numerics])
+    ms = np.arange(-((n - 1) // 2), n // 2 + 1)
+    # content of momentum k = 2 pi m / n: (1/n) sum_j chi(T^j) exp(i k j)
+    phases = np.exp(1j * (2 * np.pi * ms / n)[:, None] * np.arange(n)[None, :])
+    contents = ((vals @ phases.T) / n).tolist()
+    result = []
+    for numeric, row in zip(numerics, contents):
+        out, total = [], 0
+        for m, c in zip(ms.tolist(), row):
+            c_int = round(c.real)
+            if abs(c - c_int) > 1e-6:
+                raise VerificationError(f"momentum content {c} of a character is not an integer")
+            if c_int:
+                out.append(Fraction(2 * m, n))
+                total += c_int
+        if total != round(numeric[0].real):
+            raise VerificationError("momentum multiplicities do not add up to the dimension")
+        result.append(out)
+    return result
+
+
+def _times_pi(r):
+    """The sympy expression r*pi for a Fraction r, built as the Mul that r*pi evaluates to."""
+    if r == 0:
+        return sympy.S.Zero
+    if r == 1:
+        return sympy.pi
+    return sympy.Mul(sympy.Rational(r.numerator, r.denominator), sympy.pi, evaluate=False)
 
 
 def _momentum_label(rs):
@@ -310,16 +333,17 @@ def _momentum_label(rs):
 
 
 def _labels(group, table, orbits_psi, t):
-    """Label per orbit and momentum per orbit."""
+    """Label, momentum (sympy) and momenta as Fractions of pi (or None) per orbit."""
     if t is None:
         labels = []
         for o, members in enumerate(table.orbits):
             names = "/".join(table.irreps[i].name for i in members)
             labels.append(f"{names} ({table.irreps[members[0]].dim})")
-        return labels, [None] * len(table.orbits)
+        return labels, [None] * len(table.orbits), None
     moms, labels = [], []
+    every = _momenta(group, t, [c.numeric for c in table.irreps])
     for members in table.orbits:
-        rs = sorted(set(r for i in members for r in _momenta(group, t, table.irreps[i].numeric)))
+        rs = sorted(set(r for i in members for r in every[i]))
         moms.append(rs)
         labels.append(_momentum_label(rs))
     # split ties by the character of the first site-0-fixing element that separates them
@@ -336,9 +360,9 @@ def _labels(group, table, orbits_psi, t):
         else:
             for o in tied:
                 labels[o] = lab + "," + "/".join(table.irreps[i].name for i in table.orbits[o])
-    momentum = [(rs[0] * sympy.pi if len(rs) == 1 else tuple(r * sympy.pi for r in rs))
+    momentum = [(_times_pi(rs[0]) if len(rs) == 1 else tuple(_times_pi(r) for r in rs))
                 for rs in moms]
-    return labels, momentum
+    return labels, momentum, moms
 
 
 class LatticeSymmetry:
@@ -357,12 +381,14 @@ class LatticeSymmetry:
     def __init__(self, group):
         self.group = group
         self.n_sites = group.n_sites
+        self._mask_images = {}
+        self._projectors = None
         self.table = group.character_table()
         self.translation = _translation(group)
         cof = group.class_of
         psis = [tuple(self.table.orbit_sum(o)[cof[a]] for a in range(group.order))
                 for o in range(len(self.table.orbits))]
-        labels, momenta = _labels(group, self.table, psis, self.translation)
+        labels, momenta, fractions = _labels(group, self.table, psis, self.translation)
         self.irreps = []
         for o, members in enumerate(self.table.orbits):
             s = len(members)
@@ -372,10 +398,9 @@ class LatticeSymmetry:
                 tuple(self.table.irreps[i].name for i in members), psis[o],
                 tuple(self.table.orbit_sum(o)), (sub, lam), c, momenta[o]))
         if self.translation is not None:       # smallest |k| first; ties keep table order
-            def kmin(r):
-                ks = r.momentum if isinstance(r.momentum, tuple) else (r.momentum,)
-                return min(abs(_pi_multiple(k)) for k in ks)
-            self.irreps.sort(key=kmin)
+            kmin = [min(abs(r) for r in rs) for rs in fractions]
+            order = sorted(range(len(self.irreps)), key=kmin.__getitem__)
+            self.irreps = [self.irreps[o] for o in order]
 
     def multiplicity(self, states, irrep):
         """See :func:`multiplicity`."""
@@ -385,16 +410,23 @@ class LatticeSymmetry:
         """See :func:`adapted_basis`."""
         return adapted_basis(states, self.group, irrep, orbits)
 
+    def state_orbits(self, states):
+        """See :func:`state_orbits` (images of spin blocks are kept between calls)."""
+        return state_orbits(states, self.group, self._mask_images)
+
+    def adapted_bases(self, states, orbits=None):
+        """:func:`adapted_bases` for all of ``self.irreps``, in order.
+
+        The projectors and the images of spin blocks are kept between calls.
+        """
+        if orbits is None:
+            orbits = self.state_orbits(states)
+        if self._projectors is None:
+            self._projectors = [_projector(self.group, r) for r in self.irreps]
+        return adapted_bases(states, self.group, self.irreps, orbits, self._projectors)
+
     def __repr__(self):
         return f"LatticeSymmetry(order={self.group.order}, irreps={[r.label for r in self.irreps]})"
-
-
-def _pi_multiple(k):
-    """k / pi for a momentum k = r*pi (r rational), without sympy's symbolic division."""
-    if k == 0:
-        return sympy.Integer(0)
-    c, rest = k.as_coeff_Mul()
-    return c if rest == sympy.pi else k / sympy.pi
 
 
 def lattice_symmetry(n_sites, bonds, site_labels=None):
@@ -480,54 +512,11 @@ def _projector(group, irrep):
     sub, lam = irrep.reducer
     psi = irrep.character
     c = [0] * group.order
-    table = group.table()
+    rows = group.table_rows()
     for k, l in zip(sub, lam):
-        row = table[k]
-        for g in range(group.order):
-            c[row[g]] += l * psi[g]
+        for x, p in zip(rows[k], psi):
+            c[x] += l * p
     return c
-
-
-def _subtract_multiple(target, a, row):
-    """target -= a * row in place (sparse dicts), dropping entries that become zero."""
-    for st, b in row.items():
-        w = target.get(st, 0) - a * b
-        if w:
-            target[st] = w
-        else:
-            target.pop(st, None)
-
-
-def _rref_insert(rows, pivots, vec, rank_of):
-    """Insert ``vec`` (dict state -> Fraction) into reduced rows; True if independent."""
-    v = dict(vec)
-    for p, row in zip(pivots, rows):
-        a = v.get(p)
-        if a:
-            _subtract_multiple(v, a, row)
-    if not v:
-        return False
-    p = min(v, key=rank_of)
-    a = v[p]
-    v = {st: b / a for st, b in v.items()}
-    for i, row in enumerate(rows):
-        b = row.get(p)
-        if b:
-            new = dict(row)
-            _subtract_multiple(new, b, v)
-            rows[i] = new
-    rows.append(v)
-    pivots.append(p)
-    return True
-
-
-def _integer_row(row, pivot, rank_of):
-    _, ints = integer_multiple(row)
-    out = {pivot: ints[pivot]}
-    for st in sorted(ints, key=rank_of):
-        if st != pivot:
-            out[st] = ints[st]
-    return out
 
 
 def adapted_basis(states, group, irrep, orbits=None):
@@ -566,42 +555,117 @@ def adapted_basis(states, group, irrep, orbits=None):
     The projector is applied to orbit elements until that many independent
     vectors are found.
     """
+    return adapted_bases(states, group, [irrep], orbits)[0]
+
+
+def adapted_bases(states, group, irreps, orbits=None, projectors=None):
+    """:func:`adapted_basis` for several irreps, sharing the work per orbit.
+
+    Parameters
+    ----------
+    states : sequence of (int, int)
+    group : PermutationGroup
+    irreps : sequence of RationalIrrep
+    orbits : list, optional
+        ``state_orbits(states, group)``.
+    projectors : list, optional
+        Per irrep, the group-algebra coefficients of its projector (as made
+        by :meth:`LatticeSymmetry.adapted_bases`, which keeps them).
+
+    Returns
+    -------
+    list of list of dict
+        ``adapted_basis(states, group, irrep, orbits)`` for each irrep, in order.
+    """
     if orbits is None:
         orbits = state_orbits(states, group)
-    c = _projector(group, irrep)
-    nz = [h for h in range(group.order) if c[h]]
-    table = group.table()
+    cols = group.table_columns()              # cols[g][h] = index of h * g
+    prepared = []
+    for members, images in orbits:
+        rank = {st: i for i, st in enumerate(members)}
+        local = [(sg, rank[st]) for sg, st in images]
+        stab = [(h, sg) for h, (sg, i) in enumerate(local) if i == 0]    # h r = sigma(h) r
+        via = [None] * len(members)           # x = sg * (g r): one g per member
+        for g, (sg, i) in enumerate(local):
+            if via[i] is None:
+                via[i] = g
+        prepared.append((members, local, stab, via))
+    if projectors is None:
+        projectors = [_projector(group, irrep) for irrep in irreps]
+    return [_adapted_one(irrep, c, prepared, cols) for irrep, c in zip(irreps, projectors)]
+
+
+def _insert_row(rows, vec):
+    """Add the integer list ``vec`` to the reduced rows ``[(pivot, row)]``; True if independent.
+
+    Every row is zero at the other rows' pivots; a new row's pivot is its
+    first non-zero position after reduction.  Rows are kept fraction-free
+    (integer multiples of the rows a reduction over the rationals would give).
+    """
+    for p, row in rows:
+        a = vec[p]
+        if a:
+            d = row[p]
+            vec = [d * v - a * w for v, w in zip(vec, row)]
+    p = next((i for i, v in enumerate(vec) if v), None)
+    if p is None:
+        return False
+    g = gcd(*vec)
+    if g > 1:
+        vec = [v // g for v in vec]
+    a = vec[p]
+    for k, (q, row) in enumerate(rows):
+        b = row[p]
+        if b:
+            new = [a * w - b * v for w, v in zip(row, vec)]
+            g = gcd(*new)
+            rows[k] = (q, [w // g for w in new])
+    rows.append((p, vec))
+    return True
+
+
+def _adapted_one(irrep, c, prepared, cols):
+    """The adapted basis of one irrep (projector coefficients ``c``) from the per-orbit
+    data of :func:`adapted_bases`."""
+    nz = [(h, x) for h, x in enumerate(c) if x]
     psi = irrep.character
     out = []
-    for members, images in orbits:
-        r = members[0]
-        stab = [(h, sg) for h, (sg, st) in enumerate(images) if st == r]
+    for members, local, stab, via in prepared:
         tot = sum(psi[h] * sg for h, sg in stab)
-        if tot % len(stab):
-            raise VerificationError(f"orbit of {r}: Frobenius count {Fraction(tot, len(stab))} "
-                                    "is not an integer; report this as a bug")
-        target = irrep.copies * tot // len(stab)
+        n_stab = len(stab)
+        if tot % n_stab:
+            raise VerificationError(f"orbit of {members[0]}: Frobenius count "
+                                    f"{Fraction(tot, n_stab)} is not an integer; "
+                                    "report this as a bug")
+        target = irrep.copies * tot // n_stab
         if target == 0:
             continue
-        rank = {st: i for i, st in enumerate(members)}
-        via = {}
-        for g, (sg, st) in enumerate(images):
-            via.setdefault(st, (g, sg))
-        rows, pivots = [], []
-        for x in members:
-            g, sg = via[x]                      # x = sg * (g r)
-            vec = {}
-            col = table[:, g]
-            for h in nz:
-                s2, st = images[col[h]]         # (h g) r = s2 * st
-                vec[st] = vec.get(st, 0) + sg * s2 * c[h]
-            vec = {st: Fraction(v) for st, v in vec.items() if v}
-            if vec and _rref_insert(rows, pivots, vec, rank.__getitem__):
-                if len(rows) == target:
+        m = len(members)
+        rows = []
+        for g in via:
+            # P x = sg * sum_h c[h] (h g) r for x = sg * (g r); the overall sign sg
+            # does not change the span, and the rows are normalised below
+            col = cols[g]
+            vec = [0] * m
+            for h, x in nz:
+                s2, i = local[col[h]]
+                vec[i] += s2 * x
+            if target == 1:                 # the first non-zero projection is the row
+                if any(vec):
+                    rows.append((next(i for i, v in enumerate(vec) if v), vec))
                     break
+            elif _insert_row(rows, vec) and len(rows) == target:
+                break
         if len(rows) != target:
-            raise VerificationError(f"orbit of {r}: found {len(rows)} adapted vectors for "
-                                    f"{irrep.label}, characters predict {target}")
-        order = sorted(range(len(rows)), key=lambda i: rank[pivots[i]])
-        out.extend(_integer_row(rows[i], pivots[i], rank.__getitem__) for i in order)
+            raise VerificationError(f"orbit of {members[0]}: found {len(rows)} adapted vectors "
+                                    f"for {irrep.label}, characters predict {target}")
+        rows.sort(key=lambda pr: pr[0])           # by pivot, i.e. by rank in the orbit
+        for p, row in rows:
+            # primitive, positive at the pivot, keys: pivot first, then by rank in the orbit
+            g = gcd(*row) * (1 if row[p] > 0 else -1)
+            vec = {members[p]: row[p] // g}
+            for i, x in enumerate(row):
+                if x and i != p:
+                    vec[members[i]] = x // g
+            out.append(vec)
     return out

@@ -11,8 +11,7 @@ on every state with <= 2 particles.
 import sympy
 
 from ..fock import sector_states
-from ..linalg import apply_op
-from ..operators import apply_eta_plus, apply_hamiltonian, apply_s_plus
+from ..operators import HamiltonianAction, apply_eta_plus, apply_s_plus, per_state_memo
 
 __all__ = ["has_spin_symmetry", "eta_symmetry"]
 
@@ -26,61 +25,71 @@ def _low_states(n):
     return out
 
 
-def _h_on(model, vec):
-    """H applied to a sparse vector, coefficients as {label: int} per state."""
-    out = {}
-    for s, c in vec.items():
-        for s2, row in apply_hamiltonian(model, *s).items():
-            tgt = out.setdefault(s2, {})
-            for lab, a in row.items():
-                tgt[lab] = tgt.get(lab, 0) + a * c
-    return {s: {l: a for l, a in row.items() if a} for s, row in out.items()}
+def _commutator_vanishes(h, op, shift, state):
+    """True iff ([H, op] - shift*op)|state> = 0 for every coupling label.
 
-
-def _commutator_minus(model, op, shift, state):
-    """([H, op] - shift*op)|state> with coefficients by label; shift is {label: int}."""
-    vec = {state: 1}
-    opv = apply_op(op, vec)
-    out = _h_on(model, opv)                     # H op |state>
-    for s, row in _h_on(model, vec).items():    # - op H |state>
+    ``h`` is a :class:`HamiltonianAction`, ``op`` maps a state to a list of
+    ``(int, state')`` and ``shift`` is ``{label: int}``.  The coefficient of
+    each (state', label) is accumulated exactly and must vanish.
+    """
+    acc = {}
+    opv = op(state)
+    for a, s in opv:                            # H op |state>
+        for s2, lab, x in h[s]:
+            k = (s2, lab)
+            acc[k] = acc.get(k, 0) + a * x
+    for s, lab, x in h[state]:                  # - op H |state>
         for a, s2 in op(s):
-            tgt = out.setdefault(s2, {})
-            for lab, x in row.items():
-                tgt[lab] = tgt.get(lab, 0) - a * x
-    for s, a in opv.items():
-        tgt = out.setdefault(s, {})
+            k = (s2, lab)
+            acc[k] = acc.get(k, 0) - a * x
+    for a, s in opv:                            # - shift op |state>
         for lab, x in shift.items():
-            tgt[lab] = tgt.get(lab, 0) - x * a
-    return {s: {l: x for l, x in r.items() if x} for s, r in out.items() if any(r.values())}
+            k = (s, lab)
+            acc[k] = acc.get(k, 0) - x * a
+    return not any(acc.values())
 
 
-def has_spin_symmetry(model):
-    """True iff [H, S+] = 0 (checked exactly on all states with <= 2 electrons)."""
+def has_spin_symmetry(model, h=None):
+    """True iff [H, S+] = 0 (checked exactly on all states with <= 2 electrons).
+
+    ``h`` is an optional :class:`~symcluster.operators.HamiltonianAction` of
+    ``model`` to share with other checks of the same solve.
+    """
     n = model.n_sites
-    op = lambda s: apply_s_plus(n, *s)
-    return all(not _commutator_minus(model, op, {}, st) for st in _low_states(n))
+    if h is None:
+        h = HamiltonianAction(model)
+    op = per_state_memo(lambda s: apply_s_plus(n, *s))
+    return all(_commutator_vanishes(h, op, {}, st) for st in _low_states(n))
 
 
-def eta_symmetry(model):
+def eta_symmetry(model, h=None):
     """Return (signs, shift) if [H, eta+] = shift * eta+ exactly, else None.
 
     ``signs`` are the sublattice signs eps_i (+1 on the sublattice of site 0
     of each component, -1 on the other); ``shift`` is a dict {label: int}
     (for the Hubbard model {U: 1}: each eta+ raises the energy by U).
+    ``h`` is an optional :class:`~symcluster.operators.HamiltonianAction` of
+    ``model`` to share with other checks of the same solve.
     """
     subl = model.cluster.sublattices()
     if subl is None:
         return None
     a, _ = subl
     signs = [1 if i in a else -1 for i in range(model.n_sites)]
-    op = lambda s: apply_eta_plus(signs, *s)
-    # read off the shift on the vacuum: [H, eta+]|0> = H eta+|0> (H|0> = 0)
-    n = model.n_sites
-    hv = _h_on(model, apply_op(op, {(0, 0): 1}))
+    if h is None:
+        h = HamiltonianAction(model)
+    op = per_state_memo(lambda s: apply_eta_plus(signs, *s))
+    # read off the shift on the vacuum: [H, eta+]|0> = H eta+|0> (H|0> = 0);
     # eta+|0> = sum_i eps_i |i up, i dn>, coefficient at site 0 is eps_0 = +1
     s0 = (1, 1)
-    shift = dict(hv.get(s0, {}))
-    if not all(not _commutator_minus(model, op, shift, st) for st in _low_states(n)):
+    shift = {}
+    for c, s in op((0, 0)):
+        for s2, lab, x in h[s]:
+            if s2 == s0:
+                shift[lab] = shift.get(lab, 0) + c * x
+    shift = {lab: x for lab, x in shift.items() if x}
+    n = model.n_sites
+    if not all(_commutator_vanishes(h, op, shift, st) for st in _low_states(n)):
         return None
     return signs, shift
 
