@@ -23,6 +23,8 @@ from fractions import Fraction
 from math import gcd
 
 import numpy as np
+# numpy loads its random module on first use (about 10 ms); loaded here, at import
+from numpy.random import default_rng
 
 from symcluster.errors import ClusterError, TooLargeError, VerificationError
 
@@ -447,7 +449,7 @@ def _numeric_characters(group, rng):
 
 
 def _character_table(group, seed=20240601):
-    rng = np.random.default_rng(seed)
+    rng = default_rng(seed)
     chars = _numeric_characters(group, rng)
     k = len(chars)
     e = group.exponent
