@@ -13,12 +13,11 @@ import argparse
 import os
 import re
 import sys
-from fractions import Fraction
 
-import sympy
 
 from . import __version__
 from .errors import ClusterError, InputError, SymclusterError
+from .parsing import parse_number
 
 __all__ = ["main", "parse_point", "parse_electrons", "build_cluster", "SHAPES"]
 
@@ -89,27 +88,6 @@ class _Parser(argparse.ArgumentParser):
 
 
 _NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
-_NUMBER = re.compile(r"^[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]{1,3})?$")
-_FRACTION = re.compile(r"^[+-]?[0-9]+/[0-9]+$")
-
-
-def parse_number(text, what):
-    """Exact sympy Rational from ``4``, ``-2.5``, ``1e-3`` or ``3/2`` (no evaluation)."""
-    text = text.strip()
-    if len(text) > 1000:
-        raise InputError(f"{what} is a number of {len(text)} characters; give at most 1000 "
-                         f"(e.g. a fraction 3/2 or a decimal 2.5)")
-    if _FRACTION.match(text):
-        num, den = text.split("/")
-        if int(den) == 0:
-            raise InputError(f"{what} = {text!r} divides by zero; give a nonzero denominator")
-        return sympy.Rational(int(num), int(den))
-    if _NUMBER.match(text):
-        f = Fraction(text)
-        return sympy.Rational(f.numerator, f.denominator)
-    raise InputError(f"{what} = {text!r} is not a number; write e.g. 4, -2.5, 1e-3 or 3/2")
-
-
 def parse_point(text):
     """Parse ``t=1,U=4`` (commas or spaces between items) into ``{name: Rational}``.
 

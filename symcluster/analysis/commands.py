@@ -15,18 +15,15 @@ Coupling values use a small grammar, never evaluated as code:
 import argparse
 import re
 import sys
-from fractions import Fraction
 
 import mpmath
-import sympy
 
 from ..errors import InputError, ModelError
+from ..parsing import NUMBER, parse_number
 
 __all__ = ["add_commands", "run_analysis", "parse_assignment", "parse_range"]
 
-# the grammar of the levels command (cli.parse_number): a decimal with an optional exponent,
-# or a fraction of integers ("2.5/3" is neither: Fraction() would refuse it)
-_NUM = r"(?:[+-]?(?:\d+(?:\.\d*)?|\.\d+)(?:[eE][+-]?\d{1,3})?|[+-]?\d+/\d+)"
+_NUM = NUMBER          # the grammar of symcluster/parsing.py, shared with the levels command
 _ASSIGN = re.compile(rf"^\s*([A-Za-z_][A-Za-z0-9_]*)\s*=\s*({_NUM})\s*$")
 _RANGE = re.compile(rf"^\s*({_NUM})\s*:\s*({_NUM})\s*$")
 
@@ -38,16 +35,7 @@ def digits_argument(text):
     return int(text)
 
 
-def _number(text, what):
-    if len(text.strip()) > 1000:
-        raise InputError(f"{what} is a number of {len(text.strip())} characters; give at most "
-                         f"1000 (e.g. a fraction 7/2 or a decimal 2.5)")
-    if not re.fullmatch(_NUM, text.strip()):
-        raise InputError(f"{what} {text!r} is not a number; write e.g. 4, -2.5 or 7/2")
-    try:
-        return sympy.Rational(Fraction(text.strip()))
-    except ZeroDivisionError:
-        raise InputError(f"{what} {text!r} divides by zero; write e.g. 7/2") from None
+_number = parse_number
 
 
 def parse_assignment(items):
