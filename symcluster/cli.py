@@ -329,6 +329,26 @@ def _shapes_text():
     return "\n".join(lines) + "\n"
 
 
+_NEGATIVE_VALUE = re.compile(r"^-\.?[0-9]")
+
+
+def _attach_negative_values(argv):
+    """``--range -10:10`` -> ``--range=-10:10``: argparse would read a value that starts
+    with a minus sign (and is not a plain number) as an unknown option."""
+    out = []
+    i = 0
+    while i < len(argv):
+        tok = argv[i]
+        if (tok.startswith("--") and "=" not in tok and i + 1 < len(argv)
+                and _NEGATIVE_VALUE.match(argv[i + 1])):
+            out.append(f"{tok}={argv[i + 1]}")
+            i += 2
+            continue
+        out.append(tok)
+        i += 1
+    return out
+
+
 def main(argv=None):
     """Run the command line; return the exit code (0 success, 2 bad input).
 
@@ -337,7 +357,7 @@ def main(argv=None):
     argv : list of str, optional
         Arguments without the program name (default ``sys.argv[1:]``).
     """
-    argv = list(sys.argv[1:] if argv is None else argv)
+    argv = _attach_negative_values(list(sys.argv[1:] if argv is None else argv))
     out, err = sys.stdout, sys.stderr
     commands = {"levels", "shapes", "demo", "ground-map", "gaps", "series", "thermo", "plot",
                 "derivative"}

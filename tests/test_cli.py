@@ -284,3 +284,16 @@ def test_thermo_prints_the_digits_asked_for(capsys, digits):
     header = out[0].split("\t")
     row = out[1].split("\t")
     assert row[header.index("energy")] == want
+
+
+def test_a_range_that_starts_with_a_minus_sign_is_a_value_not_an_option(capsys):
+    # ring(4), all electron numbers, U in (-10, 10): at U = 0 the ground state changes its
+    # electron number (tight binding, orbitals -2t, 0, 0, 2t: N = 2 to 6 all have -4t there),
+    # an exact integer transition point
+    from symcluster.cli import main
+    for argv in (["--range", "-10:10"], ["--range=-10:10"]):
+        code = main(["ground-map", "ring", "4", "--coupling", "U", "--digits", "15"] + argv)
+        out = capsys.readouterr().out
+        assert code == 0
+        lines = [ln for ln in out.splitlines() if ln.startswith("U = ")]
+        assert any(ln.startswith("U = 0  {") for ln in lines)   # an integer: no "~ 0.0"

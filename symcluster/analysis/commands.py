@@ -197,7 +197,10 @@ def run_analysis(spec, args, out=None):
     if kind == "ground-map":
         pts = transitions(spec, args.sector, args.coupling, rng, fixed)
         for tr in pts:
-            out.write(f"{args.coupling} = {tr.value}  ~ {mpmath.nstr(tr.numeric(args.digits), args.digits)}"
+            # an integer needs no decimal; any other value gets one at the digits asked for
+            approx = ("" if getattr(tr.value, "is_Integer", False)
+                      else f"  ~ {mpmath.nstr(tr.numeric(args.digits), args.digits)}")
+            out.write(f"{args.coupling} = {tr.value}{approx}"
                       f"  {tr.below.quantum_numbers} -> {tr.above.quantum_numbers}\n")
         if not pts:
             out.write(f"no ground-state change for {args.coupling} in {rng[0]}..{rng[1]}\n")
