@@ -9,14 +9,17 @@ the k-th real root, in ascending order, of an irreducible polynomial
 P(E; couplings).  Both evaluate at any precision through :func:`energy_numeric`.
 """
 
+import contextlib
 import functools
 import math
 import numbers
+import threading
 from dataclasses import dataclass, field
 from fractions import Fraction
 
 import mpmath
 import sympy
+from mpmath import libmp
 
 from .algebra.roots import real_roots_at
 from .errors import ModelError, VerificationError
@@ -112,42 +115,288 @@ _MP_FUNCS = {
     sympy.exp: mpmath.exp, sympy.log: mpmath.log, sympy.Abs: abs,
 }
 
+#: The libmp function behind each mpmath function above that is a plain wrapper of one
+#: (mpmath.cos(x) is mpf_cos(x, prec, rounding) for real x, or the complex function
+#: where that raises ComplexResult); mpmath.log does more and has none.
+_MPF_FUNCS = {
+    mpmath.cos: libmp.mpf_cos, mpmath.sin: libmp.mpf_sin, mpmath.tan: libmp.mpf_tan,
+    mpmath.acos: libmp.mpf_acos, mpmath.asin: libmp.mpf_asin, mpmath.atan: libmp.mpf_atan,
+    mpmath.exp: libmp.mpf_exp, abs: libmp.mpf_abs,
+}
 
-def _mp_eval(expr, env):
-    """Evaluate a sympy expression tree with mpmath at the current precision.
+# operations of a compiled closed form (see _Program)
+_SYMBOL, _INTEGER, _RATIONAL, _PI, _ADD, _MUL, _POW_INT, _SQRT, _POWER, _FUNC, _SIGN, _SYMPY = \
+    range(12)
 
-    ``env`` maps Symbols to mpf values.  Handles the node types that closed
-    forms are made of; anything else falls back to sympy's own evaluation.
+
+def _raw_step(code, data, args):
+    """The libmp form of one operation: ``f(values, point, prec, rnd)``.
+
+    It returns the raw value (a libmp tuple) where every argument is real and so is the
+    result, else None (the caller then runs the mpmath operation itself).  Each is the
+    libmp call that the mpmath operation makes for real numbers, with the same
+    precision and rounding.
     """
+    mpf_mul, mpf_div, mpf_pos, from_int = libmp.mpf_mul, libmp.mpf_div, libmp.mpf_pos, \
+        libmp.from_int
+    if code == _MUL:                        # out = mpf(1); out = out * v for each factor
+        fone = libmp.fone
+
+        def step(values, point, prec, rnd):
+            out = fone
+            for a in args:
+                v = values[a]
+                if type(v) is not tuple:
+                    return None
+                out = mpf_mul(out, v, prec, rnd)
+            return out
+    elif code == _ADD:                      # mpmath.fsum of real terms
+        mpf_sum = libmp.mpf_sum
+
+        def step(values, point, prec, rnd):
+            terms = [values[a] for a in args]
+            for v in terms:
+                if type(v) is not tuple:
+                    return None
+            return mpf_sum(terms, prec, rnd)
+    elif code in (_POW_INT, _SQRT, _FUNC):  # x ** n, mpmath.sqrt, mpmath.cos, ...
+        if code == _POW_INT:
+            mpf_pow_int, n = libmp.mpf_pow_int, data
+
+            def fn(v, prec, rnd):
+                return mpf_pow_int(v, n, prec, rnd)
+        else:
+            fn = libmp.mpf_sqrt if code == _SQRT else _MPF_FUNCS.get(data)
+            if fn is None or len(args) != 1:
+                return None
+        a = args[0]
+
+        def step(values, point, prec, rnd):
+            v = values[a]
+            return fn(v, prec, rnd) if type(v) is tuple else None
+    elif code == _POWER:                    # mpmath.power of two reals
+        mpf_pow = libmp.mpf_pow
+        a, b = args
+
+        def step(values, point, prec, rnd):
+            x, y = values[a], values[b]
+            return mpf_pow(x, y, prec, rnd) if type(x) is tuple and type(y) is tuple else None
+    elif code == _SYMBOL:                   # mpf(p) / q
+        def step(values, point, prec, rnd):
+            v = point[data]
+            return mpf_div(mpf_pos(from_int(int(v.p)), prec, rnd), from_int(int(v.q)), prec,
+                           rnd)
+    elif code in (_INTEGER, _RATIONAL):     # mpf(n), mpf(p) / q
+        p, q = (data, 1) if code == _INTEGER else data
+
+        def step(values, point, prec, rnd):
+            x = mpf_pos(from_int(p), prec, rnd)
+            return x if q == 1 else mpf_div(x, from_int(q), prec, rnd)
+    else:
+        return None
+    return step
+
+
+class _Program:
+    """Closed forms compiled into one list of mpmath operations, shared between them.
+
+    Every distinct subexpression (sympy equality) is compiled once into an operation
+    on the values of its arguments, so closed forms that share a square root or an arc
+    cosine (the levels of one multiplet, the roots of one cubic) compute it once per
+    point and precision.  Each operation is the one a walk of the single expression
+    tree performs at that node, with the same arguments in the same order (a sum is
+    mpmath's ``fsum`` of its terms, a product multiplies from 1 left to right, an
+    integer power is ``**``, a square root ``mpmath.sqrt``), so a value does not depend
+    on the other closed forms compiled with it or evaluated before it.  Real values are
+    kept as raw libmp numbers and combined by the libmp functions that those mpmath
+    operations call, with the same precision and rounding (:func:`_raw_step`); an
+    operation that has a complex argument, or a complex result, runs as the mpmath
+    operation itself.
+
+    Node types that closed forms are not made of fall back to sympy's own evaluation at
+    the working precision.  ``sign`` of a polynomial in the couplings is exact
+    (evaluated in rational arithmetic), so that it is right even where its argument
+    vanishes at the point.
+    """
+
+    def __init__(self):
+        self._slots = {}        # subexpression -> index of its operation
+        self._by_id = {}        # id(subexpression) -> (subexpression, index)
+        self._ops = []          # (argument slots, raw step or None, (code, data, expr))
+        self._values = {}       # (point items, precision) -> {slot: value}
+        self._last = None       # (point, precision, values) of the latest evaluation
+
+    def _compile(self, expr):
+        hit = self._by_id.get(id(expr))     # the same object again: no sympy hash needed
+        if hit is not None and hit[0] is expr:
+            return hit[1]
+        slot = self._slots.get(expr)
+        if slot is not None:
+            self._by_id[id(expr)] = (expr, slot)
+            return slot
+        args = ()
+        data = None
+        if expr.is_Symbol:
+            code, data = _SYMBOL, expr
+        elif expr.is_Integer:
+            code, data = _INTEGER, int(expr)
+        elif expr.is_Rational:
+            code, data = _RATIONAL, (int(expr.p), int(expr.q))
+        elif expr is sympy.pi:
+            code = _PI
+        elif expr.is_Add or expr.is_Mul:
+            code = _ADD if expr.is_Add else _MUL
+            args = tuple(map(self._compile, expr.args))
+        elif expr.is_Pow:
+            ex = expr.exp
+            if ex.is_Integer:
+                code, data, args = _POW_INT, int(ex), (self._compile(expr.base),)
+            elif ex == sympy.S.Half:
+                code, args = _SQRT, (self._compile(expr.base),)
+            else:
+                code, args = _POWER, (self._compile(expr.base), self._compile(ex))
+        elif expr.func in _MP_FUNCS:
+            code, data = _FUNC, _MP_FUNCS[expr.func]
+            args = tuple(map(self._compile, expr.args))
+        elif expr.func is sympy.sign and _is_rational_function(expr.args[0]):
+            code, data = _SIGN, expr.args[0]
+        else:
+            code = _SYMPY
+        slot = self._slots[expr] = len(self._ops)
+        self._by_id[id(expr)] = (expr, slot)
+        self._ops.append((args, _raw_step(code, data, args), (code, data, expr)))
+        return slot
+
+    def evaluate(self, expr, point):
+        """Value of `expr` at `point` ({Symbol: sympy Rational}), current mpmath precision.
+
+        An mpf, or an mpc where the form has a complex value there.
+        """
+        root = self._compile(expr)
+        prec, rnd = mpmath.mp._prec_rounding
+        last = self._last
+        if last is not None and last[0] is point and last[1] == prec:
+            values = last[2]
+        else:
+            key = (tuple(point.items()), prec)
+            values = self._values.get(key)
+            if values is None:
+                values = self._values[key] = {}
+            self._last = (point, prec, values)
+        value = values.get(root)
+        if value is None:
+            value = self._fill(root, values, point, prec, rnd)
+        return mpmath.mp.make_mpf(value) if type(value) is tuple else value
+
+    def _fill(self, slot, values, point, prec, rnd):
+        """Compute `slot` and whatever of its tree `values` does not hold yet."""
+        args, step, op = self._ops[slot]
+        for a in args:
+            if a not in values:
+                self._fill(a, values, point, prec, rnd)
+        value = None
+        if step is not None:
+            try:
+                value = step(values, point, prec, rnd)
+            except libmp.ComplexResult:
+                pass
+        if value is None:
+            value = self._run_mp(op, args, values, point)
+        values[slot] = value
+        return value
+
+    @staticmethod
+    def _run_mp(op, args, values, point):
+        """One operation with mpmath numbers (the mpmath operations themselves)."""
+        code, data, expr = op
+        mpf = mpmath.mpf
+        vals = [mpmath.mp.make_mpf(v) if type(v) is tuple else v
+                for v in (values[a] for a in args)]
+        if code == _SYMBOL:
+            v = point[data]
+            out = mpf(int(v.p)) / int(v.q)
+        elif code == _INTEGER:
+            out = mpf(data)
+        elif code == _RATIONAL:
+            out = mpf(data[0]) / data[1]
+        elif code == _PI:
+            out = +mpmath.pi
+        elif code == _ADD:
+            out = mpmath.fsum(vals)
+        elif code == _MUL:
+            out = mpf(1)
+            for v in vals:
+                out = out * v
+        elif code == _POW_INT:
+            out = vals[0] ** data
+        elif code == _SQRT:
+            out = mpmath.sqrt(vals[0])
+        elif code == _POWER:
+            out = mpmath.power(vals[0], vals[1])
+        elif code == _FUNC:
+            out = data(*vals)
+        elif code == _SIGN:
+            x = _rational_at(data, point)
+            out = mpf((x > 0) - (x < 0))
+        else:
+            dps = mpmath.mp.dps
+            env = {}
+            for s in expr.free_symbols:
+                v = point[s]
+                env[s] = sympy.Float((mpf(int(v.p)) / int(v.q))._mpf_, dps)
+            val = sympy.N(expr.subs(env), dps)
+            out = mpmath.mpmathify(complex(val)) if not val.is_real else mpmath.mpf(str(val))
+        return out._mpf_ if hasattr(out, "_mpf_") else out
+
+
+def _is_rational_function(expr):
+    """True if `expr` is a polynomial: built from symbols and rationals by +, * and
+    non-negative integer powers (so that its exact value is defined at every point)."""
+    if expr.is_Symbol or expr.is_Rational:
+        return True
+    if expr.is_Add or expr.is_Mul:
+        return all(_is_rational_function(a) for a in expr.args)
+    return bool(expr.is_Pow and expr.exp.is_Integer and expr.exp >= 0
+                and _is_rational_function(expr.base))
+
+
+def _rational_at(expr, point):
+    """Exact value (Fraction) of a rational function of the couplings at `point`."""
     if expr.is_Symbol:
-        return env[expr]
-    if expr.is_Integer:
-        return mpmath.mpf(int(expr))
+        v = point[expr]
+        return Fraction(int(v.p), int(v.q))
     if expr.is_Rational:
-        return mpmath.mpf(int(expr.p)) / int(expr.q)
-    if expr is sympy.pi:
-        return +mpmath.pi
+        return Fraction(int(expr.p), int(expr.q))
     if expr.is_Add:
-        return mpmath.fsum(_mp_eval(a, env) for a in expr.args)
+        return sum((_rational_at(a, point) for a in expr.args), Fraction(0))
     if expr.is_Mul:
-        out = mpmath.mpf(1)
+        out = Fraction(1)
         for a in expr.args:
-            out = out * _mp_eval(a, env)
+            out *= _rational_at(a, point)
         return out
-    if expr.is_Pow:
-        base = _mp_eval(expr.base, env)
-        ex = expr.exp
-        if ex.is_Integer:
-            return base ** int(ex)
-        if ex == sympy.S.Half:
-            return mpmath.sqrt(base)
-        return mpmath.power(base, _mp_eval(ex, env))
-    fn = _MP_FUNCS.get(expr.func)
-    if fn is not None:
-        return fn(*[_mp_eval(a, env) for a in expr.args])
-    val = sympy.N(expr.subs({k: sympy.Float(v._mpf_, mpmath.mp.dps) for k, v in env.items()}),
-                  mpmath.mp.dps)
-    return mpmath.mpmathify(complex(val)) if not val.is_real else mpmath.mpf(str(val))
+    return _rational_at(expr.base, point) ** int(expr.exp)
+
+
+_SHARED = threading.local()
+
+
+@contextlib.contextmanager
+def shared_evaluation():
+    """Let closed forms evaluated inside the block share subexpression values.
+
+    Within the block, :func:`energy_numeric` without a polynomial compiles every closed
+    form into one :class:`_Program` (this thread only), so a square root or an arc
+    cosine common to many levels is computed once per point and precision.  The values
+    are those of evaluating each form on its own.  Nothing outlives the block.
+    """
+    stack = getattr(_SHARED, "stack", None)
+    if stack is None:
+        stack = _SHARED.stack = []
+    stack.append(_Program())
+    try:
+        yield
+    finally:
+        stack.pop()
 
 
 def energy_numeric(energy, point, digits=30, polynomial=None):
@@ -479,14 +728,26 @@ def _unambiguous_root(value, distinct):
 
 
 def _closed_numeric(energy, point, digits):
-    with mpmath.workdps(2 * digits + 10):
-        env = {s: mpmath.mpf(int(point[s].p)) / int(point[s].q) for s in energy.free_symbols}
-        val = _mp_eval(energy, env)
+    """A closed form evaluated with mpmath at ``2 digits + 10`` working digits (mpf).
+
+    Inside :func:`shared_evaluation` the form joins that block's compiled program;
+    otherwise it is compiled on its own.  Raises ArithmeticError where the value has an
+    imaginary part beyond rounding (the form is not real at the point).
+    """
+    stack = getattr(_SHARED, "stack", None)
+    program = stack[-1] if stack else _Program()
+    ctx = mpmath.mp
+    prec = ctx.prec
+    ctx.dps = 2 * digits + 10       # mpmath.workdps, without the context object
+    try:
+        val = program.evaluate(energy, point)
         if isinstance(val, mpmath.mpc):
             if abs(val.imag) > mpmath.mpf(10) ** (-digits) * (1 + abs(val.real)):
                 raise ArithmeticError(f"energy {energy} is not real at {point}")
             val = val.real
-        return mpmath.mpf(val)
+        return val      # an mpf rounded to the working precision
+    finally:
+        ctx.prec = prec
 
 
 @dataclass

@@ -22,13 +22,13 @@ closed form is checked against its own polynomial at >= ``digits`` digits.
 
 import random
 from fractions import Fraction
-from math import comb, lcm
+from math import comb, gcd, lcm
 
 import flint
 import mpmath
 import numpy as np
 import sympy
-from sympy.polys.densebasic import dmp_to_dict
+from mpmath.libmp import fzero, from_int, mpf_abs, mpf_add, mpf_div, mpf_gt, mpf_mul, mpf_pos
 
 from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched, isolation_key,
                             prefetch_isolations)
@@ -36,7 +36,7 @@ from .errors import ModelError, VerificationError
 from .fock import sector_states
 from .models import coupling_symbol
 from .operators import apply_hamiltonian
-from .spectrum import energy_numeric
+from .spectrum import energy_numeric, shared_evaluation
 
 __all__ = ["verify_spectrum", "random_points", "sector_share", "MP_DIM", "EXACT_DIM"]
 
@@ -55,10 +55,64 @@ def root_deviation(coeffs, x, scale, digits):
     ``scale`` the energy scale of the point (its largest |coupling|), accepts the residue
     while a value wrong by more than ``10**-digits`` of the scale still fails.
     """
-    val = mpmath.polyval(coeffs, x)
-    r = max(abs(x), scale * mpmath.mpf(10) ** (-digits))
-    size = mpmath.polyval([abs(c) for c in coeffs], r)
-    return abs(val) / size if size else abs(val)
+    return _deviation(coeffs, x, scale * mpmath.mpf(10) ** (-digits))
+
+
+def _mp_coefficients(acc, full):
+    """The coefficients ``acc[i] / full`` (``full > 0``) as raw mpf values, with their
+    absolute values: ``(coefficients, |coefficients|)``.
+
+    Each is ``mpmath.mpf(n) / d`` with ``n / d`` in lowest terms, at the working
+    precision (the libmp operations of that expression).  Where ``acc[i]`` has at most
+    ``prec`` bits, ``mpf(n)`` is exact and the correctly rounded quotient is that of
+    ``acc[i] / full`` itself, so the fraction is not reduced.
+    """
+    prec, rnd = mpmath.mp._prec_rounding
+    den = from_int(full)
+    out = []
+    for a in acc:
+        if a.bit_length() <= prec:
+            out.append(mpf_div(from_int(a), den, prec, rnd))
+        else:
+            g = gcd(a, full)
+            out.append(mpf_div(mpf_pos(from_int(a // g), prec, rnd), from_int(full // g),
+                               prec, rnd))
+    return out, [mpf_abs(c, prec, rnd) for c in out]
+
+
+def _deviation(coeffs, x, floor):
+    """:func:`root_deviation` with its floor ``scale * 10**-digits`` computed by the caller.
+
+    Horner's rule as ``mpmath.polyval`` does it (``p = c + x p``), at the working
+    precision; on mpf numbers the same libmp operations run without the mpf wrappers
+    (:func:`_raw_deviation`).
+    """
+    mpf = mpmath.mpf
+    if not (coeffs and type(x) is mpf and type(floor) is mpf
+            and all(type(c) is mpf for c in coeffs)):
+        val = mpmath.polyval(coeffs, x)
+        r = max(abs(x), floor)
+        size = mpmath.polyval([abs(c) for c in coeffs], r)
+        return abs(val) / size if size else abs(val)
+    prec, rnd = mpmath.mp._prec_rounding
+    raw = [c._mpf_ for c in coeffs]
+    return mpmath.mp.make_mpf(_raw_deviation(raw, [mpf_abs(c, prec, rnd) for c in raw],
+                                             x._mpf_, floor._mpf_, prec, rnd))
+
+
+def _raw_deviation(raw, absolute, x, floor, prec, rnd):
+    """The backward error on raw mpf values: coefficients, their absolute values (each
+    ``abs(c)`` at the working precision), the value and the floor."""
+    val = raw[0]
+    for c in raw[1:]:
+        val = mpf_add(c, mpf_mul(x, val, prec, rnd), prec, rnd)
+    ax = mpf_abs(x, prec, rnd)
+    r = floor if mpf_gt(floor, ax) else ax      # max(|x|, floor) keeps |x| on a tie
+    size = absolute[0]
+    for c in absolute[1:]:
+        size = mpf_add(c, mpf_mul(r, size, prec, rnd), prec, rnd)
+    val = mpf_abs(val, prec, rnd)
+    return mpf_div(val, size, prec, rnd) if size != fzero else val
 
 
 def random_points(symbols, count, seed):
@@ -96,35 +150,36 @@ def sector_share(level, n_up, n_dn):
 
 
 def _sector_terms(model, states):
-    """Sparse sector matrix as {label: {(i, j): int}} plus the state index."""
+    """(terms, Tr H, Tr H^2) of one sector.
+
+    ``terms`` is the sparse sector matrix {label: {(i, j): int}} read off the images
+    H|state>; the traces are exact polynomials {sorted label tuple: int} of it:
+    Tr H sums the diagonal, Tr H^2 = sum_ij H_ij^2 (H is symmetric) sums the squares
+    of the entries, sum_l1,l2 u_l1 u_l2 <A_l1, A_l2> over the label matrices A_l.
+    """
     idx = {s: k for k, s in enumerate(states)}
     terms = {}
     for j, s in enumerate(states):
         for s2, row in apply_hamiltonian(model, *s).items():
-            i = idx[s2]
+            key = (idx[s2], j)
             for lab, a in row.items():
-                terms.setdefault(lab, {})[(i, j)] = a
-    return terms
-
-
-def _traces(terms):
-    """Exact Tr H and Tr H^2 of a sector as polynomials {sorted label tuple: int}."""
-    tr1 = {}
-    for l, m in terms.items():
-        for (i, j), a in m.items():
-            if i == j:
-                tr1[(l,)] = tr1.get((l,), 0) + a
-    entries = {}
-    for l, m in terms.items():
-        for key, a in m.items():
-            entries.setdefault(key, []).append((l, a))
-    tr2 = {}
-    for row in entries.values():           # H symmetric: Tr H^2 = sum_ij H_ij^2
-        for l1, a1 in row:
-            for l2, a2 in row:
-                key = tuple(sorted((l1, l2)))
-                tr2[key] = tr2.get(key, 0) + a1 * a2
-    return _clean(tr1), _clean(tr2)
+                m = terms.get(lab)
+                if m is None:
+                    m = terms[lab] = {}
+                m[key] = a
+    tr1, tr2 = {}, {}
+    labels = list(terms)
+    for x, l1 in enumerate(labels):
+        m1 = terms[l1]
+        tr1[(l1,)] = sum(m1.get((i, i), 0) for i in range(len(states)))
+        tr2[(l1, l1)] = sum(a * a for a in m1.values())
+        for l2 in labels[x + 1:]:
+            m2 = terms[l2]
+            common = m1.keys() & m2.keys()
+            if common:
+                key = (l1, l2) if l1 <= l2 else (l2, l1)
+                tr2[key] = 2 * sum(m1[k] * m2[k] for k in common)
+    return terms, _clean(tr1), _clean(tr2)
 
 
 def _clean(p):
@@ -146,102 +201,200 @@ def _pmul(p, q):
     return out
 
 
-_TERMS = {}
+def _dense_terms(rep, nvars, prefix, out):
+    """Append (exponents, coefficient) of a dense nested-list polynomial to `out`."""
+    top = len(rep) - 1
+    if nvars == 1:
+        for i, c in enumerate(rep):
+            if c:
+                out.append((prefix + (top - i,), c))
+    else:
+        for i, sub in enumerate(rep):
+            if sub:
+                _dense_terms(sub, nvars - 1, prefix + (top - i,), out)
+    return out
 
 
-def _int_terms(poly):
-    """Integer form of a Poly, cached by identity for one verification run.
+def _rational_terms(poly, rep=None, nvars=None):
+    """[(exponents, Fraction or int)] of a Poly (or of a part of its dense ``rep``)."""
+    dom = poly.domain
+    if nvars is None:
+        rep, nvars = poly.rep.to_list(), len(poly.gens)
+    if dom.is_ZZ:
+        return [(m, int(c)) for m, c in _dense_terms(rep, nvars, (), [])]
+    if dom.is_QQ:
+        return [(m, Fraction(int(c.numerator), int(c.denominator)))
+                for m, c in _dense_terms(rep, nvars, (), [])]
+    out = []
+    for m, c in _dense_terms(rep, nvars, (), []):
+        c = dom.to_sympy(c)
+        out.append((m, Fraction(int(c.p), int(c.q))))
+    return out
 
-    Returns ``(terms, den, top)``: ``terms`` lists ``(k, exps, c, total)`` with ``k`` the
-    power of E, ``exps`` the powers of the couplings, ``c`` an integer and ``total =
-    sum(exps)``; the polynomial is ``sum c E^k u^exps / den``; ``top`` is the largest
-    ``total``.
+
+class _Form:
+    """Integer form of one Poly in (E, couplings) and its values at points.
+
+    ``terms`` lists ``(k, exps, c, total)`` with ``k`` the power of E, ``exps`` the powers
+    of the couplings, ``c`` an integer and ``total = sum(exps)``; the polynomial is
+    ``sum c E^k u^exps / den``; ``top`` is the largest ``total``.
     """
-    key = id(poly)
-    hit = _TERMS.get(key)
-    if hit is None or hit[0] is not poly:
-        raw = [(m, Fraction(int(c.p), int(c.q)) if hasattr(c, "q") else Fraction(int(c)))
-               for m, c in poly.as_dict(native=False).items()]
-        den = lcm(*(c.denominator for _, c in raw)) if raw else 1
-        terms = [(m[0], m[1:], c.numerator * (den // c.denominator), sum(m[1:])) for m, c in raw]
-        top = max((tt[3] for tt in terms), default=0)
-        hit = _TERMS[key] = (poly, (terms, den, top))
-    return hit[1]
+
+    __slots__ = ("poly", "terms", "den", "top", "deg", "_at")
+
+    def __init__(self, poly, dense=None, raw=None):
+        if raw is None:
+            dense = poly.rep.to_list()
+            raw = _rational_terms(poly, dense, len(poly.gens))
+        den = lcm(*(c.denominator for _, c in raw if isinstance(c, Fraction))) if raw else 1
+        terms = []
+        for m, c in raw:
+            if isinstance(c, Fraction):
+                c = c.numerator * (den // c.denominator)
+            else:
+                c *= den
+            terms.append((m[0], m[1:], c, sum(m[1:])))
+        self.poly = poly
+        self.terms = terms
+        self.den = den
+        self.top = max((tt[3] for tt in terms), default=0)
+        self.deg = len(dense) - 1 if dense else poly.degree(poly.gens[0])
+        self._at = {}
+
+    def top_terms(self):
+        """What :func:`_top_key` returns, read off the integer terms (all scaled by
+        ``den``, which Vieta's ratios do not see)."""
+        d = self.deg
+        tops = tuple((k, tuple((exps, c) for kk, exps, c, _ in self.terms if kk == k))
+                     for k in range(d, max(d - 3, -1), -1))
+        return tuple(g.name for g in self.poly.gens[1:]), d, tops
+
+    def ints_at(self, point):
+        """``(acc, full)``: P(E; point) has the coefficients ``acc[i] / full``, highest first.
+
+        Integer arithmetic throughout: with the coupling values ``x_i = n_i / q`` over a
+        common denominator ``q``, each term contributes ``c prod n_i^e_i q^(top - total)``
+        and every coefficient is ``full = den q^top`` times that sum.  Cached per point
+        object (points are not changed once used).
+        """
+        hit = self._at.get(id(point))
+        if hit is not None and hit[0] is point:
+            return hit[1]
+        vals = [point[g] for g in self.poly.gens[1:]]
+        q = lcm(*(int(v.q) for v in vals)) if vals else 1
+        nums = [int(v.p) * (q // int(v.q)) for v in vals]
+        deg, top = self.deg, self.top
+        powers = [{} for _ in nums]
+        qpow = [1]
+        for _ in range(top):
+            qpow.append(qpow[-1] * q)
+        acc = [0] * (deg + 1)
+        for k, exps, c, total in self.terms:
+            v = c
+            for i, e in enumerate(exps):
+                if e:
+                    pw = powers[i].get(e)
+                    if pw is None:
+                        pw = powers[i][e] = nums[i] ** e
+                    v *= pw
+            acc[deg - k] += v * qpow[top - total]
+        out = (tuple(acc), self.den * qpow[top])
+        self._at[id(point)] = (point, out)
+        return out
+
+
+class _Forms:
+    """The :class:`_Form` of every polynomial one verification call meets.
+
+    Equal polynomials in separate objects (a factor in every block of its multiplet)
+    share one form, and so its values at the points.  Lives for one call (it holds the
+    polynomials alive), so nothing is reused across solves.
+    """
+
+    def __init__(self):
+        self._by_id = {}            # id(poly) -> (poly, form)
+        self._by_content = {}       # (generators, terms) -> form
+
+    def __call__(self, poly):
+        hit = self._by_id.get(id(poly))
+        if hit is not None and hit[0] is poly:
+            return hit[1]
+        dense = poly.rep.to_list()
+        raw = _rational_terms(poly, dense, len(poly.gens))
+        key = (poly.gens, tuple(raw))
+        form = self._by_content.get(key)
+        if form is None:
+            form = self._by_content[key] = _Form(poly, dense, raw)
+        self._by_id[id(poly)] = (poly, form)
+        return form
+
+    def known(self, poly):
+        """The form of `poly` if this call has read it, else None."""
+        hit = self._by_id.get(id(poly))
+        return hit[1] if hit is not None and hit[0] is poly else None
 
 
 def coeffs_at(poly, point):
     """Coefficients (highest power of E first) of P(E; point) as Fractions.
 
-    Integer arithmetic throughout: with the coupling values ``x_i = n_i / q`` over a
-    common denominator ``q``, each term contributes ``c prod n_i^e_i q^(top - total)``
-    and every coefficient is divided by ``den q^top`` once at the end.
+    Exact integer arithmetic (:meth:`_Form.ints_at`), one division per coefficient.
     """
-    gens = poly.gens
-    vals = [point[g] for g in gens[1:]]
-    q = lcm(*(int(v.q) for v in vals)) if vals else 1
-    nums = [int(v.p) * (q // int(v.q)) for v in vals]
-    deg = poly.degree(gens[0])
-    terms, den, top = _int_terms(poly)
-    powers = [{} for _ in nums]
-    qpow = [1]
-    for _ in range(top):
-        qpow.append(qpow[-1] * q)
-    acc = [0] * (deg + 1)
-    for k, exps, c, total in terms:
-        v = c
-        for i, e in enumerate(exps):
-            if e:
-                pw = powers[i].get(e)
-                if pw is None:
-                    pw = powers[i][e] = nums[i] ** e
-                v *= pw
-        acc[deg - k] += v * qpow[top - total]
-    full = den * qpow[top]
+    acc, full = _Form(poly).ints_at(point)
     return [Fraction(a, full) for a in acc]
 
 
-def _power_sums(poly):
+def _power_sums(poly, top=None):
     """Exact (sum of roots, sum of squared roots) of a Poly in E, as label polynomials.
 
     Vieta: with P = c_d E^d + c_{d-1} E^{d-1} + c_{d-2} E^{d-2} + ..., c_d a
-    constant, e1 = -c_{d-1}/c_d and sum r^2 = e1^2 - 2 c_{d-2}/c_d.
+    constant, e1 = -c_{d-1}/c_d and sum r^2 = e1^2 - 2 c_{d-2}/c_d.  ``top`` is
+    :func:`_top_key` of the polynomial when the caller has it.  Coefficients of the
+    result are ints for a monic integer polynomial (up to sign), Fractions otherwise.
     """
-    gens = poly.gens
-    names = [g.name for g in gens[1:]]
-    d = poly.degree(gens[0])
+    names, d, tops = _top_key(poly) if top is None else top
     lead = None
     c1, c2 = {}, {}
-    for k, coeffs in _top_coefficients(poly, d):
-        for monom, c in coeffs.items():
-            c = poly.domain.to_sympy(c)
-            coeff = Fraction(int(c.p), int(c.q))
+    for k, coeffs in tops:
+        for monom, coeff in coeffs:
             key = tuple(sorted(n for n, e in zip(names, monom) for _ in range(e)))
             if k == d:
                 if key:
                     raise VerificationError("leading coefficient in E is not a constant")
-                lead = coeff
+                lead = Fraction(coeff)
             elif k == d - 1:
                 c1[key] = c1.get(key, 0) + coeff
             else:
                 c2[key] = c2.get(key, 0) + coeff
-    e1 = {k: -v / lead for k, v in c1.items()}
-    p2 = _padd(_pmul(e1, e1), {k: v / lead for k, v in c2.items()}, -2)
+    if lead in (1, -1) and all(type(v) is int for v in (*c1.values(), *c2.values())):
+        lead = int(lead)        # a monic integer polynomial (every level's, up to sign)
+        e1 = {k: -v * lead for k, v in c1.items()}
+        p2 = _padd(_pmul(e1, e1), {k: v * lead for k, v in c2.items()}, -2)
+    else:
+        e1 = {k: -v / lead for k, v in c1.items()}
+        p2 = _padd(_pmul(e1, e1), {k: v / lead for k, v in c2.items()}, -2)
     return _clean(e1), _clean(p2)
 
 
-def _top_coefficients(poly, d):
-    """[(k, {coupling exponents: coefficient})] for k = d, d-1, d-2 (powers of E, k >= 0).
+def _top_key(poly):
+    """``(coupling names, d, [(k, ((coupling exponents, coefficient), ...))])`` for the
+    powers k = d, d-1, d-2 of E (k >= 0): all that :func:`_power_sums` reads, hashable.
 
     Read off the dense representation (highest power of E first), so that only the three
     top coefficients are converted: a level polynomial of degree 336 has ~10^5 terms.
     """
+    gens = poly.gens
     rep = poly.rep.to_list()
-    u = len(poly.gens) - 1
-    out = []
+    d = len(rep) - 1 if rep else poly.degree(gens[0])
+    u = len(gens) - 1
+    tops = []
     for j, k in enumerate(range(d, max(d - 3, -1), -1)):
         sub = rep[j]
-        out.append((k, ({(): sub} if sub else {}) if u == 0 else dmp_to_dict(sub, u - 1)))
-    return out
+        if u == 0:
+            terms = tuple(((), c) for _, c in _rational_terms(poly, [sub], 1))
+        else:
+            terms = tuple(_rational_terms(poly, sub, u)) if sub else ()
+        tops.append((k, terms))
+    return tuple(g.name for g in gens[1:]), d, tuple(tops)
 
 
 def _numeric_matrix(terms, dim, point_by_label):
@@ -281,28 +434,45 @@ def _mod(fr, prime):
     return fr.numerator % prime * pow(fr.denominator % prime, -1, prime) % prime
 
 
+def _nmod_matrix(entries, dim, prime):
+    """A dim x dim nmod_mat from sparse integer entries {(i, j): int} (reduced by flint)."""
+    m = flint.nmod_mat(dim, dim, prime)
+    for (i, j), a in entries.items():
+        m[i, j] = a
+    return m
+
+
 def _charpoly_mod(terms, dim, point_by_label, prime):
     """Characteristic polynomial det(x - H) of a sector at a rational point, modulo ``prime``."""
     vals = {l: _mod(Fraction(int(v.p), int(v.q)), prime) for l, v in point_by_label.items()}
-    flat = [0] * (dim * dim)
+    entries = {}
     for l, mat in terms.items():
         v = vals[l]
-        for (i, j), a in mat.items():
-            flat[i * dim + j] = (flat[i * dim + j] + a * v) % prime
-    return flint.nmod_mat(dim, dim, flat, prime).charpoly()
+        for key, a in mat.items():
+            entries[key] = entries.get(key, 0) + a * v
+    return _nmod_matrix(entries, dim, prime).charpoly()
 
 
-def _poly_mod(poly, point, prime, cache):
-    """Monic P(x; point) modulo ``prime`` as an nmod_poly."""
-    key = (id(poly), id(point))
-    if key not in cache:
-        cache[key] = coeffs_at(poly, point)
-    cs = [_mod(c, prime) for c in reversed(cache[key])]
-    out = flint.nmod_poly(cs, prime)
+def _poly_mod(form, point, prime, cache):
+    """Monic P(x; point) modulo ``prime`` as an nmod_poly (``form``: the :class:`_Form` of P).
+
+    ``cache`` holds the results for this point and prime by form, so equal polynomials
+    in separate objects are reduced once.
+    """
+    hit = cache.get(id(form))
+    if hit is not None:
+        return hit
+    acc, full = form.ints_at(point)
+    if full % prime:
+        # the monic polynomial does not depend on the common denominator ``full``
+        cs = [a % prime for a in reversed(acc)]
+    else:
+        cs = [_mod(Fraction(a, full), prime) for a in reversed(acc)]
     lead = cs[-1]
     if lead == 0:
         _fail(f"leading coefficient of a level polynomial vanishes modulo {prime}")
-    return out * pow(lead, -1, prime)
+    out = cache[id(form)] = flint.nmod_poly(cs, prime) * pow(lead, -1, prime)
+    return out
 
 
 def verify_blocks(blocks, results, seed, n_points=2):
@@ -323,34 +493,57 @@ def verify_blocks(blocks, results, seed, n_points=2):
     points = random_points(symbols, n_points, seed + 7)
     rng = random.Random(seed + 8)
     primes = [int(sympy.nextprime(rng.randrange(2 ** 61, 2 ** 62))) for _ in points]
+    forms = _Forms()
     for pt, prime in zip(points, primes):
         vals = {s.name: _mod(Fraction(int(v.p), int(v.q)), prime) for s, v in pt.items()}
+        inverses = {}           # denominator of a block entry -> its inverse modulo the prime
+        reduced = {}            # polynomial coefficients at the point -> monic nmod_poly
         for spec, factors in zip(blocks, results):
             blk = spec.block
             n = blk.dim
-            flat = [0] * (n * n)
+            entries = {}
             for lab, mat in blk.terms.items():
                 v = vals[lab]
-                for (i, j), a in mat.items():
-                    flat[i * n + j] = (flat[i * n + j] + _mod(Fraction(a), prime) * v) % prime
-            cp = flint.nmod_mat(n, n, flat, prime).charpoly() if n else flint.nmod_poly([1], prime)
+                for key, a in mat.items():
+                    if type(a) is not int:
+                        if type(a) is not Fraction:
+                            a = Fraction(a)
+                        d = a.denominator
+                        if d == 1:
+                            a = a.numerator
+                        else:
+                            inv = inverses.get(d)
+                            if inv is None:
+                                inv = inverses[d] = pow(d % prime, -1, prime)
+                            a = a.numerator * inv
+                    entries[key] = entries.get(key, 0) + a * v
+            cp = _nmod_matrix(entries, n, prime).charpoly() if n else flint.nmod_poly([1], prime)
             prod = flint.nmod_poly([1], prime)
             for fac, mult, _ in factors:
-                prod *= _poly_mod(fac, pt, prime, {}) ** mult
+                prod *= _poly_mod(forms(fac), pt, prime, reduced) ** mult
             if prod != cp:
                 _fail(f"block {spec.labels} (dimension {n}): its characteristic polynomial at "
                       f"{pt} differs from the product of its computed factors (modulo {prime})")
     return len(blocks)
 
 
-def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, tries=5):
+def _first_equal(levels):
+    """For each level, the index of the first level with an equal energy."""
+    first = {}
+    return [first.setdefault(lev.energy, i) for i, lev in enumerate(levels)]
+
+
+def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, tries=5, first=None):
     """Values of all levels at ``points[pi]``; a point where a closed form is 0/0 is redrawn.
 
     A random rational point can, rarely, fall where roots of some level polynomial
     merge and its closed form is undefined (for instance a vanishing discriminant);
     such a point says nothing about correctness, so it is replaced in ``points`` by
-    a fresh one (the same for every check that follows).
+    a fresh one (the same for every check that follows).  ``first`` is
+    :func:`_first_equal` of the levels, if the caller has it.
     """
+    levels = spectrum.levels
+    first = _first_equal(levels) if first is None else first
     last = None
     for attempt in range(tries):
         pt = points[pi]
@@ -359,13 +552,10 @@ def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, tries=5
             # compare these values with the polynomials and with the blocks
             # levels that share an energy (multiplets in several label sets, twins) share
             # its value: each distinct closed form or implicit root is evaluated once
-            seen = {}
             out = []
-            for lev in spectrum.levels:
-                val = seen.get(lev.energy)
-                if val is None:
-                    val = seen[lev.energy] = energy_numeric(lev.energy, pt, digits + 5)
-                out.append(val)
+            for i, lev in enumerate(levels):
+                k = first[i]
+                out.append(energy_numeric(lev.energy, pt, digits + 5) if k == i else out[k])
             return out
         except (ZeroDivisionError, ValueError, ModelError) as exc:
             last = exc
@@ -392,13 +582,6 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     sum rules, but not the numerical eigenvalue checks: their levels are the
     checked ones moved by an exactly proven symmetry.
     """
-    try:
-        return _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, executor)
-    finally:
-        _TERMS.clear()      # the integer forms hold the level polynomials alive
-
-
-def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, executor):
     model = spectrum.model
     report = spectrum.verification
     L = model.n_sites
@@ -410,9 +593,7 @@ def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, execut
     # one random 62-bit prime per point
     primes = [int(sympy.nextprime(rng.randrange(2 ** 61, 2 ** 62))) for _ in points]
     report.primes = primes
-    coeff_cache = {}
-    sums_cache = {}
-    _TERMS.clear()
+    forms = _Forms()        # integer forms of the level polynomials, for this call only
     wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
 
     # 1. state counting
@@ -423,7 +604,8 @@ def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, execut
     report.add("state count", f"N in {sorted(wanted)}", worst=0.0, states=total)
 
     # numeric values of every level at every point (closed forms and implicit roots);
-    # with an executor, the certified isolations of high-degree factors run on it first
+    # with an executor, the certified isolations of high-degree factors run on it first;
+    # closed forms share the values of common subexpressions (shared_evaluation)
     values = []
     try:
         if executor is not None:
@@ -433,9 +615,11 @@ def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, execut
                     and l.energy.degree >= LAGUERRE_MIN_DEGREE}
             keys = [isolation_key(r, pt, digits + 5) for pt in points for r in reps.values()]
             prefetch_isolations(keys, executor)
-        with mpmath.workdps(digits + 10):
+        first = _first_equal(spectrum.levels)
+        with mpmath.workdps(digits + 10), shared_evaluation():
             for pi in range(len(points)):
-                values.append(_values_at_usable_point(spectrum, symbols, points, pi, seed, digits))
+                values.append(_values_at_usable_point(spectrum, symbols, points, pi, seed, digits,
+                                                      first=first))
     finally:
         clear_prefetched()
 
@@ -445,19 +629,32 @@ def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, execut
         # energies are homogeneous of degree one in the couplings: their scale at a point
         scales = [max(abs(mpmath.mpf(int(v.p)) / int(v.q)) for v in pt.values()) if pt else
                   mpmath.mpf(1) for pt in points]
+        limit = mpmath.mpf(10) ** (-digits)
+        prec, rnd = mpmath.mp._prec_rounding
+        make = mpmath.mp.make_mpf
         for pi, pt in enumerate(points):
-            cache = {}
+            floor = (scales[pi] * mpmath.mpf(10) ** (-digits))._mpf_
+            coeffs = {}     # id(form) -> raw coefficients at the point, and their |.|
+            done = set()    # (id(form), id(value)): a level equal to one checked before
             for li, lev in enumerate(spectrum.levels):
                 if lev.polynomial is None:
                     _fail(f"level {li} has no polynomial")
                 if hasattr(lev.energy, "numeric"):
                     continue   # an implicit root's value is a certified root of this very polynomial
-                key = id(lev.polynomial)
-                if key not in cache:
-                    cache[key] = [mpmath.mpf(c.numerator) / c.denominator
-                                  for c in coeffs_at(lev.polynomial, pt)]
-                dev = root_deviation(cache[key], values[pi][li], scales[pi], digits)
-                if dev > mpmath.mpf(10) ** (-digits):
+                form = forms(lev.polynomial)
+                x = values[pi][li]          # one object per distinct energy
+                key = (id(form), id(x))
+                if key in done:
+                    continue
+                done.add(key)
+                cs = coeffs.get(id(form))
+                if cs is None:
+                    cs = coeffs[id(form)] = _mp_coefficients(*form.ints_at(pt))
+                if type(x) is mpmath.mpf:
+                    dev = make(_raw_deviation(*cs, x._mpf_, floor, prec, rnd))
+                else:
+                    dev = root_deviation([make(c) for c in cs[0]], x, scales[pi], digits)
+                if dev > limit:
                     _fail(f"level {lev.energy} (N={lev.quantum_numbers['N']}) is not a root of its "
                           f"polynomial at {pt}: deviation {mpmath.nstr(dev, 3)}")
                 worst_root = max(worst_root, float(dev))
@@ -466,13 +663,13 @@ def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, execut
     # 3. per sector: counting, sum rules, eigenvalues
     by_sector = {}
     for li, lev in enumerate(spectrum.levels):
-        n = lev.quantum_numbers["N"]
-        for n_up in range(max(0, n - L), min(n, L) + 1):
-            share = sector_share(lev, n_up, n - n_up)
-            if share:
-                by_sector.setdefault((n_up, n - n_up), []).append((li, share))
+        for sector, share in _sector_shares(lev, L):
+            by_sector.setdefault(sector, []).append((li, share))
     worst = {"mp": 0.0, "float": 0.0}
     skipped = 0
+    sums = {}               # Vieta's power sums by polynomial (_check_sum_rules)
+    reduced = [{} for _ in points]      # id(form) -> monic nmod_poly, per point and prime
+    spectra = {}            # mpmath sector matrix -> its eigenvalues (equal sectors once)
     for n in sorted(wanted):
         for n_up in range(max(0, n - L), min(n, L) + 1):
             n_dn = n - n_up
@@ -483,11 +680,12 @@ def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, execut
                 _fail(f"sector (N_up={n_up}, N_dn={n_dn}) has {got} states in the levels, expected {dim}")
             if dim > FLOAT_DIM:
                 continue
-            states = sector_states(L, n_up, n_dn)
-            terms = _sector_terms(model, states)
-            _check_sum_rules(spectrum, members, terms, dim, (n_up, n_dn), sums_cache)
             mirrored = (("spin" in proven and n_up < n_dn)
                         or ("eta" in proven and n > L and (2 * L - n) in wanted))
+            states = sector_states(L, n_up, n_dn)
+            terms, tr1, tr2 = _sector_terms(model, states)
+            groups = _factor_groups(spectrum, members, (n_up, n_dn))
+            _check_sum_rules(groups, tr1, tr2, (n_up, n_dn), sums, forms)
             if mirrored:
                 skipped += 1
                 continue
@@ -497,17 +695,13 @@ def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, execut
             for pi, pt in enumerate(use_points):
                 by_label = {s.name: pt[s] for s in symbols}
                 level_vals = []
-                for li, share in members:
-                    level_vals.extend([values[pi][li]] * share)
-                level_vals.sort()
+                if dim <= MP_DIM or dim > EXACT_DIM:     # the tiers that compare values
+                    for li, share in members:
+                        level_vals.extend([values[pi][li]] * share)
+                    level_vals.sort()
                 if dim <= MP_DIM:
                     with mpmath.workdps(digits + 10):
-                        a = mpmath.matrix(dim, dim)
-                        for l, mat in terms.items():
-                            v = mpmath.mpf(by_label[l].p) / by_label[l].q
-                            for (i, j), c in mat.items():
-                                a[i, j] += c * v
-                        ev = sorted(mpmath.eigsy(a, eigvals_only=True)) if dim > 1 else [a[0, 0]]
+                        ev = _mp_eigenvalues(terms, dim, by_label, spectra)
                         dev = max((abs(x - y) / max(1, abs(y)) for x, y in zip(level_vals, ev)),
                                   default=mpmath.mpf(0))
                         if dev > mpmath.mpf(10) ** (-digits):
@@ -515,15 +709,15 @@ def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, execut
                                   f"eigenvalues by {mpmath.nstr(dev, 3)}")
                         worst["mp"] = max(worst["mp"], float(dev))
                 elif dim <= EXACT_DIM:
-                    for prime in primes[pi:pi + 1]:
-                        cp = _charpoly_mod(terms, dim, by_label, prime)
-                        prod = flint.nmod_poly([1], prime)
-                        for p, share in _factor_groups(spectrum, members, (n_up, n_dn)):
-                            prod *= _poly_mod(p, pt, prime, coeff_cache) ** share
-                        if prod != cp:
-                            _fail(f"sector ({n_up},{n_dn}): characteristic polynomial at {pt} "
-                                  f"differs from the product of the level polynomials "
-                                  f"(exact comparison modulo the prime {prime})")
+                    prime = primes[pi]
+                    cp = _charpoly_mod(terms, dim, by_label, prime)
+                    prod = flint.nmod_poly([1], prime)
+                    for p, share in groups:
+                        prod *= _poly_mod(forms(p), pt, prime, reduced[pi]) ** share
+                    if prod != cp:
+                        _fail(f"sector ({n_up},{n_dn}): characteristic polynomial at {pt} "
+                              f"differs from the product of the level polynomials "
+                              f"(exact comparison modulo the prime {prime})")
                 else:
                     ev = np.linalg.eigvalsh(_numeric_matrix(terms, dim, by_label))
                     lv = np.array([float(x) for x in level_vals])
@@ -545,6 +739,54 @@ def _verify_spectrum(spectrum, electrons, digits, seed, n_points, proven, execut
     return report
 
 
+def _sector_shares(level, L):
+    """[((n_up, n_dn), states)] of ``level`` in each sector of its N (:func:`sector_share`).
+
+    The spin label is read once per level; each sector's share is then integer arithmetic.
+    """
+    qn = level.quantum_numbers
+    n = qn["N"]
+    sectors = [(n_up, n - n_up) for n_up in range(max(0, n - L), min(n, L) + 1)]
+    spin = qn.get("S", qn.get("Sz"))
+    if isinstance(spin, sympy.Rational) and spin.q in (1, 2):
+        twice = spin.p * (2 // spin.q)
+    elif isinstance(spin, int):
+        twice = 2 * spin
+    else:
+        twice = None
+    if twice is None:
+        out = [(sec, sector_share(level, *sec)) for sec in sectors]
+        return [(sec, share) for sec, share in out if share]
+    if "S" in qn:
+        per = level.degeneracy // (twice + 1)
+        return [((u, d), per) for u, d in sectors if abs(u - d) <= twice and per]
+    return [((u, d), level.degeneracy) for u, d in sectors
+            if u - d == twice and level.degeneracy]
+
+
+def _mp_eigenvalues(terms, dim, by_label, spectra):
+    """Ascending mpmath eigenvalues (``eigsy``) of a small sector at a rational point.
+
+    The matrix is summed entry by entry, label after label, at the working precision;
+    ``spectra`` holds the eigenvalues of the matrices met before in this call (equal
+    matrices, entry for entry, have the same eigenvalues).
+    """
+    entries = {}
+    for l, mat in terms.items():
+        v = mpmath.mpf(by_label[l].p) / by_label[l].q
+        for key, c in mat.items():
+            entries[key] = entries.get(key, 0) + c * v
+    key = (dim, mpmath.mp.prec, tuple(sorted((k, x._mpf_) for k, x in entries.items())))
+    ev = spectra.get(key)
+    if ev is None:
+        a = mpmath.matrix(dim, dim)
+        for (i, j), x in entries.items():
+            a[i, j] = x
+        ev = spectra[key] = (sorted(mpmath.eigsy(a, eigvals_only=True, overwrite_a=True))
+                             if dim > 1 else [a[0, 0]])
+    return ev
+
+
 def _factor_groups(spectrum, members, sector):
     """[(polynomial, states per root)] of a sector; every root of each factor must be present."""
     groups = {}
@@ -553,21 +795,33 @@ def _factor_groups(spectrum, members, sector):
         groups.setdefault(id(p), [p, 0, share])[1] += 1
     out = []
     for p, count, share in groups.values():
-        dp = p.degree(p.gens[0])
+        dp = p.rep.degree(0)            # the degree in E, the first generator
         if count != dp:
             _fail(f"sector {sector} holds {count} of the {dp} roots of one factor")
         out.append((p, share))
     return out
 
 
-def _check_sum_rules(spectrum, members, terms, dim, sector, sums_cache):
-    tr1, tr2 = _traces(terms)
+def _check_sum_rules(groups, tr1, tr2, sector, sums, forms):
+    """sum(deg E) = Tr H and sum(deg E^2) = Tr H^2 of one sector, exactly in the couplings.
+
+    ``groups`` from :func:`_factor_groups`; ``sums`` caches Vieta's power sums by the
+    polynomial object, and by its :class:`_Form` where this call has one (else by its
+    top three coefficients in E, all that they depend on), so the factor of a
+    multiplet in each of its Sz sectors, and equal factors in separate objects, are
+    summed once per call.
+    """
     s1, s2 = {}, {}
-    for p, share in _factor_groups(spectrum, members, sector):
-        # one polynomial appears in every Sz sector of its multiplet: Vieta once per run
-        hit = sums_cache.get(id(p))
+    for p, share in groups:
+        hit = sums.get(id(p))
         if hit is None or hit[0] is not p:
-            hit = sums_cache[id(p)] = (p, _power_sums(p))
+            form = forms.known(p)
+            key = ("form", id(form)) if form is not None else _top_key(p)
+            by_key = sums.get(key)
+            if by_key is None:
+                by_key = sums[key] = _power_sums(p, form.top_terms() if form is not None
+                                                 else key)
+            hit = sums[id(p)] = (p, by_key)
         e1, e2 = hit[1]
         _padd(s1, e1, share)
         _padd(s2, e2, share)

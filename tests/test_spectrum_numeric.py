@@ -23,7 +23,7 @@ import pytest
 import sympy
 
 import symcluster as sc
-from symcluster.spectrum import _RootCounter, energy_numeric
+from symcluster.spectrum import _RootCounter, energy_numeric, shared_evaluation
 from reference_fock import FockReference
 
 R = sympy.Rational
@@ -257,3 +257,113 @@ def test_a_level_that_is_exactly_zero_is_returned_as_zero():
     assert energy_numeric(U / 2 - root, point, 30, poly) == 0
     with mpmath.workdps(30):
         assert energy_numeric(U / 2 + root, point, 30, poly) == mpmath.mpf(4) / 3
+
+
+# ---------------------------------------------------------------- closed forms without a polynomial
+# energy_numeric(form, point, digits) evaluates a closed form with mpmath at 2 digits + 10
+# working digits; inside shared_evaluation() forms share the values of common
+# subexpressions.  The references below are a plain recursive mpmath walk written here
+# (one mpmath operation per node: fsum for sums, products from 1 left to right, ** for
+# integer powers, mpmath.sqrt/cos/... for the rest) and sympy's own evalf at 150 digits.
+
+_T, _U = sympy.symbols("t U", real=True)
+
+
+def _walk(expr, env):
+    if expr.is_Symbol:
+        return env[expr]
+    if expr.is_Rational:
+        return mpmath.mpf(int(expr.p)) / int(expr.q)
+    if expr is sympy.pi:
+        return +mpmath.pi
+    if expr.is_Add:
+        return mpmath.fsum([_walk(a, env) for a in expr.args])
+    if expr.is_Mul:
+        out = mpmath.mpf(1)
+        for a in expr.args:
+            out = out * _walk(a, env)
+        return out
+    if expr.is_Pow:
+        base = _walk(expr.base, env)
+        if expr.exp.is_Integer:
+            return base ** int(expr.exp)
+        if expr.exp == sympy.S.Half:
+            return mpmath.sqrt(base)
+        return mpmath.power(base, _walk(expr.exp, env))
+    fn = {sympy.cos: mpmath.cos, sympy.sin: mpmath.sin, sympy.tan: mpmath.tan,
+          sympy.acos: mpmath.acos, sympy.asin: mpmath.asin, sympy.atan: mpmath.atan,
+          sympy.exp: mpmath.exp, sympy.log: mpmath.log, sympy.Abs: abs}[expr.func]
+    return fn(*[_walk(a, env) for a in expr.args])
+
+
+def _plain_value(expr, point, digits):
+    with mpmath.workdps(2 * digits + 10):
+        env = {s: mpmath.mpf(int(v.p)) / int(v.q) for s, v in point.items()}
+        val = _walk(expr, env)
+        return +(val.real if isinstance(val, mpmath.mpc) else val)
+
+
+_FORMS = [
+    _U / 2 + sympy.sqrt(_U**2 + 16 * _T**2) / 2,
+    _U / 2 - sympy.sqrt(_U**2 + 16 * _T**2) / 2,
+    _U / 3 + 2 * sympy.sqrt(_U**2 + 48 * _T**2) / 3 * sympy.cos(
+        sympy.acos((2 * _U**3 - 72 * _U * _T**2) / (2 * (_U**2 + 48 * _T**2) ** R(3, 2))) / 3),
+    _U - sympy.sqrt(_U**2 / 4 + 8 * _T**2 - _T * sympy.sqrt(3 * _U**2 + 64 * _T**2)),
+    sympy.sin(sympy.pi / 7 + _T) * sympy.Abs(_U) + sympy.atan(_T / _U) - sympy.tan(_T) ** 2,
+    sympy.exp(_T / 10) - sympy.log(_U**2 + 1) + sympy.asin(_T / (2 * sympy.Abs(_T) + 1)),
+    (_U**2 + _T**2) ** R(3, 2) / (_U**2 + 1) ** R(5, 3),
+    -sympy.sqrt(-(_U**2) - _T**2) ** 2,             # a complex intermediate, a real value
+    R(-7, 3),
+]
+
+
+@pytest.mark.parametrize("point", [{_T: R(265, 107), _U: R(835, 107)},
+                                   {_T: R(-378, 103), _U: R(-659, 103)},
+                                   {_T: R(1, 137), _U: R(900, 137)}])
+def test_closed_forms_equal_a_plain_mpmath_walk_shared_or_not(point):
+    alone = [energy_numeric(f, point, 30) for f in _FORMS]
+    with shared_evaluation():
+        shared = [energy_numeric(f, point, 30) for f in _FORMS + _FORMS[::-1]]
+    for f, a, s, s2 in zip(_FORMS, alone, shared, shared[len(_FORMS):][::-1]):
+        want = _plain_value(f, point, 30)
+        assert a == want and s == want and s2 == want, f        # the same rounding, bit for bit
+        with mpmath.workdps(150):
+            exact = mpmath.mpf(str(sympy.re(f.subs(point).evalf(150))))
+            assert abs(a - exact) <= mpmath.mpf(10) ** -60 * (1 + abs(exact)), f
+
+
+def test_shared_evaluation_computes_a_common_square_root_once():
+    from symcluster.spectrum import _Program, _SQRT
+    prog = _Program()
+    point = {_T: R(2, 7), _U: R(3, 5)}
+    with mpmath.workdps(70):
+        prog.evaluate(_FORMS[0], point)
+        prog.evaluate(_FORMS[1], point)
+    # U/2 +- sqrt(U^2 + 16 t^2)/2 contain one square root between them
+    assert sum(1 for op in prog._ops if op[2][0] == _SQRT) == 1
+
+
+def test_sign_of_a_rational_argument_is_exact():
+    # t sign(U - 3t) + U at U = 3t is exactly U (sympy, exact: sign(0) = 0), although
+    # 3t rounded to binary is not 3 times t rounded; elsewhere U +- t
+    form = _T * sympy.sign(_U - 3 * _T) + _U
+    for point in ({_T: R(1, 101), _U: R(3, 101)}, {_T: R(5, 103), _U: R(15, 103)},
+                  {_T: R(3, 101), _U: R(13, 101)}, {_T: R(-3, 101), _U: R(1, 101)}):
+        want = form.subs(point)
+        with mpmath.workdps(70):        # the working precision of 30 digits: 2 * 30 + 10
+            got = energy_numeric(form, point, 30)
+            assert abs(got - mpmath.mpf(int(want.p)) / int(want.q)) < mpmath.mpf(10) ** -65
+
+
+def test_a_form_that_is_not_real_raises():
+    with pytest.raises(ArithmeticError):
+        energy_numeric(sympy.sqrt(-(_U**2) - 1), {_U: R(1, 3)}, 30)
+    with shared_evaluation(), pytest.raises(ArithmeticError):
+        energy_numeric(_T + sympy.sqrt(-(_U**2) - 1), {_T: R(1, 2), _U: R(1, 3)}, 30)
+
+
+def test_a_node_without_an_mpmath_operation_uses_sympy():
+    # floor is not a node of closed forms: sympy evaluates it (floor(7/3 * 3/2) = 3)
+    form = sympy.floor(_T * _U) + _T
+    with mpmath.workdps(70):
+        assert energy_numeric(form, {_T: R(7, 3), _U: R(3, 2)}, 30) == 3 + mpmath.mpf(7) / 3

@@ -3,6 +3,7 @@
 import random
 from fractions import Fraction
 
+import mpmath
 import pytest
 import sympy
 
@@ -62,3 +63,153 @@ def test_sum_rule_catches_a_shifted_level_polynomial():
     lev.energy = tv + uv
     with pytest.raises(VerificationError, match="sum rule"):
         verify_spectrum(spec, electrons=[1], seed=5)
+
+
+# ---------------------------------------------------------------- the pieces of the checks
+
+def _reference_sector(cluster, n_up, n_dn):
+    """Integer matrices per coupling of one sector of the Jordan-Wigner reference, in the
+    order of symcluster's sector basis (mapped through the reference's state index)."""
+    from symcluster.fock import sector_states
+    from reference_fock import FockReference
+    labels = {i: lab for i, lab in enumerate(cluster.site_labels) if lab}
+    ref = FockReference(cluster.n_sites, list(cluster.bonds), labels)
+    states = sector_states(cluster.n_sites, n_up, n_dn)
+    idx = [FockReference.state_index(u, d, cluster.n_sites) for u, d in states]
+    return states, {k: v[idx][:, idx].toarray() for k, v in ref.terms.items()}
+
+
+_CLUSTERS = {"ring4": lambda: sc.ring(4),
+             "labels": lambda: sc.cluster(4, [(0, 1), (1, 2, "tp"), (2, 3)],
+                                          site_labels={1: "e", 3: "e"})}
+
+
+@pytest.mark.parametrize("name", sorted(_CLUSTERS))
+@pytest.mark.parametrize("sector", [(1, 0), (1, 1), (2, 1), (2, 2), (3, 1)])
+def test_sector_matrix_and_traces_match_the_fock_reference(name, sector):
+    # Tr H = sum_l u_l tr A_l and Tr H^2 = sum_l1,l2 u_l1 u_l2 sum_ij A_l1[i,j] A_l2[i,j]
+    # with A_l the reference's integer matrices (numpy), keys sorted label tuples
+    from symcluster.verify import _sector_terms
+    cluster = _CLUSTERS[name]()
+    model = sc.hubbard(cluster)
+    states, ref = _reference_sector(cluster, *sector)
+    terms, tr1, tr2 = _sector_terms(model, states)
+    for lab, mat in ref.items():
+        got = terms.get(lab, {})
+        want = {(i, j): int(mat[i, j]) for i in range(len(states)) for j in range(len(states))
+                if mat[i, j]}
+        assert got == want, lab
+    want1 = {(l,): int(m.trace()) for l, m in ref.items() if m.trace()}
+    want2 = {}
+    for l1, m1 in ref.items():
+        for l2, m2 in ref.items():
+            key = tuple(sorted((l1, l2)))
+            want2[key] = want2.get(key, 0) + int((m1 * m2).sum())
+    assert tr1 == want1
+    assert tr2 == {k: v for k, v in want2.items() if v}
+
+
+def test_sector_charpoly_modulo_a_prime_matches_sympy():
+    # det(x - H) of the reference's (2, 1) sector at a rational point, by sympy over Q,
+    # then reduced modulo the prime coefficient by coefficient
+    from symcluster.verify import _charpoly_mod, _sector_terms
+    cluster = _CLUSTERS["labels"]()
+    model = sc.hubbard(cluster)
+    states, ref = _reference_sector(cluster, 2, 1)
+    point = {"t": sympy.Rational(-7, 13), "tp": sympy.Rational(5, 3), "U": sympy.Rational(9, 2),
+             "e": sympy.Rational(-1, 6)}
+    prime = 2305843009213693951                       # 2^61 - 1, a Mersenne prime
+    H = sum((sympy.Matrix(m.tolist()) * point[l] for l, m in ref.items()),
+            sympy.zeros(len(states)))
+    want = [c % prime if c.q == 1 else c.p * pow(c.q, -1, prime) % prime
+            for c in reversed(H.charpoly(x).all_coeffs())]
+    got = _charpoly_mod(_sector_terms(model, states)[0], len(states), point, prime)
+    assert [int(c) for c in got.coeffs()] == want
+
+
+def test_polynomials_modulo_a_prime_are_monic_reductions():
+    # P(E; point) reduced modulo p and made monic, against sympy substitution; equal
+    # polynomials in separate objects share one form (and one reduction)
+    from symcluster.verify import _Forms, _poly_mod
+    prime = 2305843009213693951
+    P = sympy.Poly(3 * E**2 - sympy.Rational(5, 2) * E * t + U**2 - 7, E, t, U, domain=sympy.QQ)
+    Q = sympy.Poly(3 * E**2 - sympy.Rational(5, 2) * E * t + U**2 - 7, E, t, U, domain=sympy.QQ)
+    point = {t: sympy.Rational(4, 9), U: sympy.Rational(-2, 3)}
+    forms, cache = _Forms(), {}
+    assert forms(P) is forms(Q)
+    got = _poly_mod(forms(P), point, prime, cache)
+    cs = sympy.Poly(P.as_expr().subs(point), E).all_coeffs()[::-1]
+    lead = cs[-1].p * pow(cs[-1].q, -1, prime) % prime
+    want = [c.p * pow(c.q, -1, prime) * pow(lead, -1, prime) % prime for c in cs]
+    assert [int(c) for c in got.coeffs()] == want
+    assert _poly_mod(forms(Q), point, prime, cache) is got
+
+
+def test_mp_coefficients_are_mpmath_quotients_of_lowest_terms():
+    # mpmath.mpf(n) / d with n / d in lowest terms (mpmath itself), also where the
+    # numerator has more bits than the working precision
+    from symcluster.verify import _mp_coefficients
+    full = 3 ** 5 * 2 ** 7 * 101
+    acc = [full, -6 * 101, 7, 0, 5 ** 300 * 3, -(2 ** 400) * 101 + 1]
+    with mpmath.workdps(40):
+        raw, absolute = _mp_coefficients(acc, full)
+        for a, r, s in zip(acc, raw, absolute):
+            f = Fraction(a, full)
+            want = mpmath.mpf(f.numerator) / f.denominator
+            assert r == want._mpf_ and s == abs(want)._mpf_, a
+
+
+@pytest.mark.parametrize("seed", range(20))
+def test_root_deviation_is_mpmath_polyval_bit_for_bit(seed):
+    # |P(x)| / sum |c_k| r^k, r = max(|x|, scale 10^-digits), with mpmath.polyval (mpmath)
+    from symcluster.verify import root_deviation
+    rng = random.Random(seed)
+    with mpmath.workdps(40):
+        cs = [mpmath.mpf(rng.randint(-999, 999)) / rng.randint(1, 99)
+              for _ in range(rng.randint(1, 5))]
+        cs[0] = cs[0] or mpmath.mpf(1)
+        with mpmath.workdps(80):
+            x = mpmath.mpf(rng.randint(-999, 999)) / rng.choice([7, 101, 3 ** 40])
+            if seed % 5 == 0:
+                x = mpmath.mpf(0)
+        scale = mpmath.mpf(rng.randint(1, 900)) / 107
+        val = mpmath.polyval(cs, x)
+        r = max(abs(x), scale * mpmath.mpf(10) ** -30)
+        size = mpmath.polyval([abs(c) for c in cs], r)
+        want = abs(val) / size if size else abs(val)
+        assert root_deviation(cs, x, scale, 30) == want
+
+
+def test_sector_shares_split_multiplets_over_sz_sectors():
+    # S = 1 with degeneracy 6 (two copies of a triplet) on 4 sites, N = 4: Sz = -1, 0, 1 hold
+    # 2 states each; S = 1/2 with degeneracy 4, N = 3: Sz = +-1/2 hold 2 each; Sz labels only
+    # put everything in their own sector
+    from symcluster.spectrum import Level
+    from symcluster.verify import _sector_shares
+    half = sympy.Rational(1, 2)
+    assert _sector_shares(Level(U, 6, {"N": 4, "S": sympy.Integer(1)}), 4) == \
+        [((1, 3), 2), ((2, 2), 2), ((3, 1), 2)]
+    assert _sector_shares(Level(U, 4, {"N": 3, "S": half}), 4) == [((1, 2), 2), ((2, 1), 2)]
+    assert _sector_shares(Level(U, 1, {"N": 3, "Sz": -half}), 4) == [((1, 2), 1)]
+    assert _sector_shares(Level(U, 1, {"N": 0, "S": sympy.Integer(0)}), 4) == [((0, 0), 1)]
+    with pytest.raises(VerificationError):
+        _sector_shares(Level(U, 1, {"N": 2}), 4)
+
+
+def test_small_sector_eigenvalues_are_mpmath_eigsy():
+    # mpmath.eigsy of the matrix summed at 40 digits (mpmath itself); an equal matrix of
+    # another sector gives the same list
+    from symcluster.verify import _mp_eigenvalues
+    terms = {"t": {(0, 1): -1, (1, 0): -1, (1, 2): -1, (2, 1): -1, (0, 2): 1, (2, 0): 1},
+             "U": {(0, 0): 1, (2, 2): 2}}
+    point = {"t": sympy.Rational(265, 107), "U": sympy.Rational(-835, 107)}
+    spectra = {}
+    with mpmath.workdps(40):
+        got = _mp_eigenvalues(terms, 3, point, spectra)
+        a = mpmath.matrix(3, 3)
+        for lab, mat in terms.items():
+            v = mpmath.mpf(point[lab].p) / point[lab].q
+            for (i, j), c in mat.items():
+                a[i, j] += c * v
+        assert got == sorted(mpmath.eigsy(a, eigvals_only=True))
+        assert _mp_eigenvalues(dict(terms), 3, dict(point), spectra) is got
