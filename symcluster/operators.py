@@ -119,6 +119,12 @@ class HamiltonianAction(dict):
         out = self[state] = self._compute(*state)
         return out
 
+    def image(self, up, dn):
+        """H|up, dn> as ``self[up, dn]`` gives it, computed without being stored (for
+        callers that visit each state once, such as the verification's sector matrices)."""
+        hit = self.get((up, dn))
+        return hit if hit is not None else self._compute(up, dn)
+
     def _compute(self, up, dn):
         if self._merge:
             return tuple((s2, lab, a)

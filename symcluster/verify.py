@@ -35,7 +35,7 @@ from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched,
 from .errors import ModelError, VerificationError
 from .fock import sector_states
 from .models import coupling_symbol
-from .operators import apply_hamiltonian
+from .operators import HamiltonianAction
 from .spectrum import energy_numeric, shared_evaluation
 
 __all__ = ["verify_spectrum", "random_points", "sector_share", "MP_DIM", "EXACT_DIM"]
@@ -149,24 +149,27 @@ def sector_share(level, n_up, n_dn):
     raise VerificationError("level without spin information; cannot assign it to a sector")
 
 
-def _sector_terms(model, states):
+def _sector_terms(model, states, action=None):
     """(terms, Tr H, Tr H^2) of one sector.
 
     ``terms`` is the sparse sector matrix {label: {(i, j): int}} read off the images
     H|state>; the traces are exact polynomials {sorted label tuple: int} of it:
     Tr H sums the diagonal, Tr H^2 = sum_ij H_ij^2 (H is symmetric) sums the squares
     of the entries, sum_l1,l2 u_l1 u_l2 <A_l1, A_l2> over the label matrices A_l.
+    ``action`` is a :class:`~symcluster.operators.HamiltonianAction` of ``model`` to
+    reuse between sectors (its bond masks); images are not stored in it.
     """
+    if action is None:
+        action = HamiltonianAction(model)
     idx = {s: k for k, s in enumerate(states)}
     terms = {}
     for j, s in enumerate(states):
-        for s2, row in apply_hamiltonian(model, *s).items():
+        for s2, lab, a in action.image(*s):
+            m = terms.get(lab)
+            if m is None:
+                m = terms[lab] = {}
             key = (idx[s2], j)
-            for lab, a in row.items():
-                m = terms.get(lab)
-                if m is None:
-                    m = terms[lab] = {}
-                m[key] = a
+            m[key] = m.get(key, 0) + a
     tr1, tr2 = {}, {}
     labels = list(terms)
     for x, l1 in enumerate(labels):
@@ -595,6 +598,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     report.primes = primes
     forms = _Forms()        # integer forms of the level polynomials, for this call only
     wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
+    action = HamiltonianAction(model)        # H on basis states, for the sector matrices
 
     # 1. state counting
     total = sum(l.degeneracy for l in spectrum.levels)
@@ -683,7 +687,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
             mirrored = (("spin" in proven and n_up < n_dn)
                         or ("eta" in proven and n > L and (2 * L - n) in wanted))
             states = sector_states(L, n_up, n_dn)
-            terms, tr1, tr2 = _sector_terms(model, states)
+            terms, tr1, tr2 = _sector_terms(model, states, action)
             groups = _factor_groups(spectrum, members, (n_up, n_dn))
             _check_sum_rules(groups, tr1, tr2, (n_up, n_dn), sums, forms)
             if mirrored:
