@@ -332,15 +332,32 @@ def _shapes_text():
 _NEGATIVE_VALUE = re.compile(r"^-\.?[0-9]")
 
 
-def _attach_negative_values(argv):
-    """``--range -10:10`` -> ``--range=-10:10``: argparse would read a value that starts
-    with a minus sign (and is not a plain number) as an unknown option."""
+def _single_value_options(parser):
+    """Option strings (``--x``) that take exactly one value, in `parser` and its subparsers."""
+    out = set()
+    for action in parser._actions:
+        if isinstance(action, argparse._SubParsersAction):
+            for sub in action.choices.values():
+                out |= _single_value_options(sub)
+        elif (isinstance(action, argparse._StoreAction) and action.nargs is None
+              and action.option_strings):
+            out.update(o for o in action.option_strings if o.startswith("--"))
+    return out
+
+
+def _attach_negative_values(argv, single):
+    """``--range -10:10`` -> ``--range=-10:10`` for the options in `single` (those that
+    take one value): argparse would read a value that starts with a minus sign and is not
+    a plain number as an unknown option.  Options that take a list (``--mu -1 0 1``) are
+    left alone (argparse reads plain negative numbers there), and so is everything after
+    ``--``."""
     out = []
     i = 0
     while i < len(argv):
         tok = argv[i]
-        if (tok.startswith("--") and "=" not in tok and i + 1 < len(argv)
-                and _NEGATIVE_VALUE.match(argv[i + 1])):
+        if tok == "--":
+            return out + argv[i:]
+        if tok in single and i + 1 < len(argv) and _NEGATIVE_VALUE.match(argv[i + 1]):
             out.append(f"{tok}={argv[i + 1]}")
             i += 2
             continue
@@ -357,7 +374,7 @@ def main(argv=None):
     argv : list of str, optional
         Arguments without the program name (default ``sys.argv[1:]``).
     """
-    argv = _attach_negative_values(list(sys.argv[1:] if argv is None else argv))
+    argv = list(sys.argv[1:] if argv is None else argv)
     out, err = sys.stdout, sys.stderr
     commands = {"levels", "shapes", "demo", "ground-map", "gaps", "series", "thermo", "plot",
                 "derivative"}
@@ -366,7 +383,8 @@ def main(argv=None):
     try:
         if not argv:
             return _run_levels(_demo_args(), out, err)
-        args = _make_parser().parse_args(argv)
+        parser = _make_parser()
+        args = parser.parse_args(_attach_negative_values(argv, _single_value_options(parser)))
         if args.command == "shapes":
             out.write(_shapes_text())
             return 0

@@ -297,3 +297,20 @@ def test_a_range_that_starts_with_a_minus_sign_is_a_value_not_an_option(capsys):
         assert code == 0
         lines = [ln for ln in out.splitlines() if ln.startswith("U = ")]
         assert any(ln.startswith("U = 0  {") for ln in lines)   # an integer: no "~ 0.0"
+
+
+def test_a_list_option_keeps_all_its_values_when_the_first_is_negative(capsys):
+    # --mu takes a list: "-1 0 1" are three chemical potentials (a review found that an
+    # earlier rewrite of negative values kept only the first and refused the rest)
+    from symcluster.cli import _attach_negative_values, main
+    code = main(["thermo", "chain", "2", "--mu", "-1", "0", "1", "--temperatures", "1"])
+    out = capsys.readouterr().out
+    assert code == 0
+    rows = [ln.split("\t") for ln in out.splitlines() if ln.startswith("1\t")]
+    assert [r[1] for r in rows] == ["-1", "0", "1"]
+    # only one-value options are joined, and nothing after "--"
+    single = {"--range"}
+    assert _attach_negative_values(["--range", "-1:2", "--mu", "-1", "-2"], single) == \
+        ["--range=-1:2", "--mu", "-1", "-2"]
+    assert _attach_negative_values(["x", "--", "--range", "-3"], single) == \
+        ["x", "--", "--range", "-3"]
