@@ -575,8 +575,13 @@ def _fail(msg):
 
 
 def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, proven=(),
-                    executor=None):
+                    executor=None, lattice=None):
     """Run every check on ``spectrum``; fill its verification report; raise on failure.
+
+    ``lattice`` (the detected lattice symmetry, or None) adds the check of the lattice
+    labels: in every sector of dimension at most ``EXACT_DIM`` the levels labelled with an
+    irrep carry the traces of H^0, H^1, H^2 on that irrep's isotypic subspace (float64, first
+    point; see :func:`_check_lattice_labels`).
 
     ``proven`` names symmetries that were proven exactly by operator identities
     ("spin": [H, S+] = 0; "eta": [H, eta+] = delta eta+).  Sectors that such a
@@ -669,8 +674,10 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     for li, lev in enumerate(spectrum.levels):
         for sector, share in _sector_shares(lev, L):
             by_sector.setdefault(sector, []).append((li, share))
-    worst = {"mp": 0.0, "float": 0.0}
+    worst = {"mp": 0.0, "float": 0.0, "labels": 0.0}
     skipped = 0
+    labelled = 0
+    label_images = {}       # spin block -> its images under the group (_check_lattice_labels)
     sums = {}               # Vieta's power sums by polynomial (_check_sum_rules)
     reduced = [{} for _ in points]      # id(form) -> monic nmod_poly, per point and prime
     spectra = {}            # mpmath sector matrix -> its eigenvalues (equal sectors once)
@@ -690,6 +697,14 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
             terms, tr1, tr2 = _sector_terms(model, states, action)
             groups = _factor_groups(spectrum, members, (n_up, n_dn))
             _check_sum_rules(groups, tr1, tr2, (n_up, n_dn), sums, forms)
+            if lattice is not None and dim <= EXACT_DIM:
+                by_label = {s.name: points[0][s] for s in symbols}
+                dev = _check_lattice_labels(spectrum, lattice, members, states, terms,
+                                            by_label, [values[0][li] for li, _ in members],
+                                            (n_up, n_dn), label_images)
+                if dev is not None:
+                    labelled += 1
+                    worst["labels"] = max(worst["labels"], dev)
             if mirrored:
                 skipped += 1
                 continue
@@ -737,10 +752,78 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     report.add("float64 eigenvalues of unreduced sectors", f"sectors {EXACT_DIM} < dim <= {FLOAT_DIM}",
                points[:1], worst["float"])
     report.add("sum rules Tr H, Tr H^2", "every sector with dim <= %d" % FLOAT_DIM, worst=0.0)
+    if labelled:
+        # a test of the labels, not of the energies: its float64 residual is reported
+        # beside it and kept out of the report's worst deviation (that of the values)
+        report.add("lattice labels: traces of H^0, H^1, H^2 on each irrep's isotypic subspace "
+                   "(float64)",
+                   f"sectors with dim <= {EXACT_DIM}", points[:1], 0.0,
+                   sectors=labelled, float64_residual=worst["labels"])
     if skipped:
         report.add("sectors covered by exactly proven symmetries", ", ".join(sorted(proven)),
                    worst=0.0, sectors=skipped)
     return report
+
+
+def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, vals, sector,
+                          images):
+    """Check the lattice labels of one sector's levels; return the worst deviation.
+
+    For each irrep orbit with orbit-sum character ``psi`` and dimension ``d``, the
+    isotypic projector is ``P = (d/|G|) sum_g psi(g) U(g)`` (``U(g)`` the site permutation
+    with its fermion sign).  The levels labelled with it must carry ``Tr P H^m`` for
+    m = 0, 1, 2: their number of states, the sum and the sum of squares of their values
+    (each level counted with its share of the sector).  ``Tr U(g) A`` is read off the
+    permuted states, ``sum_j sign_j A[j, g(j)]``; float64 at the first point.
+    ``images`` caches the permuted spin blocks (``mask -> [(sign, mask')] per element``).
+    Returns None when a level's label is not one of the group's irreps (a derived
+    label, marked ``*``).
+    """
+    from .symmetry.lattice import _permute_mask
+    labels = [spectrum.levels[li].quantum_numbers.get("irrep") for li, _ in members]
+    known = {r.label for r in lattice.irreps}
+    if any(lab not in known for lab in labels):
+        return None
+    group = lattice.group
+    dim = len(states)
+    idx = {st: k for k, st in enumerate(states)}
+    h = _numeric_matrix(terms, dim, by_label)
+    h2 = h @ h
+
+    def blocks(mask):
+        out = images.get(mask)
+        if out is None:
+            out = images[mask] = [_permute_mask(g, mask) for g in group.elements]
+        return out
+
+    rows = np.arange(dim)
+    perm = np.empty((group.order, dim), dtype=np.int64)
+    sign = np.empty((group.order, dim))
+    for k, (up, dn) in enumerate(states):
+        for g, ((su, u2), (sd, d2)) in enumerate(zip(blocks(up), blocks(dn))):
+            perm[g, k] = idx[(u2, d2)]
+            sign[g, k] = su * sd
+    traces = np.stack([(sign * (perm == rows)).sum(axis=1),
+                       (sign * h[rows, perm]).sum(axis=1),
+                       (sign * h2[rows, perm]).sum(axis=1)])        # [m, g]
+    scale = max(1.0, max((abs(float(v)) for v in vals), default=1.0))
+    worst = 0.0
+    for irrep in lattice.irreps:
+        want = traces @ np.array(irrep.character, dtype=float) * (irrep.dim / group.order)
+        mine = [(share, float(v)) for (li, share), lab, v in zip(members, labels, vals)
+                if lab == irrep.label]
+        count = sum(sh for sh, _ in mine)
+        if abs(want[0] - count) > 0.5:
+            _fail(f"sector {sector}: {count} states are labelled {irrep.label}, but its "
+                  f"isotypic subspace has dimension {want[0]:.0f}")
+        for m in (1, 2):
+            got = sum(sh * v ** m for sh, v in mine)
+            dev = abs(got - want[m]) / (max(1, dim) * scale ** m)
+            if dev > 1e-9:
+                _fail(f"sector {sector}: the levels labelled {irrep.label} do not carry the "
+                      f"trace of H^{m} on that irrep's subspace (relative deviation {dev:.2e})")
+            worst = max(worst, dev)
+    return worst
 
 
 def _sector_shares(level, L):

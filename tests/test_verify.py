@@ -213,3 +213,26 @@ def test_small_sector_eigenvalues_are_mpmath_eigsy():
                 a[i, j] += c * v
         assert got == sorted(mpmath.eigsy(a, eigvals_only=True))
         assert _mp_eigenvalues(dict(terms), 3, dict(point), spectra) is got
+
+
+def test_swapped_lattice_labels_are_rejected():
+    # The labels are checked against an independent projection: for ring(4) the one-electron
+    # levels are -2t cos k (tight binding), k = 0 and k = pi have different energies; swapping
+    # their labels must fail (a review found that no check looked at the labels).
+    import symcluster as sc
+    from symcluster.blocks import plan_symmetries
+    from symcluster.errors import VerificationError
+    from symcluster.verify import verify_spectrum
+    model = sc.hubbard(sc.ring(4))
+    spec = sc.solve(model)
+    assert any("lattice labels" in c["check"] for c in spec.verification.checks)
+    plan = plan_symmetries(model)
+    one = [lev for lev in spec.levels if lev.quantum_numbers["N"] == 1]
+    k0 = next(lev for lev in one if lev.quantum_numbers["irrep"].startswith("k=0"))
+    kpi = next(lev for lev in one if lev.quantum_numbers["irrep"].startswith("k=π"))
+    assert k0.degeneracy == kpi.degeneracy
+    verify_spectrum(spec, seed=3, lattice=plan.lattice)        # as solved: accepted
+    k0.quantum_numbers["irrep"], kpi.quantum_numbers["irrep"] = (
+        kpi.quantum_numbers["irrep"], k0.quantum_numbers["irrep"])
+    with pytest.raises(VerificationError, match="labelled"):
+        verify_spectrum(spec, seed=3, lattice=plan.lattice)
