@@ -758,7 +758,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         report.add("lattice labels: traces of H^0, H^1, H^2 on each irrep's isotypic subspace "
                    "(float64)",
                    f"sectors with dim <= {EXACT_DIM}", points[:1], 0.0,
-                   sectors=labelled, float64_residual=worst["labels"])
+                   sectors=labelled, float64_residual=float(worst["labels"]))
     if skipped:
         report.add("sectors covered by exactly proven symmetries", ", ".join(sorted(proven)),
                    worst=0.0, sectors=skipped)
