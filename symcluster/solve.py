@@ -342,7 +342,7 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
                     else:
                         energy = r + k * shift
                     src = (spec.block, spec.vectors) if not k and spec.block.dim <= 4 else None
-                    levels.append(Level(energy, deg, qn, poly, None,
+                    levels.append(Level(energy, deg, dict(qn), poly, None,
                                         block=f"{spec.sector}:{spec.labels.get('irrep', '')}",
                                         source=src))
     levels.sort(key=_level_order)

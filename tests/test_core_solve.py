@@ -596,3 +596,16 @@ def test_numeric_refuses_bad_digits(digits):
 def test_solve_refuses_bad_arguments_with_one_message(kwargs, match):
     with pytest.raises(sc.ModelError, match=match):
         sc.solve(sc.hubbard(sc.chain(2)), **kwargs)
+
+
+def test_levels_do_not_share_their_quantum_number_dicts():
+    # a block's levels used to hold one dict between them: relabelling one relabelled all
+    spec = sc.solve(sc.hubbard(sc.chain(2)))
+    seen = {}
+    for lev in spec.levels:
+        assert id(lev.quantum_numbers) not in seen
+        seen[id(lev.quantum_numbers)] = lev
+    a, b = [lev for lev in spec.levels if lev.quantum_numbers["N"] == 2][:2]
+    before = dict(b.quantum_numbers)
+    a.quantum_numbers["S"] = 99
+    assert b.quantum_numbers == before
