@@ -33,32 +33,46 @@ def _add(out, state, label, c):
         row.pop(label, None)
 
 
-def _hamiltonian_on(bonds, u_label, onsite, up, dn):
-    """H|up, dn> from precomputed bond masks (see apply_hamiltonian for the result)."""
-    out = {}
+def _terms_on(bonds, u_label, onsite, up, dn):
+    """H|up, dn> from precomputed bond masks as a list of ``(state', label, int)``.
+
+    The hops in the order of :func:`apply_hamiltonian`, then the diagonal: one entry
+    per label (U, then the on-site labels).  Two hops on the same pair of sites give
+    separate entries here; :func:`_hamiltonian_on` merges them.
+    """
+    out = []
     for bi, bj, between, lab in bonds:
         both = bi | bj
         xu, xd = up & both, dn & both
         # c+_b c_a moves one electron across the bond when exactly bit a is occupied;
         # the coefficient -t * sign is +1 for an odd number of electrons in between
-        hu = xu == bi or xu == bj
         hd = xd == bi or xd == bj
-        if hu:
+        if xu == bi or xu == bj:
             cu = 1 if (up & between).bit_count() & 1 else -1
             if hd and xu == bj and xd == bi:        # apply_hamiltonian's order: (i->j) first
-                _add(out, (up, dn ^ both), lab, 1 if (dn & between).bit_count() & 1 else -1)
+                out.append(((up, dn ^ both), lab, 1 if (dn & between).bit_count() & 1 else -1))
                 hd = False
-            _add(out, (up ^ both, dn), lab, cu)
+            out.append(((up ^ both, dn), lab, cu))
         if hd:
-            _add(out, (up, dn ^ both), lab, 1 if (dn & between).bit_count() & 1 else -1)
-    if u_label is not None:
-        d = (up & dn).bit_count()
-        if d:
-            _add(out, (up, dn), u_label, d)
-    for bit, lab in onsite:
-        n = (1 if up & bit else 0) + (1 if dn & bit else 0)
-        if n:
-            _add(out, (up, dn), lab, n)
+            out.append(((up, dn ^ both), lab, 1 if (dn & between).bit_count() & 1 else -1))
+    d = (up & dn).bit_count() if u_label is not None else 0
+    if onsite:
+        diag = {u_label: d} if d else {}
+        for bit, lab in onsite:
+            n = (1 if up & bit else 0) + (1 if dn & bit else 0)
+            if n:
+                diag[lab] = diag.get(lab, 0) + n
+        out.extend(((up, dn), lab, n) for lab, n in diag.items())
+    elif d:
+        out.append(((up, dn), u_label, d))
+    return out
+
+
+def _hamiltonian_on(bonds, u_label, onsite, up, dn):
+    """H|up, dn> from precomputed bond masks (see apply_hamiltonian for the result)."""
+    out = {}
+    for state, lab, c in _terms_on(bonds, u_label, onsite, up, dn):
+        _add(out, state, lab, c)
     if not all(out.values()):
         return {s: row for s, row in out.items() if row}
     return out
@@ -131,30 +145,7 @@ class HamiltonianAction(dict):
                          for s2, row in _hamiltonian_on(self._bonds, self._u, self._onsite,
                                                         up, dn).items()
                          for lab, a in row.items())
-        out = []
-        for bi, bj, between, lab in self._bonds:
-            both = bi | bj
-            xu, xd = up & both, dn & both
-            hd = xd == bi or xd == bj
-            if xu == bi or xu == bj:
-                cu = 1 if (up & between).bit_count() & 1 else -1
-                if hd and xu == bj and xd == bi:        # order of apply_hamiltonian
-                    out.append(((up, dn ^ both), lab, 1 if (dn & between).bit_count() & 1 else -1))
-                    hd = False
-                out.append(((up ^ both, dn), lab, cu))
-            if hd:
-                out.append(((up, dn ^ both), lab, 1 if (dn & between).bit_count() & 1 else -1))
-        d = (up & dn).bit_count() if self._u is not None else 0
-        if self._onsite:
-            diag = {self._u: d} if d else {}
-            for bit, lab in self._onsite:
-                n = (1 if up & bit else 0) + (1 if dn & bit else 0)
-                if n:
-                    diag[lab] = diag.get(lab, 0) + n
-            out.extend(((up, dn), lab, n) for lab, n in diag.items())
-        elif d:
-            out.append(((up, dn), self._u, d))
-        return tuple(out)
+        return tuple(_terms_on(self._bonds, self._u, self._onsite, up, dn))
 
 
 def apply_s_plus(n_sites, up, dn):
