@@ -37,6 +37,7 @@ from .fock import sector_states
 from .models import coupling_symbol
 from .operators import HamiltonianAction
 from .spectrum import energy_numeric, shared_evaluation
+from .symmetry.lattice import spin_block_images
 
 __all__ = ["verify_spectrum", "random_points", "sector_share", "MP_DIM", "EXACT_DIM"]
 
@@ -779,7 +780,6 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     Returns None when a level's label is not one of the group's irreps (a derived
     label, marked ``*``).
     """
-    from .symmetry.lattice import _permute_mask
     labels = [spectrum.levels[li].quantum_numbers.get("irrep") for li, _ in members]
     known = {r.label for r in lattice.irreps}
     if any(lab not in known for lab in labels):
@@ -790,17 +790,12 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     h = _numeric_matrix(terms, dim, by_label)
     h2 = h @ h
 
-    def blocks(mask):
-        out = images.get(mask)
-        if out is None:
-            out = images[mask] = [_permute_mask(g, mask) for g in group.elements]
-        return out
-
     rows = np.arange(dim)
     perm = np.empty((group.order, dim), dtype=np.int64)
     sign = np.empty((group.order, dim))
     for k, (up, dn) in enumerate(states):
-        for g, ((su, u2), (sd, d2)) in enumerate(zip(blocks(up), blocks(dn))):
+        pairs = zip(spin_block_images(group, up, images), spin_block_images(group, dn, images))
+        for g, ((su, u2), (sd, d2)) in enumerate(pairs):
             perm[g, k] = idx[(u2, d2)]
             sign[g, k] = su * sd
     traces = np.stack([(sign * (perm == rows)).sum(axis=1),

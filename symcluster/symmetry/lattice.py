@@ -40,7 +40,7 @@ from symcluster.symmetry.groups import PermutationGroup, automorphisms
 
 __all__ = [
     "permute_state", "RationalIrrep", "LatticeSymmetry", "lattice_symmetry",
-    "multiplicity", "adapted_basis", "adapted_bases", "state_orbits",
+    "multiplicity", "adapted_basis", "adapted_bases", "state_orbits", "spin_block_images",
 ]
 
 
@@ -89,6 +89,15 @@ def permute_state(perm, up, dn):
     return su * sd, u2, d2
 
 
+def spin_block_images(group, mask, cache):
+    """``[(sign, mask') for each group element]``: one spin block's images, with the
+    fermion sign of the reordering, kept in ``cache`` (a dict for one group)."""
+    out = cache.get(mask)
+    if out is None:
+        out = cache[mask] = [_permute_mask(g, mask) for g in group.elements]
+    return out
+
+
 def state_orbits(states, group, cache=None):
     """Orbits of the group on a closed set of basis states.
 
@@ -116,13 +125,6 @@ def state_orbits(states, group, cache=None):
     if cache is None:
         cache = {}
     els = group.elements
-
-    def block_images(mask):
-        out = cache.get(mask)
-        if out is None:
-            out = cache[mask] = [_permute_mask(g, mask) for g in els]
-        return out
-
     pos = {s: i for i, s in enumerate(states)}
     seen = set()
     out = []
@@ -130,7 +132,8 @@ def state_orbits(states, group, cache=None):
         if s in seen:
             continue
         images = [(su * sd, (u, d))
-                  for (su, u), (sd, d) in zip(block_images(s[0]), block_images(s[1]))]
+                  for (su, u), (sd, d) in zip(spin_block_images(group, s[0], cache),
+                                              spin_block_images(group, s[1], cache))]
         for g, (_, st) in zip(els, images):
             if st not in pos:
                 raise InputError(f"state {s} maps to {st} outside the given states under {g}; "
