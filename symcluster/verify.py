@@ -410,30 +410,6 @@ def _numeric_matrix(terms, dim, point_by_label):
     return m
 
 
-def _scaled_int_matrix(terms, dim, point_by_label):
-    """(D, integer matrix D*H) at a rational point with common denominator D."""
-    den = 1
-    for v in point_by_label.values():
-        den = sympy.ilcm(den, sympy.Rational(v).q)
-    entries = {}
-    for l, mat in terms.items():
-        v = sympy.Rational(point_by_label[l]) * den
-        for key, a in mat.items():
-            entries[key] = entries.get(key, 0) + int(v) * a
-    flat = [0] * (dim * dim)
-    for (i, j), a in entries.items():
-        flat[i * dim + j] = a
-    return int(den), flint.fmpz_mat(dim, dim, flat)
-
-
-def _poly_at_point(poly, point, den):
-    """P(x / D; point) as an fmpq_poly in x = D*E."""
-    cs = coeffs_at(poly, point)
-    d = len(cs) - 1
-    low_first = [cs[d - k] / Fraction(den) ** k for k in range(d + 1)]
-    return flint.fmpq_poly([flint.fmpq(c.numerator, c.denominator) for c in low_first])
-
-
 def _mod(fr, prime):
     return fr.numerator % prime * pow(fr.denominator % prime, -1, prime) % prime
 

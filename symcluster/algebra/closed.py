@@ -24,6 +24,7 @@ from __future__ import annotations
 
 import flint
 import sympy
+from sympy.core.basic import _args_sortkey as _SORT_KEY      # sympy's own argument order
 
 __all__ = ["closed_form_roots"]
 
@@ -128,9 +129,6 @@ def _sqrt(x):
     if x.is_number:
         return sympy.sqrt(x)
     return sympy.Pow(x, sympy.S.Half, evaluate=False)
-
-
-from sympy.core.basic import _args_sortkey as _SORT_KEY  # noqa: E402  (sympy's own order)
 
 
 class _Ring:
