@@ -115,3 +115,37 @@ def test_direct_construction_equals_sympys_evaluating_constructors(n):
     slow = _forms(reps, True)
     for a, b in zip(fast, slow):
         assert [sympy.srepr(x) for x in a] == [sympy.srepr(x) for x in b]
+
+
+def test_square_roots_of_rationals_are_sympys():
+    # _sqrt_rational builds sqrt(p/q) = (s/q) sqrt(r) directly; sympy.sqrt is the reference
+    # (compared as trees), including radicands around the size limit where it defers to sympy
+    from symcluster.algebra.closed import _SQRT_DIRECT_MAX, _sqrt_rational
+    rng = random.Random(5)
+    cases = [sympy.Rational(p, q) for p in range(1, 40) for q in range(1, 40)]
+    cases += [sympy.Rational(rng.randint(1, 10**6), rng.randint(1, 10**3)) for _ in range(300)]
+    cases += [sympy.Rational(4 * 3**18, 7), sympy.Integer(_SQRT_DIRECT_MAX),
+              sympy.Integer(_SQRT_DIRECT_MAX + 1), sympy.Rational(2**40 * 3, 5)]
+    for c in cases:
+        got = _sqrt_rational(c)
+        assert sympy.srepr(got) == sympy.srepr(sympy.sqrt(c)), c
+
+
+def test_structured_quartics_and_cluster_factors_are_built_as_sympy_builds_them():
+    # The quartic branches with q = 0 (E^4 + p E^2 + r: r a square or not) and the factors
+    # of real cluster spectra (degrees 1-4), fast builders against EVALUATE as above.
+    import symcluster as sc
+    reps = [_rep(E**4 - 2 * (U**2 + 3 * t**2) * E**2 + 2 * t**4),
+            _rep(E**4 - 6 * t**2 * E**2 + U**2 * t**2),
+            _rep(E**4 - (U**2 + 10 * t**2) * E**2 + 9 * t**4),
+            _rep(E**4 - 2 * U * E**3 - 5 * t**2 * E**2 + U * t**2 * E + t**4)]
+    for cluster in (sc.ring(4), sc.chain(4)):
+        for lev in sc.solve(sc.hubbard(cluster), seed=3).levels:
+            p = lev.polynomial
+            if p is not None and p.degree(p.gens[0]) <= 4 and tuple(p.gens) == GENS:
+                reps.append({tuple(m): int(c) for m, c in p.as_dict().items()})
+    assert len(reps) > 20
+    fast = _forms(reps, False)
+    slow = _forms(reps, True)
+    for a, b in zip(fast, slow):
+        assert [sympy.srepr(x) for x in a] == [sympy.srepr(x) for x in b]

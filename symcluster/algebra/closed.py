@@ -51,6 +51,39 @@ def _rational(q):
 EVALUATE = False
 
 _MINUS = sympy.S.NegativeOne
+_TWO = sympy.Integer(2)
+_THIRD = sympy.Rational(1, 3)
+_PI_6 = sympy.pi / 6          # sympy's Mul(1/6, pi); evaluating it costs ~0.2 ms per call
+_PI_3 = sympy.pi / 3
+
+#: Largest radicand p*q of sqrt(p/q) taken apart here: below 2**30, sympy's trial division
+#: (to 2**15) factors it completely, so both ways give the same square part.
+_SQRT_DIRECT_MAX = 2 ** 30
+
+
+def _sqrt_rational(c):
+    """``sympy.sqrt(c)`` of a positive sympy Rational, built directly.
+
+    ``sqrt(p/q) = (s/q) sqrt(r)`` with ``p q = s**2 r``, ``r`` squarefree: sympy writes it as
+    ``Mul(s/q, Pow(r, 1/2))`` (``s/q`` left out when it is 1, ``Pow`` when ``r`` is 1).
+    Evaluating ``sympy.sqrt`` of a number costs 0.2-0.4 ms (assumption queries).
+    """
+    p, q = int(c.p), int(c.q)
+    n = p * q
+    if EVALUATE or p <= 0 or n > _SQRT_DIRECT_MAX:
+        return sympy.sqrt(c)
+    s = r = 1
+    for prime, e in flint.fmpz(n).factor():
+        prime = int(prime)
+        s *= prime ** (e // 2)
+        r *= prime ** (e % 2)
+    coeff = sympy.Rational(s, q)
+    if r == 1:
+        return coeff
+    root = sympy.Pow(sympy.Integer(r), sympy.S.Half, evaluate=False)
+    if coeff is sympy.S.One:
+        return root
+    return sympy.Mul._from_args((coeff, root))
 
 
 def _mul(*factors):
@@ -70,7 +103,7 @@ def _mul(*factors):
             coeff = coeff * f
         else:
             rest.append(f)
-    if coeff.is_zero:
+    if coeff.p == 0:
         return sympy.S.Zero
     bases = set()
     numeric = 0
@@ -80,7 +113,12 @@ def _mul(*factors):
             return sympy.Mul(*factors)
         bases.add(b)
         numeric += b.is_Number
-    if numeric > 1 or (len(rest) == 1 and rest[0].is_Add and coeff is not sympy.S.One):
+    if len(rest) == 1 and rest[0].is_Add and coeff is not sympy.S.One:
+        if len(factors) == 2 and (factors[0].is_Rational or factors[1].is_Rational):
+            # sympy distributes a rational over a sum when the two are all there is
+            return _add(*[_mul(coeff, a) for a in rest[0].args])
+        return sympy.Mul(*factors)
+    if numeric > 1:
         return sympy.Mul(*factors)
     if not rest:
         return coeff
@@ -114,10 +152,10 @@ def _add(*terms):
         seen.add(m)
     if not rest:
         return coeff
-    if len(rest) == 1 and coeff.is_zero:
+    if len(rest) == 1 and coeff.p == 0:
         return rest[0]
     rest.sort(key=_SORT_KEY)
-    if not coeff.is_zero:
+    if coeff.p != 0:
         rest.insert(0, coeff)
     return sympy.Add._from_args(rest)
 
@@ -188,7 +226,7 @@ class _Ring:
     def sqrt_expr(self, p):
         """An expression ``S`` with ``S**2 == p`` (up to the sign of pulled-out factors)."""
         c, f, g = self.sqrt_split(p)
-        return _mul(sympy.sqrt(_rational(c)), self.expr(f), _sqrt(self.expr(g)))
+        return _mul(_sqrt_rational(_rational(c)), self.expr(f), _sqrt(self.expr(g)))
 
 
 def _primitive(p):
@@ -225,7 +263,7 @@ def _trig_cubic(R, P, Q, ordered):
     ge = R.expr(g)
     sg = _sqrt(ge)
     use_abs = ordered and not f.is_constant()
-    rho = _mul(sympy.sqrt(_rational(c)), sympy.Abs(fe) if use_abs else fe, sg)
+    rho = _mul(_sqrt_rational(_rational(c)), sympy.Abs(fe) if use_abs else fe, sg)
     quo, rem = divmod(Q, f ** 3)
     if rem.is_zero():
         # -quo / (2 c^(3/2) g^(3/2)), with the rational content of quo in front
@@ -234,29 +272,37 @@ def _trig_cubic(R, P, Q, ordered):
         if scale < 0 and len(prim.coeffs()) > 1:
             scale, prim = -scale, -prim
         g_pow = (sympy.Pow(ge, sympy.Rational(-3, 2), evaluate=False) if sg is not ge and sg.is_Pow
-                 and sg.base is ge and ge.is_Add else sg ** -3)
+                 and sg.base == ge and ge.is_Add else sg ** -3)
         # one product: a rational factor is distributed over a sum only when the sum is
         # all there is (as sympy does it)
-        arg = _mul(R.expr(prim), g_pow, sympy.sqrt(_rational(1 / c)), _rational(scale))
+        arg = _mul(R.expr(prim), g_pow, _sqrt_rational(_rational(1 / c)), _rational(scale))
         if use_abs:
             arg = sympy.sign(fe) * arg
+        # read off the polynomials what arg.free_symbols and arg.has(I) would find: a
+        # symbol wherever a non-zero arg holds a non-constant polynomial, I only from the
+        # square root of a negative constant g
+        symbolic = (not quo.is_zero() and not EVALUATE
+                    and not (prim.is_constant() and g.is_constant() and not use_abs)
+                    and not (g.is_constant() and g.leading_coefficient() < 0))
     else:
         arg = -R.expr(Q) / (2 * rho ** 3)
-    if arg.free_symbols and not arg.has(sympy.I):
+        symbolic = None
+    if symbolic is None:
+        symbolic = bool(arg.free_symbols) and not arg.has(sympy.I)
+    if symbolic:
         # acos.eval leaves such an argument (a ratio of real polynomials and roots) as
         # it is, after a costly search for an imaginary-unit coefficient: skip it
         theta = sympy.acos(arg, evaluate=False)
     else:
         theta = sympy.acos(arg)
-    if not theta.free_symbols:
+    if not symbolic and not theta.free_symbols:
         return [2 * rho * sympy.cos(theta / 3 - 2 * sympy.pi * k / 3) for k in (2, 1, 0)]
     # sympy's own normal forms of cos(a - 4pi/3), cos(a - 2pi/3), cos(a) for a symbolic
     # a = theta/3, built directly: evaluating cos() there costs ~40 ms per cubic cold
-    third = _mul(sympy.Rational(1, 3), theta)
-    two = sympy.Integer(2)
-    return [_mul(-two, rho, sympy.sin(_add(third, sympy.pi / 6), evaluate=False)),
-            _mul(-two, rho, sympy.cos(_add(third, sympy.pi / 3), evaluate=False)),
-            _mul(two, rho, sympy.cos(third, evaluate=False))]
+    third = _mul(_THIRD, theta)
+    return [_mul(-_TWO, rho, sympy.sin(_add(third, _PI_6), evaluate=False)),
+            _mul(-_TWO, rho, sympy.cos(_add(third, _PI_3), evaluate=False)),
+            _mul(_TWO, rho, sympy.cos(third, evaluate=False))]
 
 
 def _roots_linear(R, cf):
@@ -299,7 +345,7 @@ def _roots_quartic(R, cf):
     half = sympy.Rational(1, 2)
     if q.is_zero():
         cr, fr, gr = R.sqrt_split(r)
-        root_cr = sympy.sqrt(_rational(cr))
+        root_cr = _sqrt_rational(_rational(cr))
         if r.is_zero() or (gr == R.one and root_cr.is_Rational):
             # y^4 + p y^2 + s^2: roots (±sqrt(2s - p) ± sqrt(-2s - p)) / 2
             s = fr * flint.fmpq(int(root_cr.p), int(root_cr.q)) if not r.is_zero() else R.zero
@@ -310,8 +356,8 @@ def _roots_quartic(R, cf):
         else:
             S = R.sqrt_expr(p ** 2 - 4 * r)
             pe = R.expr(p)
-            wm = sympy.Mul(half, _add(_mul(_MINUS, pe), _mul(_MINUS, S)))
-            wp = sympy.Mul(half, _add(_mul(_MINUS, pe), S))
+            wm = _mul(half, _add(_mul(_MINUS, pe), _mul(_MINUS, S)))
+            wp = _mul(half, _add(_mul(_MINUS, pe), S))
             ys = [_mul(_MINUS, _sqrt(wp)), _mul(_MINUS, _sqrt(wm)), _sqrt(wm), _sqrt(wp)]
         return [_add(shift, y) for y in ys]
     # resolvent z^3 + 2p z^2 + (p^2 - 4r) z - q^2, roots (a1+a2)^2, ... >= 0
