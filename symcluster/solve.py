@@ -10,6 +10,7 @@ import sympy
 from .algebra.charpoly import charpoly_dict
 from .algebra.factor import factor_integer_dict
 from .algebra.polydict import poly_from_dict
+from .algebra.closed import add_shift
 from .algebra.roots import ImplicitRoot, closed_forms
 from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
                      sectors_to_solve)
@@ -72,8 +73,11 @@ def _solve_packed(block, names):
 def _unpack(packed):
     from .symbols import coupling_symbol
     out = []
+    gens_of = {}            # generator names -> symbols (the same for every factor)
     for rep, names, mult, roots in packed:
-        gens = tuple(coupling_symbol(n) for n in names)
+        gens = gens_of.get(names)
+        if gens is None:
+            gens = gens_of[names] = tuple(coupling_symbol(n) for n in names)
         fac = poly_from_dict(rep, gens, sympy.ZZ)
         out.append((fac, mult, [ImplicitRoot(fac, r) if kind == "implicit" else r
                                 for kind, r in roots]))
@@ -108,10 +112,9 @@ class _Shifter:
             return poly
         if self._ctx is None or poly.gens != self.gens:
             self._setup(poly.gens)
-        fp = self._ctx.from_dict({m: int(c) for m, c in poly.as_dict(native=True).items()})
+        fp = self._ctx.from_dict(poly.rep.to_dict())        # integer coefficients (ZZ)
         out = fp.compose(self._x[0] - k * self._sh, *self._x[1:])
-        return poly_from_dict({tuple(int(e) for e in m): int(c) for m, c in out.to_dict().items()},
-                              poly.gens, sympy.ZZ)
+        return poly_from_dict(out.to_dict(), poly.gens, sympy.ZZ)
 
 
 def gauge_twins(model, plan, blocks):
@@ -165,7 +168,13 @@ def _level_order(level):
     """Stable order of levels: N, then spin, eta, lattice label (no expression printing)."""
     qn = level.quantum_numbers
     spin = qn.get("S", qn.get("Sz", 0))
-    return (qn["N"], int(2 * spin), int(2 * qn.get("eta", 0)), str(qn.get("irrep", "")))
+    eta = qn.get("eta", 0)
+    return (qn["N"], _twice(spin), _twice(eta), str(qn.get("irrep", "")))
+
+
+def _twice(x):
+    """``int(2*x)`` of an integer or half-integer (int or sympy Rational)."""
+    return 2 * x if isinstance(x, int) else int(x.p) * 2 // int(x.q)
 
 
 _POOL_WORK = 2_000_000      # sum of dim^3 over the blocks from which a process pool pays
@@ -340,7 +349,7 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
                     elif isinstance(r, ImplicitRoot):
                         energy = ImplicitRoot(poly, r.index)
                     else:
-                        energy = r + k * shift
+                        energy = add_shift(r, k, shift)
                     src = (spec.block, spec.vectors) if not k and spec.block.dim <= 4 else None
                     levels.append(Level(energy, deg, dict(qn), poly, None,
                                         block=f"{spec.sector}:{spec.labels.get('irrep', '')}",

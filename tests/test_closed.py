@@ -149,3 +149,20 @@ def test_structured_quartics_and_cluster_factors_are_built_as_sympy_builds_them(
     slow = _forms(reps, True)
     for a, b in zip(fast, slow):
         assert [sympy.srepr(x) for x in a] == [sympy.srepr(x) for x in b]
+
+
+def test_eta_shifted_forms_are_the_sums_sympy_builds():
+    # add_shift(r, k, s) stands for r + k*s (levels moved by k eta pairs): same tree as
+    # sympy's evaluating Add, also where r already holds a multiple of the shift
+    import symcluster as sc
+    from symcluster.algebra.closed import add_shift
+    forms = set()
+    for cluster in (sc.ring(4), sc.chain(3)):
+        forms.update(lev.energy for lev in sc.solve(sc.hubbard(cluster), seed=2).levels
+                     if lev.is_closed_form)
+    forms.update([U / 2 - t, -U / 2, U + t * U, 2 * U * t - U])
+    assert any(f.coeff(U) != 0 for f in forms)
+    for r in sorted(forms, key=sympy.default_sort_key):
+        for k in (1, 2, 3):
+            for shift in (U, -U, U - 2 * t, 2 * U * t):
+                assert sympy.srepr(add_shift(r, k, shift)) == sympy.srepr(r + k * shift), (r, k)

@@ -26,7 +26,7 @@ import flint
 import sympy
 from sympy.core.basic import _args_sortkey as _SORT_KEY      # sympy's own argument order
 
-__all__ = ["closed_form_roots"]
+__all__ = ["closed_form_roots", "add_shift"]
 
 _ONE = ("_one",)        # generator name of the coefficient ring when there are no couplings
 
@@ -144,12 +144,36 @@ def _add(*terms):
                 return sympy.Add(*terms)
             else:
                 rest.append(a)
-    seen = set()
+    # like terms c1 m + c2 m -> (c1 + c2) m, rebuilt as Add.flatten rebuilds them (only for
+    # a symbol or a product m: there Mul(c, m) rewrites nothing)
+    collected = {}
+    merged = False
     for a in rest:
         c, m = a.as_coeff_Mul()
-        if m in seen or (m.is_Add and c is not sympy.S.One):
+        if (m.is_Add and c is not sympy.S.One) or not c.is_Rational:
             return sympy.Add(*terms)
-        seen.add(m)
+        hit = collected.get(m)
+        if hit is None:
+            collected[m] = [c, a]
+        elif m.is_Symbol or m.is_Mul:
+            hit[0] = hit[0] + c
+            hit[1] = None
+            merged = True
+        else:
+            return sympy.Add(*terms)
+    if merged:
+        rest = []
+        for m, (c, a) in collected.items():
+            if a is not None:
+                rest.append(a)
+            elif c.p == 0:
+                continue
+            elif c is sympy.S.One:
+                rest.append(m)
+            elif m.is_Mul:
+                rest.append(m._new_rawargs(c, *m.args))
+            else:
+                rest.append(sympy.Mul._from_args((c, m)))
     if not rest:
         return coeff
     if len(rest) == 1 and coeff.p == 0:
@@ -405,3 +429,8 @@ def closed_form_roots(rep, gens):
     if deg == 4:
         return _roots_quartic(R, cf)
     raise ValueError(f"closed forms are written for degrees 1 to 4, not {deg}")
+
+
+def add_shift(r, k, shift):
+    """``r + k*shift`` (a closed form moved by k eta pairs), as sympy's ``Add`` builds it."""
+    return _add(r, _mul(sympy.Integer(k), shift))

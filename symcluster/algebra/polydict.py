@@ -21,6 +21,10 @@ from sympy.polys.polyclasses import DMP
 __all__ = ["poly_from_dict"]
 
 
+def _first(item):
+    return item[0]
+
+
 def _element(domain, c):
     if isinstance(c, int) and domain.is_ZZ:
         return domain(c)
@@ -29,21 +33,24 @@ def _element(domain, c):
     return domain.convert(c)
 
 
-def _dense(terms, lev, zero):
-    """Dense recursive list (highest power first) of a non-empty ``{monomial: element}``."""
+def _dense(items, lev, zero):
+    """Dense recursive list (highest power first) of non-empty ``[(monomial, element)]``
+    sorted in descending order of the monomials."""
+    d = items[0][0][0]
     if lev == 0:
-        d = max(m[0] for m in terms)
         out = [zero] * (d + 1)
-        for m, c in terms.items():
+        for m, c in items:
             out[d - m[0]] = c
         return out
-    groups = {}
-    for m, c in terms.items():
-        groups.setdefault(m[0], {})[m[1:]] = c
-    d = max(groups)
     out = [None] * (d + 1)
-    for e, sub in groups.items():
-        out[d - e] = _dense(sub, lev - 1, zero)
+    start, n = 0, len(items)
+    while start < n:
+        e = items[start][0][0]
+        end = start + 1
+        while end < n and items[end][0][0] == e:
+            end += 1
+        out[d - e] = _dense([(m[1:], c) for m, c in items[start:end]], lev - 1, zero)
+        start = end
     return [dmp_zero(lev - 1) if v is None else v for v in out]
 
 
@@ -64,12 +71,13 @@ def poly_from_dict(rep, gens, domain):
     """
     gens = tuple(gens)
     lev = len(gens) - 1
-    terms = {}
+    items = []
     for m, c in rep.items():
         if c:
             m = tuple(int(e) for e in m)
             if len(m) != len(gens) or min(m, default=0) < 0:
                 raise ValueError(f"exponent tuple {m} does not fit the generators {gens}")
-            terms[m] = _element(domain, c)
-    dense = _dense(terms, lev, domain.zero) if terms else dmp_zero(lev)
+            items.append((m, _element(domain, c)))
+    items.sort(key=_first, reverse=True)
+    dense = _dense(items, lev, domain.zero) if items else dmp_zero(lev)
     return sympy.Poly.new(DMP.new(dense, domain, lev), *gens)
