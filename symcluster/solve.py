@@ -155,8 +155,16 @@ def _negate_couplings(factors, odd):
     for fac, mult, roots in factors:
         gens = fac.gens
         flip = [g.name in odd for g in gens]
-        rep = {m: (-c if sum(e for e, f in zip(m, flip) if f) % 2 else c)
-               for m, c in fac.as_dict(native=True).items()}
+        old = fac.rep.to_dict()
+        rep = {m: (-c if sum(e for e, f in zip(m, flip) if f) % 2 else c) for m, c in old.items()}
+        if rep == old:
+            # even in the flipped couplings: the factor, and so its closed forms (which are
+            # built from its coefficients alone), are unchanged; a Poly of its own all the
+            # same, because the verification counts roots by polynomial object
+            new = sympy.Poly.new(fac.rep, *gens)
+            out.append((new, mult, [ImplicitRoot(new, r.index) if isinstance(r, ImplicitRoot)
+                                    else r for r in roots]))
+            continue
         new = poly_from_dict(rep, gens, fac.domain)
         sub = {g: -g for g, f in zip(gens, flip) if f}
         out.append((new, mult, [ImplicitRoot(new, r.index) if isinstance(r, ImplicitRoot)

@@ -609,3 +609,27 @@ def test_levels_do_not_share_their_quantum_number_dicts():
     before = dict(b.quantum_numbers)
     a.quantum_numbers["S"] = 99
     assert b.quantum_numbers == before
+
+
+def test_negated_couplings_give_the_substituted_factors_and_roots():
+    # _negate_couplings derives a gauge twin's factors: P(E, t, U) -> P(E, -t, U), roots
+    # r -> r(-t).  Checked against sympy's substitution; an even factor keeps its forms
+    # but gets a Poly object of its own (the verification counts roots per object).
+    from symcluster.algebra.roots import ImplicitRoot
+    from symcluster.solve import _negate_couplings
+    from symcluster.symbols import ENERGY
+    t, U = sympy.symbols("t U", real=True)
+    E = ENERGY
+    odd_fac = sympy.Poly(E**2 - U * E - 4 * t**2 + 2 * t * U, E, t, U)
+    even_fac = sympy.Poly(E**3 - U * E**2 - 16 * t**2 * E + 8 * U * t**2, E, t, U)
+    odd_roots = sympy.solve(odd_fac.as_expr(), E)
+    even_roots = [sympy.Symbol("r0"), sympy.Symbol("r1"), sympy.Symbol("r2")]   # kept as given
+    quintic = sympy.Poly(E**5 - t * E - U, E, t, U)
+    out = _negate_couplings([(odd_fac, 1, odd_roots), (even_fac, 2, even_roots),
+                             (quintic, 1, [ImplicitRoot(quintic, 0)])], {"t"})
+    (p1, m1, r1), (p2, m2, r2), (p3, m3, r3) = out
+    assert p1 == sympy.Poly(odd_fac.as_expr().subs(t, -t), E, t, U) and m1 == 1
+    assert [sympy.simplify(a - b.subs(t, -t)) for a, b in zip(r1, odd_roots)] == [0, 0]
+    assert p2 == even_fac and p2 is not even_fac and m2 == 2 and r2 == even_roots
+    assert p3 == sympy.Poly(E**5 + t * E - U, E, t, U)
+    assert isinstance(r3[0], ImplicitRoot) and r3[0].poly is p3 and r3[0].index == 0
