@@ -32,10 +32,13 @@ def integer_multiple(values):
     """
     from fractions import Fraction
     from math import lcm
-    den = 1
-    for x in values.values():
-        den = lcm(den, Fraction(x).denominator)
-    ints = {k: int(Fraction(x) * den) for k, x in values.items()}
+    if all(type(x) is int for x in values.values()):
+        den, ints = 1, values            # the usual case: an integer block's charpoly
+    else:
+        den = 1
+        for x in values.values():
+            den = lcm(den, Fraction(x).denominator)
+        ints = {k: int(Fraction(x) * den) for k, x in values.items()}
     g = 0
     for x in ints.values():
         g = gcd(g, x)

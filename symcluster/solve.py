@@ -166,6 +166,13 @@ def _negate_couplings(factors, odd):
                                     else r for r in roots]))
             continue
         new = poly_from_dict(rep, gens, fac.domain)
+        if roots and not isinstance(roots[0], ImplicitRoot):
+            # the closed forms of the substituted factor, written afresh: cheaper than
+            # substituting into the trees (xreplace rebuilds them with evaluation)
+            forms = closed_forms({m: int(c) for m, c in rep.items()}, gens)
+            if forms is not None and len(forms) == len(roots):
+                out.append((new, mult, forms))
+                continue
         sub = {g: -g for g, f in zip(gens, flip) if f}
         out.append((new, mult, [ImplicitRoot(new, r.index) if isinstance(r, ImplicitRoot)
                                 else r.xreplace(sub) for r in roots]))
