@@ -94,6 +94,7 @@ class _Shifter:
     def __init__(self, shift):
         self.shift = shift
         self._ctx = None
+        self._last = (None, None)       # (poly, its python-flint form): the k loop reuses it
 
     def _setup(self, gens):
         import flint
@@ -112,7 +113,10 @@ class _Shifter:
             return poly
         if self._ctx is None or poly.gens != self.gens:
             self._setup(poly.gens)
-        fp = self._ctx.from_dict(poly.rep.to_dict())        # integer coefficients (ZZ)
+        last, fp = self._last
+        if last is not poly:
+            fp = self._ctx.from_dict(poly.rep.to_dict())        # integer coefficients (ZZ)
+            self._last = (poly, fp)
         out = fp.compose(self._x[0] - k * self._sh, *self._x[1:])
         return poly_from_dict(out.to_dict(), poly.gens, sympy.ZZ)
 
