@@ -44,20 +44,29 @@ def _check_electrons(model, electrons):
     return wanted
 
 
-def solve_block(spec, names):
-    """Irreducible factors and their roots for one block: list of (poly, mult, roots)."""
-    return _unpack(_solve_packed(spec.block, names))
+def solve_block(spec, names, gens=None):
+    """Irreducible factors and their roots for one block: list of (poly, mult, roots).
+
+    ``gens`` (optional) are the generators ``(E, *couplings)`` of `names`, made once by
+    a caller that solves many blocks.
+    """
+    return _unpack(_solve_packed(spec.block, names, gens), gens)
 
 
-def _solve_packed(block, names):
+def _generators(names):
+    """``(E, *coupling symbols)`` for the coupling `names`."""
+    from .symbols import ENERGY, coupling_symbol
+    return (ENERGY,) + tuple(coupling_symbol(n) for n in names)
+
+
+def _solve_packed(block, names, gens=None):
     """Worker side: factors and roots of one LinearBlock as plain, cheaply picklable data.
 
     sympy Polys pickle by rebuilding their expressions, which is slow for
     high-degree factors; integer term dicts and generator names travel instead.
     """
-    from .symbols import ENERGY, coupling_symbol
     names = tuple(names)
-    gens = (ENERGY,) + tuple(coupling_symbol(n) for n in names)
+    gens = _generators(names) if gens is None else gens
     _, ints = integer_multiple(charpoly_dict(block, names))
     out = []
     for rep, mult in factor_integer_dict(ints, gens)[1]:
@@ -70,14 +79,14 @@ def _solve_packed(block, names):
     return out
 
 
-def _unpack(packed):
+def _unpack(packed, gens=None):
+    """Sympy Polys and roots from :func:`_solve_packed`'s data (``gens``: the generators
+    if the caller has them)."""
     from .symbols import coupling_symbol
     out = []
-    gens_of = {}            # generator names -> symbols (the same for every factor)
     for rep, names, mult, roots in packed:
-        gens = gens_of.get(names)
-        if gens is None:
-            gens = gens_of[names] = tuple(coupling_symbol(n) for n in names)
+        if gens is None or len(gens) != len(names) or any(g.name != n for g, n in zip(gens, names)):
+            gens = tuple(coupling_symbol(n) for n in names)
         fac = poly_from_dict(rep, gens, sympy.ZZ)
         out.append((fac, mult, [ImplicitRoot(fac, r) if kind == "implicit" else r
                                 for kind, r in roots]))
@@ -225,8 +234,9 @@ def _run_blocks(blocks, names, executor, progress):
     """Solve every block, through ``executor`` if given; order of results = order of blocks."""
     if executor is None:
         out = []
+        gens = _generators(tuple(names))
         for b in blocks:
-            out.append(solve_block(b, names))
+            out.append(solve_block(b, names, gens))
             progress.step()
         return out
     # largest first, so that the pool stays busy; results put back in order
