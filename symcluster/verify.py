@@ -22,6 +22,7 @@ closed form is checked against its own polynomial at >= ``digits`` digits.
 
 import random
 from fractions import Fraction
+from itertools import chain
 from math import comb, gcd, lcm
 
 import flint
@@ -33,7 +34,7 @@ from mpmath.libmp import fzero, from_int, mpf_abs, mpf_add, mpf_div, mpf_gt, mpf
 from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched, isolation_key,
                             prefetch_isolations)
 from .errors import ModelError, VerificationError
-from .fock import sector_states
+from .fock import sector_states, states_with
 from .models import coupling_symbol
 from .operators import HamiltonianAction
 from .spectrum import energy_numeric, shared_evaluation
@@ -402,11 +403,19 @@ def _top_key(poly):
 
 
 def _numeric_matrix(terms, dim, point_by_label):
+    """The float64 sector matrix at a point: ``sum_l float(u_l) A_l``, label after label.
+
+    Each label's entries are distinct positions, so one fancy-indexed ``+=`` per label
+    adds ``a * float(u_l)`` to every entry in the same order as an entry-by-entry loop.
+    """
     m = np.zeros((dim, dim))
     for l, mat in terms.items():
+        if not mat:
+            continue
         v = float(point_by_label[l])
-        for (i, j), a in mat.items():
-            m[i, j] += a * v
+        ij = np.fromiter(chain.from_iterable(mat), dtype=np.int64, count=2 * len(mat))
+        a = np.fromiter(mat.values(), dtype=np.float64, count=len(mat))
+        m[ij[0::2], ij[1::2]] += a * v
     return m
 
 
@@ -558,7 +567,11 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     ``lattice`` (the detected lattice symmetry, or None) adds the check of the lattice
     labels: in every sector of dimension at most ``EXACT_DIM`` the levels labelled with an
     irrep carry the traces of H^0, H^1, H^2 on that irrep's isotypic subspace (float64, first
-    point; see :func:`_check_lattice_labels`).
+    point; see :func:`_check_lattice_labels`).  With "spin" proven, a sector N_up < N_dn
+    whose levels and shares are those of (N_dn, N_up) is not checked again: the spin flip
+    maps one sector onto the other and commutes with H and with every U(g), so the traces,
+    and the check, are the same.  The report counts such sectors as ``spin_flip_images``
+    (beside ``sectors``, those checked) and names the rule in its scope.
 
     ``proven`` names symmetries that were proven exactly by operator identities
     ("spin": [H, S+] = 0; "eta": [H, eta+] = delta eta+).  Sectors that such a
@@ -654,7 +667,8 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     worst = {"mp": 0.0, "float": 0.0, "labels": 0.0}
     skipped = 0
     labelled = 0
-    label_images = {}       # spin block -> its images under the group (_check_lattice_labels)
+    flipped = 0             # sectors whose lattice labels are those of their spin-flip image
+    label_images = _BlockImages(lattice, L) if lattice is not None else None
     sums = {}               # Vieta's power sums by polynomial (_check_sum_rules)
     reduced = [{} for _ in points]      # id(form) -> monic nmod_poly, per point and prime
     spectra = {}            # mpmath sector matrix -> its eigenvalues (equal sectors once)
@@ -675,13 +689,22 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
             groups = _factor_groups(spectrum, members, (n_up, n_dn))
             _check_sum_rules(groups, tr1, tr2, (n_up, n_dn), sums, forms)
             if lattice is not None and dim <= EXACT_DIM:
-                by_label = {s.name: points[0][s] for s in symbols}
-                dev = _check_lattice_labels(spectrum, lattice, members, states, terms,
-                                            by_label, [values[0][li] for li, _ in members],
-                                            (n_up, n_dn), label_images)
-                if dev is not None:
-                    labelled += 1
-                    worst["labels"] = max(worst["labels"], dev)
+                if ("spin" in proven and n_up < n_dn
+                        and members == by_sector.get((n_dn, n_up))):
+                    # the spin flip maps this sector onto (n_dn, n_up), which holds the same
+                    # levels with the same shares and has the same traces Tr U(g) H^m (the
+                    # flip commutes with H and with every U(g)): the check there is this one
+                    if all(spectrum.levels[li].quantum_numbers.get("irrep") in label_images.known
+                           for li, _ in members):
+                        flipped += 1
+                else:
+                    by_label = {s.name: points[0][s] for s in symbols}
+                    dev = _check_lattice_labels(spectrum, lattice, members, states, terms,
+                                                by_label, [values[0][li] for li, _ in members],
+                                                (n_up, n_dn), label_images)
+                    if dev is not None:
+                        labelled += 1
+                        worst["labels"] = max(worst["labels"], dev)
             if mirrored:
                 skipped += 1
                 continue
@@ -732,10 +755,15 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     if labelled:
         # a test of the labels, not of the energies: its float64 residual is reported
         # beside it and kept out of the report's worst deviation (that of the values)
+        scope, extra = f"sectors with dim <= {EXACT_DIM}", {}
+        if flipped:
+            scope += (", except a sector N_up < N_dn that holds the levels of its spin-flip "
+                      "image (N_dn, N_up) (spin SU(2) proven): that image's check covers it")
+            extra["spin_flip_images"] = flipped
         report.add("lattice labels: traces of H^0, H^1, H^2 on each irrep's isotypic subspace "
                    "(float64)",
-                   f"sectors with dim <= {EXACT_DIM}", points[:1], 0.0,
-                   sectors=labelled, float64_residual=float(worst["labels"]))
+                   scope, points[:1], 0.0,
+                   sectors=labelled, float64_residual=float(worst["labels"]), **extra)
     if skipped:
         report.add("sectors covered by exactly proven symmetries", ", ".join(sorted(proven)),
                    worst=0.0, sectors=skipped)
@@ -752,36 +780,36 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     m = 0, 1, 2: their number of states, the sum and the sum of squares of their values
     (each level counted with its share of the sector).  ``Tr U(g) A`` is read off the
     permuted states, ``sum_j sign_j A[j, g(j)]``; float64 at the first point.
-    ``images`` caches the permuted spin blocks (``mask -> [(sign, mask')] per element``).
+    ``images`` is a :class:`_BlockImages` of this call (the permuted spin blocks).
+    ``states`` is the sector's basis in the order of :func:`~symcluster.fock.sector_states`
+    (every up block with every down block).
     Returns None when a level's label is not one of the group's irreps (a derived
     label, marked ``*``).
     """
     labels = [spectrum.levels[li].quantum_numbers.get("irrep") for li, _ in members]
-    known = {r.label for r in lattice.irreps}
-    if any(lab not in known for lab in labels):
+    if any(lab not in images.known for lab in labels):
         return None
-    group = lattice.group
     dim = len(states)
-    idx = {st: k for k, st in enumerate(states)}
     h = _numeric_matrix(terms, dim, by_label)
     h2 = h @ h
 
+    # state k = (up block a, down block b) has index a * n_b + b; its image under g is
+    # the pair of the blocks' images, with the product of their fermion signs
+    pos_up, sign_up = images(sector[0])
+    pos_dn, sign_dn = images(sector[1])
+    order = pos_up.shape[0]
+    perm = (pos_up[:, :, None] * pos_dn.shape[1] + pos_dn[:, None, :]).reshape(order, dim)
+    sign = (sign_up[:, :, None] * sign_dn[:, None, :]).reshape(order, dim)
     rows = np.arange(dim)
-    perm = np.empty((group.order, dim), dtype=np.int64)
-    sign = np.empty((group.order, dim))
-    for k, (up, dn) in enumerate(states):
-        pairs = zip(spin_block_images(group, up, images), spin_block_images(group, dn, images))
-        for g, ((su, u2), (sd, d2)) in enumerate(pairs):
-            perm[g, k] = idx[(u2, d2)]
-            sign[g, k] = su * sd
     traces = np.stack([(sign * (perm == rows)).sum(axis=1),
                        (sign * h[rows, perm]).sum(axis=1),
                        (sign * h2[rows, perm]).sum(axis=1)])        # [m, g]
-    scale = max(1.0, max((abs(float(v)) for v in vals), default=1.0))
+    fvals = [float(v) for v in vals]
+    scale = max(1.0, max((abs(v) for v in fvals), default=1.0))
     worst = 0.0
-    for irrep in lattice.irreps:
-        want = traces @ np.array(irrep.character, dtype=float) * (irrep.dim / group.order)
-        mine = [(share, float(v)) for (li, share), lab, v in zip(members, labels, vals)
+    for irrep, character, weight in images.irreps:
+        want = traces @ character * weight
+        mine = [(share, v) for (li, share), lab, v in zip(members, labels, fvals)
                 if lab == irrep.label]
         count = sum(sh for sh, _ in mine)
         if abs(want[0] - count) > 0.5:
@@ -795,6 +823,40 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
                       f"trace of H^{m} on that irrep's subspace (relative deviation {dev:.2e})")
             worst = max(worst, dev)
     return worst
+
+
+class _BlockImages:
+    """The lattice group on the spin blocks of one cluster, for one verification call.
+
+    ``self(n)`` is ``(positions, signs)``, two ``[|G|, C(L, n)]`` arrays: element ``g``
+    maps the ``a``-th block with ``n`` electrons (in the order of
+    :func:`~symcluster.fock.states_with`) to ``signs[g, a]`` times the block at
+    ``positions[g, a]``.  ``irreps`` lists each irrep with its character (a float
+    array) and ``d / |G|``; ``known`` holds their labels.
+    """
+
+    def __init__(self, lattice, n_sites):
+        self.group = lattice.group
+        self.n_sites = n_sites
+        self.known = {r.label for r in lattice.irreps}
+        self.irreps = [(r, np.array(r.character, dtype=float), r.dim / self.group.order)
+                       for r in lattice.irreps]
+        self._masks = {}        # mask -> [(sign, mask') per element] (spin_block_images)
+        self._by_n = {}
+
+    def __call__(self, n):
+        hit = self._by_n.get(n)
+        if hit is None:
+            blocks = states_with(self.n_sites, n)
+            where = {b: a for a, b in enumerate(blocks)}
+            pos = np.empty((self.group.order, len(blocks)), dtype=np.int64)
+            sign = np.empty((self.group.order, len(blocks)))
+            for a, b in enumerate(blocks):
+                for g, (sg, b2) in enumerate(spin_block_images(self.group, b, self._masks)):
+                    pos[g, a] = where[b2]
+                    sign[g, a] = sg
+            hit = self._by_n[n] = (pos, sign)
+        return hit
 
 
 def _sector_shares(level, L):

@@ -236,3 +236,72 @@ def test_swapped_lattice_labels_are_rejected():
         kpi.quantum_numbers["irrep"], k0.quantum_numbers["irrep"])
     with pytest.raises(VerificationError, match="labelled"):
         verify_spectrum(spec, seed=3, lattice=plan.lattice)
+
+
+def test_lattice_label_images_match_the_permuted_states():
+    # the block tables give, for every sector state and group element, the index and the
+    # fermion sign of the permuted state: those of permute_state on the basis itself
+    from symcluster.blocks import plan_symmetries
+    from symcluster.fock import sector_states
+    from symcluster.symmetry.lattice import permute_state
+    from symcluster.verify import _BlockImages
+    model = sc.hubbard(sc.cluster(5, [(0, 1), (1, 2), (2, 3), (3, 0), (0, 4, "tp")]))
+    lattice = plan_symmetries(model).lattice
+    images = _BlockImages(lattice, 5)
+    for n_up, n_dn in [(0, 0), (1, 0), (2, 1), (1, 3), (3, 2), (5, 4)]:
+        states = sector_states(5, n_up, n_dn)
+        idx = {s: k for k, s in enumerate(states)}
+        pos_up, sign_up = images(n_up)
+        pos_dn, sign_dn = images(n_dn)
+        for g, perm in enumerate(lattice.group.elements):
+            for k, (u, d) in enumerate(states):
+                a, b = divmod(k, pos_dn.shape[1])
+                sign, u2, d2 = permute_state(perm, u, d)
+                assert idx[u2, d2] == pos_up[g, a] * pos_dn.shape[1] + pos_dn[g, b]
+                assert sign == sign_up[g, a] * sign_dn[g, b]
+
+
+def test_numeric_matrix_is_the_entrywise_sum():
+    # bit for bit the loop m[i, j] += a * float(u_l), label after label
+    import numpy as np
+    from symcluster.fock import sector_states
+    from symcluster.verify import _numeric_matrix, _sector_terms
+    model = sc.hubbard(sc.cluster(4, [(0, 1), (1, 2, "tp"), (2, 3)], site_labels={1: "e", 3: "e"}))
+    states = sector_states(4, 2, 1)
+    terms = _sector_terms(model, states)[0]
+    point = {"t": sympy.Rational(-7, 13), "tp": sympy.Rational(5, 3), "U": sympy.Rational(9, 7),
+             "e": sympy.Rational(-1, 6)}
+    want = np.zeros((len(states), len(states)))
+    for lab, mat in terms.items():
+        v = float(point[lab])
+        for (i, j), a in mat.items():
+            want[i, j] += a * v
+    assert np.array_equal(_numeric_matrix(terms, len(states), point), want)
+
+
+def test_spin_flip_images_share_the_lattice_label_check():
+    # with spin SU(2) proven, a sector N_up < N_dn holding the levels of (N_dn, N_up) is
+    # covered by that sector's check (same levels, same traces); the report says so, the
+    # count of sectors adds up, and a swapped label is still caught
+    from symcluster.blocks import plan_symmetries
+    model = sc.hubbard(sc.ring(4))
+    spec = sc.solve(model, seed=2)
+    plan = plan_symmetries(model)
+    entry = next(c for c in spec.verification.checks if "lattice labels" in c["check"])
+    assert entry["spin_flip_images"] == 10          # (0,1),(0,2),(1,2),...: 10 of 25 sectors
+    assert entry["sectors"] == 15
+    assert "spin-flip image" in entry["scope"]
+    spec.verification.checks.clear()
+    verify_spectrum(spec, seed=2, lattice=plan.lattice)     # nothing proven: every sector
+    alone = next(c for c in spec.verification.checks if "lattice labels" in c["check"])
+    assert alone["sectors"] == 25 and "spin_flip_images" not in alone
+    assert alone["scope"] == "sectors with dim <= 500"
+    two = [lev for lev in spec.levels if lev.quantum_numbers["N"] == 2]
+    a = next(lev for lev in two if lev.quantum_numbers["irrep"].startswith("k=0"))
+    b = next(lev for lev in two if lev.quantum_numbers["irrep"] != a.quantum_numbers["irrep"]
+             and lev.quantum_numbers["S"] == a.quantum_numbers["S"]
+             and lev.degeneracy == a.degeneracy)
+    a.quantum_numbers["irrep"], b.quantum_numbers["irrep"] = (
+        b.quantum_numbers["irrep"], a.quantum_numbers["irrep"])
+    with pytest.raises(VerificationError, match="labelled"):
+        verify_spectrum(spec, seed=2, proven=("spin", "eta"), lattice=plan.lattice)
