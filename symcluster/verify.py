@@ -17,7 +17,8 @@ Tiers, per (N_up, N_dn) sector, at >= 2 random rational parameter points:
 
 Always: degeneracies add up to each sector's dimension and to 4^L; the
 symbolic sum rules sum deg*E = Tr H and sum deg*E^2 = Tr H^2 per sector; each
-closed form is checked against its own polynomial at >= ``digits`` digits.
+closed form is checked against its own polynomial at >= ``digits`` digits, and the
+forms of one factor are distinct roots of it (pairwise disjoint Newton disks).
 """
 
 import random
@@ -29,7 +30,8 @@ import flint
 import mpmath
 import numpy as np
 import sympy
-from mpmath.libmp import fzero, from_int, mpf_abs, mpf_add, mpf_div, mpf_gt, mpf_mul, mpf_pos
+from mpmath.libmp import (fzero, from_int, from_man_exp, mpf_abs, mpf_add, mpf_div, mpf_gt,
+                          mpf_mul, mpf_pos, mpf_sub)
 
 from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched, isolation_key,
                             prefetch_isolations)
@@ -115,6 +117,74 @@ def _raw_deviation(raw, absolute, x, floor, prec, rnd):
         size = mpf_add(c, mpf_mul(r, size, prec, rnd), prec, rnd)
     val = mpf_abs(val, prec, rnd)
     return mpf_div(val, size, prec, rnd) if size != fzero else val
+
+
+def _newton_radius(raw, absolute, x, prec, rnd):
+    """Radius of a disk about ``x`` that holds a root of the polynomial (raw mpf values).
+
+    For a polynomial P of degree n, some root lies within ``n |P(x)| / |P'(x)|`` of any
+    x (from P'/P = sum_i 1/(x - r_i); e.g. P. Henrici, Applied and Computational Complex
+    Analysis, vol. 1, Wiley 1974, section 6.4 [from memory]).  The rounding of Horner's
+    rule at working precision u = 2^-prec is bounded by ``2 n u sum |c_k| |x|^k`` for P and
+    ``2 n u sum k |c_k| |x|^(k-1)`` for P' (N. J. Higham, Accuracy and Stability of
+    Numerical Algorithms, 2nd ed., section 5.1 [from memory]); both bounds are doubled here
+    and taken the safe way round.  Returns None where the computed |P'(x)| does not exceed
+    its rounding bound (x too close to a multiple root to separate anything).
+    """
+    n = len(raw) - 1
+    val, der = raw[0], fzero
+    size, size_d = absolute[0], fzero
+    ax = mpf_abs(x, prec, rnd)
+    for c, a in zip(raw[1:], absolute[1:]):
+        der = mpf_add(val, mpf_mul(x, der, prec, rnd), prec, rnd)
+        val = mpf_add(c, mpf_mul(x, val, prec, rnd), prec, rnd)
+        size_d = mpf_add(size, mpf_mul(ax, size_d, prec, rnd), prec, rnd)
+        size = mpf_add(a, mpf_mul(ax, size, prec, rnd), prec, rnd)
+    u = from_man_exp(4 * n, -prec)               # twice the bound's 2 n u
+    lower = mpf_sub(mpf_abs(der, prec, rnd), mpf_mul(u, size_d, prec, rnd), prec, rnd)
+    if not mpf_gt(lower, fzero):
+        return None
+    top = mpf_add(mpf_abs(val, prec, rnd), mpf_mul(u, size, prec, rnd), prec, rnd)
+    return mpf_mul(from_int(2 * n), mpf_div(top, lower, prec, rnd), prec, rnd)
+
+
+def _complex_newton_radius(cs, x):
+    """:func:`_newton_radius` for a value that is not a real mpf (mpmath arithmetic)."""
+    make = mpmath.mp.make_mpf
+    c = [make(v) for v in cs[0]]
+    n = len(c) - 1
+    val, der = mpmath.polyval(c, x, derivative=True)
+    ax = abs(x)
+    size = mpmath.polyval([make(v) for v in cs[1]], ax)
+    size_d = mpmath.polyval([k * make(v) for k, v in zip(range(n, 0, -1), cs[1][:-1])], ax)
+    u = mpmath.mpf(4 * n) * mpmath.eps
+    lower = abs(der) - u * size_d
+    if lower <= 0:
+        return None
+    return (2 * n * (abs(val) + u * size) / lower)._mpf_
+
+
+def _separate_roots(group, pt, prec, rnd):
+    """Fail unless the values of one polynomial's levels are distinct roots of it.
+
+    ``group`` lists ``(level, value, radius)`` for the closed-form levels of one level
+    polynomial (one factor of one block): each value lies within its radius of a root
+    (:func:`_newton_radius`); pairwise disjoint disks then hold distinct roots, so the n
+    forms of a degree-n factor are its n roots, each once.
+    """
+    for i, (lev, x, rx) in enumerate(group):
+        for lev2, y, ry in group[i + 1:]:
+            if rx is None or ry is None:
+                far = False
+            elif type(x) is mpmath.mpf and type(y) is mpmath.mpf:
+                far = mpf_gt(mpf_abs(mpf_sub(x._mpf_, y._mpf_, prec, rnd), prec, rnd),
+                             mpf_add(rx, ry, prec, rnd))
+            else:
+                far = abs(x - y) > mpmath.mp.make_mpf(mpf_add(rx, ry, prec, rnd))
+            if not far:
+                _fail(f"levels {lev.energy} and {lev2.energy} (N={lev.quantum_numbers['N']}) "
+                      f"are not distinct roots of their polynomial at {pt}: the same root is "
+                      "listed twice and another one is missing")
 
 
 def random_points(symbols, count, seed):
@@ -634,7 +704,9 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         for pi, pt in enumerate(points):
             floor = (scales[pi] * mpmath.mpf(10) ** (-digits))._mpf_
             coeffs = {}     # id(form) -> raw coefficients at the point, and their |.|
-            done = set()    # (id(form), id(value)): a level equal to one checked before
+            radii = {}      # (id(form), id(value)) -> Newton radius; a level equal to one
+            #                 checked before is not checked again
+            by_poly = {}    # id(level polynomial) -> [(level, value, radius)]
             for li, lev in enumerate(spectrum.levels):
                 if lev.polynomial is None:
                     _fail(f"level {li} has no polynomial")
@@ -643,21 +715,29 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                 form = forms(lev.polynomial)
                 x = values[pi][li]          # one object per distinct energy
                 key = (id(form), id(x))
-                if key in done:
-                    continue
-                done.add(key)
-                cs = coeffs.get(id(form))
-                if cs is None:
-                    cs = coeffs[id(form)] = _mp_coefficients(*form.ints_at(pt))
-                if type(x) is mpmath.mpf:
-                    dev = make(_raw_deviation(*cs, x._mpf_, floor, prec, rnd))
-                else:
-                    dev = root_deviation([make(c) for c in cs[0]], x, scales[pi], digits)
-                if dev > limit:
-                    _fail(f"level {lev.energy} (N={lev.quantum_numbers['N']}) is not a root of its "
-                          f"polynomial at {pt}: deviation {mpmath.nstr(dev, 3)}")
-                worst_root = max(worst_root, float(dev))
+                if key not in radii:
+                    cs = coeffs.get(id(form))
+                    if cs is None:
+                        cs = coeffs[id(form)] = _mp_coefficients(*form.ints_at(pt))
+                    if type(x) is mpmath.mpf:
+                        dev = make(_raw_deviation(*cs, x._mpf_, floor, prec, rnd))
+                        radii[key] = (_newton_radius(*cs, x._mpf_, prec, rnd)
+                                      if len(cs[0]) > 2 else None)
+                    else:
+                        dev = root_deviation([make(c) for c in cs[0]], x, scales[pi], digits)
+                        radii[key] = _complex_newton_radius(cs, x) if len(cs[0]) > 2 else None
+                    if dev > limit:
+                        _fail(f"level {lev.energy} (N={lev.quantum_numbers['N']}) is not a root of "
+                              f"its polynomial at {pt}: deviation {mpmath.nstr(dev, 3)}")
+                    worst_root = max(worst_root, float(dev))
+                if len(coeffs[id(form)][0]) > 2:
+                    by_poly.setdefault(id(lev.polynomial), []).append((lev, x, radii[key]))
+            for group in by_poly.values():
+                _separate_roots(group, pt, prec, rnd)
     report.add("closed forms are roots of their polynomials", "all levels", points, worst_root)
+    report.add("closed forms of one factor are distinct roots of it (pairwise disjoint disks "
+               "of radius 2n|P(x)|/|P'(x)| about the values)",
+               "factors of degree >= 2 with closed forms", points, 0.0)
 
     # 3. per sector: counting, sum rules, eigenvalues
     by_sector = {}

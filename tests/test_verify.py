@@ -305,3 +305,48 @@ def test_spin_flip_images_share_the_lattice_label_check():
         b.quantum_numbers["irrep"], a.quantum_numbers["irrep"])
     with pytest.raises(VerificationError, match="labelled"):
         verify_spectrum(spec, seed=2, proven=("spin", "eta"), lattice=plan.lattice)
+
+
+def test_a_root_listed_twice_is_rejected():
+    # Without the lattice check (which compares values per irrep), nothing else compared the
+    # closed forms of a factor with each other in sectors of dimension 5..500: two forms of a
+    # cubic giving the same root, and a root missing, passed every check.  The Newton disks
+    # of the values of one factor must be pairwise disjoint.
+    spec = sc.solve(sc.hubbard(sc.ring(4)), lattice=False, seed=4)
+    groups = {}
+    for lev in spec.levels:
+        p = lev.polynomial
+        if p is not None and p.degree(p.gens[0]) == 3 and lev.quantum_numbers["N"] == 4:
+            groups.setdefault(id(p), []).append(lev)
+    levs = next(g for g in groups.values() if len(g) == 3)
+    assert any("distinct roots" in c["check"] for c in spec.verification.checks)
+    verify_spectrum(spec, seed=4)                              # as solved: accepted
+    levs[1].energy = levs[0].energy
+    with pytest.raises(VerificationError, match="not distinct roots"):
+        verify_spectrum(spec, seed=4)
+
+
+@pytest.mark.parametrize("seed", range(30))
+def test_newton_radius_holds_a_root(seed):
+    # the disk of radius _newton_radius about a perturbed root holds a root of P (reference:
+    # mpmath.polyroots on the same coefficients), for perturbations from 1e-30 to 0.3
+    from mpmath.libmp import mpf_abs
+    from symcluster.verify import _newton_radius
+    rng = random.Random(seed)
+    n = rng.randint(2, 6)
+    roots = [Fraction(rng.randint(-40, 40), rng.randint(1, 9)) for _ in range(n)]
+    poly = sympy.Poly(sympy.Mul(*[x - sympy.Rational(r.numerator, r.denominator) for r in roots]), x)
+    with mpmath.workdps(40):
+        coeffs = [mpmath.mpf(int(c.p)) / int(c.q) for c in poly.all_coeffs()]
+        raw = [c._mpf_ for c in coeffs]
+        prec, rnd = mpmath.mp._prec_rounding
+        absolute = [mpf_abs(c, prec, rnd) for c in raw]
+        ref = mpmath.polyroots(coeffs, maxsteps=200, extraprec=200)
+        for r in roots:
+            for eps in (mpmath.mpf(10) ** -30, mpmath.mpf(10) ** -5, mpmath.mpf("0.3")):
+                xv = mpmath.mpf(r.numerator) / r.denominator + eps * rng.choice([-1, 1])
+                rad = _newton_radius(raw, absolute, xv._mpf_, prec, rnd)
+                if rad is None:
+                    continue
+                rad = mpmath.mp.make_mpf(rad)
+                assert min(abs(xv - z) for z in ref) <= rad
