@@ -8,9 +8,9 @@ import time
 import sympy
 
 from .algebra.charpoly import charpoly_dict
+from .algebra.closed import add_shift
 from .algebra.factor import factor_integer_dict
 from .algebra.polydict import poly_from_dict
-from .algebra.closed import add_shift
 from .algebra.roots import ImplicitRoot, closed_forms
 from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
                      sectors_to_solve)

@@ -114,8 +114,10 @@ def _mul(*factors):
         bases.add(b)
         numeric += b.is_Number
     if len(rest) == 1 and rest[0].is_Add and coeff is not sympy.S.One:
-        if len(factors) == 2 and (factors[0].is_Rational or factors[1].is_Rational):
-            # sympy distributes a rational over a sum when the two are all there is
+        if len(factors) == 2 and ((factors[0].is_Rational and factors[1].is_Add)
+                                  or (factors[1].is_Rational and factors[0].is_Add)):
+            # sympy distributes a rational over a sum when the two are all there is (a
+            # rational times a product holding a sum is another case: left to sympy)
             return _add(*[_mul(coeff, a) for a in rest[0].args])
         return sympy.Mul(*factors)
     if numeric > 1:
