@@ -24,14 +24,14 @@ forms of one factor are distinct roots of it (pairwise disjoint Newton disks).
 import random
 from fractions import Fraction
 from itertools import chain
-from math import comb, gcd, lcm
+from math import comb, gcd, isfinite, lcm
 
 import flint
 import mpmath
 import numpy as np
 import sympy
 from mpmath.libmp import (fzero, from_int, from_man_exp, mpf_abs, mpf_add, mpf_div, mpf_gt,
-                          mpf_mul, mpf_pos, mpf_sub)
+                          mpf_mul, mpf_pos, mpf_sub, to_float)
 
 from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched, isolation_key,
                             prefetch_isolations)
@@ -164,16 +164,55 @@ def _complex_newton_radius(cs, x):
     return (2 * n * (abs(val) + u * size) / lower)._mpf_
 
 
-def _separate_roots(group, pt, prec, rnd):
+def _float_newton_radius(c, a, x):
+    """:func:`_newton_radius` in float64, about the float ``x``: coefficients ``c`` (the
+    working-precision ones rounded to float64) and their absolute values ``a``.  The
+    rounding bound covers Horner's rule and the rounding of the coefficients; None where
+    it does not separate P'(x) from 0 or a value is not finite."""
+    n = len(c) - 1
+    val, der, size, size_d, ax = c[0], 0.0, a[0], 0.0, abs(x)
+    for ci, ai in zip(c[1:], a[1:]):
+        der = val + x * der
+        val = ci + x * val
+        size_d = size + ax * size_d
+        size = ai + ax * size
+    u = 4 * (n + 1) * 2.0 ** -53
+    lower = abs(der) - u * size_d
+    if not (lower > 0 and isfinite(size) and isfinite(val)):
+        return None
+    return 2 * n * (abs(val) + u * size) / lower
+
+
+def _separate_roots(group, pt, prec, rnd, floats):
     """Fail unless the values of one polynomial's levels are distinct roots of it.
 
-    ``group`` lists ``(level, value, radius)`` for the closed-form levels of one level
-    polynomial (one factor of one block): each value lies within its radius of a root
-    (:func:`_newton_radius`); pairwise disjoint disks then hold distinct roots, so the n
-    forms of a degree-n factor are its n roots, each once.
+    ``group`` lists ``(level, value, coefficients)`` for the closed-form levels of one level
+    polynomial (one factor of one block; ``coefficients`` as :func:`_mp_coefficients`
+    gives them).  About each value, a disk holds a root (:func:`_newton_radius`); pairwise
+    disjoint disks hold distinct roots, so the n forms of a degree-n factor are its n
+    roots, each once.  The disks are tried in float64 first, about the values rounded to
+    float64 and widened by that rounding; where they touch, again at working precision.
+    ``floats`` caches the float64 coefficients for the call.
     """
-    for i, (lev, x, rx) in enumerate(group):
-        for lev2, y, ry in group[i + 1:]:
+    disks = []
+    for lev, x, cs in group:
+        fc = floats.get(id(cs))
+        if fc is None:
+            fc = floats[id(cs)] = ([to_float(c) for c in cs[0]], [to_float(c) for c in cs[1]])
+        r = None
+        if type(x) is mpmath.mpf:
+            xf = to_float(x._mpf_)
+            r = _float_newton_radius(*fc, xf)
+        if r is None:
+            break
+        disks.append((xf, r + 4 * 2.0 ** -53 * abs(xf)))
+    else:
+        if all(abs(x - y) > rx + ry for i, (x, rx) in enumerate(disks) for y, ry in disks[i + 1:]):
+            return
+    radii = [(_newton_radius(*cs, x._mpf_, prec, rnd) if type(x) is mpmath.mpf
+              else _complex_newton_radius(cs, x)) for _, x, cs in group]
+    for i, ((lev, x, _), rx) in enumerate(zip(group, radii)):
+        for (lev2, y, _), ry in zip(group[i + 1:], radii[i + 1:]):
             if rx is None or ry is None:
                 far = False
             elif type(x) is mpmath.mpf and type(y) is mpmath.mpf:
@@ -704,9 +743,8 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         for pi, pt in enumerate(points):
             floor = (scales[pi] * mpmath.mpf(10) ** (-digits))._mpf_
             coeffs = {}     # id(form) -> raw coefficients at the point, and their |.|
-            radii = {}      # (id(form), id(value)) -> Newton radius; a level equal to one
-            #                 checked before is not checked again
-            by_poly = {}    # id(level polynomial) -> [(level, value, radius)]
+            done = set()    # (id(form), id(value)): a level equal to one checked before
+            by_poly = {}    # id(level polynomial) -> [(level, value, its coefficients)]
             for li, lev in enumerate(spectrum.levels):
                 if lev.polynomial is None:
                     _fail(f"level {li} has no polynomial")
@@ -715,25 +753,25 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                 form = forms(lev.polynomial)
                 x = values[pi][li]          # one object per distinct energy
                 key = (id(form), id(x))
-                if key not in radii:
+                if key not in done:
+                    done.add(key)
                     cs = coeffs.get(id(form))
                     if cs is None:
                         cs = coeffs[id(form)] = _mp_coefficients(*form.ints_at(pt))
                     if type(x) is mpmath.mpf:
                         dev = make(_raw_deviation(*cs, x._mpf_, floor, prec, rnd))
-                        radii[key] = (_newton_radius(*cs, x._mpf_, prec, rnd)
-                                      if len(cs[0]) > 2 else None)
                     else:
                         dev = root_deviation([make(c) for c in cs[0]], x, scales[pi], digits)
-                        radii[key] = _complex_newton_radius(cs, x) if len(cs[0]) > 2 else None
                     if dev > limit:
                         _fail(f"level {lev.energy} (N={lev.quantum_numbers['N']}) is not a root of "
                               f"its polynomial at {pt}: deviation {mpmath.nstr(dev, 3)}")
                     worst_root = max(worst_root, float(dev))
                 if len(coeffs[id(form)][0]) > 2:
-                    by_poly.setdefault(id(lev.polynomial), []).append((lev, x, radii[key]))
+                    by_poly.setdefault(id(lev.polynomial), []).append(
+                        (lev, x, coeffs[id(form)]))
+            floats = {}     # id(coefficients) -> their float64 values and |.|
             for group in by_poly.values():
-                _separate_roots(group, pt, prec, rnd)
+                _separate_roots(group, pt, prec, rnd, floats)
     report.add("closed forms are roots of their polynomials", "all levels", points, worst_root)
     report.add("closed forms of one factor are distinct roots of it (pairwise disjoint disks "
                "of radius 2n|P(x)|/|P'(x)| about the values)",

@@ -350,3 +350,39 @@ def test_newton_radius_holds_a_root(seed):
                     continue
                 rad = mpmath.mp.make_mpf(rad)
                 assert min(abs(xv - z) for z in ref) <= rad
+
+
+def test_float_disks_hold_a_root_and_close_roots_fall_back_to_working_precision():
+    # _float_newton_radius: a root of P within the radius (reference: exact rational roots);
+    # two distinct roots 1e-25 apart cannot be told apart in float64, so _separate_roots
+    # must settle them at working precision (accepted), while a value listed twice fails
+    from mpmath.libmp import mpf_abs, to_float
+    from symcluster.verify import _float_newton_radius, _mp_coefficients, _separate_roots
+    rng = random.Random(11)
+    for _ in range(40):
+        roots = [Fraction(rng.randint(-50, 50), rng.randint(1, 7)) for _ in range(rng.randint(2, 4))]
+        poly = sympy.Poly(sympy.Mul(*[x - sympy.Rational(r.numerator, r.denominator)
+                                      for r in roots]), x)
+        c = [float(v) for v in poly.all_coeffs()]
+        a = [abs(v) for v in c]
+        for r in roots:
+            xf = float(r) * (1 + rng.choice([1e-12, -3e-9, 1e-3]))
+            rad = _float_newton_radius(c, a, xf)
+            if rad is not None:
+                assert min(abs(Fraction(xf) - s) for s in roots) <= Fraction(rad)
+    a0 = sympy.Rational(1, 3)
+    gap = sympy.Rational(1, 10**25)
+    poly = sympy.Poly((x - a0) * (x - a0 - gap) * (x + 2), x)
+    den = 3 * 10**25 * 3
+    ints = [int(v * den) for v in poly.all_coeffs()]
+    with mpmath.workdps(60):
+        prec, rnd = mpmath.mp._prec_rounding
+        cs = _mp_coefficients(ints, den)
+
+        class Lev:
+            energy = "E"
+            quantum_numbers = {"N": 2}
+        vals = [mpmath.mpf(1) / 3, mpmath.mpf(1) / 3 + mpmath.mpf(10) ** -25, mpmath.mpf(-2)]
+        _separate_roots([(Lev, v, cs) for v in vals], {}, prec, rnd, {})
+        with pytest.raises(VerificationError, match="not distinct roots"):
+            _separate_roots([(Lev, v, cs) for v in (vals[0], vals[0], vals[2])], {}, prec, rnd, {})
