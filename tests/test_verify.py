@@ -386,3 +386,25 @@ def test_float_disks_hold_a_root_and_close_roots_fall_back_to_working_precision(
         _separate_roots([(Lev, v, cs) for v in vals], {}, prec, rnd, {})
         with pytest.raises(VerificationError, match="not distinct roots"):
             _separate_roots([(Lev, v, cs) for v in (vals[0], vals[0], vals[2])], {}, prec, rnd, {})
+
+
+def test_complex_values_get_newton_disks_too():
+    # a closed form evaluated with complex intermediates can come back as an mpc with a
+    # tiny imaginary part: its disk must still hold the root, and two such values of one
+    # root must still be rejected
+    from symcluster.verify import _complex_newton_radius, _mp_coefficients, _separate_roots
+    with mpmath.workdps(50):
+        prec, rnd = mpmath.mp._prec_rounding
+        cs = _mp_coefficients([1, -6, 11, -6], 1)           # (x - 1)(x - 2)(x - 3)
+        z = mpmath.mpc(2, mpmath.mpf(10) ** -35)
+        rad = mpmath.mp.make_mpf(_complex_newton_radius(cs, z))
+        assert abs(z - 2) <= rad < mpmath.mpf("0.5")
+
+        class Lev:
+            energy = "E"
+            quantum_numbers = {"N": 3}
+        ones = [mpmath.mpc(1, 1e-40), z, mpmath.mpf(3)]
+        _separate_roots([(Lev, v, cs) for v in ones], {}, prec, rnd, {})
+        with pytest.raises(VerificationError, match="not distinct roots"):
+            _separate_roots([(Lev, v, cs) for v in (z, z + mpmath.mpf(10) ** -40, mpmath.mpf(3))],
+                            {}, prec, rnd, {})
