@@ -101,6 +101,13 @@ def test_ordering_reference_singlet_sign():
     assert np.allclose(H @ v, -2 * v)
 
 
+def _model_and_reference(cluster):
+    """The Hubbard model of `cluster` and the Jordan-Wigner reference's dense label matrices."""
+    labels = {i: lab for i, lab in enumerate(cluster.site_labels) if lab}
+    ref = FockReference(cluster.n_sites, list(cluster.bonds), labels)
+    return sc.hubbard(cluster), {k: v.toarray() for k, v in ref.terms.items()}
+
+
 @pytest.mark.parametrize("cluster", [sc.ring(4), sc.chain(3), sc.ring(3),
                                      sc.cluster(3, [(0, 2, "t"), (1, 2, "tp")],
                                                 site_labels={1: "eps"})],
@@ -110,10 +117,7 @@ def test_hamiltonian_matrix_elements_in_up_first_ordering(cluster):
     # Jordan-Wigner reference's, with basis states ordered up orbitals first
     from symcluster.operators import apply_hamiltonian
     L = cluster.n_sites
-    model = sc.hubbard(cluster)
-    labels = {i: lab for i, lab in enumerate(cluster.site_labels) if lab}
-    ref = FockReference(L, list(cluster.bonds), labels)
-    dense = {k: v.toarray() for k, v in ref.terms.items()}
+    model, dense = _model_and_reference(cluster)
     for up in range(2 ** L):
         for dn in range(2 ** L):
             col = _state_index(up, dn, L)
@@ -184,10 +188,7 @@ def test_hamiltonian_action_matches_reference_and_apply_hamiltonian(cluster):
     # reference, and exactly apply_hamiltonian's entries in the same order
     from symcluster.operators import HamiltonianAction, apply_hamiltonian
     L = cluster.n_sites
-    model = sc.hubbard(cluster)
-    labels = {i: lab for i, lab in enumerate(cluster.site_labels) if lab}
-    ref = FockReference(L, list(cluster.bonds), labels)
-    dense = {k: v.toarray() for k, v in ref.terms.items()}
+    model, dense = _model_and_reference(cluster)
     h = HamiltonianAction(model)
     assert set(h.labels) == set(dense)
     for up in range(2 ** L):
