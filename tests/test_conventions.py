@@ -101,6 +101,18 @@ def test_ordering_reference_singlet_sign():
     assert np.allclose(H @ v, -2 * v)
 
 
+def _assert_columns(L, ops):
+    """Each operator ``op(up, dn) -> [(coefficient, (up', dn'))]`` gives, on every basis
+    state, the column of its reference matrix (Jordan-Wigner, up orbitals first)."""
+    for up in range(2 ** L):
+        for dn in range(2 ** L):
+            col = _state_index(up, dn, L)
+            for op, mat in ops:
+                have = {_state_index(*st, L): c for c, st in op(up, dn)}
+                exp = {r: int(mat[r, col]) for r in np.nonzero(mat[:, col])[0]}
+                assert have == exp, f"column (up={up:b}, dn={dn:b})"
+
+
 def _model_and_reference(cluster):
     """The Hubbard model of `cluster` and the Jordan-Wigner reference's dense label matrices."""
     labels = {i: lab for i, lab in enumerate(cluster.site_labels) if lab}
@@ -137,13 +149,8 @@ def test_spin_and_eta_operators_in_up_first_ordering():
     ref = FockReference(L, list(sc.ring(4).bonds))
     sp_ = ref.spin_plus().toarray()
     ep_ = ref.eta_plus(signs).toarray()
-    for up in range(2 ** L):
-        for dn in range(2 ** L):
-            col = _state_index(up, dn, L)
-            for got, mat in ((apply_s_plus(L, up, dn), sp_), (apply_eta_plus(signs, up, dn), ep_)):
-                have = {_state_index(*st, L): c for c, st in got}
-                exp = {r: int(mat[r, col]) for r in np.nonzero(mat[:, col])[0]}
-                assert have == exp, f"column (up={up:b}, dn={dn:b})"
+    _assert_columns(L, [(lambda u, d: apply_s_plus(L, u, d), sp_),
+                        (lambda u, d: apply_eta_plus(signs, u, d), ep_)])
 
 
 # ---------------------------------------------------------------- units / homogeneity
@@ -239,13 +246,8 @@ def test_lowering_operators_in_up_first_ordering():
     ref = FockReference(L, list(sc.ring(4).bonds))
     sm = ref.spin_plus().T.toarray()
     em = ref.eta_plus(signs).T.toarray()
-    for up in range(2 ** L):
-        for dn in range(2 ** L):
-            col = _state_index(up, dn, L)
-            for got, mat in ((apply_s_minus(L, up, dn), sm), (apply_eta_minus(signs, up, dn), em)):
-                have = {_state_index(*st, L): c for c, st in got}
-                exp = {r: int(mat[r, col]) for r in np.nonzero(mat[:, col])[0]}
-                assert have == exp, f"column (up={up:b}, dn={dn:b})"
+    _assert_columns(L, [(lambda u, d: apply_s_minus(L, u, d), sm),
+                        (lambda u, d: apply_eta_minus(signs, u, d), em)])
 
 
 def test_per_state_memo_calls_the_operator_once_per_state():
