@@ -2,8 +2,9 @@
 
 Tiers, per (N_up, N_dn) sector, at >= 2 random rational parameter points:
 
-* dim <= MP_DIM: mpmath eigenvalues of the unreduced sector at ``digits`` + 10
-  digits equal the level values with their multiplicities;
+* dim <= MP_DIM: the eigenvalues of the unreduced sector, enclosed in balls at
+  ``digits`` + 10 digits (python-flint), equal the level values with their
+  multiplicities;
 * dim <= EXACT_DIM: the characteristic polynomial of the unreduced sector at
   the point (python-flint, independent of the symbolic pipeline) equals the
   product of the levels' polynomials at the point -- an exact identity test
@@ -838,12 +839,14 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                     level_vals.sort()
                 if dim <= MP_DIM:
                     with mpmath.workdps(digits + 10):
-                        ev = _mp_eigenvalues(terms, dim, by_label, spectra)
-                        dev = max((abs(x - y) / max(1, abs(y)) for x, y in zip(level_vals, ev)),
+                        ev = _sector_eigenvalues(terms, dim, by_label, spectra)
+                        # an eigenvalue lies within ``bound`` of ``y``: |x - it| <= |x - y| + bound
+                        dev = max(((abs(x - y) + bound) / max(1, abs(y))
+                                   for x, (y, bound) in zip(level_vals, ev)),
                                   default=mpmath.mpf(0))
                         if dev > mpmath.mpf(10) ** (-digits):
-                            _fail(f"sector ({n_up},{n_dn}) at {pt}: levels differ from mpmath "
-                                  f"eigenvalues by {mpmath.nstr(dev, 3)}")
+                            _fail(f"sector ({n_up},{n_dn}) at {pt}: levels differ from the "
+                                  f"eigenvalues of the sector by {mpmath.nstr(dev, 3)}")
                         worst["mp"] = max(worst["mp"], float(dev))
                 elif dim <= EXACT_DIM:
                     prime = primes[pi]
@@ -863,7 +866,8 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                         _fail(f"sector ({n_up},{n_dn}) at {pt}: levels differ from float64 "
                               f"eigenvalues by {dev:.2e}")
                     worst["float"] = max(worst["float"], dev)
-    report.add("mpmath eigenvalues of unreduced sectors", f"sectors with dim <= {MP_DIM}",
+    report.add("certified eigenvalues of unreduced sectors (ball arithmetic, python-flint)",
+               f"sectors with dim <= {MP_DIM}",
                points, worst["mp"])
     report.add("exact sector characteristic polynomial (modulo a random 62-bit prime per point)",
                f"sectors {MP_DIM} < dim <= {EXACT_DIM}", points, 0.0, primes=primes)
@@ -1002,27 +1006,56 @@ def _sector_shares(level, L):
             if u - d == twice and level.degeneracy]
 
 
-def _mp_eigenvalues(terms, dim, by_label, spectra):
-    """Ascending mpmath eigenvalues (``eigsy``) of a small sector at a rational point.
+def _sector_eigenvalues(terms, dim, by_label, spectra):
+    """Ascending eigenvalues of a small sector at a rational point, each with an error bound.
 
-    The matrix is summed entry by entry, label after label, at the working precision;
-    ``spectra`` holds the eigenvalues of the matrices met before in this call (equal
+    Returns ``[(value, bound)]`` (mpmath numbers at the working precision): an
+    eigenvalue lies within ``bound`` of each ``value``, counted with multiplicity.
+    The matrix is summed exactly in rationals.  Its eigenvalues are enclosed by
+    python-flint's ball arithmetic (``acb_mat.eig(multiple=True)``, which certifies
+    the enclosures and allows multiple eigenvalues) at the working precision; where
+    that cannot isolate them, mpmath's ``eigsy`` of the same matrix gives the values,
+    with bound 0 (not certified, as before ball arithmetic was used here).
+    ``spectra`` holds the results for the matrices met before in this call (equal
     matrices, entry for entry, have the same eigenvalues).
     """
     entries = {}
     for l, mat in terms.items():
-        v = mpmath.mpf(by_label[l].p) / by_label[l].q
+        v = Fraction(int(by_label[l].p), int(by_label[l].q))
         for key, c in mat.items():
             entries[key] = entries.get(key, 0) + c * v
-    key = (dim, mpmath.mp.prec, tuple(sorted((k, x._mpf_) for k, x in entries.items())))
+    prec = mpmath.mp.prec
+    key = (dim, prec, tuple(sorted(entries.items())))
     ev = spectra.get(key)
     if ev is None:
+        ev = spectra[key] = _enclosed_eigenvalues(entries, dim, prec)
+    return ev
+
+
+def _enclosed_eigenvalues(entries, dim, prec):
+    """[(value, bound)] of the symmetric rational matrix ``entries`` (see above)."""
+    make = mpmath.mp.make_mpf
+    m = flint.fmpq_mat(dim, dim)
+    for (i, j), x in entries.items():
+        x = Fraction(x)
+        m[i, j] = flint.fmpq(x.numerator, x.denominator)
+    try:
+        with flint.ctx.workprec(prec):
+            balls = flint.acb_mat(flint.arb_mat(m)).eig(multiple=True)
+    except ValueError:          # not isolated at this precision
         a = mpmath.matrix(dim, dim)
         for (i, j), x in entries.items():
-            a[i, j] = x
-        ev = spectra[key] = (sorted(mpmath.eigsy(a, eigvals_only=True, overwrite_a=True))
-                             if dim > 1 else [a[0, 0]])
-    return ev
+            a[i, j] = mpmath.mpf(x.numerator) / x.denominator
+        return [(x, mpmath.mpf(0)) for x in sorted(mpmath.eigsy(a, eigvals_only=True))]
+    out = []
+    for z in balls:
+        x = z.real
+        man, exp = x.mid().man_exp()
+        rman, rexp = x.rad().man_exp()
+        out.append((make(from_man_exp(int(man), int(exp))),
+                    make(from_man_exp(int(rman), int(rexp)))))
+    out.sort(key=lambda vb: vb[0])
+    return out
 
 
 def _factor_groups(spectrum, members, sector):

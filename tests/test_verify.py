@@ -196,23 +196,70 @@ def test_sector_shares_split_multiplets_over_sz_sectors():
         _sector_shares(Level(U, 1, {"N": 2}), 4)
 
 
-def test_small_sector_eigenvalues_are_mpmath_eigsy():
-    # mpmath.eigsy of the matrix summed at 40 digits (mpmath itself); an equal matrix of
-    # another sector gives the same list
-    from symcluster.verify import _mp_eigenvalues
-    terms = {"t": {(0, 1): -1, (1, 0): -1, (1, 2): -1, (2, 1): -1, (0, 2): 1, (2, 0): 1},
-             "U": {(0, 0): 1, (2, 2): 2}}
-    point = {"t": sympy.Rational(265, 107), "U": sympy.Rational(-835, 107)}
+def _summed_mp_matrix(terms, point, dim):
+    a = mpmath.matrix(dim, dim)
+    for lab, mat in terms.items():
+        v = mpmath.mpf(point[lab].p) / point[lab].q
+        for (i, j), c in mat.items():
+            a[i, j] += c * v
+    return a
+
+
+_SECTOR_TERMS = {"t": {(0, 1): -1, (1, 0): -1, (1, 2): -1, (2, 1): -1, (0, 2): 1, (2, 0): 1},
+                 "U": {(0, 0): 1, (2, 2): 2}}
+_SECTOR_POINT = {"t": sympy.Rational(265, 107), "U": sympy.Rational(-835, 107)}
+
+
+def test_small_sector_eigenvalues_enclose_mpmath_eigsy():
+    # The ball enclosures (python-flint) against mpmath.eigsy of the matrix summed at
+    # 40 digits (mpmath, an independent library): within the bound, bounds tiny; an
+    # equal matrix of another sector gives the same list
+    from symcluster.verify import _sector_eigenvalues
     spectra = {}
     with mpmath.workdps(40):
-        got = _mp_eigenvalues(terms, 3, point, spectra)
-        a = mpmath.matrix(3, 3)
-        for lab, mat in terms.items():
-            v = mpmath.mpf(point[lab].p) / point[lab].q
-            for (i, j), c in mat.items():
-                a[i, j] += c * v
-        assert got == sorted(mpmath.eigsy(a, eigvals_only=True))
-        assert _mp_eigenvalues(dict(terms), 3, dict(point), spectra) is got
+        got = _sector_eigenvalues(_SECTOR_TERMS, 3, _SECTOR_POINT, spectra)
+        want = sorted(mpmath.eigsy(_summed_mp_matrix(_SECTOR_TERMS, _SECTOR_POINT, 3),
+                                   eigvals_only=True))
+        assert len(got) == 3
+        for (x, bound), y in zip(got, want):
+            assert bound < mpmath.mpf(10) ** -38
+            assert abs(x - y) <= bound + mpmath.mpf(10) ** -38
+        assert _sector_eigenvalues(dict(_SECTOR_TERMS), 3, dict(_SECTOR_POINT), spectra) is got
+
+
+def test_small_sector_eigenvalues_keep_multiplicities():
+    # 4-site ring, one electron, t = 3/7: -2t cos k for k = 0, +-pi/2, pi (tight binding,
+    # e.g. Ashcroft & Mermin ch. 10): -6/7, 0 (twice), 6/7; the double eigenvalue is kept twice
+    from symcluster.verify import _sector_eigenvalues
+    hop = {}
+    for i in range(4):
+        hop[(i, (i + 1) % 4)] = hop[((i + 1) % 4, i)] = -1
+    with mpmath.workdps(40):
+        got = _sector_eigenvalues({"t": hop}, 4, {"t": sympy.Rational(3, 7)}, {})
+        want = [mpmath.mpf(-6) / 7, 0, 0, mpmath.mpf(6) / 7]
+        assert all(abs(x - y) <= b for (x, b), y in zip(got, want))
+        assert all(b < mpmath.mpf(10) ** -38 for _, b in got)
+
+
+def test_small_sector_eigenvalues_fall_back_to_eigsy(monkeypatch):
+    # where ball arithmetic cannot isolate the eigenvalues, mpmath.eigsy gives them
+    import flint
+    from symcluster.verify import _sector_eigenvalues
+
+    class _NoIsolation:
+        def __init__(self, *args):
+            pass
+
+        def eig(self, **kwargs):
+            raise ValueError("failed to isolate eigenvalues")
+
+    monkeypatch.setattr(flint, "acb_mat", _NoIsolation)
+    with mpmath.workdps(40):
+        got = _sector_eigenvalues(_SECTOR_TERMS, 3, _SECTOR_POINT, {})
+        want = sorted(mpmath.eigsy(_summed_mp_matrix(_SECTOR_TERMS, _SECTOR_POINT, 3),
+                                   eigvals_only=True))
+    assert [x for x, _ in got] == want
+    assert all(b == 0 for _, b in got)
 
 
 def test_swapped_lattice_labels_are_rejected():
