@@ -677,18 +677,20 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     ``lattice`` (the detected lattice symmetry, or None) adds the check of the lattice
     labels: in every sector of dimension at most ``EXACT_DIM`` the levels labelled with an
     irrep carry the traces of H^0, H^1, H^2 on that irrep's isotypic subspace (float64, first
-    point; see :func:`_check_lattice_labels`).  With "spin" proven, a sector N_up < N_dn
-    whose levels and shares are those of (N_dn, N_up) is not checked again: the spin flip
-    maps one sector onto the other and commutes with H and with every U(g), so the traces,
-    and the check, are the same.  The report counts such sectors as ``spin_flip_images``
-    (beside ``sectors``, those checked) and names the rule in its scope.
+    point; see :func:`_check_lattice_labels`).
 
     ``proven`` names symmetries that were proven exactly by operator identities
     ("spin": [H, S+] = 0; "eta": [H, eta+] = delta eta+).  Sectors that such a
     symmetry maps onto another checked sector (N_up < N_dn; N > L when the
     sector 2L - N is also checked) still get the counting and the symbolic
     sum rules, but not the numerical eigenvalue checks: their levels are the
-    checked ones moved by an exactly proven symmetry.
+    checked ones moved by an exactly proven symmetry.  With "spin" proven, a sector
+    N_up < N_dn whose levels and shares are those of (N_dn, N_up) gets the counting
+    only: the spin flip maps one sector onto the other and commutes with H and with
+    every U(g), so the traces Tr H^m and Tr U(g) H^m, and with them the sum rules and
+    the lattice-label check, are those of (N_dn, N_up).  The report counts such sectors
+    as ``spin_flip_images`` in both checks (beside ``sectors`` for the labels, those
+    checked) and names the rule in their scopes.
     """
     model = spectrum.model
     report = spectrum.verification
@@ -786,7 +788,8 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     worst = {"mp": 0.0, "float": 0.0, "labels": 0.0}
     skipped = 0
     labelled = 0
-    flipped = 0             # sectors whose lattice labels are those of their spin-flip image
+    flipped = 0             # sectors N_up < N_dn that hold the levels of their spin-flip image
+    flipped_labels = 0      # those of them with lattice labels (all of the group's irreps)
     label_images = _BlockImages(lattice, L) if lattice is not None else None
     sums = {}               # Vieta's power sums by polynomial (_check_sum_rules)
     reduced = [{} for _ in points]      # id(form) -> monic nmod_poly, per point and prime
@@ -803,27 +806,31 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                 continue
             mirrored = (("spin" in proven and n_up < n_dn)
                         or ("eta" in proven and n > L and (2 * L - n) in wanted))
+            if "spin" in proven and n_up < n_dn and members == by_sector.get((n_dn, n_up)):
+                # the spin flip (a rotation by pi about the x axis, which commutes with H
+                # once [H, S+] = 0 is proven, and with every site permutation U(g)) maps
+                # this sector onto (n_dn, n_up), which holds the same levels with the same
+                # shares: its traces Tr H^m and Tr U(g) H^m are those of the image, so
+                # the sum rules and the lattice-label check there are the ones here
+                flipped += 1
+                if lattice is not None and dim <= EXACT_DIM and all(
+                        spectrum.levels[li].quantum_numbers.get("irrep") in label_images.known
+                        for li, _ in members):
+                    flipped_labels += 1
+                skipped += 1
+                continue
             states = sector_states(L, n_up, n_dn)
             terms, tr1, tr2 = _sector_terms(model, states, action)
             groups = _factor_groups(spectrum, members, (n_up, n_dn))
             _check_sum_rules(groups, tr1, tr2, (n_up, n_dn), sums, forms)
             if lattice is not None and dim <= EXACT_DIM:
-                if ("spin" in proven and n_up < n_dn
-                        and members == by_sector.get((n_dn, n_up))):
-                    # the spin flip maps this sector onto (n_dn, n_up), which holds the same
-                    # levels with the same shares and has the same traces Tr U(g) H^m (the
-                    # flip commutes with H and with every U(g)): the check there is this one
-                    if all(spectrum.levels[li].quantum_numbers.get("irrep") in label_images.known
-                           for li, _ in members):
-                        flipped += 1
-                else:
-                    by_label = {s.name: points[0][s] for s in symbols}
-                    dev = _check_lattice_labels(spectrum, lattice, members, states, terms,
-                                                by_label, [values[0][li] for li, _ in members],
-                                                (n_up, n_dn), label_images)
-                    if dev is not None:
-                        labelled += 1
-                        worst["labels"] = max(worst["labels"], dev)
+                by_label = {s.name: points[0][s] for s in symbols}
+                dev = _check_lattice_labels(spectrum, lattice, members, states, terms,
+                                            by_label, [values[0][li] for li, _ in members],
+                                            (n_up, n_dn), label_images)
+                if dev is not None:
+                    labelled += 1
+                    worst["labels"] = max(worst["labels"], dev)
             if mirrored:
                 skipped += 1
                 continue
@@ -873,15 +880,18 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                f"sectors {MP_DIM} < dim <= {EXACT_DIM}", points, 0.0, primes=primes)
     report.add("float64 eigenvalues of unreduced sectors", f"sectors {EXACT_DIM} < dim <= {FLOAT_DIM}",
                points[:1], worst["float"])
-    report.add("sum rules Tr H, Tr H^2", "every sector with dim <= %d" % FLOAT_DIM, worst=0.0)
+    scope, extra = f"every sector with dim <= {FLOAT_DIM}", {}
+    if flipped:
+        scope += _FLIP_SCOPE
+        extra["spin_flip_images"] = flipped
+    report.add("sum rules Tr H, Tr H^2", scope, worst=0.0, **extra)
     if labelled:
         # a test of the labels, not of the energies: its float64 residual is reported
         # beside it and kept out of the report's worst deviation (that of the values)
         scope, extra = f"sectors with dim <= {EXACT_DIM}", {}
-        if flipped:
-            scope += (", except a sector N_up < N_dn that holds the levels of its spin-flip "
-                      "image (N_dn, N_up) (spin SU(2) proven): that image's check covers it")
-            extra["spin_flip_images"] = flipped
+        if flipped_labels:
+            scope += _FLIP_SCOPE
+            extra["spin_flip_images"] = flipped_labels
         report.add("lattice labels: traces of H^0, H^1, H^2 on each irrep's isotypic subspace "
                    "(float64)",
                    scope, points[:1], 0.0,
@@ -890,6 +900,10 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         report.add("sectors covered by exactly proven symmetries", ", ".join(sorted(proven)),
                    worst=0.0, sectors=skipped)
     return report
+
+
+_FLIP_SCOPE = (", except a sector N_up < N_dn that holds the levels of its spin-flip image "
+               "(N_dn, N_up) (spin SU(2) proven): that image's check covers it")
 
 
 def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, vals, sector,

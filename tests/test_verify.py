@@ -338,11 +338,16 @@ def test_spin_flip_images_share_the_lattice_label_check():
     assert entry["spin_flip_images"] == 10          # (0,1),(0,2),(1,2),...: 10 of 25 sectors
     assert entry["sectors"] == 15
     assert "spin-flip image" in entry["scope"]
+    # the sum rules of those sectors are their images' too
+    sums = next(c for c in spec.verification.checks if c["check"].startswith("sum rules"))
+    assert sums["spin_flip_images"] == 10 and "spin-flip image" in sums["scope"]
     spec.verification.checks.clear()
     verify_spectrum(spec, seed=2, lattice=plan.lattice)     # nothing proven: every sector
     alone = next(c for c in spec.verification.checks if "lattice labels" in c["check"])
     assert alone["sectors"] == 25 and "spin_flip_images" not in alone
     assert alone["scope"] == "sectors with dim <= 500"
+    sums = next(c for c in spec.verification.checks if c["check"].startswith("sum rules"))
+    assert "spin_flip_images" not in sums and sums["scope"] == "every sector with dim <= 6000"
     two = [lev for lev in spec.levels if lev.quantum_numbers["N"] == 2]
     a = next(lev for lev in two if lev.quantum_numbers["irrep"].startswith("k=0"))
     b = next(lev for lev in two if lev.quantum_numbers["irrep"] != a.quantum_numbers["irrep"]
