@@ -103,7 +103,10 @@ class _Shifter:
     def __init__(self, shift):
         self.shift = shift
         self._ctx = None
-        self._last = (None, None)       # (poly, its python-flint form): the k loop reuses it
+        # (poly, its sorted terms, its python-flint form or None): the k loop reuses them
+        self._last = (None, None, None)
+        self._made = {}                 # (sorted terms, k) -> the shifted Poly made first:
+                                        # equal factors of separate blocks shift alike
 
     def _setup(self, gens):
         import flint
@@ -122,12 +125,21 @@ class _Shifter:
             return poly
         if self._ctx is None or poly.gens != self.gens:
             self._setup(poly.gens)
-        last, fp = self._last
+        last, terms, fp = self._last
         if last is not poly:
-            fp = self._ctx.from_dict(poly.rep.to_dict())        # integer coefficients (ZZ)
-            self._last = (poly, fp)
+            rep = poly.rep.to_dict()                            # integer coefficients (ZZ)
+            terms, fp = tuple(sorted(rep.items())), None
+            self._last = (poly, terms, fp)
+        made = self._made.get((terms, k))
+        if made is not None:
+            # a Poly of its own all the same: the verification counts roots by object
+            return sympy.Poly.new(made.rep, *made.gens)
+        if fp is None:
+            fp = self._ctx.from_dict(dict(terms))
+            self._last = (poly, terms, fp)
         out = fp.compose(self._x[0] - k * self._sh, *self._x[1:])
-        return poly_from_dict(out.to_dict(), poly.gens, sympy.ZZ)
+        made = self._made[(terms, k)] = poly_from_dict(out.to_dict(), poly.gens, sympy.ZZ)
+        return made
 
 
 def gauge_twins(model, plan, blocks):
@@ -172,11 +184,8 @@ def _negate_couplings(factors, odd):
         rep = {m: (-c if sum(e for e, f in zip(m, flip) if f) % 2 else c) for m, c in old.items()}
         if rep == old:
             # even in the flipped couplings: the factor, and so its closed forms (which are
-            # built from its coefficients alone), are unchanged; a Poly of its own all the
-            # same, because the verification counts roots by polynomial object
-            new = sympy.Poly.new(fac.rep, *gens)
-            out.append((new, mult, [ImplicitRoot(new, r.index) if isinstance(r, ImplicitRoot)
-                                    else r for r in roots]))
+            # built from its coefficients alone), are unchanged
+            out.extend(_copy_factors([(fac, mult, roots)]))
             continue
         new = poly_from_dict(rep, gens, fac.domain)
         if roots and not isinstance(roots[0], ImplicitRoot):
@@ -189,6 +198,38 @@ def _negate_couplings(factors, odd):
         sub = {g: -g for g, f in zip(gens, flip) if f}
         out.append((new, mult, [ImplicitRoot(new, r.index) if isinstance(r, ImplicitRoot)
                                 else r.xreplace(sub) for r in roots]))
+    return out
+
+
+def _copy_factors(factors):
+    """The same factors and roots with Poly objects of their own (sharing the exact
+    representation): the verification counts the roots of each polynomial object."""
+    out = []
+    for fac, mult, roots in factors:
+        new = sympy.Poly.new(fac.rep, *fac.gens)
+        out.append((new, mult, [ImplicitRoot(new, r.index) if isinstance(r, ImplicitRoot)
+                                else r for r in roots]))
+    return out
+
+
+def equal_blocks(blocks, skip=()):
+    """Blocks whose matrix equals an earlier block's, entry for entry: {index: first index}.
+
+    Their factors and roots are those of the first (copied, not solved again); every
+    block is still checked against its own matrix by ``verify_blocks``.  ``skip`` holds
+    indices to leave out (the gauge twins, derived otherwise).
+    """
+    first = {}
+    out = {}
+    for i, spec in enumerate(blocks):
+        if i in skip:
+            continue
+        blk = spec.block
+        key = (blk.dim, tuple(sorted((lab, tuple(sorted(m.items())))
+                                     for lab, m in blk.terms.items())))
+        j = first.setdefault(key, i)
+        if j != i:
+            out[i] = j
     return out
 
 
@@ -325,10 +366,13 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     elif executor == "serial":
         executor = None
     twins = gauge_twins(model, plan, blocks)
-    prog.total = len(blocks) - len(twins)
+    copies = equal_blocks(blocks, skip=twins)
+    prog.total = len(blocks) - len(twins) - len(copies)
     try:
-        todo = [i for i in range(len(blocks)) if i not in twins]
+        todo = [i for i in range(len(blocks)) if i not in twins and i not in copies]
         solved = dict(zip(todo, _run_blocks([blocks[i] for i in todo], names, executor, prog)))
+        for i, j in copies.items():
+            solved[i] = _copy_factors(solved[j])
         odd = {h[2] for h in model.hops}     # the labels of H's hopping terms
         results = [solved[i] if i in solved else _negate_couplings(solved[twins[i]], odd)
                    for i in range(len(blocks))]

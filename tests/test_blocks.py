@@ -167,6 +167,42 @@ def test_gauge_twin_blocks_have_t_negated_characteristic_polynomials(cluster):
         assert sympy.expand(pj - pi.subs(t, -t)) == 0
 
 
+@pytest.mark.parametrize("cluster", [sc.ring(4), sc.chain(4), sc.ring(6)],
+                         ids=["ring4", "chain4", "ring6"])
+def test_equal_blocks_are_equal_matrices_and_solved_once(cluster):
+    # A block whose matrix equals an earlier one, entry for entry, takes that block's
+    # factors (a copy).  Here both are solved on their own and compared, and the solved
+    # spectrum gives every block Poly objects of its own (the verification counts roots
+    # per object).
+    from symcluster.solve import equal_blocks, gauge_twins, solve_block
+    model = sc.hubbard(cluster)
+    plan = plan_symmetries(model)
+    blocks = build_blocks(model, plan)
+    twins = gauge_twins(model, plan, blocks)
+    copies = equal_blocks(blocks, skip=twins)
+    assert copies                       # e.g. the 1x1 zero blocks of several sectors
+    for i, j in copies.items():
+        assert i not in twins and j not in twins and j < i and j not in copies
+        assert blocks[i].block.dim == blocks[j].block.dim
+        assert blocks[i].block.terms == blocks[j].block.terms
+        got = solve_block(blocks[i], model.labels)
+        want = solve_block(blocks[j], model.labels)
+        assert [(f.as_expr(), m, r) for f, m, r in got] == \
+            [(f.as_expr(), m, r) for f, m, r in want]
+    # no two blocks that differ anywhere are paired
+    for i, j in copies.items():
+        for k in range(len(blocks)):
+            if k != j and k not in copies and k not in twins and \
+                    blocks[k].block.terms == blocks[i].block.terms and \
+                    blocks[k].block.dim == blocks[i].block.dim:
+                pytest.fail(f"blocks {k} and {j} are equal but both solved")
+    spec = sc.solve(model, seed=3)
+    by_block = {}
+    for lev in spec.levels:
+        by_block.setdefault(id(lev.polynomial), set()).add(lev.block)
+    assert all(len(v) == 1 for v in by_block.values())
+
+
 # ---------------------------------------------------------------- block matrices
 def _reference_terms(cluster):
     """Integer matrices per coupling of the Jordan-Wigner reference, and its state index."""
