@@ -791,6 +791,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     flipped = 0             # sectors N_up < N_dn that hold the levels of their spin-flip image
     flipped_labels = 0      # those of them with lattice labels (all of the group's irreps)
     label_images = _BlockImages(lattice, L) if lattice is not None else None
+    floats0 = {}            # level index -> its float64 value at the first point
     sums = {}               # Vieta's power sums by polynomial (_check_sum_rules)
     reduced = [{} for _ in points]      # id(form) -> monic nmod_poly, per point and prime
     spectra = {}            # mpmath sector matrix -> its eigenvalues (equal sectors once)
@@ -825,9 +826,14 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
             _check_sum_rules(groups, tr1, tr2, (n_up, n_dn), sums, forms)
             if lattice is not None and dim <= EXACT_DIM:
                 by_label = {s.name: points[0][s] for s in symbols}
+                vals = []
+                for li, _ in members:       # float64 values at the first point, once per level
+                    x = floats0.get(li)
+                    if x is None:
+                        x = floats0[li] = float(values[0][li])
+                    vals.append(x)
                 dev = _check_lattice_labels(spectrum, lattice, members, states, terms,
-                                            by_label, [values[0][li] for li, _ in members],
-                                            (n_up, n_dn), label_images)
+                                            by_label, vals, (n_up, n_dn), label_images)
                 if dev is not None:
                     labelled += 1
                     worst["labels"] = max(worst["labels"], dev)
@@ -915,8 +921,8 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     with its fermion sign).  The levels labelled with it must carry ``Tr P H^m`` for
     m = 0, 1, 2: their number of states, the sum and the sum of squares of their values
     (each level counted with its share of the sector).  ``Tr U(g) A`` is read off the
-    permuted states, ``sum_j sign_j A[j, g(j)]``; float64 at the first point.
-    ``images`` is a :class:`_BlockImages` of this call (the permuted spin blocks).
+    permuted states, ``sum_j sign_j A[j, g(j)]``; float64 at the first point, where
+    ``vals`` are the members' values (floats).  ``images`` is a :class:`_BlockImages` of this call (the permuted spin blocks).
     ``states`` is the sector's basis in the order of :func:`~symcluster.fock.sector_states`
     (every up block with every down block).
     Returns None when a level's label is not one of the group's irreps (a derived
@@ -940,12 +946,11 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     traces = np.stack([(sign * (perm == rows)).sum(axis=1),
                        (sign * h[rows, perm]).sum(axis=1),
                        (sign * h2[rows, perm]).sum(axis=1)])        # [m, g]
-    fvals = [float(v) for v in vals]
-    scale = max(1.0, max((abs(v) for v in fvals), default=1.0))
+    scale = max(1.0, max((abs(v) for v in vals), default=1.0))
     worst = 0.0
     for irrep, character, weight in images.irreps:
         want = traces @ character * weight
-        mine = [(share, v) for (li, share), lab, v in zip(members, labels, fvals)
+        mine = [(share, v) for (li, share), lab, v in zip(members, labels, vals)
                 if lab == irrep.label]
         count = sum(sh for sh, _ in mine)
         if abs(want[0] - count) > 0.5:
