@@ -330,3 +330,37 @@ def test_eta_detection_agrees_with_reference_commutators(cluster):
         assert plan.eta == (signs, shift)
     else:
         assert plan.eta is None
+
+
+def test_a_factor_met_in_several_blocks_gets_its_closed_forms_once():
+    # within one solve, the closed forms of equal factors are written once and shared;
+    # each block's factors and roots equal those of solving it alone
+    import sys
+    from symcluster.solve import _generators, equal_blocks, gauge_twins, solve_block
+    solve_mod = sys.modules["symcluster.solve"]
+    model = sc.hubbard(sc.ring(4))
+    plan = plan_symmetries(model)
+    blocks = build_blocks(model, plan)
+    skip = gauge_twins(model, plan, blocks)
+    skip = {**skip, **equal_blocks(blocks, skip=skip)}
+    todo = [b for i, b in enumerate(blocks) if i not in skip]
+    gens = _generators(tuple(model.labels))
+    calls = []
+    real = solve_mod.closed_forms
+
+    def counting(rep, g):
+        calls.append(tuple(sorted(rep.items())))
+        return real(rep, g)
+
+    solve_mod.closed_forms = counting
+    try:
+        forms = {}
+        shared = [solve_block(b, model.labels, gens, forms) for b in todo]
+        assert len(calls) == len(set(calls)) == len(forms)
+        calls.clear()
+        alone = [solve_block(b, model.labels, gens) for b in todo]
+    finally:
+        solve_mod.closed_forms = real
+    assert len(calls) > len(forms)          # ring(4) has factors in several blocks
+    for a, b in zip(shared, alone):
+        assert [(f.as_expr(), m, r) for f, m, r in a] == [(f.as_expr(), m, r) for f, m, r in b]
