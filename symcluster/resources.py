@@ -16,9 +16,10 @@ __all__ = ["available_memory", "block_dimensions", "estimate_cost", "optimistic_
 def available_memory():
     """Bytes of memory available to this process (MemAvailable), or None if unknown."""
     try:
-        with open("/proc/meminfo", encoding="ascii") as fh:
+        # bytes, not text: no codec to look up (a first solve paid 0.5 ms importing one)
+        with open("/proc/meminfo", "rb") as fh:
             for line in fh:
-                if line.startswith("MemAvailable:"):
+                if line.startswith(b"MemAvailable:"):
                     return int(line.split()[1]) * 1024
     except OSError:
         pass

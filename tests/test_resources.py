@@ -3,6 +3,8 @@
 import concurrent.futures
 import importlib
 import io
+import os
+import re
 
 import pytest
 
@@ -229,3 +231,13 @@ def test_huge_cluster_on_the_command_line_exits_2(capsys):
     assert main(["levels", "chain", "100"]) == 2
     err = capsys.readouterr().err
     assert err.count("\n") == 1 and "--electrons" in err and "--force" in err
+
+
+@pytest.mark.skipif(not os.path.exists("/proc/meminfo"), reason="needs Linux /proc/meminfo")
+def test_available_memory_is_memavailable_of_proc_meminfo():
+    # read independently as text with a regular expression; the kernel's figure moves
+    # between the two reads, so within 5 %
+    with open("/proc/meminfo") as fh:
+        want = int(re.search(r"^MemAvailable:\s+(\d+) kB", fh.read(), re.M).group(1)) * 1024
+    got = resources.available_memory()
+    assert isinstance(got, int) and abs(got - want) <= 0.05 * want
