@@ -44,14 +44,23 @@ def _check_electrons(model, electrons):
     return wanted
 
 
-def solve_block(spec, names, gens=None, forms=None):
+def solve_block(spec, names, gens=None, written=None):
     """Irreducible factors and their roots for one block: list of (poly, mult, roots).
 
-    ``gens`` (optional) are the generators ``(E, *couplings)`` of `names`, and ``forms``
-    a dict of closed forms by factor (see :func:`_solve_packed`), both made once by a
+    ``gens`` (optional) are the generators ``(E, *couplings)`` of `names`, and
+    ``written`` a :class:`Written` (see :func:`_solve_packed`), both made once by a
     caller that solves many blocks.
     """
-    return _unpack(_solve_packed(spec.block, names, gens, forms), gens)
+    return _unpack(_solve_packed(spec.block, names, gens, written), gens)
+
+
+class Written:
+    """The closed forms written in one solve: by factor (its sorted terms), and the
+    polynomial rings in the couplings whose expressions they share."""
+
+    def __init__(self):
+        self.by_factor = {}
+        self.rings = {}
 
 
 def _generators(names):
@@ -60,25 +69,28 @@ def _generators(names):
     return (ENERGY,) + tuple(coupling_symbol(n) for n in names)
 
 
-def _solve_packed(block, names, gens=None, forms=None):
+def _solve_packed(block, names, gens=None, written=None):
     """Worker side: factors and roots of one LinearBlock as plain, cheaply picklable data.
 
     sympy Polys pickle by rebuilding their expressions, which is slow for
     high-degree factors; integer term dicts and generator names travel instead.
-    ``forms`` (optional, one solve's) maps a factor's sorted terms to its closed forms,
-    so that a factor met in several blocks is solved once.
+    ``written`` (optional, one solve's :class:`Written`) holds the closed forms
+    written so far, so that a factor met in several blocks is solved once, and
+    polynomials in the couplings shared by several factors are written once.
     """
     names = tuple(names)
     gens = _generators(names) if gens is None else gens
     _, ints = integer_multiple(charpoly_dict(block, names))
     out = []
     for rep, mult in factor_integer_dict(ints, gens)[1]:
-        if forms is None:
+        if written is None:
             closed = closed_forms(rep, gens)
         else:
             key = tuple(sorted(rep.items()))
-            closed = forms[key] if key in forms else forms.setdefault(
-                key, closed_forms(rep, gens))
+            closed = written.by_factor.get(key, written)
+            if closed is written:
+                closed = written.by_factor[key] = closed_forms(rep, gens,
+                                                               rings=written.rings)
         if closed is None:
             roots = [("implicit", k) for k in range(max(m[0] for m in rep))]
         else:
@@ -284,9 +296,9 @@ def _run_blocks(blocks, names, executor, progress):
     if executor is None:
         out = []
         gens = _generators(tuple(names))
-        forms = {}          # closed forms by factor, for this solve only
+        written = Written()         # for this solve only
         for b in blocks:
-            out.append(solve_block(b, names, gens, forms))
+            out.append(solve_block(b, names, gens, written))
             progress.step()
         return out
     # largest first, so that the pool stays busy; results put back in order

@@ -333,10 +333,11 @@ def test_eta_detection_agrees_with_reference_commutators(cluster):
 
 
 def test_a_factor_met_in_several_blocks_gets_its_closed_forms_once():
-    # within one solve, the closed forms of equal factors are written once and shared;
-    # each block's factors and roots equal those of solving it alone
+    # within one solve, the closed forms of equal factors are written once and shared
+    # (and polynomials in the couplings shared between factors); each block's factors
+    # and roots equal those of solving it alone, tree for tree
     import sys
-    from symcluster.solve import _generators, equal_blocks, gauge_twins, solve_block
+    from symcluster.solve import Written, _generators, equal_blocks, gauge_twins, solve_block
     solve_mod = sys.modules["symcluster.solve"]
     model = sc.hubbard(sc.ring(4))
     plan = plan_symmetries(model)
@@ -348,19 +349,19 @@ def test_a_factor_met_in_several_blocks_gets_its_closed_forms_once():
     calls = []
     real = solve_mod.closed_forms
 
-    def counting(rep, g):
+    def counting(rep, g, **kwargs):
         calls.append(tuple(sorted(rep.items())))
-        return real(rep, g)
+        return real(rep, g, **kwargs)
 
     solve_mod.closed_forms = counting
     try:
-        forms = {}
-        shared = [solve_block(b, model.labels, gens, forms) for b in todo]
-        assert len(calls) == len(set(calls)) == len(forms)
+        written = Written()
+        shared = [solve_block(b, model.labels, gens, written) for b in todo]
+        assert len(calls) == len(set(calls)) == len(written.by_factor)
         calls.clear()
         alone = [solve_block(b, model.labels, gens) for b in todo]
     finally:
         solve_mod.closed_forms = real
-    assert len(calls) > len(forms)          # ring(4) has factors in several blocks
+    assert len(calls) > len(written.by_factor)      # ring(4) has factors in several blocks
     for a, b in zip(shared, alone):
         assert [(f.as_expr(), m, r) for f, m, r in a] == [(f.as_expr(), m, r) for f, m, r in b]

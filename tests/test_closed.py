@@ -117,6 +117,25 @@ def test_direct_construction_equals_sympys_evaluating_constructors(n):
         assert [sympy.srepr(x) for x in a] == [sympy.srepr(x) for x in b]
 
 
+def test_rings_shared_between_factors_change_no_form():
+    # One rings dict for all factors (as a solve passes it): the forms are the trees of
+    # each factor written alone, and the sympy evaluating constructors' trees
+    rng = random.Random(31)
+    reps = []
+    for n in (2, 3, 4):
+        for _ in range(6):
+            reps.extend(_symmetric_charpoly_factors(rng, n))
+    reps = [r for r in reps if max(m[0] for m in r) <= 4
+            and all(not any(m[1:]) for m in r if m[0] == max(k[0] for k in r))]
+    reps = reps + reps[::-1]            # every factor met twice, in both orders
+    rings = {}
+    shared = [closed_form_roots(r, GENS, rings) for r in reps]
+    assert list(rings) == [tuple(GENS[1:])]
+    for a, b, c in zip(shared, _forms(reps, False), _forms(reps, True)):
+        assert [sympy.srepr(x) for x in a] == [sympy.srepr(x) for x in b] == \
+            [sympy.srepr(x) for x in c]
+
+
 def test_square_roots_of_rationals_are_sympys():
     # _sqrt_rational builds sqrt(p/q) = (s/q) sqrt(r) directly; sympy.sqrt is the reference
     # (compared as trees), including radicands around the size limit where it defers to sympy

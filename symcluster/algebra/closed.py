@@ -210,6 +210,7 @@ class _Ring:
         self.zero = self.ctx.from_dict({})
         self.one = self.ctx.constant(1)
         self._exprs = {}
+        self._splits = {}
 
     def coefficients(self, rep):
         """Coefficients of ``E^k``, ascending, of ``{(a, e_1, ...): int}`` in ``(E, *gens)``."""
@@ -237,9 +238,14 @@ class _Ring:
         return out
 
     def sqrt_split(self, p):
-        """``(c, f, g)`` with ``p = c f**2 g``: c > 0 an fmpq, f and g integer polynomials."""
+        """``(c, f, g)`` with ``p = c f**2 g``: c > 0 an fmpq, f and g integer polynomials
+        (memoised per ring, like :meth:`expr`)."""
         if p.is_zero():
             return flint.fmpq(0), self.one, self.one
+        key = str(p)
+        hit = self._splits.get(key)
+        if hit is not None:
+            return hit
         const, facs = p.factor()
         f, g = self.one, self.one
         for h, m in facs:
@@ -247,7 +253,8 @@ class _Ring:
             g = g * h ** (m % 2)
         if const < 0:
             const, g = -const, -g
-        return flint.fmpq(const), f, g
+        out = self._splits[key] = (flint.fmpq(const), f, g)
+        return out
 
     def sqrt_expr(self, p):
         """An expression ``S`` with ``S**2 == p`` (up to the sign of pulled-out factors)."""
@@ -403,7 +410,7 @@ def _roots_quartic(R, cf):
     return [_add(shift, y) for y in ys]
 
 
-def closed_form_roots(rep, gens):
+def closed_form_roots(rep, gens, rings=None):
     """Closed forms of the roots in ``E`` of an irreducible factor of degree 1 to 4.
 
     Parameters
@@ -413,13 +420,23 @@ def closed_form_roots(rep, gens):
         ``gens``; for degree 3 and 4 the leading coefficient in ``E`` must be a constant.
     gens : tuple of sympy.Symbol
         ``(E, *couplings)``.
+    rings : dict, optional
+        One caller's polynomial rings by couplings: the factors written with it share
+        the expressions of equal polynomials in the couplings (a discriminant met in
+        several factors is written once).  The forms are the same with or without it.
 
     Returns
     -------
     list of sympy.Expr
         ``deg_E`` expressions (see the module docstring).
     """
-    R = _Ring(tuple(gens[1:]))
+    couplings = tuple(gens[1:])
+    if rings is None:
+        R = _Ring(couplings)
+    else:
+        R = rings.get(couplings)
+        if R is None:
+            R = rings[couplings] = _Ring(couplings)
     cf = R.coefficients(rep)
     deg = len(cf) - 1
     if deg == 1:

@@ -606,7 +606,7 @@ def _latex_in_E(poly, var):
 # --------------------------------------------------------------------------- closed forms
 
 
-def closed_forms(rep, gens, max_closed_degree=4):
+def closed_forms(rep, gens, max_closed_degree=4, rings=None):
     """Closed forms of an irreducible factor given as plain data, or None.
 
     Parameters
@@ -616,6 +616,9 @@ def closed_forms(rep, gens, max_closed_degree=4):
     gens : tuple of sympy.Symbol
         ``(E, *couplings)``.
     max_closed_degree : int, optional
+    rings : dict, optional
+        Shared between the factors of one caller (see
+        :func:`~symcluster.algebra.closed.closed_form_roots`).
 
     Returns
     -------
@@ -626,9 +629,9 @@ def closed_forms(rep, gens, max_closed_degree=4):
     """
     deg = max(m[0] for m in rep)
     if deg <= 2:
-        return closed_form_roots(rep, gens)
+        return closed_form_roots(rep, gens, rings)
     if deg <= max_closed_degree and all(not any(m[1:]) for m in rep if m[0] == deg):
-        return closed_form_roots(rep, gens)
+        return closed_form_roots(rep, gens, rings)
     return None
 
 
