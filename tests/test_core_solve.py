@@ -389,8 +389,8 @@ def test_a_wrong_closed_form_is_rejected(monkeypatch):
     real = solve_mod.closed_forms
     t = sympy.Symbol("t", real=True)
 
-    def off(rep, gens):
-        out = real(rep, gens)
+    def off(rep, gens, **kwargs):
+        out = real(rep, gens, **kwargs)
         return None if out is None else [r + t / 10**6 if r.has(t) else r for r in out]
 
     monkeypatch.setattr(solve_mod, "closed_forms", off)
@@ -408,8 +408,8 @@ def test_a_closed_form_that_is_not_real_at_a_point_is_rejected_not_redrawn(monke
     t = sympy.Symbol("t", real=True)
     bad = sympy.sqrt(t) - sympy.sqrt(t**3) / t
 
-    def partly_wrong(rep, gens):
-        out = real_roots(rep, gens)
+    def partly_wrong(rep, gens, **kwargs):
+        out = real_roots(rep, gens, **kwargs)
         return None if out is None else [r + bad if r.has(t) else r for r in out]
 
     def points(symbols, count, seed):
