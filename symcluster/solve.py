@@ -87,8 +87,9 @@ def _solve_packed(block, names, gens=None, written=None):
             closed = closed_forms(rep, gens)
         else:
             key = tuple(sorted(rep.items()))
-            closed = written.by_factor.get(key, written)
-            if closed is written:
+            if key in written.by_factor:        # None (implicit roots) is kept as well
+                closed = written.by_factor[key]
+            else:
                 closed = written.by_factor[key] = closed_forms(rep, gens,
                                                                rings=written.rings)
         if closed is None:

@@ -785,7 +785,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     for li, lev in enumerate(spectrum.levels):
         for sector, share in _sector_shares(lev, L):
             by_sector.setdefault(sector, []).append((li, share))
-    worst = {"mp": 0.0, "float": 0.0, "labels": 0.0}
+    worst = {"balls": 0.0, "float": 0.0, "labels": 0.0}
     skipped = 0
     labelled = 0
     flipped = 0             # sectors N_up < N_dn that hold the levels of their spin-flip image
@@ -794,7 +794,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     floats0 = {}            # level index -> its float64 value at the first point
     sums = {}               # Vieta's power sums by polynomial (_check_sum_rules)
     reduced = [{} for _ in points]      # id(form) -> monic nmod_poly, per point and prime
-    spectra = {}            # mpmath sector matrix -> its eigenvalues (equal sectors once)
+    spectra = {}            # exact sector matrix -> its eigenvalues (equal sectors once)
     for n in sorted(wanted):
         for n_up in range(max(0, n - L), min(n, L) + 1):
             n_dn = n - n_up
@@ -860,7 +860,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                         if dev > mpmath.mpf(10) ** (-digits):
                             _fail(f"sector ({n_up},{n_dn}) at {pt}: levels differ from the "
                                   f"eigenvalues of the sector by {mpmath.nstr(dev, 3)}")
-                        worst["mp"] = max(worst["mp"], float(dev))
+                        worst["balls"] = max(worst["balls"], float(dev))
                 elif dim <= EXACT_DIM:
                     prime = primes[pi]
                     cp = _charpoly_mod(terms, dim, by_label, prime)
@@ -881,7 +881,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                     worst["float"] = max(worst["float"], dev)
     report.add("certified eigenvalues of unreduced sectors (ball arithmetic, python-flint)",
                f"sectors with dim <= {MP_DIM}",
-               points, worst["mp"])
+               points, worst["balls"])
     report.add("exact sector characteristic polynomial (modulo a random 62-bit prime per point)",
                f"sectors {MP_DIM} < dim <= {EXACT_DIM}", points, 0.0, primes=primes)
     report.add("float64 eigenvalues of unreduced sectors", f"sectors {EXACT_DIM} < dim <= {FLOAT_DIM}",
@@ -922,7 +922,8 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     m = 0, 1, 2: their number of states, the sum and the sum of squares of their values
     (each level counted with its share of the sector).  ``Tr U(g) A`` is read off the
     permuted states, ``sum_j sign_j A[j, g(j)]``; float64 at the first point, where
-    ``vals`` are the members' values (floats).  ``images`` is a :class:`_BlockImages` of this call (the permuted spin blocks).
+    ``vals`` are the members' values (floats).  ``images`` is a :class:`_BlockImages` of
+    this call (the permuted spin blocks).
     ``states`` is the sector's basis in the order of :func:`~symcluster.fock.sector_states`
     (every up block with every down block).
     Returns None when a level's label is not one of the group's irreps (a derived
@@ -1034,7 +1035,7 @@ def _sector_eigenvalues(terms, dim, by_label, spectra):
     python-flint's ball arithmetic (``acb_mat.eig(multiple=True)``, which certifies
     the enclosures and allows multiple eigenvalues) at the working precision; where
     that cannot isolate them, mpmath's ``eigsy`` of the same matrix gives the values,
-    with bound 0 (not certified, as before ball arithmetic was used here).
+    with bound 0 (not certified).
     ``spectra`` holds the results for the matrices met before in this call (equal
     matrices, entry for entry, have the same eigenvalues).
     """
