@@ -189,7 +189,7 @@ def test_equal_blocks_are_equal_matrices_and_solved_once(cluster):
         want = solve_block(blocks[j], model.labels)
         assert [(f.as_expr(), m, r) for f, m, r in got] == \
             [(f.as_expr(), m, r) for f, m, r in want]
-    # no two blocks that differ anywhere are paired
+    # and no two equal blocks are both solved
     for i, j in copies.items():
         for k in range(len(blocks)):
             if k != j and k not in copies and k not in twins and \
@@ -332,7 +332,7 @@ def test_eta_detection_agrees_with_reference_commutators(cluster):
         assert plan.eta is None
 
 
-def test_a_factor_met_in_several_blocks_gets_its_closed_forms_once():
+def test_a_factor_met_in_several_blocks_gets_its_closed_forms_once(monkeypatch):
     # within one solve, the closed forms of equal factors are written once and shared
     # (and polynomials in the couplings shared between factors); each block's factors
     # and roots equal those of solving it alone, tree for tree
@@ -353,15 +353,12 @@ def test_a_factor_met_in_several_blocks_gets_its_closed_forms_once():
         calls.append(tuple(sorted(rep.items())))
         return real(rep, g, **kwargs)
 
-    solve_mod.closed_forms = counting
-    try:
-        written = Written()
-        shared = [solve_block(b, model.labels, gens, written) for b in todo]
-        assert len(calls) == len(set(calls)) == len(written.by_factor)
-        calls.clear()
-        alone = [solve_block(b, model.labels, gens) for b in todo]
-    finally:
-        solve_mod.closed_forms = real
+    monkeypatch.setattr(solve_mod, "closed_forms", counting)
+    written = Written()
+    shared = [solve_block(b, model.labels, gens, written) for b in todo]
+    assert len(calls) == len(set(calls)) == len(written.by_factor)
+    calls.clear()
+    alone = [solve_block(b, model.labels, gens) for b in todo]
     assert len(calls) > len(written.by_factor)      # ring(4) has factors in several blocks
     for a, b in zip(shared, alone):
         assert [(f.as_expr(), m, r) for f, m, r in a] == [(f.as_expr(), m, r) for f, m, r in b]
