@@ -83,20 +83,24 @@ def _solve_packed(block, names, gens=None, written=None):
     _, ints = integer_multiple(charpoly_dict(block, names))
     out = []
     for rep, mult in factor_integer_dict(ints, gens)[1]:
-        if written is None:
-            closed = closed_forms(rep, gens)
-        else:
-            key = tuple(sorted(rep.items()))
-            if key in written.by_factor:        # None (implicit roots) is kept as well
-                closed = written.by_factor[key]
-            else:
-                closed = written.by_factor[key] = closed_forms(rep, gens,
-                                                               rings=written.rings)
+        closed = _closed_forms_once(rep, gens, written)
         if closed is None:
             roots = [("implicit", k) for k in range(max(m[0] for m in rep))]
         else:
             roots = [("closed", r) for r in closed]
         out.append((rep, tuple(g.name for g in gens), mult, roots))
+    return out
+
+
+def _closed_forms_once(rep, gens, written=None):
+    """:func:`closed_forms` of a factor, through ``written`` (a :class:`Written`) if given:
+    a factor with the same terms gets the forms written for it before."""
+    if written is None:
+        return closed_forms(rep, gens)
+    key = tuple(sorted(rep.items()))
+    if key in written.by_factor:        # None (implicit roots) is kept as well
+        return written.by_factor[key]
+    out = written.by_factor[key] = closed_forms(rep, gens, rings=written.rings)
     return out
 
 
@@ -195,8 +199,12 @@ def gauge_twins(model, plan, blocks):
     return twins
 
 
-def _negate_couplings(factors, odd):
-    """Factors and roots of a block after the substitution c -> -c for every c in `odd`."""
+def _negate_couplings(factors, odd, written=None):
+    """Factors and roots of a block after the substitution c -> -c for every c in `odd`.
+
+    ``written`` (optional, the solve's :class:`Written`): the closed forms of a substituted
+    factor met before are taken from it, and new ones are written into it.
+    """
     out = []
     for fac, mult, roots in factors:
         gens = fac.gens
@@ -212,7 +220,7 @@ def _negate_couplings(factors, odd):
         if roots and not isinstance(roots[0], ImplicitRoot):
             # the closed forms of the substituted factor, written afresh: cheaper than
             # substituting into the trees (xreplace rebuilds them with evaluation)
-            forms = closed_forms({m: int(c) for m, c in rep.items()}, gens)
+            forms = _closed_forms_once({m: int(c) for m, c in rep.items()}, gens, written)
             if forms is not None and len(forms) == len(roots):
                 out.append((new, mult, forms))
                 continue
@@ -292,12 +300,16 @@ def _expected_workers(executor, dims):
     return 0       # "serial", threads, or a remote engine: no local processes
 
 
-def _run_blocks(blocks, names, executor, progress):
-    """Solve every block, through ``executor`` if given; order of results = order of blocks."""
+def _run_blocks(blocks, names, executor, progress, written=None):
+    """Solve every block, through ``executor`` if given; order of results = order of blocks.
+
+    Without an executor, the closed forms go through ``written`` (the solve's
+    :class:`Written`; a new one if None).
+    """
     if executor is None:
         out = []
         gens = _generators(tuple(names))
-        written = Written()         # for this solve only
+        written = Written() if written is None else written
         for b in blocks:
             out.append(solve_block(b, names, gens, written))
             progress.step()
@@ -392,11 +404,13 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     prog.total = len(blocks) - len(twins) - len(copies)
     try:
         todo = [i for i in range(len(blocks)) if i not in twins and i not in copies]
-        solved = dict(zip(todo, _run_blocks([blocks[i] for i in todo], names, executor, prog)))
+        written = Written()             # the closed forms of this solve
+        solved = dict(zip(todo, _run_blocks([blocks[i] for i in todo], names, executor, prog,
+                                            written)))
         for i, j in copies.items():
             solved[i] = _copy_factors(solved[j])
         odd = {h[2] for h in model.hops}     # the labels of H's hopping terms
-        results = [solved[i] if i in solved else _negate_couplings(solved[twins[i]], odd)
+        results = [solved[i] if i in solved else _negate_couplings(solved[twins[i]], odd, written)
                    for i in range(len(blocks))]
     except BaseException:
         if own_pool is not None:

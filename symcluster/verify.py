@@ -929,8 +929,9 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     Returns None when a level's label is not one of the group's irreps (a derived
     label, marked ``*``).
     """
-    labels = [spectrum.levels[li].quantum_numbers.get("irrep") for li, _ in members]
-    if any(lab not in images.known for lab in labels):
+    where = images.known
+    idx = [where.get(spectrum.levels[li].quantum_numbers.get("irrep")) for li, _ in members]
+    if None in idx:
         return None
     dim = len(states)
     h = _numeric_matrix(terms, dim, by_label)
@@ -947,24 +948,25 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     traces = np.stack([(sign * (perm == rows)).sum(axis=1),
                        (sign * h[rows, perm]).sum(axis=1),
                        (sign * h2[rows, perm]).sum(axis=1)])        # [m, g]
-    scale = max(1.0, max((abs(v) for v in vals), default=1.0))
-    worst = 0.0
-    for irrep, character, weight in images.irreps:
-        want = traces @ character * weight
-        mine = [(share, v) for (li, share), lab, v in zip(members, labels, vals)
-                if lab == irrep.label]
-        count = sum(sh for sh, _ in mine)
-        if abs(want[0] - count) > 0.5:
-            _fail(f"sector {sector}: {count} states are labelled {irrep.label}, but its "
-                  f"isotypic subspace has dimension {want[0]:.0f}")
+    want = traces @ images.characters                               # [m, irrep]
+    # the members' states, and the sums of their values and squares, by irrep
+    shares = np.array([share for _, share in members], dtype=float)
+    v = np.array(vals, dtype=float)
+    n_irreps = len(images.irreps)
+    mine = np.stack([np.bincount(idx, weights=shares * v ** m, minlength=n_irreps)
+                     for m in range(3)])
+    scale = max(1.0, max(map(abs, vals), default=1.0))
+    dev = np.abs(mine[1:] - want[1:]) / (max(1, dim) * np.array([[scale], [scale ** 2]]))
+    for j, (irrep, _, _) in enumerate(images.irreps):
+        if abs(want[0, j] - mine[0, j]) > 0.5:
+            _fail(f"sector {sector}: {mine[0, j]:.0f} states are labelled {irrep.label}, but "
+                  f"its isotypic subspace has dimension {want[0, j]:.0f}")
         for m in (1, 2):
-            got = sum(sh * v ** m for sh, v in mine)
-            dev = abs(got - want[m]) / (max(1, dim) * scale ** m)
-            if dev > 1e-9:
+            if not dev[m - 1, j] <= 1e-9:
                 _fail(f"sector {sector}: the levels labelled {irrep.label} do not carry the "
-                      f"trace of H^{m} on that irrep's subspace (relative deviation {dev:.2e})")
-            worst = max(worst, dev)
-    return worst
+                      f"trace of H^{m} on that irrep's subspace (relative deviation "
+                      f"{dev[m - 1, j]:.2e})")
+    return float(dev.max()) if n_irreps else 0.0
 
 
 class _BlockImages:
@@ -974,15 +976,19 @@ class _BlockImages:
     maps the ``a``-th block with ``n`` electrons (in the order of
     :func:`~symcluster.fock.states_with`) to ``signs[g, a]`` times the block at
     ``positions[g, a]``.  ``irreps`` lists each irrep with its character (a float
-    array) and ``d / |G|``; ``known`` holds their labels.
+    array) and ``d / |G|``; ``known`` maps their labels to their positions there, and
+    ``characters`` is the ``[|G|, irreps]`` array of the characters times ``d / |G|``.
     """
 
     def __init__(self, lattice, n_sites):
         self.group = lattice.group
         self.n_sites = n_sites
-        self.known = {r.label for r in lattice.irreps}
+        self.known = {r.label: j for j, r in enumerate(lattice.irreps)}
         self.irreps = [(r, np.array(r.character, dtype=float), r.dim / self.group.order)
                        for r in lattice.irreps]
+        # column j: irrep j's character times d / |G| (the isotypic projector's weights)
+        self.characters = (np.stack([c * w for _, c, w in self.irreps], axis=1)
+                           if self.irreps else np.zeros((self.group.order, 0)))
         self._masks = {}        # mask -> [(sign, mask') per element] (spin_block_images)
         self._by_n = {}
 

@@ -635,3 +635,34 @@ def test_negated_couplings_give_the_substituted_factors_and_roots():
     assert p2 == even_fac and p2 is not even_fac and m2 == 2 and r2 == even_roots
     assert p3 == sympy.Poly(E**5 + t * E - U, E, t, U)
     assert isinstance(r3[0], ImplicitRoot) and r3[0].poly is p3 and r3[0].index == 0
+
+
+def test_negated_couplings_through_the_solves_written_forms(monkeypatch):
+    # With the solve's Written, a substituted factor met before gets the forms written for
+    # it (the same objects, no new writing); a new one is written once and stored, with
+    # the forms written without it (compared as trees).
+    import sys
+    from symcluster.solve import Written, _negate_couplings
+    from symcluster.symbols import ENERGY
+    solve_mod = sys.modules["symcluster.solve"]
+    t, U = sympy.symbols("t U", real=True)
+    E = ENERGY
+    fac = sympy.Poly(E**2 - U * E - 4 * t**2 + 2 * t * U, E, t, U)
+    roots = sympy.solve(fac.as_expr(), E)
+    alone = _negate_couplings([(fac, 1, roots)], {"t"})
+    calls = []
+    real = solve_mod.closed_forms
+
+    def counting(rep, gens, **kwargs):
+        calls.append(rep)
+        return real(rep, gens, **kwargs)
+
+    monkeypatch.setattr(solve_mod, "closed_forms", counting)
+    written = Written()
+    first = _negate_couplings([(fac, 1, roots)], {"t"}, written)
+    assert len(calls) == 1 and len(written.by_factor) == 1
+    assert [sympy.srepr(r) for r in first[0][2]] == [sympy.srepr(r) for r in alone[0][2]]
+    again = _negate_couplings([(fac, 1, roots)], {"t"}, written)
+    assert len(calls) == 1
+    assert all(a is b for a, b in zip(again[0][2], first[0][2]))
+    assert again[0][0] == first[0][0] and again[0][0] is not first[0][0]
