@@ -115,14 +115,45 @@ _MP_FUNCS = {
     sympy.exp: mpmath.exp, sympy.log: mpmath.log, sympy.Abs: abs,
 }
 
-#: The libmp function behind each mpmath function above that is a plain wrapper of one
-#: (mpmath.cos(x) is mpf_cos(x, prec, rounding) for real x, or the complex function
-#: where that raises ComplexResult); mpmath.log does more and has none.
-_MPF_FUNCS = {
-    mpmath.cos: libmp.mpf_cos, mpmath.sin: libmp.mpf_sin, mpmath.tan: libmp.mpf_tan,
-    mpmath.acos: libmp.mpf_acos, mpmath.asin: libmp.mpf_asin, mpmath.atan: libmp.mpf_atan,
-    mpmath.exp: libmp.mpf_exp, abs: libmp.mpf_abs,
+#: The python-flint ``arb`` method for each elementary function above with a real
+#: argument and a real value (see :func:`_arb_raw`); mpmath.log has none.
+_ARB_METHODS = {
+    mpmath.cos: "cos", mpmath.sin: "sin", mpmath.tan: "tan", mpmath.acos: "acos",
+    mpmath.asin: "asin", mpmath.atan: "atan", mpmath.exp: "exp",
 }
+
+#: Extra bits of the ball evaluation in :func:`_arb_raw`.
+_ARB_GUARD = 32
+
+
+def _arb_raw(method, x, prec, rnd):
+    """``method`` (an ``arb`` method name, or ``"pi"`` without ``x``) of the raw mpf ``x``,
+    as a raw mpf rounded to ``prec`` bits; None where the value is not a finite real.
+
+    The function is evaluated in ball arithmetic (python-flint ``arb``, exact input) at
+    ``prec + _ARB_GUARD`` bits, and the ball's midpoint is rounded to ``prec`` bits in
+    direction ``rnd``: the result is within one unit in the last place of the exact value.
+    ``arb`` keeps the constants and tables of its functions in C; mpmath's own functions
+    build theirs in Python the first time a precision is used, which cost about a tenth
+    of the first 4-site solve in a process.
+    """
+    import flint
+    if x is not None:
+        sign, man, exp, bc = x
+        if not man and exp:                 # inf or nan: not a closed form's argument
+            return None
+        ball = flint.arb((-man if sign else man, exp))
+    ctx = flint.ctx
+    old = ctx.prec
+    ctx.prec = prec + _ARB_GUARD
+    try:
+        y = flint.arb.pi() if x is None else getattr(ball, method)()
+        if not y.is_finite():
+            return None
+        m, e = y.mid().man_exp()
+    finally:
+        ctx.prec = old
+    return libmp.from_man_exp(int(m), int(e), prec, rnd)
 
 # operations of a compiled closed form (see _Program)
 _SYMBOL, _INTEGER, _RATIONAL, _PI, _ADD, _MUL, _POW_INT, _SQRT, _POWER, _FUNC, _SIGN, _SYMPY = \
@@ -133,9 +164,10 @@ def _raw_step(code, data, args):
     """The libmp form of one operation: ``f(values, point, prec, rnd)``.
 
     It returns the raw value (a libmp tuple) where every argument is real and so is the
-    result, else None (the caller then runs the mpmath operation itself).  Each is the
-    libmp call that the mpmath operation makes for real numbers, with the same
-    precision and rounding.
+    result, else None (the caller then runs the mpmath operation itself).  Arithmetic,
+    square roots and ``abs`` are the libmp calls that the mpmath operations make for real
+    numbers, with the same precision and rounding; the elementary functions and pi are
+    evaluated in ball arithmetic and rounded to the working precision (:func:`_arb_raw`).
     """
     mpf_mul, mpf_div, mpf_pos, from_int = libmp.mpf_mul, libmp.mpf_div, libmp.mpf_pos, \
         libmp.from_int
@@ -159,16 +191,21 @@ def _raw_step(code, data, args):
                 if type(v) is not tuple:
                     return None
             return mpf_sum(terms, prec, rnd)
-    elif code in (_POW_INT, _SQRT, _FUNC):  # x ** n, mpmath.sqrt, mpmath.cos, ...
+    elif code in (_POW_INT, _SQRT, _FUNC):  # x ** n, mpmath.sqrt, abs, cos, acos, ...
         if code == _POW_INT:
             mpf_pow_int, n = libmp.mpf_pow_int, data
 
             def fn(v, prec, rnd):
                 return mpf_pow_int(v, n, prec, rnd)
+        elif code == _SQRT or data is abs:
+            fn = libmp.mpf_sqrt if code == _SQRT else libmp.mpf_abs
+        elif data in _ARB_METHODS and len(args) == 1:
+            method = _ARB_METHODS[data]
+
+            def fn(v, prec, rnd):
+                return _arb_raw(method, v, prec, rnd)
         else:
-            fn = libmp.mpf_sqrt if code == _SQRT else _MPF_FUNCS.get(data)
-            if fn is None or len(args) != 1:
-                return None
+            return None
         a = args[0]
 
         def step(values, point, prec, rnd):
@@ -186,6 +223,9 @@ def _raw_step(code, data, args):
             v = point[data]
             return mpf_div(mpf_pos(from_int(int(v.p)), prec, rnd), from_int(int(v.q)), prec,
                            rnd)
+    elif code == _PI:                       # pi (ball arithmetic, see _arb_raw)
+        def step(values, point, prec, rnd):
+            return _arb_raw("pi", None, prec, rnd)
     elif code in (_INTEGER, _RATIONAL):     # mpf(n), mpf(p) / q
         p, q = (data, 1) if code == _INTEGER else data
 
@@ -209,9 +249,10 @@ class _Program:
     integer power is ``**``, a square root ``mpmath.sqrt``), so a value does not depend
     on the other closed forms compiled with it or evaluated before it.  Real values are
     kept as raw libmp numbers and combined by the libmp functions that those mpmath
-    operations call, with the same precision and rounding (:func:`_raw_step`); an
-    operation that has a complex argument, or a complex result, runs as the mpmath
-    operation itself.
+    operations call, with the same precision and rounding; elementary functions (cos,
+    arc cosine, ...) and pi come from python-flint's ball arithmetic, rounded to the
+    working precision (:func:`_raw_step`); an operation that has a complex argument, or
+    a complex result, runs as the mpmath operation itself.
 
     Node types that closed forms are not made of fall back to sympy's own evaluation at
     the working precision.  ``sign`` of a polynomial in the couplings is exact

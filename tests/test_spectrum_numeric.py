@@ -260,11 +260,13 @@ def test_a_level_that_is_exactly_zero_is_returned_as_zero():
 
 
 # ---------------------------------------------------------------- closed forms without a polynomial
-# energy_numeric(form, point, digits) evaluates a closed form with mpmath at 2 digits + 10
-# working digits; inside shared_evaluation() forms share the values of common
-# subexpressions.  The references below are a plain recursive mpmath walk written here
-# (one mpmath operation per node: fsum for sums, products from 1 left to right, ** for
-# integer powers, mpmath.sqrt/cos/... for the rest) and sympy's own evalf at 150 digits.
+# energy_numeric(form, point, digits) evaluates a closed form at 2 digits + 10 working
+# digits (mpmath's arithmetic; elementary functions and pi in python-flint ball arithmetic,
+# rounded to the working precision); inside shared_evaluation() forms share the values of
+# common subexpressions, and a value must not depend on that (equal bit for bit).  The
+# references below are a plain recursive mpmath walk written here (one mpmath operation
+# per node: fsum for sums, products from 1 left to right, ** for integer powers,
+# mpmath.sqrt/cos/... for the rest) and sympy's own evalf at 150 digits.
 
 _T, _U = sympy.symbols("t U", real=True)
 
@@ -326,8 +328,10 @@ def test_closed_forms_equal_a_plain_mpmath_walk_shared_or_not(point):
         shared = [energy_numeric(f, point, 30) for f in _FORMS + _FORMS[::-1]]
     for f, a, s, s2 in zip(_FORMS, alone, shared, shared[len(_FORMS):][::-1]):
         want = _plain_value(f, point, 30)
-        assert a == want and s == want and s2 == want, f        # the same rounding, bit for bit
+        assert s == a and s2 == a, f                # shared or not: the same value, bit for bit
         with mpmath.workdps(150):
+            # the plain walk's functions are mpmath's own: equal up to the last bits
+            assert abs(a - want) <= mpmath.mpf(10) ** -60 * (1 + abs(want)), f
             exact = mpmath.mpf(str(sympy.re(f.subs(point).evalf(150))))
             assert abs(a - exact) <= mpmath.mpf(10) ** -60 * (1 + abs(exact)), f
 
@@ -367,3 +371,43 @@ def test_a_node_without_an_mpmath_operation_uses_sympy():
     form = sympy.floor(_T * _U) + _T
     with mpmath.workdps(70):
         assert energy_numeric(form, {_T: R(7, 3), _U: R(3, 2)}, 30) == 3 + mpmath.mpf(7) / 3
+
+
+@pytest.mark.parametrize("prec", [53, 113, 236, 300])
+def test_elementary_functions_in_ball_arithmetic_are_within_one_ulp_of_mpmath(prec):
+    # _arb_raw rounds the midpoint of an arb ball (prec + guard bits) to prec bits; the
+    # reference is mpmath's own function at 2 prec + 20 bits (an independent implementation)
+    from mpmath import libmp
+    from symcluster.spectrum import _arb_raw
+    funcs = {"cos": mpmath.cos, "sin": mpmath.sin, "tan": mpmath.tan, "acos": mpmath.acos,
+             "asin": mpmath.asin, "atan": mpmath.atan, "exp": mpmath.exp}
+    xs = [R(1, 3), R(-5, 7), R(99, 100), R(-1), R(1), R(0), R(1, 10 ** 12), R(37, 2)]
+    for name, fn in funcs.items():
+        for x in xs:
+            raw = libmp.from_rational(int(x.p), int(x.q), prec, "n")
+            got = _arb_raw(name, raw, prec, "n")
+            with mpmath.workprec(2 * prec + 20):
+                try:
+                    want = fn(mpmath.mpf(raw))
+                except (ValueError, ZeroDivisionError):
+                    want = None
+                if name in ("acos", "asin") and abs(x) > 1:
+                    assert got is None                  # not real: left to mpmath's complex path
+                    continue
+                assert got is not None, (name, x)
+                ulp = mpmath.mpf(2) ** (-prec + 1) * max(abs(want), mpmath.mpf(2) ** -prec)
+                assert abs(mpmath.mpf(got) - want) <= ulp, (name, x, prec)
+    with mpmath.workprec(2 * prec + 20):
+        assert abs(mpmath.mpf(_arb_raw("pi", None, prec, "n")) - mpmath.pi) <= \
+            mpmath.mpf(2) ** (-prec + 2)
+    assert _arb_raw("cos", libmp.finf, prec, "n") is None
+    assert _arb_raw("cos", libmp.fnan, prec, "n") is None
+
+
+def test_arc_cosine_beyond_one_takes_the_complex_path():
+    # acos(x) with x > 1 is not real: the value comes from mpmath's complex function, so a
+    # form like cos(acos(x)) is still evaluated (here to x itself)
+    x = sympy.Symbol("x", real=True)
+    form = sympy.cos(sympy.acos(x, evaluate=False), evaluate=False) * 1
+    val = energy_numeric(form + 0 * x, {x: R(3, 2)}, 30)
+    assert abs(val - mpmath.mpf(3) / 2) < mpmath.mpf(10) ** -30
