@@ -86,8 +86,12 @@ def _sqrt_rational(c):
     return sympy.Mul._from_args((coeff, root))
 
 
-def _mul(*factors):
-    """``sympy.Mul(*factors)``."""
+def _mul(*factors, commutative=None):
+    """``sympy.Mul(*factors)``.
+
+    ``commutative=True`` tells that every factor is commutative (a caller that knows it
+    spares sympy asking each new factor; the product's ``is_commutative`` is the same).
+    """
     if EVALUATE:
         return sympy.Mul(*factors)
     coeff = sympy.S.One
@@ -129,7 +133,7 @@ def _mul(*factors):
     rest.sort(key=_SORT_KEY)
     if coeff is not sympy.S.One:
         rest.insert(0, coeff)
-    return sympy.Mul._from_args(rest)
+    return sympy.Mul._from_args(rest, commutative)
 
 
 def _add(*terms):
@@ -211,6 +215,8 @@ class _Ring:
         self.one = self.ctx.constant(1)
         self._exprs = {}
         self._splits = {}
+        # products of rationals and powers of commutative symbols are commutative
+        self._commutative = True if all(g.is_commutative for g in self.gens) else None
 
     def coefficients(self, rep):
         """Coefficients of ``E^k``, ascending, of ``{(a, e_1, ...): int}`` in ``(E, *gens)``."""
@@ -232,7 +238,7 @@ class _Ring:
             for g, e in zip(self.gens, mon):
                 if e:
                     parts.append(g if e == 1 else sympy.Pow(g, e))
-            terms.append(_mul(*parts))
+            terms.append(_mul(*parts, commutative=self._commutative))
         out = _add(*terms)
         self._exprs[key] = out
         return out
