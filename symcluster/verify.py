@@ -120,6 +120,44 @@ def _raw_deviation(raw, absolute, x, floor, prec, rnd):
     return mpf_div(val, size, prec, rnd) if size != fzero else val
 
 
+def _horner_exact(acc, man, exp):
+    """``sum_i acc[i] x**(d - i)`` (``acc`` integers, highest power first) at the dyadic
+    ``x = man * 2**exp``, exactly: ``(n, e)`` with the value ``n * 2**e``.
+
+    For ``exp < 0`` the sum times ``2**(-exp d)`` is the integer
+    ``sum_i acc[i] man**(d - i) 2**(-exp i)``, which Horner's rule builds as
+    ``v = v man + acc[i] 2**(-exp i)``.
+    """
+    v = 0
+    if exp >= 0:
+        x = man << exp
+        for a in acc:
+            v = v * x + a
+        return v, 0
+    s = -exp
+    for i, a in enumerate(acc):
+        v = v * man + (a << (s * i))
+    return v, exp * (len(acc) - 1)
+
+
+def _exact_deviation(acc, x, floor, prec, rnd):
+    """:func:`root_deviation` of the raw mpf ``x`` for the polynomial with coefficients
+    ``acc / full`` (integers, highest first; ``full > 0`` cancels), with the raw floor.
+
+    ``|P(x)|`` and ``sum_k |c_k| r**k`` are evaluated exactly at the (dyadic) value ``x``
+    and at ``r = max(|x|, floor)``; their quotient is rounded once, to ``prec`` bits.
+    """
+    sign, man, exp, _ = x
+    n, e = _horner_exact(acc, -man if sign else man, exp)
+    ax = mpf_abs(x)                     # exact
+    _, rman, rexp, _ = floor if mpf_gt(floor, ax) else ax
+    size, se = _horner_exact([abs(a) for a in acc], rman, rexp)
+    val = from_man_exp(abs(n), e)
+    if not size:
+        return mpf_pos(val, prec, rnd)
+    return mpf_div(val, from_man_exp(size, se), prec, rnd)
+
+
 def _newton_radius(raw, absolute, x, prec, rnd):
     """Radius of a disk about ``x`` that holds a root of the polynomial (raw mpf values).
 
@@ -756,22 +794,24 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                 form = forms(lev.polynomial)
                 x = values[pi][li]          # one object per distinct energy
                 key = (id(form), id(x))
+                acc = form.ints_at(pt)[0]   # the coefficients times a positive integer
                 if key not in done:
                     done.add(key)
-                    cs = coeffs.get(id(form))
-                    if cs is None:
-                        cs = coeffs[id(form)] = _mp_coefficients(*form.ints_at(pt))
                     if type(x) is mpmath.mpf:
-                        dev = make(_raw_deviation(*cs, x._mpf_, floor, prec, rnd))
+                        # |P(x)| and its scale exactly at the value, one rounding
+                        dev = make(_exact_deviation(acc, x._mpf_, floor, prec, rnd))
                     else:
+                        cs = _mp_coefficients(*form.ints_at(pt))
                         dev = root_deviation([make(c) for c in cs[0]], x, scales[pi], digits)
                     if dev > limit:
                         _fail(f"level {lev.energy} (N={lev.quantum_numbers['N']}) is not a root of "
                               f"its polynomial at {pt}: deviation {mpmath.nstr(dev, 3)}")
                     worst_root = max(worst_root, float(dev))
-                if len(coeffs[id(form)][0]) > 2:
-                    by_poly.setdefault(id(lev.polynomial), []).append(
-                        (lev, x, coeffs[id(form)]))
+                if len(acc) > 2:
+                    cs = coeffs.get(id(form))
+                    if cs is None:
+                        cs = coeffs[id(form)] = _mp_coefficients(*form.ints_at(pt))
+                    by_poly.setdefault(id(lev.polynomial), []).append((lev, x, cs))
             floats = {}     # id(coefficients) -> their float64 values and |.|
             for group in by_poly.values():
                 _separate_roots(group, pt, prec, rnd, floats)

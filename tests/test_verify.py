@@ -180,6 +180,35 @@ def test_root_deviation_is_mpmath_polyval_bit_for_bit(seed):
         assert root_deviation(cs, x, scale, 30) == want
 
 
+@pytest.mark.parametrize("seed", range(8))
+def test_exact_deviation_is_the_backward_error_rounded_once(seed):
+    # _exact_deviation (the verification's root check for real values) evaluates |P(x)| and
+    # sum |c_k| r^k exactly at the dyadic x; the reference is the same quotient summed
+    # term by term by mpmath at 3000 digits (an independent evaluation): they agree to
+    # one rounding at the working precision (133 bits)
+    from symcluster.verify import _exact_deviation
+    rng = random.Random(seed)
+    for trial in range(200):
+        d = rng.randint(1, 6)
+        acc = tuple(rng.randint(-10 ** rng.randint(1, 40), 10 ** rng.randint(1, 40))
+                    for _ in range(d + 1))
+        full = rng.randint(1, 10 ** rng.randint(1, 30))
+        with mpmath.workdps(rng.choice([20, 40, 80])):
+            x = (mpmath.mpf(rng.uniform(-50, 50)) * mpmath.mpf(2) ** rng.randint(-200, 200)
+                 if trial % 7 else mpmath.mpf(0))
+            floor = mpmath.mpf(10) ** -rng.randint(5, 60)
+        with mpmath.workdps(40):
+            prec, rnd = mpmath.mp._prec_rounding
+            got = mpmath.mpf(_exact_deviation(acc, x._mpf_, floor._mpf_, prec, rnd))
+        with mpmath.workdps(3000):
+            r = max(abs(x), floor)
+            val = abs(mpmath.fsum(mpmath.mpf(a) / full * x ** (d - i) for i, a in enumerate(acc)))
+            size = mpmath.fsum(abs(mpmath.mpf(a)) / full * r ** (d - i)
+                               for i, a in enumerate(acc))
+            want = val / size if size else val
+            assert abs(got - want) <= mpmath.mpf(2) ** -130 * want, (trial, acc, x)
+
+
 def test_sector_shares_split_multiplets_over_sz_sectors():
     # S = 1 with degeneracy 6 (two copies of a triplet) on 4 sites, N = 4: Sz = -1, 0, 1 hold
     # 2 states each; S = 1/2 with degeneracy 4, N = 3: Sz = +-1/2 hold 2 each; Sz labels only
