@@ -23,6 +23,7 @@ forms of one factor are distinct roots of it (pairwise disjoint Newton disks).
 """
 
 import random
+import sys
 from fractions import Fraction
 from itertools import chain
 from math import comb, gcd, isfinite, lcm
@@ -222,24 +223,38 @@ def _float_newton_radius(c, a, x):
     return 2 * n * (abs(val) + u * size) / lower
 
 
+_FLOAT_MIN = sys.float_info.min        # the smallest normal float64
+
+
 def _separate_roots(group, pt, prec, rnd, floats):
     """Fail unless the values of one polynomial's levels are distinct roots of it.
 
-    ``group`` lists ``(level, value, coefficients)`` for the closed-form levels of one level
-    polynomial (one factor of one block; ``coefficients`` as :func:`_mp_coefficients`
-    gives them).  About each value, a disk holds a root (:func:`_newton_radius`); pairwise
-    disjoint disks hold distinct roots, so the n forms of a degree-n factor are its n
-    roots, each once.  The disks are tried in float64 first, about the values rounded to
-    float64 and widened by that rounding; where they touch, again at working precision.
-    ``floats`` caches the float64 coefficients for the call.
+    ``group`` lists ``(level, value, ints)`` for the closed-form levels of one level
+    polynomial (one factor of one block; ``ints`` its coefficients at the point as
+    :meth:`_Form.ints_at` gives them, ``(acc, full)``).  About each value, a disk holds a
+    root (:func:`_newton_radius`); pairwise disjoint disks hold distinct roots, so the n
+    forms of a degree-n factor are its n roots, each once.  The disks are tried in
+    float64 first, about the values rounded to float64 and widened by that rounding, with
+    the coefficients rounded once to float64; where they touch, again at working
+    precision.  ``floats`` caches the float64 coefficients for the call (None where one
+    is out of the float64 range).
     """
     disks = []
-    for lev, x, cs in group:
-        fc = floats.get(id(cs))
-        if fc is None:
-            fc = floats[id(cs)] = ([to_float(c) for c in cs[0]], [to_float(c) for c in cs[1]])
+    for lev, x, ints in group:
+        fc = floats.get(id(ints), False)
+        if fc is False:
+            acc, full = ints
+            try:
+                c = [a / full for a in acc]         # correctly rounded
+                # a coefficient below the normal range (subnormal, or 0) is not rounded
+                # within the relative bound
+                fc = (None if any(a and abs(v) < _FLOAT_MIN for a, v in zip(acc, c))
+                      else (c, [abs(v) for v in c]))
+            except OverflowError:
+                fc = None
+            floats[id(ints)] = fc
         r = None
-        if type(x) is mpmath.mpf:
+        if fc is not None and type(x) is mpmath.mpf:
             xf = to_float(x._mpf_)
             r = _float_newton_radius(*fc, xf)
         if r is None:
@@ -248,8 +263,14 @@ def _separate_roots(group, pt, prec, rnd, floats):
     else:
         if all(abs(x - y) > rx + ry for i, (x, rx) in enumerate(disks) for y, ry in disks[i + 1:]):
             return
-    radii = [(_newton_radius(*cs, x._mpf_, prec, rnd) if type(x) is mpmath.mpf
-              else _complex_newton_radius(cs, x)) for _, x, cs in group]
+    mp = {}
+    radii = []
+    for _, x, ints in group:
+        cs = mp.get(id(ints))
+        if cs is None:
+            cs = mp[id(ints)] = _mp_coefficients(*ints)
+        radii.append(_newton_radius(*cs, x._mpf_, prec, rnd) if type(x) is mpmath.mpf
+                     else _complex_newton_radius(cs, x))
     for i, ((lev, x, _), rx) in enumerate(zip(group, radii)):
         for (lev2, y, _), ry in zip(group[i + 1:], radii[i + 1:]):
             if rx is None or ry is None:
@@ -783,7 +804,6 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         make = mpmath.mp.make_mpf
         for pi, pt in enumerate(points):
             floor = (scales[pi] * mpmath.mpf(10) ** (-digits))._mpf_
-            coeffs = {}     # id(form) -> raw coefficients at the point, and their |.|
             done = set()    # (id(form), id(value)): a level equal to one checked before
             by_poly = {}    # id(level polynomial) -> [(level, value, its coefficients)]
             for li, lev in enumerate(spectrum.levels):
@@ -808,11 +828,9 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                               f"its polynomial at {pt}: deviation {mpmath.nstr(dev, 3)}")
                     worst_root = max(worst_root, float(dev))
                 if len(acc) > 2:
-                    cs = coeffs.get(id(form))
-                    if cs is None:
-                        cs = coeffs[id(form)] = _mp_coefficients(*form.ints_at(pt))
-                    by_poly.setdefault(id(lev.polynomial), []).append((lev, x, cs))
-            floats = {}     # id(coefficients) -> their float64 values and |.|
+                    by_poly.setdefault(id(lev.polynomial), []).append(
+                        (lev, x, form.ints_at(pt)))
+            floats = {}     # id(coefficients) -> their float64 values and |.|, or None
             for group in by_poly.values():
                 _separate_roots(group, pt, prec, rnd, floats)
     report.add("closed forms are roots of their polynomials", "all levels", points, worst_root)

@@ -438,7 +438,7 @@ def test_float_disks_hold_a_root_and_close_roots_fall_back_to_working_precision(
     # two distinct roots 1e-25 apart cannot be told apart in float64, so _separate_roots
     # must settle them at working precision (accepted), while a value listed twice fails
     from mpmath.libmp import mpf_abs, to_float
-    from symcluster.verify import _float_newton_radius, _mp_coefficients, _separate_roots
+    from symcluster.verify import _float_newton_radius, _separate_roots
     rng = random.Random(11)
     for _ in range(40):
         roots = [Fraction(rng.randint(-50, 50), rng.randint(1, 7)) for _ in range(rng.randint(2, 4))]
@@ -458,7 +458,7 @@ def test_float_disks_hold_a_root_and_close_roots_fall_back_to_working_precision(
     ints = [int(v * den) for v in poly.all_coeffs()]
     with mpmath.workdps(60):
         prec, rnd = mpmath.mp._prec_rounding
-        cs = _mp_coefficients(ints, den)
+        cs = (tuple(ints), den)         # the coefficients ints / den, as _Form.ints_at gives them
 
         class Lev:
             energy = "E"
@@ -484,8 +484,30 @@ def test_complex_values_get_newton_disks_too():
         class Lev:
             energy = "E"
             quantum_numbers = {"N": 3}
+        ints = ((1, -6, 11, -6), 1)
         ones = [mpmath.mpc(1, 1e-40), z, mpmath.mpf(3)]
-        _separate_roots([(Lev, v, cs) for v in ones], {}, prec, rnd, {})
+        _separate_roots([(Lev, v, ints) for v in ones], {}, prec, rnd, {})
         with pytest.raises(VerificationError, match="not distinct roots"):
-            _separate_roots([(Lev, v, cs) for v in (z, z + mpmath.mpf(10) ** -40, mpmath.mpf(3))],
+            _separate_roots([(Lev, v, ints) for v in (z, z + mpmath.mpf(10) ** -40, mpmath.mpf(3))],
                             {}, prec, rnd, {})
+
+
+@pytest.mark.parametrize("ints", [((10 ** 400, -6 * 10 ** 400, 11 * 10 ** 400, -6 * 10 ** 400), 1),
+                                  ((1, -6, 11, -6), 10 ** 400),
+                                  ((1, -6, 11, -6), 10 ** 310)])
+def test_coefficients_beyond_float64_are_separated_at_working_precision(ints):
+    # (x - 1)(x - 2)(x - 3) scaled out of the float64 range (overflow, underflow to 0,
+    # subnormal): no float64 disks; the working-precision ones accept the three roots and
+    # reject a root listed twice
+    from symcluster.verify import _separate_roots
+    with mpmath.workdps(50):
+        prec, rnd = mpmath.mp._prec_rounding
+
+        class Lev:
+            energy = "E"
+            quantum_numbers = {"N": 3}
+        floats = {}
+        _separate_roots([(Lev, mpmath.mpf(v), ints) for v in (1, 2, 3)], {}, prec, rnd, floats)
+        assert floats == {id(ints): None}
+        with pytest.raises(VerificationError, match="not distinct roots"):
+            _separate_roots([(Lev, mpmath.mpf(v), ints) for v in (1, 1, 3)], {}, prec, rnd, {})
