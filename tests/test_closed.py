@@ -217,3 +217,17 @@ def test_eta_shifted_forms_are_the_sums_sympy_builds():
         for k in (1, 2, 3):
             for shift in (U, -U, U - 2 * t, 2 * U * t):
                 assert sympy.srepr(add_shift(r, k, shift)) == sympy.srepr(r + k * shift), (r, k)
+
+
+def test_unevaluated_functions_are_the_constructors_objects():
+    # _unevaluated builds func(arg, evaluate=False) without the constructor: the same tree,
+    # hash and nargs, and an object that rebuilds and prints like the constructor's
+    from symcluster.algebra.closed import _unevaluated
+    t, U = GENS[1:]
+    for func in (sympy.cos, sympy.sin, sympy.acos):
+        for arg in (t / 3, sympy.acos(U / (2 * t), evaluate=False) / 3 + sympy.pi / 6, U):
+            a, b = _unevaluated(func, arg), func(arg, evaluate=False)
+            assert type(a) is type(b) and a == b and hash(a) == hash(b)
+            assert sympy.srepr(a) == sympy.srepr(b) and a.nargs == b.nargs
+            assert a.func(*a.args) == func(arg) and str(a) == str(b)
+            assert a.is_real == b.is_real and a.is_commutative == b.is_commutative

@@ -190,6 +190,24 @@ def _add(*terms):
     return sympy.Add._from_args(rest)
 
 
+#: ``nargs`` of a one-argument function such as cos (sympy sets it on every new instance).
+_ONE_ARG = sympy.FiniteSet(1)
+
+
+def _unevaluated(func, arg):
+    """``func(arg, evaluate=False)`` for a one-argument sympy function (cos, sin, acos).
+
+    The constructor stores the argument and ``nargs = {1}`` and nothing else when it does
+    not evaluate; its checks and its cache cost ~85 us per call, more than the rest of a
+    trigonometric form's assembly.
+    """
+    if EVALUATE:
+        return func(arg, evaluate=False)
+    obj = sympy.Basic.__new__(func, arg)
+    obj.nargs = _ONE_ARG
+    return obj
+
+
 def _sqrt(x):
     """``sympy.sqrt(x)``; only a sum with rational coefficients is built directly."""
     if EVALUATE or not x.is_Add or not all(a.as_coeff_Mul()[0].is_Rational for a in x.args):
@@ -331,7 +349,7 @@ def _trig_cubic(R, P, Q, ordered):
     if symbolic:
         # acos.eval leaves such an argument (a ratio of real polynomials and roots) as
         # it is, after a costly search for an imaginary-unit coefficient: skip it
-        theta = sympy.acos(arg, evaluate=False)
+        theta = _unevaluated(sympy.acos, arg)
     else:
         theta = sympy.acos(arg)
     if not symbolic and not theta.free_symbols:
@@ -339,9 +357,9 @@ def _trig_cubic(R, P, Q, ordered):
     # sympy's own normal forms of cos(a - 4pi/3), cos(a - 2pi/3), cos(a) for a symbolic
     # a = theta/3, built directly: evaluating cos() there costs ~40 ms per cubic cold
     third = _mul(_THIRD, theta)
-    return [_mul(-_TWO, rho, sympy.sin(_add(third, _PI_6), evaluate=False)),
-            _mul(-_TWO, rho, sympy.cos(_add(third, _PI_3), evaluate=False)),
-            _mul(_TWO, rho, sympy.cos(third, evaluate=False))]
+    return [_mul(-_TWO, rho, _unevaluated(sympy.sin, _add(third, _PI_6))),
+            _mul(-_TWO, rho, _unevaluated(sympy.cos, _add(third, _PI_3))),
+            _mul(_TWO, rho, _unevaluated(sympy.cos, third))]
 
 
 def _roots_linear(R, cf):

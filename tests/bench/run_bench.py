@@ -4,7 +4,8 @@
 Usage::
 
     python tests/bench/run_bench.py [--quick] [--cap SECONDS] [--case-cap SECONDS]
-                                    [--only NAME,...] [--jobs N] [--out docs/performance-table.md]
+                                    [--only NAME,...] [--jobs N] [--pairs K]
+                                    [--out docs/performance-table.md]
 
 Every measurement runs in a fresh Python subprocess (this same file started
 with ``--worker``), so that each case has its own peak-memory figure and can be
@@ -19,7 +20,9 @@ killed at its cap).
 Measured items (names for ``--only`` in brackets):
 
 1. [ring4] ring(4): full verified exact spectrum with symcluster vs naive
-   ``sympy.Matrix.eigenvals()`` on every (N_up, N_dn) sector (see naive.py).
+   ``sympy.Matrix.eigenvals()`` on every (N_up, N_dn) sector (see naive.py);
+   ``--pairs`` interleaved pairs of fresh processes (default 3), medians reported
+   beside every pair's figures.
 2. [ring6-naive] ring(6): the same naive approach under a total time cap
    (``--cap``, default 400 s), vs symcluster.  The half-filled sector (3, 3)
    is attempted first, then the others by increasing dimension.
@@ -42,6 +45,7 @@ import os
 import platform
 import resource
 import signal
+import statistics
 import subprocess
 import sys
 import tempfile
@@ -508,17 +512,27 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
                   "| --- | --- | --- | --- | --- | --- | --- | --- |"]
         if "ring4" in naive_res:
             s, b = sc_res["ring4"], naive_res["ring4"]
+            pairs = len(s.get("samples", [])) if s["status"] == "ok" else 0
             if s["status"] == "ok" and b["status"] == "ok":
                 ratio = f"naive/symcluster = {b['seconds'] / s['seconds']:.1f}× cold"
                 if s.get("warm") and s.get("steady"):
                     ratio += (f" ({b['seconds'] / s['warm']:.1f}× warm; "
                               f"{b['seconds'] / s['steady']:.1f}× steady)")
+                if pairs > 1:
+                    each = ", ".join(f"{nb / ns:.0f}×" for ns, nb in zip(s["samples"],
+                                                                        b["samples"]))
+                    ratio += f"; medians of {pairs} interleaved pairs, cold ratio of each: {each}"
             else:
                 ratio = "—"
+            base = _fmt_s(b["seconds"]) if b["status"] == "ok" else _failure(b)
+            if b["status"] == "ok" and pairs > 1:
+                base += " (" + ", ".join(_fmt_s(x) for x in b["samples"]) + ")"
+            cell = _cell_sc(s)
+            if pairs > 1:
+                cell += " (cold: " + ", ".join(_fmt_s(x) for x in s["samples"]) + ")"
             lines.append(
                 f"| ring(4): exact spectrum vs naive sympy `eigenvals()` on all 25 (N↑,N↓) "
-                f"sectors | {_cell_sc(s)} | "
-                f"{_fmt_s(b['seconds']) if b['status'] == 'ok' else _failure(b)} | {ratio} | "
+                f"sectors | {cell} | {base} | {ratio} | "
                 f"naive/symcluster ≥ 200× | {_agreement(s.get('eigenvalues'), b.get('eigenvalues'))}"
                 f" | {_mem_pair(s, b)} | {b['load']:.2f} |")
         if "ring6" in naive_res:
@@ -613,6 +627,23 @@ def _cell_sc(res):
     return _fmt_s(res["seconds"]) + warm
 
 
+def _median_of_runs(runs):
+    """One result for repeated runs of a case: the first run's record with the medians of
+    the cold, warm and steady seconds, and every run's cold seconds in ``samples``; the
+    first failed run's record if any failed."""
+    for r in runs:
+        if r["status"] != "ok":
+            return r
+    out = dict(runs[0])
+    for key in ("seconds", "warm", "steady"):
+        vals = [r[key] for r in runs if r.get(key) is not None]
+        if vals:
+            out[key] = statistics.median(vals)
+    out["samples"] = [r["seconds"] for r in runs]
+    out["peak_mb"] = max(r["peak_mb"] for r in runs)
+    return out
+
+
 def parse_args(argv):
     """Command-line options (see the module docstring)."""
     p = argparse.ArgumentParser(description=__doc__.split("\n\n")[0])
@@ -628,6 +659,9 @@ def parse_args(argv):
                    help="1 (default): sc.solve(model) as is; N>1: pass a ProcessPoolExecutor(N)")
     p.add_argument("--repeat", type=int, default=2,
                    help="extra warm runs for the small ring(4)/ring(6) measurements (default 2)")
+    p.add_argument("--pairs", type=int, default=3,
+                   help="interleaved (symcluster, naive sympy) pairs of fresh processes for the "
+                        "ring(4) comparison; the table gives the medians (default 3)")
     p.add_argument("--out", default="", help="also write the Markdown table to this file")
     return p.parse_args(argv)
 
@@ -675,9 +709,16 @@ def main(argv=None):
         return sc_res[case]
 
     if "ring4" in names:
-        symcluster("ring4", True)
-        naive_res["ring4"] = run_worker("naive", "ring4", max(args.cap, 600.0), log=log)
-        write(partial=True)
+        # interleaved pairs (symcluster, naive), each in fresh processes: both sides see the
+        # same drift of the machine's load; the table gives the medians and every pair
+        sc_runs, naive_runs = [], []
+        for i in range(max(1, args.pairs)):
+            sc_runs.append(run_worker("symcluster", "ring4", args.case_cap, repeat=args.repeat,
+                                      jobs=args.jobs, compare=(i == 0), log=log))
+            naive_runs.append(run_worker("naive", "ring4", max(args.cap, 600.0), log=log))
+            sc_res["ring4"] = _median_of_runs(sc_runs)
+            naive_res["ring4"] = _median_of_runs(naive_runs)
+            write(partial=True)
     if "ring6-naive" in names or "ring6-numpy" in names or "ring6-fock" in names:
         symcluster("ring6", True)
     if "ring6-naive" in names:
