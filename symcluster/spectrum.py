@@ -17,6 +17,7 @@ import threading
 from dataclasses import dataclass, field
 from fractions import Fraction
 
+import flint
 import mpmath
 import sympy
 from mpmath import libmp
@@ -115,144 +116,129 @@ _MP_FUNCS = {
     sympy.exp: mpmath.exp, sympy.log: mpmath.log, sympy.Abs: abs,
 }
 
-#: The python-flint ``arb`` method for each elementary function above with a real
-#: argument and a real value (see :func:`_arb_raw`); mpmath.log has none.
+#: The python-flint ``arb`` method for each elementary function above (abs is ``abs``).
 _ARB_METHODS = {
     mpmath.cos: "cos", mpmath.sin: "sin", mpmath.tan: "tan", mpmath.acos: "acos",
     mpmath.asin: "asin", mpmath.atan: "atan", mpmath.exp: "exp",
 }
 
-#: Extra bits of the ball evaluation in :func:`_arb_raw`.
-_ARB_GUARD = 32
+#: Bits beyond the working precision at which closed forms are evaluated in balls.
+_BALL_GUARD = 32
 
-
-def _arb_raw(method, x, prec, rnd):
-    """``method`` (an ``arb`` method name, or ``"pi"`` without ``x``) of the raw mpf ``x``,
-    as a raw mpf rounded to ``prec`` bits; None where the value is not a finite real.
-
-    The function is evaluated in ball arithmetic (python-flint ``arb``, exact input) at
-    ``prec + _ARB_GUARD`` bits, and the ball's midpoint is rounded to ``prec`` bits in
-    direction ``rnd``: the result is within one unit in the last place of the exact value.
-    ``arb`` keeps the constants and tables of its functions in C; mpmath's own functions
-    build theirs in Python the first time a precision is used, which cost about a tenth
-    of the first 4-site solve in a process.
-    """
-    import flint
-    if x is not None:
-        sign, man, exp, bc = x
-        if not man and exp:                 # inf or nan: not a closed form's argument
-            return None
-        ball = flint.arb((-man if sign else man, exp))
-    ctx = flint.ctx
-    old = ctx.prec
-    ctx.prec = prec + _ARB_GUARD
-    try:
-        y = flint.arb.pi() if x is None else getattr(ball, method)()
-        if not y.is_finite():
-            return None
-        m, e = y.mid().man_exp()
-    finally:
-        ctx.prec = old
-    return libmp.from_man_exp(int(m), int(e), prec, rnd)
 
 # operations of a compiled closed form (see _Program)
 _SYMBOL, _INTEGER, _RATIONAL, _PI, _ADD, _MUL, _POW_INT, _SQRT, _POWER, _FUNC, _SIGN, _SYMPY = \
     range(12)
 
 
-def _raw_step(code, data, args):
-    """The libmp form of one operation: ``f(values, point, prec, rnd)``.
+def _ball(v):
+    """A value of the program as an ``arb`` ball: balls as they are, a raw real mpf
+    exactly, None for a complex value."""
+    if type(v) is flint.arb:
+        return v
+    if type(v) is tuple:
+        sign, man, exp, _ = v
+        return flint.arb((-man if sign else man, exp)) if man or not exp else None
+    return None
 
-    It returns the raw value (a libmp tuple) where every argument is real and so is the
-    result, else None (the caller then runs the mpmath operation itself).  Arithmetic,
-    square roots and ``abs`` are the libmp calls that the mpmath operations make for real
-    numbers, with the same precision and rounding; the elementary functions and pi are
-    evaluated in ball arithmetic and rounded to the working precision (:func:`_arb_raw`).
+
+def _ball_step(code, data, args):
+    """The ball-arithmetic form of one operation: ``f(values, point)``.
+
+    It returns an ``arb`` ball (python-flint, at the precision set by the caller) that
+    encloses the exact result of the operation on its arguments' balls, or None where an
+    argument is complex or the result is not a finite real (then the caller runs the
+    mpmath operation on the balls' midpoints).
     """
-    mpf_mul, mpf_div, mpf_pos, from_int = libmp.mpf_mul, libmp.mpf_div, libmp.mpf_pos, \
-        libmp.from_int
-    if code == _MUL:                        # out = mpf(1); out = out * v for each factor
-        fone = libmp.fone
-
-        def step(values, point, prec, rnd):
-            out = fone
+    arb = flint.arb
+    if code == _MUL:                        # left to right
+        def step(values, point):
+            out = None
             for a in args:
-                v = values[a]
-                if type(v) is not tuple:
+                v = _ball(values[a])
+                if v is None:
                     return None
-                out = mpf_mul(out, v, prec, rnd)
+                out = v if out is None else out * v
             return out
-    elif code == _ADD:                      # mpmath.fsum of real terms
-        mpf_sum = libmp.mpf_sum
-
-        def step(values, point, prec, rnd):
-            terms = [values[a] for a in args]
-            for v in terms:
-                if type(v) is not tuple:
+    elif code == _ADD:                      # left to right
+        def step(values, point):
+            out = None
+            for a in args:
+                v = _ball(values[a])
+                if v is None:
                     return None
-            return mpf_sum(terms, prec, rnd)
-    elif code in (_POW_INT, _SQRT, _FUNC):  # x ** n, mpmath.sqrt, abs, cos, acos, ...
+                out = v if out is None else out + v
+            return out
+    elif code in (_POW_INT, _SQRT, _FUNC):  # x ** n, sqrt, abs, cos, acos, ...
         if code == _POW_INT:
-            mpf_pow_int, n = libmp.mpf_pow_int, data
+            n = data
 
-            def fn(v, prec, rnd):
-                return mpf_pow_int(v, n, prec, rnd)
-        elif code == _SQRT or data is abs:
-            fn = libmp.mpf_sqrt if code == _SQRT else libmp.mpf_abs
+            def fn(v):
+                return v ** n
+        elif code == _SQRT:
+            fn = arb.sqrt
+        elif data is abs:
+            fn = abs
         elif data in _ARB_METHODS and len(args) == 1:
-            method = _ARB_METHODS[data]
-
-            def fn(v, prec, rnd):
-                return _arb_raw(method, v, prec, rnd)
+            fn = getattr(arb, _ARB_METHODS[data])
         else:
             return None
         a = args[0]
 
-        def step(values, point, prec, rnd):
-            v = values[a]
-            return fn(v, prec, rnd) if type(v) is tuple else None
-    elif code == _POWER:                    # mpmath.power of two reals
-        mpf_pow = libmp.mpf_pow
+        def step(values, point):
+            v = _ball(values[a])
+            if v is None:
+                return None
+            out = fn(v)
+            return out if out.is_finite() else None
+    elif code == _POWER:                    # x ** y of two reals
         a, b = args
 
-        def step(values, point, prec, rnd):
-            x, y = values[a], values[b]
-            return mpf_pow(x, y, prec, rnd) if type(x) is tuple and type(y) is tuple else None
-    elif code == _SYMBOL:                   # mpf(p) / q
-        def step(values, point, prec, rnd):
+        def step(values, point):
+            x, y = _ball(values[a]), _ball(values[b])
+            if x is None or y is None:
+                return None
+            out = x ** y
+            return out if out.is_finite() else None
+    elif code == _SYMBOL:                   # p / q
+        def step(values, point):
             v = point[data]
-            return mpf_div(mpf_pos(from_int(int(v.p)), prec, rnd), from_int(int(v.q)), prec,
-                           rnd)
-    elif code == _PI:                       # pi (ball arithmetic, see _arb_raw)
-        def step(values, point, prec, rnd):
-            return _arb_raw("pi", None, prec, rnd)
-    elif code in (_INTEGER, _RATIONAL):     # mpf(n), mpf(p) / q
-        p, q = (data, 1) if code == _INTEGER else data
+            return arb(flint.fmpq(int(v.p), int(v.q)))
+    elif code == _PI:
+        def step(values, point):
+            return arb.pi()
+    elif code in (_INTEGER, _RATIONAL):
+        value = flint.fmpq(data) if code == _INTEGER else flint.fmpq(*data)
 
-        def step(values, point, prec, rnd):
-            x = mpf_pos(from_int(p), prec, rnd)
-            return x if q == 1 else mpf_div(x, from_int(q), prec, rnd)
+        def step(values, point):
+            return arb(value)
     else:
         return None
     return step
 
 
+def _midpoint(v, prec, rnd):
+    """A ball's midpoint rounded to ``prec`` bits (a raw mpf)."""
+    m, e = v.mid().man_exp()
+    return libmp.from_man_exp(int(m), int(e), prec, rnd)
+
+
 class _Program:
-    """Closed forms compiled into one list of mpmath operations, shared between them.
+    """Closed forms compiled into one list of operations, shared between them.
 
     Every distinct subexpression (sympy equality) is compiled once into an operation
     on the values of its arguments, so closed forms that share a square root or an arc
     cosine (the levels of one multiplet, the roots of one cubic) compute it once per
     point and precision.  Each operation is the one a walk of the single expression
-    tree performs at that node, with the same arguments in the same order (a sum is
-    mpmath's ``fsum`` of its terms, a product multiplies from 1 left to right, an
-    integer power is ``**``, a square root ``mpmath.sqrt``), so a value does not depend
-    on the other closed forms compiled with it or evaluated before it.  Real values are
-    kept as raw libmp numbers and combined by the libmp functions that those mpmath
-    operations call, with the same precision and rounding; elementary functions (cos,
-    arc cosine, ...) and pi come from python-flint's ball arithmetic, rounded to the
-    working precision (:func:`_raw_step`); an operation that has a complex argument, or
-    a complex result, runs as the mpmath operation itself.
+    tree performs at that node, with the same arguments in the same order (sums and
+    products left to right, integer powers, square roots, elementary functions), so a
+    value does not depend on the other closed forms compiled with it or evaluated before
+    it.  Real values are python-flint ``arb`` balls at the working precision plus
+    ``_BALL_GUARD`` bits, each enclosing the exact result of its operation on its
+    arguments (:func:`_ball_step`); a form's value is its ball's midpoint rounded to the
+    working precision.  An operation that has a complex argument, or whose result is not
+    a finite real ball (a square root of a ball that reaches below 0), runs as the mpmath
+    operation on the midpoints instead.
 
     Node types that closed forms are not made of fall back to sympy's own evaluation at
     the working precision.  ``sign`` of a polynomial in the couplings is exact
@@ -305,7 +291,7 @@ class _Program:
             code = _SYMPY
         slot = self._slots[expr] = len(self._ops)
         self._by_id[id(expr)] = (expr, slot)
-        self._ops.append((args, _raw_step(code, data, args), (code, data, expr)))
+        self._ops.append((args, _ball_step(code, data, args), (code, data, expr)))
         return slot
 
     def evaluate(self, expr, point):
@@ -326,7 +312,15 @@ class _Program:
             self._last = (point, prec, values)
         value = values.get(root)
         if value is None:
-            value = self._fill(root, values, point, prec, rnd)
+            ctx = flint.ctx
+            old = ctx.prec
+            ctx.prec = prec + _BALL_GUARD
+            try:
+                value = self._fill(root, values, point, prec, rnd)
+            finally:
+                ctx.prec = old
+        if type(value) is flint.arb:
+            return mpmath.mp.make_mpf(_midpoint(value, prec, rnd))
         return mpmath.mp.make_mpf(value) if type(value) is tuple else value
 
     def _fill(self, slot, values, point, prec, rnd):
@@ -335,23 +329,20 @@ class _Program:
         for a in args:
             if a not in values:
                 self._fill(a, values, point, prec, rnd)
-        value = None
-        if step is not None:
-            try:
-                value = step(values, point, prec, rnd)
-            except libmp.ComplexResult:
-                pass
+        value = step(values, point) if step is not None else None
         if value is None:
-            value = self._run_mp(op, args, values, point)
+            value = self._run_mp(op, args, values, point, prec, rnd)
         values[slot] = value
         return value
 
     @staticmethod
-    def _run_mp(op, args, values, point):
-        """One operation with mpmath numbers (the mpmath operations themselves)."""
+    def _run_mp(op, args, values, point, prec, rnd):
+        """One operation with mpmath numbers (the mpmath operations themselves), on the
+        midpoints of its arguments' balls."""
         code, data, expr = op
         mpf = mpmath.mpf
-        vals = [mpmath.mp.make_mpf(v) if type(v) is tuple else v
+        vals = [mpmath.mp.make_mpf(_midpoint(v, prec, rnd)) if type(v) is flint.arb
+                else mpmath.mp.make_mpf(v) if type(v) is tuple else v
                 for v in (values[a] for a in args)]
         if code == _SYMBOL:
             v = point[data]
@@ -459,9 +450,9 @@ def energy_numeric(energy, point, digits=30, polynomial=None):
     * where that never happens because the closed form is 0/0 or its sign terms are
       undecidable at the point: its limit along a fixed ray (:func:`_limit_along_a_ray`).
 
-    Without `polynomial`, a closed form is evaluated directly with mpmath at
-    ``2 digits + 10`` working digits; the verification does this, so that its
-    comparison with the polynomial is not circular.
+    Without `polynomial`, a closed form is evaluated directly at ``2 digits + 10``
+    working digits (ball arithmetic, midpoint rounded; see :class:`_Program`); the
+    verification does this, so that its comparison with the polynomial is not circular.
 
     Raises
     ------
@@ -769,7 +760,7 @@ def _unambiguous_root(value, distinct):
 
 
 def _closed_numeric(energy, point, digits):
-    """A closed form evaluated with mpmath at ``2 digits + 10`` working digits (mpf).
+    """A closed form evaluated at ``2 digits + 10`` working digits (an mpf; :class:`_Program`).
 
     Inside :func:`shared_evaluation` the form joins that block's compiled program;
     otherwise it is compiled on its own.  Raises ArithmeticError where the value has an
