@@ -229,6 +229,11 @@ _FLOAT_MIN = sys.float_info.min        # the smallest normal float64
 def _separate_roots(group, pt, prec, rnd, floats):
     """Fail unless the values of one polynomial's levels are distinct roots of it.
 
+    Returns True when they are, and False, undecided, when two disks touch and the
+    polynomial has a multiple root at the point (exact test): roots of an irreducible
+    factor merge on a hypersurface of the couplings (at t = t' for the two-dimer factor
+    with roots U +- a(t) +- a(t')), where distinct forms take equal values.
+
     ``group`` lists ``(level, value, ints)`` for the closed-form levels of one level
     polynomial (one factor of one block; ``ints`` its coefficients at the point as
     :meth:`_Form.ints_at` gives them, ``(acc, full)``).  About each value, a disk holds a
@@ -262,7 +267,7 @@ def _separate_roots(group, pt, prec, rnd, floats):
         disks.append((xf, r + 4 * 2.0 ** -53 * abs(xf)))
     else:
         if all(abs(x - y) > rx + ry for i, (x, rx) in enumerate(disks) for y, ry in disks[i + 1:]):
-            return
+            return True
     mp = {}
     radii = []
     for _, x, ints in group:
@@ -281,9 +286,40 @@ def _separate_roots(group, pt, prec, rnd, floats):
             else:
                 far = abs(x - y) > mpmath.mp.make_mpf(mpf_add(rx, ry, prec, rnd))
             if not far:
+                if _has_multiple_root(group[0][2][0]):
+                    return False
                 _fail(f"levels {lev.energy} and {lev2.energy} (N={lev.quantum_numbers['N']}) "
                       f"are not distinct roots of their polynomial at {pt}: the same root is "
                       "listed twice and another one is missing")
+    return True
+
+
+def _separate_elsewhere(group, symbols, seed, digits, tries=5):
+    """:func:`_separate_roots` for one polynomial's levels at fresh random points, until
+    one point decides (fails if none of ``tries`` does)."""
+    form = _Form(group[0][0].polynomial)
+    prec, rnd = mpmath.mp._prec_rounding
+    for attempt in range(tries):
+        pt = random_points(symbols, 2, seed + 3000 + attempt)[1]
+        try:
+            with shared_evaluation():
+                vals = [energy_numeric(lev.energy, pt, digits + 5) for lev, _, _ in group]
+        except (ZeroDivisionError, ValueError, ModelError, ArithmeticError):
+            continue
+        ints = form.ints_at(pt)
+        if _separate_roots([(lev, x, ints) for (lev, _, _), x in zip(group, vals)], pt,
+                           prec, rnd, {}):
+            return
+    _fail(f"the roots of the polynomial of level {group[0][0].energy} "
+          f"(N={group[0][0].quantum_numbers['N']}) merge at every point tried, so its closed "
+          f"forms could not be shown to be distinct roots; rerun with another seed")
+
+
+def _has_multiple_root(acc):
+    """True if the integer polynomial with coefficients ``acc`` (highest first) has a
+    multiple root: a non-constant gcd with its derivative (exact, python-flint)."""
+    p = flint.fmpz_poly(list(reversed(acc)))
+    return p.gcd(p.derivative()).degree() > 0
 
 
 def random_points(symbols, count, seed):
@@ -802,6 +838,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         limit = mpmath.mpf(10) ** (-digits)
         prec, rnd = mpmath.mp._prec_rounding
         make = mpmath.mp.make_mpf
+        merged = {}         # id(level polynomial) -> its groups at points where roots merged
         for pi, pt in enumerate(points):
             floor = (scales[pi] * mpmath.mpf(10) ** (-digits))._mpf_
             done = set()    # (id(form), id(value)): a level equal to one checked before
@@ -831,8 +868,13 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                     by_poly.setdefault(id(lev.polynomial), []).append(
                         (lev, x, form.ints_at(pt)))
             floats = {}     # id(coefficients) -> their float64 values and |.|, or None
-            for group in by_poly.values():
-                _separate_roots(group, pt, prec, rnd, floats)
+            for key, group in by_poly.items():
+                if not _separate_roots(group, pt, prec, rnd, floats):
+                    merged.setdefault(key, []).append(group)
+        # a factor whose roots merged at every point is separated at further points
+        for groups in merged.values():
+            if len(groups) == len(points):
+                _separate_elsewhere(groups[0], symbols, seed, digits)
     report.add("closed forms are roots of their polynomials", "all levels", points, worst_root)
     report.add("closed forms of one factor are distinct roots of it (pairwise disjoint disks "
                "of radius 2n|P(x)|/|P'(x)| about the values)",

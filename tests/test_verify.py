@@ -511,3 +511,57 @@ def test_coefficients_beyond_float64_are_separated_at_working_precision(ints):
         assert floats == {id(ints): None}
         with pytest.raises(VerificationError, match="not distinct roots"):
             _separate_roots([(Lev, mpmath.mpf(v), ints) for v in (1, 1, 3)], {}, prec, rnd, {})
+
+
+def test_roots_that_merge_at_a_point_leave_it_undecided_not_failed():
+    # (x - 1)^2 (x - 3) at the point: two distinct closed forms may take the value 1 there
+    # (their factor's roots merge on a hypersurface of the couplings); the exact gcd test
+    # finds the multiple root and the check is undecided (False) instead of failing
+    from symcluster.verify import _separate_roots
+    with mpmath.workdps(50):
+        prec, rnd = mpmath.mp._prec_rounding
+
+        class Lev:
+            energy = "E"
+            quantum_numbers = {"N": 3}
+        ints = ((1, -5, 7, -3), 1)
+        vals = [mpmath.mpf(1), mpmath.mpf(1), mpmath.mpf(3)]
+        assert _separate_roots([(Lev, v, ints) for v in vals], {}, prec, rnd, {}) is False
+        ints = ((1, -6, 11, -6), 1)                 # (x - 1)(x - 2)(x - 3): no excuse
+        with pytest.raises(VerificationError, match="not distinct roots"):
+            _separate_roots([(Lev, v, ints) for v in vals], {}, prec, rnd, {})
+        assert _separate_roots([(Lev, mpmath.mpf(v), ints) for v in (1, 2, 3)], {}, prec, rnd,
+                               {}) is True
+
+
+def test_two_dimers_at_a_point_with_equal_hoppings_verify():
+    # two dimers with hoppings t and t': the N = 4 factor has the roots U +- a(t) +- a(t'),
+    # a(x) = sqrt(U^2 + 16 x^2)/2, which merge where t = +-t'.  Seed 859317502 draws the
+    # first verification point with t = t' = 65/103: the distinct-roots check is decided
+    # at the second point (this seed failed before that rule)
+    c = sc.cluster(4, [(0, 1), (2, 3, "tp")])
+    spec = sc.solve(sc.hubbard(c), lattice=False, seed=859317502)
+    assert spec.n_states == 256
+    check = [ch for ch in spec.verification.checks
+             if ch["check"].startswith("closed forms of one")][0]
+    first = {str(k): v for k, v in check["points"][0].items()}
+    assert first["t"] == first["tp"]                # the merging point was used, not redrawn
+
+
+def test_forms_separated_at_fresh_points_when_every_point_merges(monkeypatch):
+    # _separate_elsewhere draws further points for a factor whose roots merged at every
+    # verification point: real distinct forms pass; a form listed twice fails
+    from symcluster.verify import _separate_elsewhere
+    c = sc.cluster(4, [(0, 1), (2, 3, "tp")])
+    spec = sc.solve(sc.hubbard(c), lattice=False, seed=3)
+    quartic = [lev for lev in spec.levels
+               if lev.polynomial is not None and lev.polynomial.degree(lev.polynomial.gens[0]) == 4]
+    poly = quartic[0].polynomial
+    group = [(lev, None, None) for lev in quartic if lev.polynomial is poly]
+    assert len(group) == 4
+    symbols = spec.model.symbols
+    with mpmath.workdps(40):
+        _separate_elsewhere(group, symbols, 11, 30)
+        twice = [group[0], group[0], group[2], group[3]]
+        with pytest.raises(VerificationError, match="not distinct roots"):
+            _separate_elsewhere(twice, symbols, 11, 30)
