@@ -13,6 +13,7 @@ import contextlib
 import functools
 import math
 import numbers
+import operator
 import threading
 from dataclasses import dataclass, field
 from fractions import Fraction
@@ -151,23 +152,16 @@ def _ball_step(code, data, args):
     mpmath operation on the balls' midpoints).
     """
     arb = flint.arb
-    if code == _MUL:                        # left to right
+    if code in (_MUL, _ADD):                # left to right
+        combine = operator.mul if code == _MUL else operator.add
+
         def step(values, point):
             out = None
             for a in args:
                 v = _ball(values[a])
                 if v is None:
                     return None
-                out = v if out is None else out * v
-            return out
-    elif code == _ADD:                      # left to right
-        def step(values, point):
-            out = None
-            for a in args:
-                v = _ball(values[a])
-                if v is None:
-                    return None
-                out = v if out is None else out + v
+                out = v if out is None else combine(out, v)
             return out
     elif code in (_POW_INT, _SQRT, _FUNC):  # x ** n, sqrt, abs, cos, acos, ...
         if code == _POW_INT:

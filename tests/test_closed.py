@@ -98,6 +98,17 @@ def _forms(reps, evaluate):
         closed.EVALUATE = old
 
 
+def _assert_same_trees(fast, slow):
+    """The forms built directly and by sympy's constructors are identical trees, and the
+    commutativity the builders state for products of coupling powers is what sympy finds
+    on its own trees, node by node."""
+    for a, b in zip(fast, slow):
+        assert [sympy.srepr(x) for x in a] == [sympy.srepr(x) for x in b]
+        for x, y in zip(a, b):
+            assert [n.is_commutative for n in sympy.preorder_traversal(x)] == \
+                [n.is_commutative for n in sympy.preorder_traversal(y)]
+
+
 @pytest.mark.parametrize("n", [2, 3, 4])
 def test_direct_construction_equals_sympys_evaluating_constructors(n):
     # The builders assemble sympy's canonical trees without evaluating; built again with
@@ -113,13 +124,7 @@ def test_direct_construction_equals_sympys_evaluating_constructors(n):
             and all(not any(m[1:]) for m in r if m[0] == max(k[0] for k in r))]
     fast = _forms(reps, False)
     slow = _forms(reps, True)
-    for a, b in zip(fast, slow):
-        assert [sympy.srepr(x) for x in a] == [sympy.srepr(x) for x in b]
-        # the commutativity the builders state for products of coupling powers is what
-        # sympy finds on its own trees, node by node
-        for x, y in zip(a, b):
-            assert [n.is_commutative for n in sympy.preorder_traversal(x)] == \
-                [n.is_commutative for n in sympy.preorder_traversal(y)]
+    _assert_same_trees(fast, slow)
 
 
 def test_products_of_noncommuting_generators_are_left_to_sympy():
@@ -182,24 +187,7 @@ def test_structured_quartics_and_cluster_factors_are_built_as_sympy_builds_them(
     assert len(reps) > 20
     fast = _forms(reps, False)
     slow = _forms(reps, True)
-    for a, b in zip(fast, slow):
-        assert [sympy.srepr(x) for x in a] == [sympy.srepr(x) for x in b]
-        # the commutativity the builders state for products of coupling powers is what
-        # sympy finds on its own trees, node by node
-        for x, y in zip(a, b):
-            assert [n.is_commutative for n in sympy.preorder_traversal(x)] == \
-                [n.is_commutative for n in sympy.preorder_traversal(y)]
-
-
-def test_products_of_noncommuting_generators_are_left_to_sympy():
-    # a ring over non-commutative symbols states nothing: sympy decides (here False)
-    from symcluster.algebra.closed import _Ring
-    a, b = sympy.symbols("a b", commutative=False)
-    ring = _Ring((a, b))
-    p = ring.ctx.from_dict({(1, 1): 3, (2, 0): 1})
-    expr = ring.expr(p)
-    assert expr == 3 * a * b + a**2
-    assert any(n.is_Mul and n.is_commutative is False for n in sympy.preorder_traversal(expr))
+    _assert_same_trees(fast, slow)
 
 
 def test_eta_shifted_forms_are_the_sums_sympy_builds():

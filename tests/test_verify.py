@@ -548,7 +548,7 @@ def test_two_dimers_at_a_point_with_equal_hoppings_verify():
     assert first["t"] == first["tp"]                # the merging point was used, not redrawn
 
 
-def test_forms_separated_at_fresh_points_when_every_point_merges(monkeypatch):
+def test_forms_separated_at_fresh_points_when_every_point_merges():
     # _separate_elsewhere draws further points for a factor whose roots merged at every
     # verification point: real distinct forms pass; a form listed twice fails
     from symcluster.verify import _separate_elsewhere
