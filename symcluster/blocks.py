@@ -191,7 +191,9 @@ def _matrix_of_h(h, vectors, pivots, rng=None, coeff_memo=None):
                 mat = terms[lab] = {}
             for j, v in row.items():
                 if v:
-                    mat[(i, j)] = Fraction(v) if piv_val == 1 else Fraction(v, piv_val)
+                    # an int where the pivot divides the entry (always for pivot 1)
+                    q, rem = divmod(v, piv_val)
+                    mat[(i, j)] = Fraction(v, piv_val) if rem else q
     # exact invariance check on a random combination r = sum a_j w_j
     if rng is None:
         coeffs = _check_coefficients(k, coeff_memo)

@@ -69,7 +69,7 @@ def test_two_site_singlet_nonsymmetric_block(backend):
 def test_random_blocks_match_sympy_matrix(backend, names, rational):
     rng = random.Random(hash((names, rational)) & 0xFFFF)
     gens = tuple(sympy.Symbol(n, real=True) for n in names)
-    for n in (1, 3, 5, 6):
+    for n in (1, 2, 3, 5, 6):
         b = random_block(rng, n, names, rational=rational)
         P = charpoly(b, names, backend=backend)
         assert P.gens == (E,) + gens

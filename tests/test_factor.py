@@ -79,6 +79,27 @@ def test_product_equals_input_and_factors_irreducible(seed):
     assert {f.as_expr(): m for f, m in facs} == ref_norm
 
 
+@pytest.mark.parametrize("expr", [E, E - t, E + 3 * U - 2 * t, E - t**2 * U + 5,
+                                  2 * E - 2 * t, -(E - t), t * E - U * t, U * E + t])
+def test_degree_one_in_e(expr):
+    # the monic ones are returned as they are, without a factorization; all must agree
+    # with sympy's factor_list (independent), constant included
+    P = sympy.Poly(expr, E, t, U)
+    c, facs = content_and_factors(P)
+    assert sympy.expand(product(c, facs) - P.as_expr()) == 0
+    for f, _ in facs:
+        assert_normalised_irreducible(f)
+    const, ref = sympy.factor_list(expr, E, t, U)
+    ref_norm = {}
+    for g, m in ref:
+        g = sympy.Poly(g, E, t, U)
+        if g.as_dict()[max(g.as_dict())] < 0:
+            g, const = -g, const * (-1) ** m
+        ref_norm[g.as_expr()] = ref_norm.get(g.as_expr(), 0) + m
+    assert {f.as_expr(): m for f, m in facs} == ref_norm
+    assert c == const
+
+
 def test_rational_input_content():
     P = sympy.Poly(-sympy.Rational(2, 3) * (E - t / 2) ** 2 * (E**2 - U * E - 4 * t**2), E, t, U)
     c, facs = content_and_factors(P)

@@ -95,7 +95,10 @@ class LinearBlock:
         for name, mat in self.terms.items():
             m = {}
             for key, v in mat.items():
-                if v != 0:
+                if type(v) is int:
+                    if v:
+                        m[key] = v * scale
+                elif v != 0:
                     w = Fraction(v) * scale
                     if w.denominator != 1:
                         raise ModelError(

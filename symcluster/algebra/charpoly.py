@@ -253,16 +253,54 @@ def _berkowitz(rows, n, one):
     return p
 
 
+def _charpoly_written_out(block, names):
+    """``det(E - H)`` of a 1x1 or 2x2 block written out on plain dictionaries:
+    ``E - a`` and ``E^2 - (a + d) E + (a d - b c)``, with every entry linear in the
+    couplings (cheaper than setting up polynomial rings for one or two products)."""
+    n = block.dim
+    k_all = len(names)
+    units = []
+    for i in range(k_all):
+        e = [0] * k_all
+        e[i] = 1
+        units.append(tuple(e))
+    # entry (i, j) -> [(index of the coupling, value)]
+    entry = {}
+    for nm, mat in block.terms.items():
+        x = names.index(nm)
+        for key, v in mat.items():
+            if v:
+                entry.setdefault(key, []).append((x, v))
+    out = {(n,) + (0,) * k_all: 1}
+
+    def add(key, v):
+        out[key] = out.get(key, 0) + v
+
+    for i in range(n):
+        for x, v in entry.get((i, i), ()):
+            add((n - 1,) + units[x], -v)
+    if n == 2:
+        for (a, b), sign in (((0, 0), (1, 1)), 1), (((0, 1), (1, 0)), -1):
+            for x, v in entry.get(a, ()):
+                for y, w in entry.get(b, ()):
+                    add((0,) + tuple(p + q for p, q in zip(units[x], units[y])), sign * v * w)
+    return {m: (c.numerator if type(c) is Fraction and c.denominator == 1 else c)
+            for m, c in out.items()}
+
+
 def _charpoly_mpoly(block, names):
     """Characteristic polynomial of a small block by :func:`_berkowitz` over ``Z[couplings]``.
 
     With the block's denominator ``D``, ``det(E - H) = D^-n det(D E - D H)`` and ``D H``
-    is an integer matrix in the couplings.
+    is an integer matrix in the couplings.  Blocks of dimension 1 and 2 are written out
+    (:func:`_charpoly_written_out`).
     """
     n = block.dim
     k_all = len(names)
     if n == 0:
         return {(0,) * (k_all + 1): 1}
+    if n <= 2:
+        return _charpoly_written_out(block, names)
     D = block.denominator()
     iterms = block.integer_terms(D)
     ctx = flint.fmpz_mpoly_ctx.get(tuple(f"x{i}" for i in range(max(1, k_all))), "lex")

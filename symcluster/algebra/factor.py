@@ -120,6 +120,10 @@ def factor_integer_dict(rep, gens):
         positive) with multiplicities, sorted by (degree in the first generator,
         sorted terms).
     """
+    one = (1,) + (0,) * (len(gens) - 1)
+    if rep.get(one) == 1 and all(m[0] == 0 for m in rep if m != one):
+        # E + c(couplings): monic of degree one in E, so primitive and irreducible
+        return 1, [(rep, 1)]
     if len(gens) > 0 and HAVE_FLINT:
         const, facs = _factor_flint(rep, gens)
     else:  # pragma: no cover - only without python-flint
