@@ -21,10 +21,6 @@ from sympy.polys.polyclasses import DMP
 __all__ = ["poly_from_dict"]
 
 
-def _first(item):
-    return item[0]
-
-
 def _element(domain, c):
     if isinstance(c, int) and domain.is_ZZ:
         return domain(c)
@@ -33,25 +29,17 @@ def _element(domain, c):
     return domain.convert(c)
 
 
-def _dense(items, lev, zero):
-    """Dense recursive list (highest power first) of non-empty ``[(monomial, element)]``
-    sorted in descending order of the monomials."""
-    d = items[0][0][0]
+def _dense(node, lev, zero):
+    """Dense recursive list (highest power first) of a non-empty tree of nested dicts
+    ``{exponent: subtree}`` whose leaves (at ``lev`` = 0) map exponents to elements."""
+    d = max(node)
     if lev == 0:
         out = [zero] * (d + 1)
-        for m, c in items:
-            out[d - m[0]] = c
+        for e, c in node.items():
+            out[d - e] = c
         return out
-    out = [None] * (d + 1)
-    start, n = 0, len(items)
-    while start < n:
-        e = items[start][0][0]
-        end = start + 1
-        while end < n and items[end][0][0] == e:
-            end += 1
-        out[d - e] = _dense([(m[1:], c) for m, c in items[start:end]], lev - 1, zero)
-        start = end
-    return [dmp_zero(lev - 1) if v is None else v for v in out]
+    return [_dense(node[e], lev - 1, zero) if e in node else dmp_zero(lev - 1)
+            for e in range(d, -1, -1)]
 
 
 def poly_from_dict(rep, gens, domain):
@@ -71,13 +59,19 @@ def poly_from_dict(rep, gens, domain):
     """
     gens = tuple(gens)
     lev = len(gens) - 1
-    items = []
+    root = {}
+    make = domain.dtype if domain.is_ZZ else None       # ZZ(c) for an int c, directly
     for m, c in rep.items():
         if c:
-            m = tuple(int(e) for e in m)
+            m = tuple(map(int, m))
             if len(m) != len(gens) or min(m, default=0) < 0:
                 raise ValueError(f"exponent tuple {m} does not fit the generators {gens}")
-            items.append((m, _element(domain, c)))
-    items.sort(key=_first, reverse=True)
-    dense = _dense(items, lev, domain.zero) if items else dmp_zero(lev)
+            node = root
+            for e in m[:-1]:
+                sub = node.get(e)
+                if sub is None:
+                    sub = node[e] = {}
+                node = sub
+            node[m[-1]] = make(c) if make is not None and type(c) is int else _element(domain, c)
+    dense = _dense(root, lev, domain.zero) if root else dmp_zero(lev)
     return sympy.Poly.new(DMP.new(dense, domain, lev), *gens)
