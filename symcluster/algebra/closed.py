@@ -122,7 +122,8 @@ def _mul(*factors, commutative=None):
                                   or (factors[1].is_Rational and factors[0].is_Add)):
             # sympy distributes a rational over a sum when the two are all there is (a
             # rational times a product holding a sum is another case: left to sympy)
-            return _add(*[_mul(coeff, a) for a in rest[0].args])
+            return _add(*[_mul(coeff, a, commutative=commutative) for a in rest[0].args],
+                        commutative=commutative)
         return sympy.Mul(*factors)
     if numeric > 1:
         return sympy.Mul(*factors)
@@ -136,8 +137,8 @@ def _mul(*factors, commutative=None):
     return sympy.Mul._from_args(rest, commutative)
 
 
-def _add(*terms):
-    """``sympy.Add(*terms)``."""
+def _add(*terms, commutative=None):
+    """``sympy.Add(*terms)``; ``commutative`` as for :func:`_mul`."""
     if EVALUATE:
         return sympy.Add(*terms)
     coeff = sympy.S.Zero
@@ -179,7 +180,7 @@ def _add(*terms):
             elif m.is_Mul:
                 rest.append(m._new_rawargs(c, *m.args))
             else:
-                rest.append(sympy.Mul._from_args((c, m)))
+                rest.append(sympy.Mul._from_args((c, m), commutative))
     if not rest:
         return coeff
     if len(rest) == 1 and coeff.p == 0:
@@ -187,7 +188,7 @@ def _add(*terms):
     rest.sort(key=_SORT_KEY)
     if coeff.p != 0:
         rest.insert(0, coeff)
-    return sympy.Add._from_args(rest)
+    return sympy.Add._from_args(rest, commutative)
 
 
 #: ``nargs`` of a one-argument function such as cos (sympy sets it on every new instance).
@@ -256,10 +257,18 @@ class _Ring:
             for g, e in zip(self.gens, mon):
                 if e:
                     parts.append(g if e == 1 else sympy.Pow(g, e))
-            terms.append(_mul(*parts, commutative=self._commutative))
-        out = _add(*terms)
+            terms.append(self.mul(*parts))
+        out = self.add(*terms)
         self._exprs[key] = out
         return out
+
+    def mul(self, *factors):
+        """:func:`_mul` of expressions in these couplings (commutative where they are)."""
+        return _mul(*factors, commutative=self._commutative)
+
+    def add(self, *terms):
+        """:func:`_add` of expressions in these couplings (commutative where they are)."""
+        return _add(*terms, commutative=self._commutative)
 
     def sqrt_split(self, p):
         """``(c, f, g)`` with ``p = c f**2 g``: c > 0 an fmpq, f and g integer polynomials
@@ -283,7 +292,7 @@ class _Ring:
     def sqrt_expr(self, p):
         """An expression ``S`` with ``S**2 == p`` (up to the sign of pulled-out factors)."""
         c, f, g = self.sqrt_split(p)
-        return _mul(_sqrt_rational(_rational(c)), self.expr(f), _sqrt(self.expr(g)))
+        return self.mul(_sqrt_rational(_rational(c)), self.expr(f), _sqrt(self.expr(g)))
 
 
 def _primitive(p):
@@ -320,7 +329,7 @@ def _trig_cubic(R, P, Q, ordered):
     ge = R.expr(g)
     sg = _sqrt(ge)
     use_abs = ordered and not f.is_constant()
-    rho = _mul(_sqrt_rational(_rational(c)), sympy.Abs(fe) if use_abs else fe, sg)
+    rho = R.mul(_sqrt_rational(_rational(c)), sympy.Abs(fe) if use_abs else fe, sg)
     quo, rem = divmod(Q, f ** 3)
     if rem.is_zero():
         # -quo / (2 c^(3/2) g^(3/2)), with the rational content of quo in front
@@ -332,7 +341,7 @@ def _trig_cubic(R, P, Q, ordered):
                  and sg.base == ge and ge.is_Add else sg ** -3)
         # one product: a rational factor is distributed over a sum only when the sum is
         # all there is (as sympy does it)
-        arg = _mul(R.expr(prim), g_pow, _sqrt_rational(_rational(1 / c)), _rational(scale))
+        arg = R.mul(R.expr(prim), g_pow, _sqrt_rational(_rational(1 / c)), _rational(scale))
         if use_abs:
             arg = sympy.sign(fe) * arg
         # read off the polynomials what arg.free_symbols and arg.has(I) would find: a
@@ -356,10 +365,10 @@ def _trig_cubic(R, P, Q, ordered):
         return [2 * rho * sympy.cos(theta / 3 - 2 * sympy.pi * k / 3) for k in (2, 1, 0)]
     # sympy's own normal forms of cos(a - 4pi/3), cos(a - 2pi/3), cos(a) for a symbolic
     # a = theta/3, built directly: evaluating cos() there costs ~40 ms per cubic cold
-    third = _mul(_THIRD, theta)
-    return [_mul(-_TWO, rho, _unevaluated(sympy.sin, _add(third, _PI_6))),
-            _mul(-_TWO, rho, _unevaluated(sympy.cos, _add(third, _PI_3))),
-            _mul(_TWO, rho, _unevaluated(sympy.cos, third))]
+    third = R.mul(_THIRD, theta)
+    return [R.mul(-_TWO, rho, _unevaluated(sympy.sin, R.add(third, _PI_6))),
+            R.mul(-_TWO, rho, _unevaluated(sympy.cos, R.add(third, _PI_3))),
+            R.mul(_TWO, rho, _unevaluated(sympy.cos, third))]
 
 
 def _roots_linear(R, cf):
@@ -376,7 +385,7 @@ def _roots_quadratic(R, cf):
         lc = a.leading_coefficient()
         mid = R.expr(-b / (2 * lc))
         half = _rational(1 / (2 * lc))
-        return [_add(mid, _mul(-half, S)), _add(mid, _mul(half, S))]
+        return [R.add(mid, R.mul(-half, S)), R.add(mid, R.mul(half, S))]
     a2 = 2 * R.expr(a)
     mid = -R.expr(b) / a2
     half = S / a2
@@ -389,7 +398,7 @@ def _roots_cubic(R, cf):
     p = c - b ** 2 / 3
     q = 2 * b ** 3 / 27 - b * c / 3 + d
     shift = R.expr(-b / 3)
-    return [_add(shift, w) for w in _trig_cubic(R, p, q, ordered=False)]
+    return [R.add(shift, w) for w in _trig_cubic(R, p, q, ordered=False)]
 
 
 def _roots_quartic(R, cf):
@@ -406,32 +415,32 @@ def _roots_quartic(R, cf):
         if r.is_zero() or (gr == R.one and root_cr.is_Rational):
             # y^4 + p y^2 + s^2: roots (±sqrt(2s - p) ± sqrt(-2s - p)) / 2
             s = fr * flint.fmpq(int(root_cr.p), int(root_cr.q)) if not r.is_zero() else R.zero
-            A = _mul(half, R.sqrt_expr(2 * s - p))
-            B = _mul(half, R.sqrt_expr(-2 * s - p))
-            ys = [_add(_mul(_MINUS, A), _mul(_MINUS, B)), _add(_mul(_MINUS, A), B), _add(A, _mul(_MINUS, B)),
-                  _add(A, B)]
+            A = R.mul(half, R.sqrt_expr(2 * s - p))
+            B = R.mul(half, R.sqrt_expr(-2 * s - p))
+            ys = [R.add(R.mul(_MINUS, A), R.mul(_MINUS, B)), R.add(R.mul(_MINUS, A), B), R.add(A, R.mul(_MINUS, B)),
+                  R.add(A, B)]
         else:
             S = R.sqrt_expr(p ** 2 - 4 * r)
             pe = R.expr(p)
-            wm = _mul(half, _add(_mul(_MINUS, pe), _mul(_MINUS, S)))
-            wp = _mul(half, _add(_mul(_MINUS, pe), S))
-            ys = [_mul(_MINUS, _sqrt(wp)), _mul(_MINUS, _sqrt(wm)), _sqrt(wm), _sqrt(wp)]
-        return [_add(shift, y) for y in ys]
+            wm = R.mul(half, R.add(R.mul(_MINUS, pe), R.mul(_MINUS, S)))
+            wp = R.mul(half, R.add(R.mul(_MINUS, pe), S))
+            ys = [R.mul(_MINUS, _sqrt(wp)), R.mul(_MINUS, _sqrt(wm)), _sqrt(wm), _sqrt(wp)]
+        return [R.add(shift, y) for y in ys]
     # resolvent z^3 + 2p z^2 + (p^2 - 4r) z - q^2, roots (a1+a2)^2, ... >= 0
     P = -(p ** 2) / 3 - 4 * r
     Q = -2 * p ** 3 / 27 + 8 * p * r / 3 - q ** 2
     zshift = R.expr(-2 * p / 3)
-    z2, z1, z0 = [_add(zshift, w) for w in _trig_cubic(R, P, Q, ordered=True)]  # z2 smallest
-    s0, s1, s2 = [_mul(half, _sqrt(z)) for z in (z0, z1, z2)]
+    z2, z1, z0 = [R.add(zshift, w) for w in _trig_cubic(R, P, Q, ordered=True)]  # z2 smallest
+    s0, s1, s2 = [R.mul(half, _sqrt(z)) for z in (z0, z1, z2)]
     sig = -sympy.sign(R.expr(q))
-    t2 = _mul(sig, s2)
+    t2 = R.mul(sig, s2)
     ys = [
-        _add(_mul(_MINUS, s0), _mul(_MINUS, s1), t2),
-        _add(_mul(_MINUS, s0), s1, _mul(_MINUS, t2)),
-        _add(s0, _mul(_MINUS, s1), _mul(_MINUS, t2)),
-        _add(s0, s1, t2),
+        R.add(R.mul(_MINUS, s0), R.mul(_MINUS, s1), t2),
+        R.add(R.mul(_MINUS, s0), s1, R.mul(_MINUS, t2)),
+        R.add(s0, R.mul(_MINUS, s1), R.mul(_MINUS, t2)),
+        R.add(s0, s1, t2),
     ]
-    return [_add(shift, y) for y in ys]
+    return [R.add(shift, y) for y in ys]
 
 
 def closed_form_roots(rep, gens, rings=None):
