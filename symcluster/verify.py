@@ -617,7 +617,8 @@ def _numeric_matrix(terms, dim, point_by_label):
     for l, mat in terms.items():
         if not mat:
             continue
-        v = float(point_by_label[l])
+        v = point_by_label[l]
+        v = int(v.p) / int(v.q)         # correctly rounded, as float(v), without sympy
         ij = np.fromiter(chain.from_iterable(mat), dtype=np.int64, count=2 * len(mat))
         a = np.fromiter(mat.values(), dtype=np.float64, count=len(mat))
         m[ij[0::2], ij[1::2]] += a * v
