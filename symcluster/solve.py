@@ -19,7 +19,7 @@ from .errors import ModelError, VerificationError
 from .linalg import integer_multiple
 from .models import Model
 from .spectrum import Level, Spectrum, VerificationReport, check_digits
-from .verify import verify_blocks, verify_spectrum
+from .verify import FormCache, verify_blocks, verify_spectrum
 
 __all__ = ["solve", "solve_block"]
 
@@ -434,6 +434,7 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     levels = []
     shift = plan.eta_shift
     shifter = _Shifter(shift)
+    moved = {}      # (irrep label, k odd) -> the irrep of the k-th eta member
     for spec, factors in zip(blocks, results):
         for fac, mult, roots in factors:
             if mult % spec.copies:
@@ -447,7 +448,9 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
                 if wanted is not None and qn["N"] not in wanted:
                     continue
                 if k and "irrep" in qn:
-                    irr = eta_member_irrep(plan, spec.irrep, k)
+                    key = (qn["irrep"], k % 2)
+                    irr = moved[key] if key in moved else moved.setdefault(
+                        key, eta_member_irrep(plan, spec.irrep, k))
                     qn["irrep"] = irr.label if irr is not None else qn["irrep"] + "*"
                     if irr is not None and getattr(irr, "momentum", None) is not None:
                         qn["k"] = irr.momentum
@@ -475,12 +478,13 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
          "largest_block": s["largest_block"]} for s in sizes]
     t2 = time.perf_counter()
     seed = random.SystemRandom().randrange(2 ** 31) if seed is None else seed
-    n_checked = verify_blocks(blocks, results, seed)
+    forms = FormCache()        # integer forms of the polynomials, for both checks
+    n_checked = verify_blocks(blocks, results, seed, forms=forms)
     report.add("exact block characteristic polynomials vs. their factors "
                "(modulo a random 62-bit prime per point)", f"{n_checked} blocks", worst=0.0)
     proven = (("spin",) if plan.spin else ()) + (("eta",) if plan.eta else ())
     verify_spectrum(spectrum, wanted, digits=digits, seed=seed, proven=proven, executor=executor,
-                    lattice=plan.lattice)
+                    lattice=plan.lattice, forms=forms)
     timings["verify"] = time.perf_counter() - t2
     timings["total"] = time.perf_counter() - t0
     return spectrum

@@ -513,11 +513,12 @@ class _Form:
         return out
 
 
-class _Forms:
-    """The :class:`_Form` of every polynomial one verification call meets.
+class FormCache:
+    """The :class:`_Form` of every polynomial the verification of one solve meets.
 
     Equal polynomials in separate objects (a factor in every block of its multiplet)
-    share one form, and so its values at the points.  Lives for one call (it holds the
+    share one form, and so its values at the points.  Lives for one solve's checks
+    (:func:`verify_blocks` and :func:`verify_spectrum` may share it; it holds the
     polynomials alive), so nothing is reused across solves.
     """
 
@@ -670,7 +671,7 @@ def _poly_mod(form, point, prime, cache):
     return out
 
 
-def verify_blocks(blocks, results, seed, n_points=2):
+def verify_blocks(blocks, results, seed, n_points=2, forms=None):
     """Exact check of the symbolic algebra, block by block.
 
     At random rational points and modulo a random 62-bit prime per point, the
@@ -678,6 +679,8 @@ def verify_blocks(blocks, results, seed, n_points=2):
     computed directly, no interpolation) must equal the product of the block's
     irreducible factors (to their multiplicities) evaluated at the point.
     Returns the number of blocks checked; raises VerificationError otherwise.
+    ``forms`` (optional) is a :class:`FormCache` of the same solve, shared with
+    :func:`verify_spectrum`.
     """
     if not blocks:
         return 0
@@ -688,7 +691,7 @@ def verify_blocks(blocks, results, seed, n_points=2):
     points = random_points(symbols, n_points, seed + 7)
     rng = random.Random(seed + 8)
     primes = [int(sympy.nextprime(rng.randrange(2 ** 61, 2 ** 62))) for _ in points]
-    forms = _Forms()
+    forms = FormCache() if forms is None else forms
     for pt, prime in zip(points, primes):
         vals = {s.name: _mod(Fraction(int(v.p), int(v.q)), prime) for s, v in pt.items()}
         inverses = {}           # denominator of a block entry -> its inverse modulo the prime
@@ -767,13 +770,14 @@ def _fail(msg):
 
 
 def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, proven=(),
-                    executor=None, lattice=None):
+                    executor=None, lattice=None, forms=None):
     """Run every check on ``spectrum``; fill its verification report; raise on failure.
 
     ``lattice`` (the detected lattice symmetry, or None) adds the check of the lattice
     labels: in every sector of dimension at most ``EXACT_DIM`` the levels labelled with an
     irrep carry the traces of H^0, H^1, H^2 on that irrep's isotypic subspace (float64, first
-    point; see :func:`_check_lattice_labels`).
+    point; see :func:`_check_lattice_labels`).  ``forms`` (optional) is the
+    :class:`FormCache` of the same solve's :func:`verify_blocks`.
 
     ``proven`` names symmetries that were proven exactly by operator identities
     ("spin": [H, S+] = 0; "eta": [H, eta+] = delta eta+).  Sectors that such a
@@ -799,7 +803,8 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     # one random 62-bit prime per point
     primes = [int(sympy.nextprime(rng.randrange(2 ** 61, 2 ** 62))) for _ in points]
     report.primes = primes
-    forms = _Forms()        # integer forms of the level polynomials, for this call only
+    # integer forms of the level polynomials (shared with verify_blocks of the same solve)
+    forms = FormCache() if forms is None else forms
     wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
     action = HamiltonianAction(model)        # H on basis states, for the sector matrices
 

@@ -130,12 +130,12 @@ def test_sector_charpoly_modulo_a_prime_matches_sympy():
 def test_polynomials_modulo_a_prime_are_monic_reductions():
     # P(E; point) reduced modulo p and made monic, against sympy substitution; equal
     # polynomials in separate objects share one form (and one reduction)
-    from symcluster.verify import _Forms, _poly_mod
+    from symcluster.verify import FormCache, _poly_mod
     prime = 2305843009213693951
     P = sympy.Poly(3 * E**2 - sympy.Rational(5, 2) * E * t + U**2 - 7, E, t, U, domain=sympy.QQ)
     Q = sympy.Poly(3 * E**2 - sympy.Rational(5, 2) * E * t + U**2 - 7, E, t, U, domain=sympy.QQ)
     point = {t: sympy.Rational(4, 9), U: sympy.Rational(-2, 3)}
-    forms, cache = _Forms(), {}
+    forms, cache = FormCache(), {}
     assert forms(P) is forms(Q)
     got = _poly_mod(forms(P), point, prime, cache)
     cs = sympy.Poly(P.as_expr().subs(point), E).all_coeffs()[::-1]
