@@ -836,7 +836,6 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         clear_prefetched()
 
     # 2. each level is a root of its own polynomial (closed forms against polynomials)
-    worst_root = 0.0
     with mpmath.workdps(digits + 10):
         # energies are homogeneous of degree one in the couplings: their scale at a point
         scales = [max(abs(mpmath.mpf(int(v.p)) / int(v.q)) for v in pt.values()) if pt else
@@ -844,35 +843,45 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         limit = mpmath.mpf(10) ** (-digits)
         prec, rnd = mpmath.mp._prec_rounding
         make = mpmath.mp.make_mpf
+        limit_raw = limit._mpf_
+        worst_raw = fzero
         merged = {}         # id(level polynomial) -> its groups at points where roots merged
+        # the integer form of each level's polynomial; None for an implicit root, whose
+        # value is a certified root of this very polynomial
+        level_forms = []
+        for li, lev in enumerate(spectrum.levels):
+            if lev.polynomial is None:
+                _fail(f"level {li} has no polynomial")
+            level_forms.append(None if hasattr(lev.energy, "numeric") else forms(lev.polynomial))
         for pi, pt in enumerate(points):
             floor = (scales[pi] * mpmath.mpf(10) ** (-digits))._mpf_
             done = set()    # (id(form), id(value)): a level equal to one checked before
             by_poly = {}    # id(level polynomial) -> [(level, value, its coefficients)]
-            for li, lev in enumerate(spectrum.levels):
-                if lev.polynomial is None:
-                    _fail(f"level {li} has no polynomial")
-                if hasattr(lev.energy, "numeric"):
-                    continue   # an implicit root's value is a certified root of this very polynomial
-                form = forms(lev.polynomial)
-                x = values[pi][li]          # one object per distinct energy
+            at = values[pi]
+            for li, form in enumerate(level_forms):
+                if form is None:
+                    continue
+                x = at[li]                  # one object per distinct energy
                 key = (id(form), id(x))
-                acc = form.ints_at(pt)[0]   # the coefficients times a positive integer
+                ints = form.ints_at(pt)     # the coefficients times a positive integer
                 if key not in done:
                     done.add(key)
                     if type(x) is mpmath.mpf:
                         # |P(x)| and its scale exactly at the value, one rounding
-                        dev = make(_exact_deviation(acc, x._mpf_, floor, prec, rnd))
+                        dev = _exact_deviation(ints[0], x._mpf_, floor, prec, rnd)
                     else:
-                        cs = _mp_coefficients(*form.ints_at(pt))
-                        dev = root_deviation([make(c) for c in cs[0]], x, scales[pi], digits)
-                    if dev > limit:
+                        cs = _mp_coefficients(*ints)
+                        dev = root_deviation([make(c) for c in cs[0]], x, scales[pi],
+                                             digits)._mpf_
+                    if mpf_gt(dev, limit_raw):
+                        lev = spectrum.levels[li]
                         _fail(f"level {lev.energy} (N={lev.quantum_numbers['N']}) is not a root of "
-                              f"its polynomial at {pt}: deviation {mpmath.nstr(dev, 3)}")
-                    worst_root = max(worst_root, float(dev))
-                if len(acc) > 2:
-                    by_poly.setdefault(id(lev.polynomial), []).append(
-                        (lev, x, form.ints_at(pt)))
+                              f"its polynomial at {pt}: deviation {mpmath.nstr(make(dev), 3)}")
+                    if mpf_gt(dev, worst_raw):
+                        worst_raw = dev
+                if len(ints[0]) > 2:
+                    lev = spectrum.levels[li]
+                    by_poly.setdefault(id(lev.polynomial), []).append((lev, x, ints))
             floats = {}     # id(coefficients) -> their float64 values and |.|, or None
             for key, group in by_poly.items():
                 if not _separate_roots(group, pt, prec, rnd, floats):
@@ -881,6 +890,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         for groups in merged.values():
             if len(groups) == len(points):
                 _separate_elsewhere(groups[0], symbols, seed, digits)
+    worst_root = to_float(worst_raw)
     report.add("closed forms are roots of their polynomials", "all levels", points, worst_root)
     report.add("closed forms of one factor are distinct roots of it (pairwise disjoint disks "
                "of radius 2n|P(x)|/|P'(x)| about the values)",

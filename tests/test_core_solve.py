@@ -394,7 +394,7 @@ def test_a_wrong_closed_form_is_rejected(monkeypatch):
         return None if out is None else [r + t / 10**6 if r.has(t) else r for r in out]
 
     monkeypatch.setattr(solve_mod, "closed_forms", off)
-    with pytest.raises(sc.VerificationError):
+    with pytest.raises(sc.VerificationError, match="is not a root of its polynomial"):
         sc.solve(sc.hubbard(sc.chain(2)), executor="serial")
 
 
