@@ -10,7 +10,7 @@ import sympy
 from .algebra.charpoly import charpoly_dict
 from .algebra.closed import add_shift
 from .algebra.factor import factor_integer_dict
-from .algebra.polydict import poly_from_dict
+from .algebra.polydict import integer_dict, poly_from_dict
 from .algebra.roots import ImplicitRoot, closed_forms
 from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
                      sectors_to_solve)
@@ -121,12 +121,15 @@ def _unpack(packed, gens=None):
 class _Shifter:
     """``P(E) -> P(E - k*shift)`` for the eta members of one solve (python-flint composition).
 
-    ``shift`` (the energy of one eta pair, linear in the couplings) is converted once;
-    the factors are integer Polys in the generators ``(E, *couplings)``.
+    ``shift`` (the energy of one eta pair, linear in the couplings) is given as the
+    sympy expression and as ``{coupling label: int}`` (the eta check's form); the
+    factors are integer Polys in the generators ``(E, *couplings)``.
     """
 
-    def __init__(self, shift):
+    def __init__(self, shift, per_label=None):
         self.shift = shift
+        self._none = shift is None or not per_label
+        self._per_label = per_label or {}
         self._ctx = None
         # (poly, its sorted terms, its python-flint form or None): the k loop reuses them
         self._last = (None, None, None)
@@ -136,24 +139,24 @@ class _Shifter:
     def _setup(self, gens):
         import flint
         self.gens = gens
-        self._ctx = flint.fmpz_mpoly_ctx.get(tuple(f"x{i}" for i in range(len(gens))), "lex")
-        sh = sympy.Poly(self.shift, *gens)
-        if not sh.domain.is_ZZ:
+        names = [g.name for g in gens[1:]]
+        missing = [lab for lab in self._per_label if lab not in names]
+        if missing:
             raise VerificationError(f"eta shift {self.shift} is not integral in {gens}")
-        self._sh = self._ctx.from_dict({tuple(int(e) for e in m): int(c)
-                                        for m, c in sh.as_dict(native=True).items()})
+        self._ctx = flint.fmpz_mpoly_ctx.get(tuple(f"x{i}" for i in range(len(gens))), "lex")
         self._x = self._ctx.gens()
+        self._sh = sum((int(x) * self._x[1 + names.index(lab)]
+                        for lab, x in self._per_label.items()), self._ctx.from_dict({}))
 
     def __call__(self, poly, k):
         """``poly(E - k*shift)`` as a Poly in the same generators (``poly`` for k = 0)."""
-        if k == 0 or self.shift == 0:
+        if k == 0 or self._none:
             return poly
         if self._ctx is None or poly.gens != self.gens:
             self._setup(poly.gens)
         last, terms, fp = self._last
         if last is not poly:
-            rep = poly.rep.to_dict()                            # integer coefficients (ZZ)
-            terms, fp = tuple(sorted(rep.items())), None
+            terms, fp = tuple(sorted(integer_dict(poly).items())), None
             self._last = (poly, terms, fp)
         made = self._made.get((terms, k))
         if made is not None:
@@ -163,7 +166,8 @@ class _Shifter:
             fp = self._ctx.from_dict(dict(terms))
             self._last = (poly, terms, fp)
         out = fp.compose(self._x[0] - k * self._sh, *self._x[1:])
-        made = self._made[(terms, k)] = poly_from_dict(out.to_dict(), poly.gens, sympy.ZZ)
+        made = self._made[(terms, k)] = poly_from_dict(dict(zip(out.monoms(), out.coeffs())),
+                                                       poly.gens, sympy.ZZ)
         return made
 
 
@@ -209,7 +213,7 @@ def _negate_couplings(factors, odd, written=None):
     for fac, mult, roots in factors:
         gens = fac.gens
         flip = [g.name in odd for g in gens]
-        old = fac.rep.to_dict()
+        old = integer_dict(fac)                  # the factors are integer Polys
         rep = {m: (-c if sum(e for e, f in zip(m, flip) if f) % 2 else c) for m, c in old.items()}
         if rep == old:
             # even in the flipped couplings: the factor, and so its closed forms (which are
@@ -220,7 +224,7 @@ def _negate_couplings(factors, odd, written=None):
         if roots and not isinstance(roots[0], ImplicitRoot):
             # the closed forms of the substituted factor, written afresh: cheaper than
             # substituting into the trees (xreplace rebuilds them with evaluation)
-            forms = _closed_forms_once({m: int(c) for m, c in rep.items()}, gens, written)
+            forms = _closed_forms_once(rep, gens, written)
             if forms is not None and len(forms) == len(roots):
                 out.append((new, mult, forms))
                 continue
@@ -433,7 +437,7 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     t_levels = time.perf_counter()
     levels = []
     shift = plan.eta_shift
-    shifter = _Shifter(shift)
+    shifter = _Shifter(shift, plan.eta[1] if plan.eta else None)
     moved = {}      # (irrep label, k odd) -> the irrep of the k-th eta member
     for spec, factors in zip(blocks, results):
         for fac, mult, roots in factors:

@@ -35,6 +35,7 @@ import sympy
 from mpmath.libmp import (fzero, from_int, from_man_exp, mpf_abs, mpf_add, mpf_div, mpf_gt,
                           mpf_mul, mpf_pos, mpf_sub, to_float)
 
+from .algebra.polydict import dense_terms
 from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched, isolation_key,
                             prefetch_isolations)
 from .errors import ModelError, VerificationError
@@ -411,32 +412,18 @@ def _pmul(p, q):
     return out
 
 
-def _dense_terms(rep, nvars, prefix, out):
-    """Append (exponents, coefficient) of a dense nested-list polynomial to `out`."""
-    top = len(rep) - 1
-    if nvars == 1:
-        for i, c in enumerate(rep):
-            if c:
-                out.append((prefix + (top - i,), c))
-    else:
-        for i, sub in enumerate(rep):
-            if sub:
-                _dense_terms(sub, nvars - 1, prefix + (top - i,), out)
-    return out
-
-
 def _rational_terms(poly, rep=None, nvars=None):
     """[(exponents, Fraction or int)] of a Poly (or of a part of its dense ``rep``)."""
     dom = poly.domain
     if nvars is None:
         rep, nvars = poly.rep.to_list(), len(poly.gens)
     if dom.is_ZZ:
-        return [(m, int(c)) for m, c in _dense_terms(rep, nvars, (), [])]
+        return [(m, int(c)) for m, c in dense_terms(rep, nvars, (), [])]
     if dom.is_QQ:
         return [(m, Fraction(int(c.numerator), int(c.denominator)))
-                for m, c in _dense_terms(rep, nvars, (), [])]
+                for m, c in dense_terms(rep, nvars, (), [])]
     out = []
-    for m, c in _dense_terms(rep, nvars, (), []):
+    for m, c in dense_terms(rep, nvars, (), []):
         c = dom.to_sympy(c)
         out.append((m, Fraction(int(c.p), int(c.q))))
     return out

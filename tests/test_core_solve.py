@@ -666,3 +666,22 @@ def test_negated_couplings_through_the_solves_written_forms(monkeypatch):
     assert len(calls) == 1
     assert all(a is b for a, b in zip(again[0][2], first[0][2]))
     assert again[0][0] == first[0][0] and again[0][0] is not first[0][0]
+
+
+@pytest.mark.parametrize("k", [1, 2, 3])
+def test_eta_shifter_is_sympy_substitution(k):
+    # P(E - k*shift) against sympy's own substitution and expansion (independent)
+    from symcluster.solve import _Shifter
+    E, t, U, V = (sympy.Symbol(n, real=True) for n in "EtUV")
+    shift = {"U": 1, "V": -2}
+    expr = sympy.expand((E - U) ** 2 * (E + 3 * t) - 4 * t ** 2 * E + V * U)
+    poly = sympy.Poly(expr, E, t, U, V)
+    shifter = _Shifter(U - 2 * V, shift)
+    got = shifter(poly, k)
+    want = sympy.Poly(sympy.expand(expr.subs(E, E - k * (U - 2 * V))), E, t, U, V)
+    assert got == want and got.gens == poly.gens and got.domain == sympy.ZZ
+    again = shifter(sympy.Poly.new(poly.rep, *poly.gens), k)     # an equal factor of another block
+    assert again == want and again is not got
+    assert shifter(poly, 0) is poly
+    with pytest.raises(sc.VerificationError, match="not integral"):
+        _Shifter(U + t, {"W": 1})(poly, 1)

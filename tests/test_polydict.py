@@ -62,3 +62,20 @@ def test_bad_exponent_tuple():
     E, t = GENS[:2]
     with pytest.raises(ValueError, match="does not fit"):
         poly_from_dict({(1, 2, 3): 1}, (E, t), sympy.ZZ)
+
+
+@pytest.mark.parametrize("seed", range(20))
+def test_integer_dict_and_dense_terms_read_back_the_poly(seed):
+    # against sympy's own Poly.as_dict (an independent reading of the same Poly)
+    from symcluster.algebra.polydict import dense_terms, integer_dict
+    rng = random.Random(seed)
+    n = 1 + seed % 4
+    rep = _random_rep(rng, n, sympy.ZZ)
+    poly = sympy.Poly.from_dict({m: sympy.sympify(c) for m, c in rep.items()}, GENS[:n],
+                                domain=sympy.ZZ)
+    want = {m: int(c) for m, c in poly.as_dict().items()}
+    got = integer_dict(poly)
+    assert got == want and all(type(c) is int for c in got.values())
+    assert dict(dense_terms(poly.rep.to_list(), n)) == want
+    assert dense_terms(poly.rep.to_list(), n, prefix=(7,)) == [
+        ((7,) + m, c) for m, c in dense_terms(poly.rep.to_list(), n)]

@@ -317,7 +317,7 @@ def _charpoly_mpoly(block, names):
     for k, c in enumerate(coeffs):
         a = n - k
         scale = D ** (n - a)
-        for mon, val in c.to_dict().items():
+        for mon, val in zip(c.monoms(), c.coeffs()):
             e = tuple(int(x) for x in mon[:k_all])
             val = int(val)
             out[(a, *e)] = val // scale if val % scale == 0 else Fraction(val, scale)

@@ -172,7 +172,7 @@ def _factor_flint(rep, gens):
     const, facs = p.factor()
     out = []
     for f, m in facs:
-        out.append(({tuple(int(e) for e in k): int(v) for k, v in f.to_dict().items()}, int(m)))
+        out.append(({tuple(map(int, k)): int(v) for k, v in zip(f.monoms(), f.coeffs())}, int(m)))
     return int(const), out
 
 

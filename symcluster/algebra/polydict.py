@@ -18,7 +18,7 @@ import sympy
 from sympy.polys.densebasic import dmp_zero
 from sympy.polys.polyclasses import DMP
 
-__all__ = ["poly_from_dict"]
+__all__ = ["poly_from_dict", "dense_terms", "integer_dict"]
 
 
 def _element(domain, c):
@@ -75,3 +75,30 @@ def poly_from_dict(rep, gens, domain):
             node[m[-1]] = make(c) if make is not None and type(c) is int else _element(domain, c)
     dense = _dense(root, lev, domain.zero) if root else dmp_zero(lev)
     return sympy.Poly.new(DMP.new(dense, domain, lev), *gens)
+
+
+def dense_terms(rep, nvars, prefix=(), out=None):
+    """``[(exponents, coefficient)]`` of the non-zero entries of a dense recursive list.
+
+    ``rep`` is a polynomial in ``nvars`` generators as sympy's dense representation
+    (``Poly.rep.to_list()``; highest power first at every level); ``prefix`` is put in
+    front of every exponent tuple, and the pairs are appended to ``out`` (a new list
+    by default), which is returned.
+    """
+    if out is None:
+        out = []
+    top = len(rep) - 1
+    if nvars == 1:
+        for i, c in enumerate(rep):
+            if c:
+                out.append((prefix + (top - i,), c))
+    else:
+        for i, sub in enumerate(rep):
+            if sub:
+                dense_terms(sub, nvars - 1, prefix + (top - i,), out)
+    return out
+
+
+def integer_dict(poly):
+    """``{exponents: int}`` of a Poly over ``ZZ`` (as ``poly.rep.to_dict()``, with ints)."""
+    return {m: int(c) for m, c in dense_terms(poly.rep.to_list(), len(poly.gens))}
