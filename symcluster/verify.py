@@ -1051,25 +1051,28 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     traces = np.stack([(sign * (perm == rows)).sum(axis=1),
                        (sign * h[rows, perm]).sum(axis=1),
                        (sign * h2[rows, perm]).sum(axis=1)])        # [m, g]
-    want = traces @ images.characters                               # [m, irrep]
-    # the members' states, and the sums of their values and squares, by irrep
-    shares = np.array([share for _, share in members], dtype=float)
-    v = np.array(vals, dtype=float)
+    want = (traces @ images.characters).tolist()                    # [m][irrep]
+    # the members' states, and the sums of their values and squares, by irrep (a few
+    # levels: plain floats)
     n_irreps = len(images.irreps)
-    mine = np.stack([np.bincount(idx, weights=shares * v ** m, minlength=n_irreps)
-                     for m in range(3)])
+    mine = [[0.0] * n_irreps for _ in range(3)]
+    for j, (_, share), x in zip(idx, members, vals):
+        mine[0][j] += share
+        mine[1][j] += share * x
+        mine[2][j] += share * (x * x)
     scale = max(1.0, max(map(abs, vals), default=1.0))
-    dev = np.abs(mine[1:] - want[1:]) / (max(1, dim) * np.array([[scale], [scale ** 2]]))
+    worst = 0.0
     for j, (irrep, _, _) in enumerate(images.irreps):
-        if abs(want[0, j] - mine[0, j]) > 0.5:
-            _fail(f"sector {sector}: {mine[0, j]:.0f} states are labelled {irrep.label}, but "
-                  f"its isotypic subspace has dimension {want[0, j]:.0f}")
+        if abs(want[0][j] - mine[0][j]) > 0.5:
+            _fail(f"sector {sector}: {mine[0][j]:.0f} states are labelled {irrep.label}, but "
+                  f"its isotypic subspace has dimension {want[0][j]:.0f}")
         for m in (1, 2):
-            if not dev[m - 1, j] <= 1e-9:
+            dev = abs(mine[m][j] - want[m][j]) / (max(1, dim) * scale ** m)
+            if not dev <= 1e-9:
                 _fail(f"sector {sector}: the levels labelled {irrep.label} do not carry the "
-                      f"trace of H^{m} on that irrep's subspace (relative deviation "
-                      f"{dev[m - 1, j]:.2e})")
-    return float(dev.max()) if n_irreps else 0.0
+                      f"trace of H^{m} on that irrep's subspace (relative deviation {dev:.2e})")
+            worst = max(worst, dev)
+    return worst
 
 
 class _BlockImages:
