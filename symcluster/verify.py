@@ -32,8 +32,8 @@ import flint
 import mpmath
 import numpy as np
 import sympy
-from mpmath.libmp import (fzero, from_int, from_man_exp, mpf_abs, mpf_add, mpf_div, mpf_gt,
-                          mpf_mul, mpf_pos, mpf_sub, to_float)
+from mpmath.libmp import (fzero, from_int, from_man_exp, from_rational, mpf_abs, mpf_add, mpf_div,
+                          mpf_gt, mpf_mul, mpf_pos, mpf_shift, mpf_sub, round_nearest, to_float)
 
 from .algebra.polydict import dense_terms
 from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched, isolation_key,
@@ -1165,8 +1165,15 @@ def _sector_eigenvalues(terms, dim, by_label, spectra):
 
 
 def _enclosed_eigenvalues(entries, dim, prec):
-    """[(value, bound)] of the symmetric rational matrix ``entries`` (see above)."""
+    """[(value, bound)] of the symmetric rational matrix ``entries`` (see above).
+
+    A 1 x 1 matrix is its own eigenvalue: rounded to nearest, within its ulp.
+    """
     make = mpmath.mp.make_mpf
+    if dim == 1:
+        x = Fraction(entries.get((0, 0), 0))
+        value = from_rational(x.numerator, x.denominator, prec, round_nearest)
+        return [(make(value), make(mpf_shift(mpf_abs(value), 1 - prec)))]
     m = flint.fmpq_mat(dim, dim)
     for (i, j), x in entries.items():
         x = Fraction(x)

@@ -256,6 +256,21 @@ def test_small_sector_eigenvalues_enclose_mpmath_eigsy():
         assert _sector_eigenvalues(dict(_SECTOR_TERMS), 3, dict(_SECTOR_POINT), spectra) is got
 
 
+@pytest.mark.parametrize("x", [Fraction(0), Fraction(1, 3), Fraction(-22, 7), Fraction(5),
+                               Fraction(10**40 + 1, 3)])
+def test_one_state_sector_eigenvalue_encloses_the_entry(x):
+    # a 1 x 1 sector: its entry is the eigenvalue; the enclosure must hold it exactly
+    # (checked in rationals), with a bound of about one ulp
+    from symcluster.verify import _sector_eigenvalues
+    with mpmath.workdps(40):
+        (value, bound), = _sector_eigenvalues({"U": {(0, 0): 1}}, 1, {"U": sympy.Rational(
+            x.numerator, x.denominator)}, {})
+        v, b = (Fraction((-1) ** s * int(m)) * Fraction(2) ** int(e)
+                for s, m, e, _ in (value._mpf_, bound._mpf_))
+        assert abs(v - x) <= b
+        assert b <= abs(x) * Fraction(2) ** (2 - mpmath.mp.prec)
+
+
 def test_small_sector_eigenvalues_keep_multiplicities():
     # 4-site ring, one electron, t = 3/7: -2t cos k for k = 0, +-pi/2, pi (tight binding,
     # e.g. Ashcroft & Mermin ch. 10): -6/7, 0 (twice), 6/7; the double eigenvalue is kept twice

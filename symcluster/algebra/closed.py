@@ -485,4 +485,6 @@ def closed_form_roots(rep, gens, rings=None):
 
 def add_shift(r, k, shift):
     """``r + k*shift`` (a closed form moved by k eta pairs), as sympy's ``Add`` builds it."""
-    return _add(r, _mul(sympy.Integer(k), shift))
+    commutative = True if r.is_commutative and shift.is_commutative else None
+    return _add(r, _mul(sympy.Integer(k), shift, commutative=commutative),
+                commutative=commutative)
