@@ -21,7 +21,7 @@ Measured items (names for ``--only`` in brackets):
 
 1. [ring4] ring(4): full verified exact spectrum with symcluster vs naive
    ``sympy.Matrix.eigenvals()`` on every (N_up, N_dn) sector (see naive.py);
-   ``--pairs`` interleaved pairs of fresh processes (default 3), medians reported
+   ``--pairs`` interleaved pairs of fresh processes (default 7), medians reported
    beside every pair's figures.
 2. [ring6-naive] ring(6): the same naive approach under a total time cap
    (``--cap``, default 400 s), vs symcluster.  The half-filled sector (3, 3)
@@ -659,9 +659,9 @@ def parse_args(argv):
                    help="1 (default): sc.solve(model) as is; N>1: pass a ProcessPoolExecutor(N)")
     p.add_argument("--repeat", type=int, default=2,
                    help="extra warm runs for the small ring(4)/ring(6) measurements (default 2)")
-    p.add_argument("--pairs", type=int, default=3,
+    p.add_argument("--pairs", type=int, default=7,
                    help="interleaved (symcluster, naive sympy) pairs of fresh processes for the "
-                        "ring(4) comparison; the table gives the medians (default 3)")
+                        "ring(4) comparison; the table gives the medians (default 7)")
     p.add_argument("--out", default="", help="also write the Markdown table to this file")
     return p.parse_args(argv)
 
