@@ -757,14 +757,16 @@ def _fail(msg):
 
 
 def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, proven=(),
-                    executor=None, lattice=None, forms=None):
+                    executor=None, lattice=None, forms=None, action=None):
     """Run every check on ``spectrum``; fill its verification report; raise on failure.
 
     ``lattice`` (the detected lattice symmetry, or None) adds the check of the lattice
     labels: in every sector of dimension at most ``EXACT_DIM`` the levels labelled with an
     irrep carry the traces of H^0, H^1, H^2 on that irrep's isotypic subspace (float64, first
     point; see :func:`_check_lattice_labels`).  ``forms`` (optional) is the
-    :class:`FormCache` of the same solve's :func:`verify_blocks`.
+    :class:`FormCache` of the same solve's :func:`verify_blocks`, and ``action`` (optional)
+    its :class:`~symcluster.operators.HamiltonianAction` (images already computed are read
+    from it).
 
     ``proven`` names symmetries that were proven exactly by operator identities
     ("spin": [H, S+] = 0; "eta": [H, eta+] = delta eta+).  Sectors that such a
@@ -793,7 +795,9 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     # integer forms of the level polynomials (shared with verify_blocks of the same solve)
     forms = FormCache() if forms is None else forms
     wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
-    action = HamiltonianAction(model)        # H on basis states, for the sector matrices
+    # H on basis states, for the sector matrices (the solve's own, with the images its
+    # symmetry checks and blocks computed, when it passes it)
+    action = HamiltonianAction(model) if action is None or action.model is not model else action
 
     # 1. state counting
     total = sum(l.degeneracy for l in spectrum.levels)
