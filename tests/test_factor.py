@@ -23,6 +23,19 @@ def product(constant, factors):
     return sympy.expand(out)
 
 
+def sympy_factors(expr):
+    """(constant, {factor: multiplicity}) of sympy's factor_list (an independent
+    factorization), each factor's lex-leading coefficient made positive."""
+    const, ref = sympy.factor_list(expr, E, t, U)
+    out = {}
+    for g, m in ref:
+        g = sympy.Poly(g, E, t, U)
+        if g.as_dict()[max(g.as_dict())] < 0:
+            g, const = -g, const * (-1) ** m
+        out[g.as_expr()] = out.get(g.as_expr(), 0) + m
+    return const, out
+
+
 def assert_normalised_irreducible(f):
     assert f.domain == sympy.ZZ
     assert f.gens[0] == E
@@ -69,14 +82,7 @@ def test_product_equals_input_and_factors_irreducible(seed):
     for f, _ in facs:
         assert_normalised_irreducible(f)
     # the multiset of factors agrees with sympy's factor_list (independent)
-    const, ref = sympy.factor_list(expr, E, t, U)
-    ref_norm = {}
-    for g, m in ref:
-        g = sympy.Poly(g, E, t, U)
-        if g.as_dict()[max(g.as_dict())] < 0:
-            g = -g
-        ref_norm[g.as_expr()] = ref_norm.get(g.as_expr(), 0) + m
-    assert {f.as_expr(): m for f, m in facs} == ref_norm
+    assert {f.as_expr(): m for f, m in facs} == sympy_factors(expr)[1]
 
 
 @pytest.mark.parametrize("expr", [E, E - t, E + 3 * U - 2 * t, E - t**2 * U + 5,
@@ -89,14 +95,8 @@ def test_degree_one_in_e(expr):
     assert sympy.expand(product(c, facs) - P.as_expr()) == 0
     for f, _ in facs:
         assert_normalised_irreducible(f)
-    const, ref = sympy.factor_list(expr, E, t, U)
-    ref_norm = {}
-    for g, m in ref:
-        g = sympy.Poly(g, E, t, U)
-        if g.as_dict()[max(g.as_dict())] < 0:
-            g, const = -g, const * (-1) ** m
-        ref_norm[g.as_expr()] = ref_norm.get(g.as_expr(), 0) + m
-    assert {f.as_expr(): m for f, m in facs} == ref_norm
+    const, ref = sympy_factors(expr)
+    assert {f.as_expr(): m for f, m in facs} == ref
     assert c == const
 
 

@@ -417,8 +417,8 @@ def _roots_quartic(R, cf):
             s = fr * flint.fmpq(int(root_cr.p), int(root_cr.q)) if not r.is_zero() else R.zero
             A = R.mul(half, R.sqrt_expr(2 * s - p))
             B = R.mul(half, R.sqrt_expr(-2 * s - p))
-            ys = [R.add(R.mul(_MINUS, A), R.mul(_MINUS, B)), R.add(R.mul(_MINUS, A), B), R.add(A, R.mul(_MINUS, B)),
-                  R.add(A, B)]
+            ys = [R.add(R.mul(_MINUS, A), R.mul(_MINUS, B)), R.add(R.mul(_MINUS, A), B),
+                  R.add(A, R.mul(_MINUS, B)), R.add(A, B)]
         else:
             S = R.sqrt_expr(p ** 2 - 4 * r)
             pe = R.expr(p)
