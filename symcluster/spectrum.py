@@ -776,6 +776,14 @@ def _closed_numeric(energy, point, digits):
         ctx.prec = prec
 
 
+def _exact_str(v):
+    """``str(v)`` of a coordinate of a verification point: ``p/q`` (or ``p``) of a sympy
+    Rational written directly, as sympy prints it, without its printer."""
+    if isinstance(v, sympy.Rational):
+        return f"{v.p}" if v.q == 1 else f"{v.p}/{v.q}"
+    return str(v)
+
+
 @dataclass
 class VerificationReport:
     """What was checked before a result was returned.
@@ -789,7 +797,7 @@ class VerificationReport:
 
     def add(self, check, scope, points=(), worst=0.0, **extra):
         entry = {"check": check, "scope": scope,
-                 "points": [{k: str(v) for k, v in p.items()} for p in points],
+                 "points": [{k: _exact_str(v) for k, v in p.items()} for p in points],
                  "worst": float(worst)}
         entry.update(extra)
         self.checks.append(entry)

@@ -685,3 +685,31 @@ def test_eta_shifter_is_sympy_substitution(k):
     assert shifter(poly, 0) is poly
     with pytest.raises(sc.VerificationError, match="not integral"):
         _Shifter(U + t, {"W": 1})(poly, 1)
+
+
+def test_block_check_covers_equal_blocks_and_catches_a_wrong_copy():
+    # verify_blocks checks blocks equal entry for entry (with equal factors) once; a copy
+    # whose factors differ from its twin's is checked on its own and fails
+    from symcluster.blocks import build_blocks, plan_symmetries
+    from symcluster.solve import _copy_factors, equal_blocks, solve_block
+    from symcluster.errors import VerificationError
+    from symcluster.verify import verify_blocks
+    model = sc.hubbard(sc.ring(4))
+    blocks = build_blocks(model, plan_symmetries(model))
+    copies = equal_blocks(blocks)
+    assert copies
+    results = [solve_block(b, model.labels) for b in blocks]
+    assert verify_blocks(blocks, results, seed=3) == len(blocks)
+    # a cache shared with the later checks keeps the forms, not their values at this
+    # check's points (the values of degree-336 factors took ~300 MB on the 2x4 ladder)
+    from symcluster.verify import FormCache
+    cache = FormCache()
+    verify_blocks(blocks, results, seed=3, forms=cache)
+    assert cache._by_content and not any(f._at for f in cache._by_content.values())
+    i, j = next(iter(copies.items()))
+    other = next(k for k, b in enumerate(blocks)
+                 if b.block.dim == blocks[i].block.dim and b.block != blocks[i].block)
+    wrong = list(results)
+    wrong[i] = _copy_factors(results[other])
+    with pytest.raises(VerificationError, match="differs from the product"):
+        verify_blocks(blocks, wrong, seed=3)

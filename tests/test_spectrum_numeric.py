@@ -408,3 +408,16 @@ def test_arc_cosine_beyond_one_takes_the_complex_path():
     form = sympy.cos(sympy.acos(x, evaluate=False), evaluate=False)
     val = energy_numeric(form, {x: R(3, 2)}, 30)
     assert abs(val - mpmath.mpf(3) / 2) < mpmath.mpf(10) ** -30
+
+
+@pytest.mark.parametrize("v", [sympy.Rational(89, 101), sympy.Rational(-203, 127), sympy.Integer(5),
+                               sympy.Integer(-3), sympy.Integer(0), sympy.Rational(10**30 + 1, 7),
+                               sympy.sqrt(2)])
+def test_report_points_print_as_sympy_does(v):
+    # the report writes each coordinate as str() of the sympy number (the printer itself
+    # is the reference)
+    from symcluster.spectrum import VerificationReport
+    rep = VerificationReport(digits=30)
+    t = sympy.Symbol("t", real=True)
+    rep.add("a check", "all", [{t: v}], 0.0)
+    assert rep.checks[0]["points"] == [{t: str(v)}]

@@ -580,3 +580,11 @@ def test_forms_separated_at_fresh_points_when_every_point_merges():
         twice = [group[0], group[0], group[2], group[3]]
         with pytest.raises(VerificationError, match="not distinct roots"):
             _separate_elsewhere(twice, symbols, 11, 30)
+
+
+def test_next_prime_is_sympys():
+    # against sympy.nextprime (an independent implementation), at the 62-bit size used
+    from symcluster.verify import _next_prime
+    rng = random.Random(11)
+    for n in [rng.randrange(2 ** 61, 2 ** 62) for _ in range(40)] + [1, 2, 13, 2 ** 61 - 2]:
+        assert _next_prime(n) == sympy.nextprime(n)
