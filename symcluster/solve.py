@@ -19,7 +19,7 @@ from .errors import ModelError, VerificationError
 from .linalg import integer_multiple
 from .models import Model
 from .spectrum import Level, Spectrum, VerificationReport, check_digits
-from .verify import FormCache, verify_blocks, verify_spectrum
+from .verify import verify_blocks, verify_spectrum
 
 __all__ = ["solve", "solve_block"]
 
@@ -482,13 +482,12 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
          "largest_block": s["largest_block"]} for s in sizes]
     t2 = time.perf_counter()
     seed = random.SystemRandom().randrange(2 ** 31) if seed is None else seed
-    forms = FormCache()        # integer forms of the polynomials, for both checks
-    n_checked = verify_blocks(blocks, results, seed, forms=forms)
+    n_checked = verify_blocks(blocks, results, seed)
     report.add("exact block characteristic polynomials vs. their factors "
                "(modulo a random 62-bit prime per point)", f"{n_checked} blocks", worst=0.0)
     proven = (("spin",) if plan.spin else ()) + (("eta",) if plan.eta else ())
     verify_spectrum(spectrum, wanted, digits=digits, seed=seed, proven=proven, executor=executor,
-                    lattice=plan.lattice, forms=forms, action=plan.action)
+                    lattice=plan.lattice, action=plan.action)
     timings["verify"] = time.perf_counter() - t2
     timings["total"] = time.perf_counter() - t0
     return spectrum

@@ -501,12 +501,13 @@ class _Form:
 
 
 class FormCache:
-    """The :class:`_Form` of every polynomial the verification of one solve meets.
+    """The :class:`_Form` of every polynomial one verification call meets.
 
     Equal polynomials in separate objects (a factor in every block of its multiplet)
-    share one form, and so its values at the points.  Lives for one solve's checks
-    (:func:`verify_blocks` and :func:`verify_spectrum` may share it; it holds the
-    polynomials alive), so nothing is reused across solves.
+    share one form, and so its values at the points.  Lives for one call (it holds the
+    polynomials and their values at the call's points alive), so nothing is reused across
+    calls; sharing one between :func:`verify_blocks` and :func:`verify_spectrum` kept the
+    values at the first call's points (about 300 MB more on the 2x4 ladder).
     """
 
     def __init__(self):
@@ -525,14 +526,6 @@ class FormCache:
             form = self._by_content[key] = _Form(poly, dense, raw)
         self._by_id[id(poly)] = (poly, form)
         return form
-
-    def forget(self, points):
-        """Drop the forms' values at `points` (a check done with them), so that a cache
-        shared with later checks does not hold them (large for high-degree factors)."""
-        ids = {id(p) for p in points}
-        for form in self._by_content.values():
-            for i in ids & form._at.keys():
-                del form._at[i]
 
     def known(self, poly):
         """The form of `poly` if this call has read it, else None."""
@@ -674,7 +667,7 @@ def _next_prime(n):
     return int(n)
 
 
-def verify_blocks(blocks, results, seed, n_points=2, forms=None):
+def verify_blocks(blocks, results, seed, n_points=2):
     """Exact check of the symbolic algebra, block by block.
 
     At random rational points and modulo a random 62-bit prime per point, the
@@ -684,8 +677,6 @@ def verify_blocks(blocks, results, seed, n_points=2, forms=None):
     Returns the number of blocks checked; raises VerificationError otherwise.  Blocks
     equal entry for entry, with equal factors, are one computation, done once (the count
     includes every block).
-    ``forms`` (optional) is a :class:`FormCache` of the same solve, shared with
-    :func:`verify_spectrum`.
     """
     if not blocks:
         return 0
@@ -696,7 +687,7 @@ def verify_blocks(blocks, results, seed, n_points=2, forms=None):
     points = random_points(symbols, n_points, seed + 7)
     rng = random.Random(seed + 8)
     primes = [_next_prime(rng.randrange(2 ** 61, 2 ** 62)) for _ in points]
-    forms = FormCache() if forms is None else forms
+    forms = FormCache()
     # a block whose matrix and factors equal those of a block before it (a copy of an
     # equal block, entry for entry) would repeat the same computation: checked once
     distinct, seen = [], set()
@@ -737,7 +728,6 @@ def verify_blocks(blocks, results, seed, n_points=2, forms=None):
             if prod != cp:
                 _fail(f"block {spec.labels} (dimension {n}): its characteristic polynomial at "
                       f"{pt} differs from the product of its computed factors (modulo {prime})")
-    forms.forget(points)
     return len(blocks)
 
 
@@ -786,16 +776,15 @@ def _fail(msg):
 
 
 def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, proven=(),
-                    executor=None, lattice=None, forms=None, action=None):
+                    executor=None, lattice=None, action=None):
     """Run every check on ``spectrum``; fill its verification report; raise on failure.
 
     ``lattice`` (the detected lattice symmetry, or None) adds the check of the lattice
     labels: in every sector of dimension at most ``EXACT_DIM`` the levels labelled with an
     irrep carry the traces of H^0, H^1, H^2 on that irrep's isotypic subspace (float64, first
-    point; see :func:`_check_lattice_labels`).  ``forms`` (optional) is the
-    :class:`FormCache` of the same solve's :func:`verify_blocks`, and ``action`` (optional)
-    its :class:`~symcluster.operators.HamiltonianAction` (images already computed are read
-    from it).
+    point; see :func:`_check_lattice_labels`).  ``action`` (optional) is the solve's
+    :class:`~symcluster.operators.HamiltonianAction` (images already computed are read from
+    it).
 
     ``proven`` names symmetries that were proven exactly by operator identities
     ("spin": [H, S+] = 0; "eta": [H, eta+] = delta eta+).  Sectors that such a
@@ -821,8 +810,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     # one random 62-bit prime per point
     primes = [_next_prime(rng.randrange(2 ** 61, 2 ** 62)) for _ in points]
     report.primes = primes
-    # integer forms of the level polynomials (shared with verify_blocks of the same solve)
-    forms = FormCache() if forms is None else forms
+    forms = FormCache()     # integer forms of the level polynomials, for this call only
     wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
     # H on basis states, for the sector matrices (the solve's own, with the images its
     # symmetry checks and blocks computed, when it passes it)
