@@ -690,13 +690,15 @@ def verify_blocks(blocks, results, seed, n_points=2):
     forms = FormCache()
     # a block whose matrix and factors equal those of a block before it (a copy of an
     # equal block, entry for entry) would repeat the same computation: checked once
-    distinct, seen = [], set()
+    # (compared as dicts within groups of equal size and factors: no copies of the entries)
+    distinct, seen = [], {}
     for spec, factors in zip(blocks, results):
-        key = (spec.block.dim,
-               tuple(sorted((lab, tuple(sorted(m.items()))) for lab, m in spec.block.terms.items())),
+        terms = spec.block.terms
+        key = (spec.block.dim, sum(len(m) for m in terms.values()),
                tuple((id(forms(fac)), mult) for fac, mult, _ in factors))
-        if key not in seen:
-            seen.add(key)
+        same = seen.setdefault(key, [])
+        if not any(t == terms for t in same):
+            same.append(terms)
             distinct.append((spec, factors))
     for pt, prime in zip(points, primes):
         vals = {s.name: _mod(Fraction(int(v.p), int(v.q)), prime) for s, v in pt.items()}
