@@ -512,19 +512,28 @@ class FormCache:
 
     def __init__(self):
         self._by_id = {}            # id(poly) -> (poly, form)
+        self._by_rep = {}           # id(poly.rep) -> (rep, generators, form)
         self._by_content = {}       # (generators, terms) -> form
 
     def __call__(self, poly):
         hit = self._by_id.get(id(poly))
         if hit is not None and hit[0] is poly:
             return hit[1]
-        dense = poly.rep.to_list()
+        # Polys made from one representation (the copies of a shifted factor share it;
+        # it is immutable) have one form: no need to read their terms again
+        rep = poly.rep
+        hit = self._by_rep.get(id(rep))
+        if hit is not None and hit[0] is rep and hit[1] == poly.gens:
+            self._by_id[id(poly)] = (poly, hit[2])
+            return hit[2]
+        dense = rep.to_list()
         raw = _rational_terms(poly, dense, len(poly.gens))
         key = (poly.gens, tuple(raw))
         form = self._by_content.get(key)
         if form is None:
             form = self._by_content[key] = _Form(poly, dense, raw)
         self._by_id[id(poly)] = (poly, form)
+        self._by_rep[id(rep)] = (rep, poly.gens, form)
         return form
 
     def known(self, poly):
@@ -1166,13 +1175,9 @@ def _sector_eigenvalues(terms, dim, by_label, spectra):
 
     Returns ``[(value, bound)]`` (mpmath numbers at the working precision): an
     eigenvalue lies within ``bound`` of each ``value``, counted with multiplicity.
-    The matrix is summed exactly in rationals.  Its eigenvalues are enclosed by
-    python-flint's ball arithmetic (``acb_mat.eig(multiple=True)``, which certifies
-    the enclosures and allows multiple eigenvalues) at the working precision; where
-    that cannot isolate them, mpmath's ``eigsy`` of the same matrix gives the values,
-    with bound 0 (not certified).
-    ``spectra`` holds the results for the matrices met before in this call (equal
-    matrices, entry for entry, have the same eigenvalues).
+    The matrix is summed exactly in rationals; its eigenvalues are enclosed by
+    :func:`_enclosed_eigenvalues`.  ``spectra`` holds the results for the matrices met
+    before in this call (equal matrices, entry for entry, have the same eigenvalues).
     """
     entries = {}
     for l, mat in terms.items():
@@ -1188,9 +1193,16 @@ def _sector_eigenvalues(terms, dim, by_label, spectra):
 
 
 def _enclosed_eigenvalues(entries, dim, prec):
-    """[(value, bound)] of the symmetric rational matrix ``entries`` (see above).
+    """[(value, bound)] of the symmetric rational matrix ``entries``, ascending.
 
-    A 1 x 1 matrix is its own eigenvalue: rounded to nearest, within its ulp.
+    A 1 x 1 matrix is its own eigenvalue: rounded to nearest, within its ulp.  Otherwise
+    the characteristic polynomial det(x - M) is computed exactly (python-flint
+    ``fmpq_mat.charpoly``) and python-flint's ``complex_roots`` encloses its roots in
+    certified balls at the working precision, each with its multiplicity (exact
+    squarefree factorisation, then isolation of the roots of each squarefree part), so
+    multiple eigenvalues need no separate treatment.  A real symmetric matrix has real
+    eigenvalues only; python-flint returns a real root with an imaginary part of exactly
+    zero, and anything else is refused.
     """
     make = mpmath.mp.make_mpf
     if dim == 1:
@@ -1201,21 +1213,18 @@ def _enclosed_eigenvalues(entries, dim, prec):
     for (i, j), x in entries.items():
         x = Fraction(x)
         m[i, j] = flint.fmpq(x.numerator, x.denominator)
-    try:
-        with flint.ctx.workprec(prec):
-            balls = flint.acb_mat(flint.arb_mat(m)).eig(multiple=True)
-    except ValueError:          # not isolated at this precision
-        a = mpmath.matrix(dim, dim)
-        for (i, j), x in entries.items():
-            a[i, j] = mpmath.mpf(x.numerator) / x.denominator
-        return [(x, mpmath.mpf(0)) for x in sorted(mpmath.eigsy(a, eigvals_only=True))]
+    with flint.ctx.workprec(prec):
+        roots = m.charpoly().complex_roots()
     out = []
-    for z in balls:
+    for z, mult in roots:
+        if not z.imag.is_zero():
+            _fail(f"a symmetric sector matrix of dimension {dim} has the non-real eigenvalue "
+                  f"{z} (internal error: please report this cluster)")
         x = z.real
         man, exp = x.mid().man_exp()
         rman, rexp = x.rad().man_exp()
-        out.append((make(from_man_exp(int(man), int(exp))),
-                    make(from_man_exp(int(rman), int(rexp)))))
+        vb = (make(from_man_exp(int(man), int(exp))), make(from_man_exp(int(rman), int(rexp))))
+        out.extend([vb] * mult)
     out.sort(key=lambda vb: vb[0])
     return out
 

@@ -145,6 +145,23 @@ def test_polynomials_modulo_a_prime_are_monic_reductions():
     assert _poly_mod(forms(Q), point, prime, cache) is got
 
 
+def test_polys_sharing_a_representation_share_a_form_only_with_equal_generators():
+    # Poly.new(rep, *gens) copies (the eta members of one factor) are read once; the
+    # same representation under other generators is another polynomial, with its own
+    # terms (checked against sympy's as_dict)
+    from symcluster.verify import FormCache
+    P = sympy.Poly(E**2 - 2 * E * t + U**2 - 7, E, t, U, domain=sympy.ZZ)
+    copy = sympy.Poly.new(P.rep, *P.gens)
+    swapped = sympy.Poly.new(P.rep, E, U, t)
+    forms = FormCache()
+    assert forms(copy) is forms(P)
+    other = forms(swapped)
+    assert other is not forms(P)
+    assert other.poly.gens == (E, U, t)
+    want = sorted((m, int(c)) for m, c in swapped.as_dict().items())
+    assert sorted(((k,) + exps, c) for k, exps, c, _ in other.terms) == want
+
+
 def test_mp_coefficients_are_mpmath_quotients_of_lowest_terms():
     # mpmath.mpf(n) / d with n / d in lowest terms (mpmath itself), also where the
     # numerator has more bits than the working precision
@@ -240,7 +257,8 @@ _SECTOR_POINT = {"t": sympy.Rational(265, 107), "U": sympy.Rational(-835, 107)}
 
 
 def test_small_sector_eigenvalues_enclose_mpmath_eigsy():
-    # The ball enclosures (python-flint) against mpmath.eigsy of the matrix summed at
+    # The enclosures (python-flint: exact charpoly, certified roots) against mpmath.eigsy
+    # of the matrix summed at
     # 40 digits (mpmath, an independent library): within the bound, bounds tiny; an
     # equal matrix of another sector gives the same list
     from symcluster.verify import _sector_eigenvalues
@@ -256,6 +274,12 @@ def test_small_sector_eigenvalues_enclose_mpmath_eigsy():
         assert _sector_eigenvalues(dict(_SECTOR_TERMS), 3, dict(_SECTOR_POINT), spectra) is got
 
 
+def _exact(v):
+    """The exact rational value of an mpmath mpf."""
+    sign, man, exp, _ = v._mpf_
+    return (-1) ** sign * Fraction(int(man)) * Fraction(2) ** int(exp)
+
+
 @pytest.mark.parametrize("x", [Fraction(0), Fraction(1, 3), Fraction(-22, 7), Fraction(5),
                                Fraction(10**40 + 1, 3)])
 def test_one_state_sector_eigenvalue_encloses_the_entry(x):
@@ -265,8 +289,7 @@ def test_one_state_sector_eigenvalue_encloses_the_entry(x):
     with mpmath.workdps(40):
         (value, bound), = _sector_eigenvalues({"U": {(0, 0): 1}}, 1, {"U": sympy.Rational(
             x.numerator, x.denominator)}, {})
-        v, b = (Fraction((-1) ** s * int(m)) * Fraction(2) ** int(e)
-                for s, m, e, _ in (value._mpf_, bound._mpf_))
+        v, b = _exact(value), _exact(bound)
         assert abs(v - x) <= b
         assert b <= abs(x) * Fraction(2) ** (2 - mpmath.mp.prec)
 
@@ -280,30 +303,32 @@ def test_small_sector_eigenvalues_keep_multiplicities():
         hop[(i, (i + 1) % 4)] = hop[((i + 1) % 4, i)] = -1
     with mpmath.workdps(40):
         got = _sector_eigenvalues({"t": hop}, 4, {"t": sympy.Rational(3, 7)}, {})
-        want = [mpmath.mpf(-6) / 7, 0, 0, mpmath.mpf(6) / 7]
-        assert all(abs(x - y) <= b for (x, b), y in zip(got, want))
-        assert all(b < mpmath.mpf(10) ** -38 for _, b in got)
+    want = [Fraction(-6, 7), 0, 0, Fraction(6, 7)]
+    assert all(abs(_exact(x) - y) <= _exact(b) for (x, b), y in zip(got, want))   # in rationals
+    assert all(b < mpmath.mpf(10) ** -38 for _, b in got)
 
 
-def test_small_sector_eigenvalues_fall_back_to_eigsy(monkeypatch):
-    # where ball arithmetic cannot isolate the eigenvalues, mpmath.eigsy gives them
-    import flint
+def test_small_sector_eigenvalues_of_a_rank_one_matrix():
+    # (2/3) J_4 (J the all-ones matrix) has the eigenvalue 8/3 once and 0 three times
+    # (rank one, trace 8/3; common practice, no source): the enclosures list each
+    # eigenvalue as often as it occurs, and 0 exactly
     from symcluster.verify import _sector_eigenvalues
-
-    class _NoIsolation:
-        def __init__(self, *args):
-            pass
-
-        def eig(self, **kwargs):
-            raise ValueError("failed to isolate eigenvalues")
-
-    monkeypatch.setattr(flint, "acb_mat", _NoIsolation)
+    ones = {(i, j): 1 for i in range(4) for j in range(4)}
     with mpmath.workdps(40):
-        got = _sector_eigenvalues(_SECTOR_TERMS, 3, _SECTOR_POINT, {})
-        want = sorted(mpmath.eigsy(_summed_mp_matrix(_SECTOR_TERMS, _SECTOR_POINT, 3),
-                                   eigvals_only=True))
-    assert [x for x, _ in got] == want
-    assert all(b == 0 for _, b in got)
+        got = _sector_eigenvalues({"t": ones}, 4, {"t": sympy.Rational(2, 3)}, {})
+        assert [b for _, b in got[:3]] == [0, 0, 0] and [x for x, _ in got[:3]] == [0, 0, 0]
+        x, b = got[3]
+    assert b < mpmath.mpf(10) ** -38
+    assert abs(_exact(x) - Fraction(8, 3)) <= _exact(b)         # in rationals
+
+
+def test_a_non_real_sector_eigenvalue_is_refused():
+    # a real symmetric matrix has real eigenvalues; the rotation [[0, -1], [1, 0]] (not
+    # symmetric, eigenvalues +-i) stands in for a broken sector matrix
+    from symcluster.errors import VerificationError
+    from symcluster.verify import _sector_eigenvalues
+    with mpmath.workdps(40), pytest.raises(VerificationError, match="non-real eigenvalue"):
+        _sector_eigenvalues({"t": {(0, 1): -1, (1, 0): 1}}, 2, {"t": sympy.Integer(1)}, {})
 
 
 def test_swapped_lattice_labels_are_rejected():
