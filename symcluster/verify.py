@@ -605,13 +605,14 @@ def _top_key(poly):
     return tuple(g.name for g in gens[1:]), d, tuple(tops)
 
 
-def _numeric_matrix(terms, dim, point_by_label):
+def _numeric_matrix(terms, dim, point_by_label, out=None):
     """The float64 sector matrix at a point: ``sum_l float(u_l) A_l``, label after label.
 
     Each label's entries are distinct positions, so one fancy-indexed ``+=`` per label
     adds ``a * float(u_l)`` to every entry in the same order as an entry-by-entry loop.
+    ``out`` (optional) is a zero ``dim x dim`` array to fill instead of a new one.
     """
-    m = np.zeros((dim, dim))
+    m = np.zeros((dim, dim)) if out is None else out
     for l, mat in terms.items():
         if not mat:
             continue
@@ -1069,21 +1070,7 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     if None in idx:
         return None
     dim = len(states)
-    h = _numeric_matrix(terms, dim, by_label)
-    h2 = h @ h
-
-    # state k = (up block a, down block b) has index a * n_b + b; its image under g is
-    # the pair of the blocks' images, with the product of their fermion signs
-    pos_up, sign_up = images(sector[0])
-    pos_dn, sign_dn = images(sector[1])
-    order = pos_up.shape[0]
-    perm = (pos_up[:, :, None] * pos_dn.shape[1] + pos_dn[:, None, :]).reshape(order, dim)
-    sign = (sign_up[:, :, None] * sign_dn[:, None, :]).reshape(order, dim)
-    rows = np.arange(dim)
-    traces = np.stack([(sign * (perm == rows)).sum(axis=1),
-                       (sign * h[rows, perm]).sum(axis=1),
-                       (sign * h2[rows, perm]).sum(axis=1)])        # [m, g]
-    want = (traces @ images.characters).tolist()                    # [m][irrep]
+    want = _isotypic_traces(terms, dim, by_label, sector, images)       # [m][irrep]
     # the members' states, and the sums of their values and squares, by irrep (a few
     # levels: plain floats)
     n_irreps = len(images.irreps)
@@ -1105,6 +1092,29 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
                       f"trace of H^{m} on that irrep's subspace (relative deviation {dev:.2e})")
             worst = max(worst, dev)
     return worst
+
+
+def _isotypic_traces(terms, dim, by_label, sector, images):
+    """``[m][j] = Tr P_j H^m`` (m = 0, 1, 2, float64) on the sector, for each irrep ``j``
+    of ``images`` (a :class:`_BlockImages`), with ``P_j`` its isotypic projector.
+
+    ``Tr U(g) A = sum_k sign_k A[k, g(k)]`` is read off the permuted states, for the three
+    powers of H and every group element at once; the sum over g with the characters
+    times ``d / |G|`` gives the projectors' traces.
+    """
+    powers = np.zeros((3, dim, dim))            # H^0, H^1, H^2
+    powers[0].flat[::dim + 1] = 1.0
+    h = _numeric_matrix(terms, dim, by_label, out=powers[1])
+    np.matmul(h, h, out=powers[2])
+    # state k = (up block a, down block b) has index a * n_b + b; its image under g is
+    # the pair of the blocks' images, with the product of their fermion signs
+    pos_up, sign_up = images(sector[0])
+    pos_dn, sign_dn = images(sector[1])
+    order = pos_up.shape[0]
+    perm = (pos_up[:, :, None] * pos_dn.shape[1] + pos_dn[:, None, :]).reshape(order, dim)
+    sign = (sign_up[:, :, None] * sign_dn[:, None, :]).reshape(order, dim)
+    traces = (powers[:, np.arange(dim), perm] * sign).sum(axis=2)      # [m, g]
+    return (traces @ images.characters).tolist()
 
 
 class _BlockImages:

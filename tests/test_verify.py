@@ -377,6 +377,40 @@ def test_lattice_label_images_match_the_permuted_states():
                 assert sign == sign_up[g, a] * sign_dn[g, b]
 
 
+@pytest.mark.parametrize("sector", [(0, 0), (1, 0), (2, 1), (1, 3), (3, 2), (5, 4)])
+def test_isotypic_traces_match_dense_projectors(sector):
+    # Tr P_j H^m (m = 0, 1, 2) against the dense projector P_j = (d/|G|) sum_g psi_j(g) U(g)
+    # built from the bubble-sort permutation of tests/test_lattice.py and the Jordan-Wigner
+    # sector matrices of tests/reference_fock.py, multiplied out with numpy
+    import numpy as np
+    from test_lattice import ref_permute
+    from symcluster.blocks import plan_symmetries
+    from symcluster.verify import _BlockImages, _isotypic_traces, _sector_terms
+    cluster = sc.cluster(5, [(0, 1), (1, 2), (2, 3), (3, 0), (0, 4, "tp")])
+    model = sc.hubbard(cluster)
+    lattice = plan_symmetries(model).lattice
+    assert lattice.group.order > 1
+    states, ref = _reference_sector(cluster, *sector)
+    point = {"t": sympy.Rational(-7, 13), "tp": sympy.Rational(5, 3), "U": sympy.Rational(9, 7)}
+    h = sum(float(point[lab]) * mat for lab, mat in ref.items())
+    idx = {s: k for k, s in enumerate(states)}
+    dim = len(states)
+    want = [[0.0] * len(lattice.irreps) for _ in range(3)]
+    for j, irrep in enumerate(lattice.irreps):
+        proj = np.zeros((dim, dim))
+        for g, chi in zip(lattice.group.elements, irrep.character):
+            for k, (u, d) in enumerate(states):
+                sign, u2, d2 = ref_permute(g, u, d, 5)
+                proj[idx[u2, d2], k] += float(chi) * sign
+        proj *= irrep.dim / lattice.group.order
+        for m in range(3):
+            want[m][j] = float(np.trace(proj @ np.linalg.matrix_power(h, m)))
+    got = _isotypic_traces(_sector_terms(model, states)[0], dim, point, sector,
+                           _BlockImages(lattice, 5))
+    assert np.allclose(got, want, rtol=1e-12, atol=1e-12)
+    assert abs(sum(got[0]) - dim) < 1e-9          # the projectors add up to the identity
+
+
 def test_numeric_matrix_is_the_entrywise_sum():
     # bit for bit the loop m[i, j] += a * float(u_l), label after label
     import numpy as np
