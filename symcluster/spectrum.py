@@ -293,7 +293,16 @@ class _Program:
 
         An mpf, or an mpc where the form has a complex value there.
         """
-        root = self._compile(expr)
+        return self.evaluate_all((expr,), point)[0]
+
+    def evaluate_all(self, exprs, point):
+        """``[self.evaluate(e, point) for e in exprs]``, in one sweep.
+
+        The operations the forms need and that this point and precision have not computed
+        yet are marked from the forms down (an operation's arguments have smaller slots:
+        they are compiled first), then computed in ascending order, each once.
+        """
+        roots = [self._compile(e) for e in exprs]
         prec, rnd = mpmath.mp._prec_rounding
         last = self._last
         if last is not None and last[0] is point and last[1] == prec:
@@ -304,30 +313,42 @@ class _Program:
             if values is None:
                 values = self._values[key] = {}
             self._last = (point, prec, values)
-        value = values.get(root)
-        if value is None:
+        ops = self._ops
+        todo = [r for r in roots if r not in values]
+        if todo:
+            need = bytearray(max(todo) + 1)
+            for r in todo:
+                need[r] = 1
+            for slot in range(len(need) - 1, -1, -1):
+                if need[slot]:
+                    if slot in values:
+                        need[slot] = 0
+                    else:
+                        for a in ops[slot][0]:
+                            need[a] = 1
             ctx = flint.ctx
             old = ctx.prec
             ctx.prec = prec + _BALL_GUARD
             try:
-                value = self._fill(root, values, point, prec, rnd)
+                for slot, wanted in enumerate(need):
+                    if wanted:
+                        args, step, op = ops[slot]
+                        value = step(values, point) if step is not None else None
+                        if value is None:
+                            value = self._run_mp(op, args, values, point, prec, rnd)
+                        values[slot] = value
             finally:
                 ctx.prec = old
-        if type(value) is flint.arb:
-            return mpmath.mp.make_mpf(_midpoint(value, prec, rnd))
-        return mpmath.mp.make_mpf(value) if type(value) is tuple else value
-
-    def _fill(self, slot, values, point, prec, rnd):
-        """Compute `slot` and whatever of its tree `values` does not hold yet."""
-        args, step, op = self._ops[slot]
-        for a in args:
-            if a not in values:
-                self._fill(a, values, point, prec, rnd)
-        value = step(values, point) if step is not None else None
-        if value is None:
-            value = self._run_mp(op, args, values, point, prec, rnd)
-        values[slot] = value
-        return value
+        make = mpmath.mp.make_mpf
+        out = []
+        for r in roots:
+            value = values[r]
+            if type(value) is flint.arb:
+                value = make(_midpoint(value, prec, rnd))
+            elif type(value) is tuple:
+                value = make(value)
+            out.append(value)
+        return out
 
     @staticmethod
     def _run_mp(op, args, values, point, prec, rnd):
@@ -760,18 +781,25 @@ def _closed_numeric(energy, point, digits):
     otherwise it is compiled on its own.  Raises ArithmeticError where the value has an
     imaginary part beyond rounding (the form is not real at the point).
     """
+    return closed_values((energy,), point, digits)[0]
+
+
+def closed_values(energies, point, digits):
+    """``[_closed_numeric(e, point, digits) for e in energies]``, in one sweep of the
+    program (:meth:`_Program.evaluate_all`)."""
     stack = getattr(_SHARED, "stack", None)
     program = stack[-1] if stack else _Program()
     ctx = mpmath.mp
     prec = ctx.prec
     ctx.dps = 2 * digits + 10       # mpmath.workdps, without the context object
     try:
-        val = program.evaluate(energy, point)
-        if isinstance(val, mpmath.mpc):
-            if abs(val.imag) > mpmath.mpf(10) ** (-digits) * (1 + abs(val.real)):
-                raise ArithmeticError(f"energy {energy} is not real at {point}")
-            val = val.real
-        return val      # an mpf rounded to the working precision
+        out = program.evaluate_all(energies, point)
+        for i, val in enumerate(out):
+            if isinstance(val, mpmath.mpc):
+                if abs(val.imag) > mpmath.mpf(10) ** (-digits) * (1 + abs(val.real)):
+                    raise ArithmeticError(f"energy {energies[i]} is not real at {point}")
+                out[i] = val.real
+        return out      # mpf values rounded to the working precision
     finally:
         ctx.prec = prec
 

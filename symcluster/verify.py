@@ -42,7 +42,7 @@ from .errors import ModelError, VerificationError
 from .fock import sector_states, states_with
 from .models import coupling_symbol
 from .operators import HamiltonianAction
-from .spectrum import energy_numeric, shared_evaluation
+from .spectrum import closed_values, energy_numeric, shared_evaluation
 from .symmetry.lattice import spin_block_images
 
 __all__ = ["verify_spectrum", "random_points", "sector_share", "MP_DIM", "EXACT_DIM"]
@@ -768,11 +768,15 @@ def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, tries=5
             # compare these values with the polynomials and with the blocks
             # levels that share an energy (multiplets in several label sets, twins) share
             # its value: each distinct closed form or implicit root is evaluated once
-            out = []
-            for i, lev in enumerate(levels):
-                k = first[i]
-                out.append(energy_numeric(lev.energy, pt, digits + 5) if k == i else out[k])
-            return out
+            # the closed forms in one sweep of the shared program, implicit roots each
+            own = [i for i, k in enumerate(first) if k == i]
+            closed = [i for i in own if not hasattr(levels[i].energy, "numeric")]
+            vals = dict(zip(closed, closed_values([levels[i].energy for i in closed], pt,
+                                                  digits + 5)))
+            for i in own:
+                if i not in vals:
+                    vals[i] = energy_numeric(levels[i].energy, pt, digits + 5)
+            return [vals[k] for k in first]
         except (ZeroDivisionError, ValueError, ModelError) as exc:
             last = exc
             # the replacement is drawn like the point it replaces (only the first point

@@ -519,18 +519,27 @@ def test_a_redrawn_second_point_keeps_random_signs(monkeypatch):
     # only for negative hopping could pass every check with two positive points.
     import symcluster.verify as V
 
-    original = V.energy_numeric
+    original, original_all = V.energy_numeric, V.closed_values
     seen = []
 
-    def undefined_at_second_point(energy, point, digits=30, polynomial=None):
+    def meet(point):
         key = tuple(sorted((s.name, v) for s, v in point.items()))
         if key not in seen:
             seen.append(key)
         if len(seen) == 2 and key == seen[1]:
             raise ZeroDivisionError("0/0 in a closed form")
+
+    def undefined_at_second_point(energy, point, digits=30, polynomial=None):
+        meet(point)
         return original(energy, point, digits, polynomial=polynomial)
 
+    def all_undefined_at_second_point(energies, point, digits):
+        meet(point)
+        return original_all(energies, point, digits)
+
+    # closed forms are evaluated together (closed_values), implicit roots one by one
     monkeypatch.setattr(V, "energy_numeric", undefined_at_second_point)
+    monkeypatch.setattr(V, "closed_values", all_undefined_at_second_point)
     replacements = []
     for seed in range(10):
         seen.clear()

@@ -323,12 +323,15 @@ _FORMS = [
                                    {_T: R(-378, 103), _U: R(-659, 103)},
                                    {_T: R(1, 137), _U: R(900, 137)}])
 def test_closed_forms_equal_a_plain_mpmath_walk_shared_or_not(point):
+    from symcluster.spectrum import closed_values
     alone = [energy_numeric(f, point, 30) for f in _FORMS]
     with shared_evaluation():
         shared = [energy_numeric(f, point, 30) for f in _FORMS + _FORMS[::-1]]
-    for f, a, s, s2 in zip(_FORMS, alone, shared, shared[len(_FORMS):][::-1]):
+    together = closed_values(_FORMS[::-1], point, 30)[::-1]       # one sweep
+    for f, a, s, s2, s3 in zip(_FORMS, alone, shared, shared[len(_FORMS):][::-1], together):
         want = _plain_value(f, point, 30)
-        assert s == a and s2 == a, f                # shared or not: the same value, bit for bit
+        # shared, swept together or alone: the same value, bit for bit
+        assert s == a and s2 == a and s3 == a, f
         with mpmath.workdps(150):
             # the plain walk's functions are mpmath's own: equal up to the last bits
             assert abs(a - want) <= mpmath.mpf(10) ** -60 * (1 + abs(want)), f
@@ -345,6 +348,30 @@ def test_shared_evaluation_computes_a_common_square_root_once():
         prog.evaluate(_FORMS[1], point)
     # U/2 +- sqrt(U^2 + 16 t^2)/2 contain one square root between them
     assert sum(1 for op in prog._ops if op[2][0] == _SQRT) == 1
+
+
+def test_one_sweep_computes_only_the_operations_its_forms_need():
+    # evaluate_all on some forms leaves the operations of the others uncomputed; asked
+    # for the others afterwards, it computes theirs and keeps what is known
+    from symcluster.spectrum import _Program
+    prog = _Program()
+    point = {_T: R(2, 7), _U: R(3, 5)}
+    slots = [prog._compile(f) for f in _FORMS]
+    with mpmath.workdps(70):
+        first = prog.evaluate_all(_FORMS[2:4], point)
+        (values,) = prog._values.values()
+        reach = set()
+        stack = list(slots[2:4])
+        while stack:
+            k = stack.pop()
+            if k not in reach:
+                reach.add(k)
+                stack.extend(prog._ops[k][0])
+        assert set(values) == reach
+        known = dict(values)
+        again = prog.evaluate_all(_FORMS, point)
+        assert all(values[k] is v for k, v in known.items())
+        assert again[2:4] == first
 
 
 def test_sign_of_a_rational_argument_is_exact():
