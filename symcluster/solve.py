@@ -135,6 +135,7 @@ class _Shifter:
         self._last = (None, None, None)
         self._made = {}                 # (sorted terms, k) -> the shifted Poly made first:
                                         # equal factors of separate blocks shift alike
+        self._terms = {}                # id(poly.rep) -> (rep, its sorted terms)
 
     def _setup(self, gens):
         import flint
@@ -156,7 +157,14 @@ class _Shifter:
             self._setup(poly.gens)
         last, terms, fp = self._last
         if last is not poly:
-            terms, fp = tuple(sorted(integer_dict(poly).items())), None
+            # Polys sharing one representation (copies of a factor) share its terms
+            hit = self._terms.get(id(poly.rep))
+            if hit is not None and hit[0] is poly.rep:
+                terms = hit[1]
+            else:
+                terms = tuple(sorted(integer_dict(poly).items()))
+                self._terms[id(poly.rep)] = (poly.rep, terms)
+            fp = None
             self._last = (poly, terms, fp)
         made = self._made.get((terms, k))
         if made is not None:
@@ -439,6 +447,8 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     shift = plan.eta_shift
     shifter = _Shifter(shift, plan.eta[1] if plan.eta else None)
     moved = {}      # (irrep label, k odd) -> the irrep of the k-th eta member
+    shifted = {}    # (id(closed form), k) -> the form moved by k eta pairs (forms shared by
+                    # equal or twin blocks are moved once; `results` keeps them alive)
     for spec, factors in zip(blocks, results):
         for fac, mult, roots in factors:
             if mult % spec.copies:
@@ -465,7 +475,9 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
                     elif isinstance(r, ImplicitRoot):
                         energy = ImplicitRoot(poly, r.index)
                     else:
-                        energy = add_shift(r, k, shift)
+                        energy = shifted.get((id(r), k))
+                        if energy is None:
+                            energy = shifted[id(r), k] = add_shift(r, k, shift)
                     src = (spec.block, spec.vectors) if not k and spec.block.dim <= 4 else None
                     levels.append(Level(energy, deg, dict(qn), poly, None,
                                         block=f"{spec.sector}:{spec.labels.get('irrep', '')}",
