@@ -29,17 +29,33 @@ def _element(domain, c):
     return domain.convert(c)
 
 
+def _leaf(node, zero):
+    """The dense list (highest power first) of ``{exponent: element}``, non-empty."""
+    d = max(node)
+    out = [zero] * (d + 1)
+    for e, c in node.items():
+        out[d - e] = c
+    return out
+
+
 def _dense(node, lev, zero):
     """Dense recursive list (highest power first) of a non-empty tree of nested dicts
-    ``{exponent: subtree}`` whose leaves (at ``lev`` = 0) map exponents to elements."""
-    d = max(node)
+    ``{exponent: subtree}`` whose leaves (at ``lev`` = 0) map exponents to elements.
+    A missing exponent is ``dmp_zero(lev - 1)``, the nested empty lists written out."""
     if lev == 0:
-        out = [zero] * (d + 1)
-        for e, c in node.items():
-            out[d - e] = c
+        return _leaf(node, zero)
+    d = max(node)
+    get = node.get
+    out = []
+    if lev == 1:
+        for e in range(d, -1, -1):
+            sub = get(e)
+            out.append(_leaf(sub, zero) if sub is not None else [])
         return out
-    return [_dense(node[e], lev - 1, zero) if e in node else dmp_zero(lev - 1)
-            for e in range(d, -1, -1)]
+    for e in range(d, -1, -1):
+        sub = get(e)
+        out.append(_dense(sub, lev - 1, zero) if sub is not None else dmp_zero(lev - 1))
+    return out
 
 
 def poly_from_dict(rep, gens, domain):
@@ -61,10 +77,11 @@ def poly_from_dict(rep, gens, domain):
     lev = len(gens) - 1
     root = {}
     make = domain.dtype if domain.is_ZZ else None       # ZZ(c) for an int c, directly
+    n = len(gens)
     for m, c in rep.items():
         if c:
             m = tuple(map(int, m))
-            if len(m) != len(gens) or min(m, default=0) < 0:
+            if len(m) != n or min(m, default=0) < 0:
                 raise ValueError(f"exponent tuple {m} does not fit the generators {gens}")
             node = root
             for e in m[:-1]:
