@@ -439,18 +439,31 @@ class _Form:
 
     __slots__ = ("poly", "terms", "den", "top", "deg", "_at")
 
-    def __init__(self, poly, dense=None, raw=None):
-        if raw is None:
+    def __init__(self, poly, dense=None):
+        if dense is None:
             dense = poly.rep.to_list()
+        if poly.domain.is_ZZ:
+            # integer coefficients: the terms read off the dense list (E's power first)
+            den, terms = 1, []
+            top, nv = len(dense) - 1, len(poly.gens) - 1
+            for i, sub in enumerate(dense):
+                if not sub:
+                    continue
+                if nv == 0:
+                    terms.append((top - i, (), int(sub), 0))
+                    continue
+                for m, c in dense_terms(sub, nv):
+                    terms.append((top - i, m, int(c), sum(m)))
+        else:
             raw = _rational_terms(poly, dense, len(poly.gens))
-        den = lcm(*(c.denominator for _, c in raw if isinstance(c, Fraction))) if raw else 1
-        terms = []
-        for m, c in raw:
-            if isinstance(c, Fraction):
-                c = c.numerator * (den // c.denominator)
-            else:
-                c *= den
-            terms.append((m[0], m[1:], c, sum(m[1:])))
+            den = lcm(*(c.denominator for _, c in raw if isinstance(c, Fraction))) if raw else 1
+            terms = []
+            for m, c in raw:
+                if isinstance(c, Fraction):
+                    c = c.numerator * (den // c.denominator)
+                else:
+                    c *= den
+                terms.append((m[0], m[1:], c, sum(m[1:])))
         self.poly = poly
         self.terms = terms
         self.den = den
@@ -513,7 +526,7 @@ class FormCache:
     def __init__(self):
         self._by_id = {}            # id(poly) -> (poly, form)
         self._by_rep = {}           # id(poly.rep) -> (rep, generators, form)
-        self._by_content = {}       # (generators, terms) -> form
+        self._by_content = {}       # (generators, domain, degree) -> [(dense list, form)]
 
     def __call__(self, poly):
         hit = self._by_id.get(id(poly))
@@ -526,12 +539,16 @@ class FormCache:
         if hit is not None and hit[0] is rep and hit[1] == poly.gens:
             self._by_id[id(poly)] = (poly, hit[2])
             return hit[2]
+        # equal polynomials have equal dense lists (sympy's canonical representation):
+        # compared as lists among those of the same generators, domain and degree
         dense = rep.to_list()
-        raw = _rational_terms(poly, dense, len(poly.gens))
-        key = (poly.gens, tuple(raw))
-        form = self._by_content.get(key)
-        if form is None:
-            form = self._by_content[key] = _Form(poly, dense, raw)
+        same = self._by_content.setdefault((poly.gens, poly.domain, len(dense)), [])
+        for other, form in same:
+            if other == dense:
+                break
+        else:
+            form = _Form(poly, dense)
+            same.append((dense, form))
         self._by_id[id(poly)] = (poly, form)
         self._by_rep[id(rep)] = (rep, poly.gens, form)
         return form
@@ -636,15 +653,27 @@ def _nmod_matrix(entries, dim, prime):
     return m
 
 
-def _charpoly_mod(terms, dim, point_by_label, prime):
-    """Characteristic polynomial det(x - H) of a sector at a rational point, modulo ``prime``."""
-    vals = {l: _mod(Fraction(int(v.p), int(v.q)), prime) for l, v in point_by_label.items()}
-    entries = {}
+def _label_matrices(terms, dim):
+    """The integer matrix of each label of a sector, ``{label: fmpz_mat}`` (python-flint),
+    made once for the sector's characteristic polynomials at every point."""
+    out = {}
     for l, mat in terms.items():
-        v = vals[l]
-        for key, a in mat.items():
-            entries[key] = entries.get(key, 0) + a * v
-    return _nmod_matrix(entries, dim, prime).charpoly()
+        m = flint.fmpz_mat(dim, dim)
+        for (i, j), a in mat.items():
+            m[i, j] = a
+        out[l] = m
+    return out
+
+
+def _charpoly_mod(mats, dim, point_by_label, prime):
+    """Characteristic polynomial det(x - H) of a sector at a rational point, modulo ``prime``;
+    ``mats`` are its :func:`_label_matrices` (H = sum_l u_l A_l, reduced and summed by
+    python-flint)."""
+    h = flint.nmod_mat(dim, dim, prime)
+    for l, m in mats.items():
+        v = point_by_label[l]
+        h += flint.nmod_mat(m, prime) * _mod(Fraction(int(v.p), int(v.q)), prime)
+    return h.charpoly()
 
 
 def _poly_mod(form, point, prime, cache):
@@ -1003,7 +1032,9 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                         worst["balls"] = max(worst["balls"], float(dev))
                 elif dim <= EXACT_DIM:
                     prime = primes[pi]
-                    cp = _charpoly_mod(terms, dim, by_label, prime)
+                    if not pi:
+                        mats = _label_matrices(terms, dim)
+                    cp = _charpoly_mod(mats, dim, by_label, prime)
                     prod = flint.nmod_poly([1], prime)
                     for p, share in groups:
                         prod *= _poly_mod(forms(p), pt, prime, reduced[pi]) ** share

@@ -112,7 +112,7 @@ def test_sector_matrix_and_traces_match_the_fock_reference(name, sector):
 def test_sector_charpoly_modulo_a_prime_matches_sympy():
     # det(x - H) of the reference's (2, 1) sector at a rational point, by sympy over Q,
     # then reduced modulo the prime coefficient by coefficient
-    from symcluster.verify import _charpoly_mod, _sector_terms
+    from symcluster.verify import _charpoly_mod, _label_matrices, _sector_terms
     cluster = _CLUSTERS["labels"]()
     model = sc.hubbard(cluster)
     states, ref = _reference_sector(cluster, 2, 1)
@@ -123,7 +123,8 @@ def test_sector_charpoly_modulo_a_prime_matches_sympy():
             sympy.zeros(len(states)))
     want = [c % prime if c.q == 1 else c.p * pow(c.q, -1, prime) % prime
             for c in reversed(H.charpoly(x).all_coeffs())]
-    got = _charpoly_mod(_sector_terms(model, states)[0], len(states), point, prime)
+    terms = _sector_terms(model, states)[0]
+    got = _charpoly_mod(_label_matrices(terms, len(states)), len(states), point, prime)
     assert [int(c) for c in got.coeffs()] == want
 
 
