@@ -154,10 +154,17 @@ def _exact_deviation(acc, x, floor, prec, rnd):
     ax = mpf_abs(x)                     # exact
     _, rman, rexp, _ = floor if mpf_gt(floor, ax) else ax
     size, se = _horner_exact([abs(a) for a in acc], rman, rexp)
-    val = from_man_exp(abs(n), e)
-    if not size:
-        return mpf_pos(val, prec, rnd)
-    return mpf_div(val, from_man_exp(size, se), prec, rnd)
+    n = abs(n)
+    if not size or not n:
+        return from_man_exp(n, e, prec, rnd)
+    # the quotient rounded once, as mpf_div rounds it: prec + 5 bits or more of the
+    # integer quotient, a sticky last bit for a non-zero remainder, then one rounding
+    extra = max(5, prec - n.bit_length() + size.bit_length() + 5)
+    quot, rem = divmod(n << extra, size)
+    if rem:
+        quot = (quot << 1) + 1
+        extra += 1
+    return from_man_exp(quot, e - se - extra, prec, rnd)
 
 
 def _newton_radius(raw, absolute, x, prec, rnd):

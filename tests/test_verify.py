@@ -204,7 +204,8 @@ def test_exact_deviation_is_the_backward_error_rounded_once(seed):
     # sum |c_k| r^k exactly at the dyadic x; the reference is the same quotient summed
     # term by term by mpmath at 3000 digits (an independent evaluation): they agree to
     # one rounding at the working precision (133 bits)
-    from symcluster.verify import _exact_deviation
+    from mpmath import libmp
+    from symcluster.verify import _exact_deviation, _horner_exact
     rng = random.Random(seed)
     for trial in range(200):
         d = rng.randint(1, 6)
@@ -225,6 +226,14 @@ def test_exact_deviation_is_the_backward_error_rounded_once(seed):
                                for i, a in enumerate(acc))
             want = val / size if size else val
             assert abs(got - want) <= mpmath.mpf(2) ** -130 * want, (trial, acc, x)
+        # and it is mpmath's own correctly rounded quotient of the two exact sums
+        sign, man, exp, _ = x._mpf_
+        n, e = _horner_exact(acc, -man if sign else man, exp)
+        _, rman, rexp, _ = max(abs(x), floor)._mpf_
+        size, se = _horner_exact([abs(a) for a in acc], rman, rexp)
+        quotient = (libmp.mpf_div(libmp.from_man_exp(abs(n), e), libmp.from_man_exp(size, se),
+                                  prec, rnd) if size else libmp.from_man_exp(abs(n), e, prec, rnd))
+        assert _exact_deviation(acc, x._mpf_, floor._mpf_, prec, rnd) == quotient
 
 
 def test_sector_shares_split_multiplets_over_sz_sectors():
