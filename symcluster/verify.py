@@ -958,8 +958,14 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
 
     # 3. per sector: counting, sum rules, eigenvalues
     by_sector = {}
+    shares = {}         # (N, S, Sz, degeneracy) -> the shares, all they depend on
     for li, lev in enumerate(spectrum.levels):
-        for sector, share in _sector_shares(lev, L):
+        qn = lev.quantum_numbers
+        key = (qn["N"], qn.get("S"), qn.get("Sz"), lev.degeneracy)
+        split = shares.get(key)
+        if split is None:
+            split = shares[key] = _sector_shares(lev, L)
+        for sector, share in split:
             by_sector.setdefault(sector, []).append((li, share))
     worst = {"balls": 0.0, "float": 0.0, "labels": 0.0}
     skipped = 0
