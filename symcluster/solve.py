@@ -174,8 +174,8 @@ class _Shifter:
             fp = self._ctx.from_dict(dict(terms))
             self._last = (poly, terms, fp)
         out = fp.compose(self._x[0] - k * self._sh, *self._x[1:])
-        made = self._made[(terms, k)] = poly_from_dict(dict(zip(out.monoms(), out.coeffs())),
-                                                       poly.gens, sympy.ZZ)
+        shifted = dict(zip(out.monoms(), map(int, out.coeffs())))
+        made = self._made[(terms, k)] = poly_from_dict(shifted, poly.gens, sympy.ZZ)
         return made
 
 
