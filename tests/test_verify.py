@@ -268,9 +268,8 @@ _SECTOR_POINT = {"t": sympy.Rational(265, 107), "U": sympy.Rational(-835, 107)}
 
 def test_small_sector_eigenvalues_enclose_mpmath_eigsy():
     # The enclosures (python-flint: exact charpoly, certified roots) against mpmath.eigsy
-    # of the matrix summed at
-    # 40 digits (mpmath, an independent library): within the bound, bounds tiny; an
-    # equal matrix of another sector gives the same list
+    # of the matrix summed at 40 digits (mpmath, an independent library): within the
+    # bound, bounds tiny; an equal matrix of another sector gives the same list
     from symcluster.verify import _sector_eigenvalues
     spectra = {}
     with mpmath.workdps(40):
