@@ -12,7 +12,7 @@ from .clusters import (Cluster, chain, cluster, complete, cube, grid, ladder, lo
                        parse_cluster_toml, ring, star, tetrahedron)
 from .errors import (ClusterError, InputError, ModelError, SymclusterError, TooLargeError,
                      VerificationError)
-from .models import Model, hubbard
+from .models import Model, anderson, heisenberg, hubbard, kanamori, make_model, t_j, with_field
 from .spectrum import Level, Spectrum, VerificationReport
 from .solve import solve
 

@@ -25,11 +25,11 @@ import sympy
 
 from .algebra.block import LinearBlock
 from .errors import VerificationError
-from .fock import sector_states
 from .linalg import check_reduced, kernel_of, reduce_basis
-from .operators import HamiltonianAction, apply_eta_minus, apply_s_plus, per_state_memo
-from .symmetry.lattice import lattice_symmetry
+from .hilbert.action import HamiltonianAction
+from .hilbert.ladder import apply_eta_minus, apply_s_plus, per_state_memo
 from .symmetry.spin import eta_symmetry, has_spin_symmetry, shift_expr
+from .symmetry.termgraph import term_lattice_symmetry
 
 __all__ = ["BlockSpec", "SymmetryPlan", "plan_symmetries", "build_blocks", "sectors_to_solve"]
 
@@ -42,6 +42,9 @@ class SymmetryPlan:
     eta: object            # None or (signs, shift dict)
     lattice: object        # None or the lattice-symmetry object of symmetry.lattice
     sublattice_char: list = field(default_factory=list)  # +-1 per group element
+    # labels whose terms the sublattice gauge G maps to minus themselves (None: some
+    # label's terms are neither even nor odd under G, so no gauge twins)
+    odd_labels: object = None
     # H on basis states, as computed by the checks; build_blocks reuses it (same solve)
     action: object = field(default=None, repr=False, compare=False)
 
@@ -50,7 +53,7 @@ class SymmetryPlan:
         return shift_expr(self.eta[1]) if self.eta else None
 
     def names(self):
-        out = ["particle number N_up, N_dn"]
+        out = ["particle numbers N_up, N_dn"]
         if self.spin:
             out.append("spin SU(2)")
         if self.eta:
@@ -86,46 +89,64 @@ def plan_symmetries(model, lattice=True, spin=True, eta=True):
     eta = eta_symmetry(model, h) if eta else None
     lat = None
     sub_char = []
-    if lattice and model.n_sites > 1:
-        c = model.cluster
-        lat = lattice_symmetry(c.n_sites, c.bonds, c.site_labels)
-        if len(lat.group.elements) == 1:
-            lat = None
-        elif eta:
+    if lattice:
+        lat = term_lattice_symmetry(model)
+        if lat is not None and eta:
             signs = eta[0]
             # g eta+ g^-1 = chi(g) eta+ needs eps_{g(i)} = chi(g) eps_i on every site; on a
             # disconnected cluster a permutation may flip one component only: then eta+
             # is not an eigen-operator of the group and the eta reduction is not used.
             for g in lat.group.elements:
                 chi = signs[g[0]] * signs[0]
-                if any(signs[g[i]] * signs[i] != chi for i in range(model.n_sites)):
+                if any(signs[g[i]] * signs[i] != chi for i in range(model.n_modes)):
                     eta = None
                     sub_char = []
                     break
                 sub_char.append(chi)
-    return SymmetryPlan(spin, eta, lat, sub_char, action=h)
+    return SymmetryPlan(spin, eta, lat, sub_char, _odd_labels(model, eta), action=h)
 
 
-def sectors_to_solve(n_sites, plan, electrons=None):
+def _odd_labels(model, eta):
+    """Labels whose every product is odd under c_m -> eps_m c_m (eps the eta signs); None
+    when a label has products of both parities or there are no signs."""
+    if not eta:
+        return None
+    signs = eta[0]
+    parity = {}
+    for term in model.terms:
+        for prod, _ in term.operator:
+            p = 1
+            for m, _, _ in prod:
+                p *= signs[m]
+            if parity.setdefault(term.label, p) != p:
+                return None
+    return frozenset(lab for lab, p in parity.items() if p < 0)
+
+
+def sectors_to_solve(space, plan, electrons=None):
     """The (N_up, N_dn) sectors whose blocks are built, given the symmetries.
 
-    ``electrons`` (None = all) is the set of N values the caller wants; with
-    eta symmetry, lower sectors whose multiplets reach a wanted N are included.
+    ``space`` is the model's :class:`~symcluster.hilbert.space.LocalSpace` (or a number
+    of sites of spin-1/2 fermions).  ``electrons`` (None = all) is the set of N values
+    the caller wants; with eta symmetry, lower sectors whose multiplets reach a wanted N
+    are included.
     """
-    L = n_sites
-    wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
+    if isinstance(space, int):
+        from .hilbert.space import LocalSpace
+        space = LocalSpace("electrons", space)
+    L = space.n_modes
+    wanted = set(space.particle_numbers()) if electrons is None else set(electrons)
     out = []
-    for n in range(2 * L + 1):
+    for n_up, n_dn in space.sectors():
+        n = n_up + n_dn
         if plan.eta:
             if n > L or not any(n <= m <= 2 * L - n and (m - n) % 2 == 0 for m in wanted):
                 continue
         elif n not in wanted:
             continue
-        for n_up in range(max(0, n - L), min(n, L) + 1):
-            n_dn = n - n_up
-            if plan.spin and n_up < n_dn:
-                continue
-            out.append((n_up, n_dn))
+        if plan.spin and n_up < n_dn:
+            continue
+        out.append((n_up, n_dn))
     return out
 
 
@@ -194,7 +215,8 @@ def _matrix_of_h(h, vectors, pivots, rng=None, coeff_memo=None):
                     # an int where the pivot divides the entry (always for pivot 1)
                     q, rem = divmod(v, piv_val)
                     mat[(i, j)] = Fraction(v, piv_val) if rem else q
-    # exact invariance check on a random combination r = sum a_j w_j
+    # exact invariance check on a random combination r = sum a_j w_j (in integers: the
+    # scale below also clears the denominators of H's coefficients)
     if rng is None:
         coeffs = _check_coefficients(k, coeff_memo)
     else:
@@ -206,7 +228,7 @@ def _matrix_of_h(h, vectors, pivots, rng=None, coeff_memo=None):
     # H r must equal sum_i c_i w_i with c_i = sum_j M_ij a_j; compare scale * H r with
     # sum_i (scale c_i) w_i in integers (scale = lcm of the pivot values, a multiple of
     # every entry's denominator), one label at a time
-    scale = 1
+    scale = h.denominator
     for i, p in enumerate(pivots):
         scale = lcm(scale, abs(vectors[i][p]))
     res = {lab: {} for lab in h.labels}
@@ -237,7 +259,7 @@ def _matrix_of_h(h, vectors, pivots, rng=None, coeff_memo=None):
         raise VerificationError(
             f"internal error: reduced basis is not invariant under H (state {st}); "
             "please report this cluster")
-    return LinearBlock(k, terms, integral=True)
+    return LinearBlock(k, terms, integral=h.integral)
 
 
 def _first_failure(h, r, vectors, scaled, res):
@@ -272,7 +294,8 @@ def build_blocks(model, plan, electrons=None, report=None):
 
     Returns a list of BlockSpec; appends per-sector reduction sizes to ``report``.
     """
-    L = model.n_sites
+    space = model.space
+    L = space.n_modes
     h = plan.action
     if h is None or h.model is not model:
         h = HamiltonianAction(model)
@@ -282,8 +305,8 @@ def build_blocks(model, plan, electrons=None, report=None):
         signs = plan.eta[0]
         eta_minus = per_state_memo(lambda s: apply_eta_minus(signs, *s))
     blocks = []
-    for n_up, n_dn in sectors_to_solve(L, plan, electrons):
-        states = sector_states(L, n_up, n_dn)
+    for n_up, n_dn in sectors_to_solve(space, plan, electrons):
+        states = space.sector_states(n_up, n_dn)
         n = n_up + n_dn
         if plan.lattice is not None:
             parts = []
@@ -315,7 +338,7 @@ def build_blocks(model, plan, electrons=None, report=None):
                 eta_max = max(eta_max, len(vecs))
             if not vecs:
                 continue
-            labels = {"N": n}
+            labels = {"N": n} if space.has_charge else {}
             if plan.spin:
                 two_s = n_up - n_dn
                 labels["S"] = sympy.Rational(two_s, 2)

@@ -36,10 +36,16 @@ _PER_TERM_BIT = 8           # stored level polynomials: per term, per unit of de
 _PER_WORKER = 100 * 2 ** 20  # a pool process: interpreter and imports (77 MB) plus its block
 
 
-def _sector_dim(n_sites, n_up, n_dn):
-    if not (0 <= n_up <= n_sites and 0 <= n_dn <= n_sites):
-        return 0
-    return comb(n_sites, n_up) * comb(n_sites, n_dn)
+def _as_space(space):
+    """A LocalSpace from a LocalSpace or a number of sites (spin-1/2 fermions)."""
+    if isinstance(space, int):
+        from .hilbert.space import LocalSpace
+        return LocalSpace("electrons", space)
+    return space
+
+
+def _sector_dim(space, n_up, n_dn):
+    return _as_space(space).sector_dim(n_up, n_dn)
 
 
 def block_dimensions(n_sites, sectors, plan=None):
@@ -62,6 +68,7 @@ def block_dimensions(n_sites, sectors, plan=None):
     list of float
         One entry per expected block (approximate dimensions).
     """
+    n_sites = _as_space(n_sites)
     spin = bool(plan is not None and plan.spin)
     eta = bool(plan is not None and plan.eta)
     lattice = plan.lattice if plan is not None else None
@@ -114,6 +121,7 @@ def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0):
     -------
     int
     """
+    n_sites = _as_space(n_sites)
     dims = [_sector_dim(n_sites, u, d) for u, d in sectors]
     from .verify import FLOAT_DIM
     k = max(1, n_free)
@@ -125,9 +133,9 @@ def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0):
                + per_term * polys + _PER_WORKER * max(0, workers))
 
 
-def _detection_states(n_sites):
+def _detection_states(space):
     """States on which the spin and eta commutators are checked exactly (<= 2 electrons)."""
-    return sum(comb(2 * n_sites, n) for n in range(3))
+    return sum(comb(2 * _as_space(space).n_modes, n) for n in range(3))
 
 
 def optimistic_cost(n_sites, electrons=None, n_free=1, max_order=MAX_GROUP_ORDER, stop_above=None):
@@ -146,19 +154,23 @@ def optimistic_cost(n_sites, electrons=None, n_free=1, max_order=MAX_GROUP_ORDER
     states of a sector.  The sum stops early, still a lower bound, once it passes
     `stop_above` (huge clusters have millions of sectors).
     """
-    L = n_sites
-    wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
+    space = _as_space(n_sites)
+    L = space.n_modes
+    top = space.max_particles
+    wanted = set(space.particle_numbers()) if electrons is None else set(electrons)
     k = max(1, n_free)
     per_term = _PER_TERM_BIT * (1 if k == 1 else 3)
 
-    need = _FIXED + _PER_STATE * _detection_states(L)
-    for n in sorted({min(m, 2 * L - m) for m in wanted if 0 <= m <= 2 * L}):
+    need = _FIXED + _PER_STATE * _detection_states(space)
+    mirror = space.kind == "electrons" and not space.projected
+    for n in sorted({min(m, 2 * L - m) if mirror else m for m in wanted if 0 <= m <= top}):
         if stop_above is not None and need > stop_above:
             break
         for u in range((n + 1) // 2, min(n, L) + 1):
             d = n - u
-            need += _PER_STATE * _sector_dim(L, u, d)
-            lowest = _spin_highest(L, u, d) - _spin_highest(L, u - 1, d - 1)
+            need += _PER_STATE * _sector_dim(space, u, d)
+            lowest = _spin_highest(space, u, d) - (_spin_highest(space, u - 1, d - 1) if mirror
+                                                   else 0)
             if lowest > 0:          # block_dimensions counts no block for an empty sector
                 block = max(1, lowest // max_order)
                 need += per_term * block ** (k + 2) // factorial(k + 1)
@@ -173,7 +185,7 @@ def check_early(n_sites, electrons=None, n_free=1, force=False, max_order=MAX_GR
                            stop_above=None if have is None else have)
     if have is not None and need > 0.8 * have and not force:
         raise TooLargeError(
-            f"a cluster of {n_sites} sites needs at least an estimated {need / 2 ** 30:.3g} GiB "
+            f"a cluster of {_as_space(n_sites).n_sites} sites needs at least an estimated {need / 2 ** 30:.3g} GiB "
             f"even if every symmetry reduction succeeds, but only {have / 2 ** 30:.1f} GiB is "
             f"available; solve fewer electron numbers (electrons=...; command line: "
             f"--electrons) or pass force=True (command line: --force) to try anyway")

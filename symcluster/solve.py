@@ -36,11 +36,15 @@ def _check_electrons(model, electrons):
         wanted = sorted(set(electrons))
     except TypeError:
         raise ModelError(f"electrons={electrons!r} is not an integer or list of integers") from None
-    top = 2 * model.n_sites
+    if not model.space.has_charge:
+        raise ModelError(f"electrons={electrons!r}: a spin model has no electron number; "
+                         "leave electrons= out")
+    top = model.space.max_particles
     for n in wanted:
         if isinstance(n, bool) or not isinstance(n, int) or not 0 <= n <= top:
             raise ModelError(
-                f"electron number {n!r} is impossible on {model.n_sites} sites; choose 0..{top}")
+                f"electron number {n!r} is impossible on {model.n_sites} sites "
+                f"({model.space.describe()}); choose 0..{top}")
     return wanted
 
 
@@ -191,7 +195,7 @@ def gauge_twins(model, plan, blocks):
     characteristic polynomial up to t -> -t.  Every derived block is still checked
     against its own matrix by ``verify_blocks``.
     """
-    if not plan.eta or not plan.sublattice_char or plan.lattice is None:
+    if not plan.eta or not plan.sublattice_char or plan.lattice is None or plan.odd_labels is None:
         return {}
     index = {}
     for i, spec in enumerate(blocks):
@@ -279,7 +283,7 @@ def _level_order(level):
     qn = level.quantum_numbers
     spin = qn.get("S", qn.get("Sz", 0))
     eta = qn.get("eta", 0)
-    return (qn["N"], _twice(spin), _twice(eta), str(qn.get("irrep", "")))
+    return (qn.get("N", 0), _twice(spin), _twice(eta), str(qn.get("irrep", "")))
 
 
 def _twice(x):
@@ -393,12 +397,12 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     t0 = time.perf_counter()
     # before the detection, whose cost also grows with the cluster (commutators on every
     # state with at most two electrons, the automorphism search)
-    check_early(model.n_sites, wanted, len(model.labels) - 1, force)
+    space = model.space
+    check_early(space, wanted, len(model.labels) - 1, force)
     plan = plan_symmetries(model, lattice=lattice, spin=spin, eta=eta)
-    sectors = sectors_to_solve(model.n_sites, plan, wanted)
-    estimate = check_size(model.n_sites, sectors, plan, len(model.labels) - 1, force,
-                          _expected_workers(executor, block_dimensions(model.n_sites, sectors,
-                                                                       plan)))
+    sectors = sectors_to_solve(space, plan, wanted)
+    estimate = check_size(space, sectors, plan, len(model.labels) - 1, force,
+                          _expected_workers(executor, block_dimensions(space, sectors, plan)))
     timings["memory_estimate_bytes"] = estimate
     sizes = []
     blocks = build_blocks(model, plan, wanted, report=sizes)
@@ -421,7 +425,7 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
                                             written)))
         for i, j in copies.items():
             solved[i] = _copy_factors(solved[j])
-        odd = {h[2] for h in model.hops}     # the labels of H's hopping terms
+        odd = plan.odd_labels           # the labels G maps to minus themselves
         results = [solved[i] if i in solved else _negate_couplings(solved[twins[i]], odd, written)
                    for i in range(len(blocks))]
     except BaseException:
@@ -458,8 +462,9 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
             deg = spec.states_per_root * mult // spec.copies
             for k in range(spec.eta_members):
                 qn = dict(spec.labels)
-                qn["N"] = spec.labels["N"] + 2 * k
-                if wanted is not None and qn["N"] not in wanted:
+                if k:
+                    qn["N"] = spec.labels["N"] + 2 * k
+                if wanted is not None and qn.get("N") not in wanted:
                     continue
                 if k and "irrep" in qn:
                     key = (qn["irrep"], k % 2)

@@ -39,9 +39,9 @@ from .algebra.polydict import dense_terms
 from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched, isolation_key,
                             prefetch_isolations)
 from .errors import ModelError, VerificationError
-from .fock import sector_states, states_with
-from .models import coupling_symbol
-from .operators import HamiltonianAction
+from .hilbert.fock import sector_states, states_with
+from .symbols import coupling_symbol
+from .hilbert.action import HamiltonianAction
 from .spectrum import closed_values, energy_numeric, shared_evaluation
 from .symmetry.lattice import spin_block_images
 
@@ -348,10 +348,13 @@ def random_points(symbols, count, seed):
     return pts
 
 
-def sector_share(level, n_up, n_dn):
-    """States of ``level`` that lie in sector (n_up, n_dn)."""
+def sector_share(level, n_up, n_dn, n_fixed=None):
+    """States of ``level`` that lie in sector (n_up, n_dn).
+
+    ``n_fixed`` is the particle number of a model without an N label (a spin model: L).
+    """
     qn = level.quantum_numbers
-    if n_up + n_dn != qn["N"]:
+    if n_up + n_dn != qn.get("N", n_fixed):
         return 0
     sz = sympy.Rational(n_up - n_dn, 2)
     if "S" in qn:
@@ -371,7 +374,7 @@ def _sector_terms(model, states, action=None):
     H|state>; the traces are exact polynomials {sorted label tuple: int} of it:
     Tr H sums the diagonal, Tr H^2 = sum_ij H_ij^2 (H is symmetric) sums the squares
     of the entries, sum_l1,l2 u_l1 u_l2 <A_l1, A_l2> over the label matrices A_l.
-    ``action`` is a :class:`~symcluster.operators.HamiltonianAction` of ``model`` to
+    ``action`` is a :class:`~symcluster.hilbert.action.HamiltonianAction` of ``model`` to
     reuse between sectors (its bond masks); images are not stored in it.
     """
     if action is None:
@@ -835,7 +838,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     labels: in every sector of dimension at most ``EXACT_DIM`` the levels labelled with an
     irrep carry the traces of H^0, H^1, H^2 on that irrep's isotypic subspace (float64, first
     point; see :func:`_check_lattice_labels`).  ``action`` (optional) is the solve's
-    :class:`~symcluster.operators.HamiltonianAction` (images already computed are read from
+    :class:`~symcluster.hilbert.action.HamiltonianAction` (images already computed are read from
     it).
 
     ``proven`` names symmetries that were proven exactly by operator identities
@@ -853,7 +856,12 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     """
     model = spectrum.model
     report = spectrum.verification
-    L = model.n_sites
+    space = model.space
+    L = space.n_modes
+    n_fixed = None if space.has_charge else space.n_modes
+    # the lattice-label check reads sectors as products of up and down spin blocks
+    if space.kind != "electrons" or space.projected:
+        lattice = None
     symbols = model.symbols
     seed = random.SystemRandom().randrange(2 ** 31) if seed is None else seed
     report.seed = seed
@@ -863,17 +871,18 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     primes = [_next_prime(rng.randrange(2 ** 61, 2 ** 62)) for _ in points]
     report.primes = primes
     forms = FormCache()     # integer forms of the level polynomials, for this call only
-    wanted = set(range(2 * L + 1)) if electrons is None else set(electrons)
+    wanted = set(space.particle_numbers()) if electrons is None else set(electrons)
     # H on basis states, for the sector matrices (the solve's own, with the images its
     # symmetry checks and blocks computed, when it passes it)
     action = HamiltonianAction(model) if action is None or action.model is not model else action
 
     # 1. state counting
     total = sum(l.degeneracy for l in spectrum.levels)
-    expected = sum(comb(2 * L, n) for n in wanted)
+    expected = sum(space.states_with_n(n) for n in wanted)
     if total != expected:
         _fail(f"degeneracies add up to {total}, expected {expected} states")
-    report.add("state count", f"N in {sorted(wanted)}", worst=0.0, states=total)
+    report.add("state count", f"N in {sorted(wanted)}" if space.has_charge else "all states",
+               worst=0.0, states=total)
 
     # numeric values of every level at every point (closed forms and implicit roots);
     # with an executor, the certified isolations of high-degree factors run on it first;
@@ -961,10 +970,10 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     shares = {}         # (N, S, Sz, degeneracy) -> the shares, all they depend on
     for li, lev in enumerate(spectrum.levels):
         qn = lev.quantum_numbers
-        key = (qn["N"], qn.get("S"), qn.get("Sz"), lev.degeneracy)
+        key = (qn.get("N", n_fixed), qn.get("S"), qn.get("Sz"), lev.degeneracy)
         split = shares.get(key)
         if split is None:
-            split = shares[key] = _sector_shares(lev, L)
+            split = shares[key] = _sector_shares(lev, L, n_fixed)
         for sector, share in split:
             by_sector.setdefault(sector, []).append((li, share))
     worst = {"balls": 0.0, "float": 0.0, "labels": 0.0}
@@ -981,11 +990,13 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         for n_up in range(max(0, n - L), min(n, L) + 1):
             n_dn = n - n_up
             members = by_sector.get((n_up, n_dn), [])
-            dim = comb(L, n_up) * comb(L, n_dn)
+            dim = space.sector_dim(n_up, n_dn)
             got = sum(s for _, s in members)
             if got != dim:
                 _fail(f"sector (N_up={n_up}, N_dn={n_dn}) has {got} states in the levels, expected {dim}")
             if dim > FLOAT_DIM:
+                continue
+            if not dim:
                 continue
             mirrored = (("spin" in proven and n_up < n_dn)
                         or ("eta" in proven and n > L and (2 * L - n) in wanted))
@@ -1002,7 +1013,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                     flipped_labels += 1
                 skipped += 1
                 continue
-            states = sector_states(L, n_up, n_dn)
+            states = space.sector_states(n_up, n_dn)
             terms, tr1, tr2 = _sector_terms(model, states, action)
             groups = _factor_groups(spectrum, members, (n_up, n_dn))
             _check_sum_rules(groups, tr1, tr2, (n_up, n_dn), sums, forms)
@@ -1108,7 +1119,7 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     permuted states, ``sum_j sign_j A[j, g(j)]``; float64 at the first point, where
     ``vals`` are the members' values (floats).  ``images`` is a :class:`_BlockImages` of
     this call (the permuted spin blocks).
-    ``states`` is the sector's basis in the order of :func:`~symcluster.fock.sector_states`
+    ``states`` is the sector's basis in the order of :func:`~symcluster.hilbert.fock.sector_states`
     (every up block with every down block).
     Returns None when a level's label is not one of the group's irreps (a derived
     label, marked ``*``).
@@ -1170,7 +1181,7 @@ class _BlockImages:
 
     ``self(n)`` is ``(positions, signs)``, two ``[|G|, C(L, n)]`` arrays: element ``g``
     maps the ``a``-th block with ``n`` electrons (in the order of
-    :func:`~symcluster.fock.states_with`) to ``signs[g, a]`` times the block at
+    :func:`~symcluster.hilbert.fock.states_with`) to ``signs[g, a]`` times the block at
     ``positions[g, a]``.  ``irreps`` lists each irrep with its character (a float
     array) and ``d / |G|``; ``known`` maps their labels to their positions there, and
     ``characters`` is the ``[|G|, irreps]`` array of the characters times ``d / |G|``.
@@ -1203,13 +1214,14 @@ class _BlockImages:
         return hit
 
 
-def _sector_shares(level, L):
+def _sector_shares(level, L, n_fixed=None):
     """[((n_up, n_dn), states)] of ``level`` in each sector of its N (:func:`sector_share`).
 
     The spin label is read once per level; each sector's share is then integer arithmetic.
+    ``n_fixed``: the particle number of a model without an N label.
     """
     qn = level.quantum_numbers
-    n = qn["N"]
+    n = qn.get("N", n_fixed)
     sectors = [(n_up, n - n_up) for n_up in range(max(0, n - L), min(n, L) + 1)]
     spin = qn.get("S", qn.get("Sz"))
     if isinstance(spin, sympy.Rational) and spin.q in (1, 2):
@@ -1219,7 +1231,7 @@ def _sector_shares(level, L):
     else:
         twice = None
     if twice is None:
-        out = [(sec, sector_share(level, *sec)) for sec in sectors]
+        out = [(sec, sector_share(level, *sec, n_fixed)) for sec in sectors]
         return [(sec, share) for sec, share in out if share]
     if "S" in qn:
         per = level.degeneracy // (twice + 1)

@@ -19,7 +19,7 @@ import sympy
 
 import symcluster as sc
 from symcluster.blocks import build_blocks, plan_symmetries
-from symcluster.fock import sector_states
+from symcluster.hilbert.fock import sector_states
 from symcluster.symmetry.lattice import multiplicity
 
 
@@ -115,7 +115,7 @@ def test_labels_present():
 
 def test_eigenvectors_of_small_blocks_are_eigenvectors():
     """H v = E v checked with the model's own Hamiltonian action at a rational point."""
-    from symcluster.operators import apply_hamiltonian
+    from symcluster.hilbert.action import apply_hamiltonian
     model = sc.hubbard(sc.ring(4))
     spec = sc.solve(model, electrons=[2, 3])
     pt = {sympy.Symbol("t", real=True): sympy.Rational(3, 2),
@@ -239,7 +239,7 @@ def test_invariance_check_names_the_first_state_outside_the_span():
     # one basis vector |s>: H|s> leaves its span at every state a hop reaches
     from symcluster.blocks import _matrix_of_h
     from symcluster.errors import VerificationError
-    from symcluster.operators import HamiltonianAction, apply_hamiltonian
+    from symcluster.hilbert.action import HamiltonianAction, apply_hamiltonian
     model = sc.hubbard(sc.ring(4))
     s = (0b0011, 0b0101)
     first = next(st for st in apply_hamiltonian(model, *s) if st != s)
@@ -269,7 +269,7 @@ def test_blocks_do_not_depend_on_the_shared_hamiltonian_memo():
 # ---------------------------------------------------------------- kernels (linalg)
 def test_kernel_of_shortcuts_and_a_brute_force_null_space():
     from symcluster.linalg import apply_op, kernel_of
-    from symcluster.operators import apply_s_plus
+    from symcluster.hilbert.ladder import apply_s_plus
     L = 4
     op = lambda s: apply_s_plus(L, *s)
     # S+ annihilates every state without down electrons: the input comes back

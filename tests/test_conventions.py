@@ -127,7 +127,7 @@ def _model_and_reference(cluster):
 def test_hamiltonian_matrix_elements_in_up_first_ordering(cluster):
     # every matrix element <up',dn'|H|up,dn> of symcluster's operator layer equals the
     # Jordan-Wigner reference's, with basis states ordered up orbitals first
-    from symcluster.operators import apply_hamiltonian
+    from symcluster.hilbert.action import apply_hamiltonian
     L = cluster.n_sites
     model, dense = _model_and_reference(cluster)
     for up in range(2 ** L):
@@ -143,7 +143,7 @@ def test_hamiltonian_matrix_elements_in_up_first_ordering(cluster):
 def test_spin_and_eta_operators_in_up_first_ordering():
     # S+ = sum c+_{i up} c_{i dn} and eta+ = sum eps_i c+_{i up} c+_{i dn}, sign by sign
     # (Yang, PRL 63, 2144 (1989), from memory), against the reference's operators
-    from symcluster.operators import apply_eta_plus, apply_s_plus
+    from symcluster.hilbert.ladder import apply_eta_plus, apply_s_plus
     L = 4
     signs = [1, -1, 1, -1]
     ref = FockReference(L, list(sc.ring(4).bonds))
@@ -193,7 +193,7 @@ def test_energies_carry_units_of_couplings():
 def test_hamiltonian_action_matches_reference_and_apply_hamiltonian(cluster):
     # HamiltonianAction (the per-solve memo) gives every matrix element of the Jordan-Wigner
     # reference, and exactly apply_hamiltonian's entries in the same order
-    from symcluster.operators import HamiltonianAction, apply_hamiltonian
+    from symcluster.hilbert.action import HamiltonianAction, apply_hamiltonian
     L = cluster.n_sites
     model, dense = _model_and_reference(cluster)
     h = HamiltonianAction(model)
@@ -215,12 +215,15 @@ def test_hamiltonian_action_matches_reference_and_apply_hamiltonian(cluster):
 def test_hamiltonian_action_merges_repeated_bonds_and_site_terms():
     # a hand-made model: bond (0, 1) twice with label t and once reversed, a site energy
     # repeated on one site; H is then the reference with those terms counted that often
-    from symcluster.models import Model
-    from symcluster.operators import HamiltonianAction
+    from symcluster.models import make_model
+    from symcluster.models.terms import hopping, hubbard_u, onsite as onsite_term
+    from symcluster.hilbert.action import HamiltonianAction
     c = sc.ring(4)
     hops = c.bonds + ((0, 1, "t"), (1, 0, "t"))
     onsite = ((0, "e"), (0, "e"), (2, "e"))
-    model = Model(c, hops, onsite, "U", "custom")
+    terms = ([hopping(i, j, lab) for i, j, lab in hops] + [onsite_term(i, lab) for i, lab in onsite]
+             + [hubbard_u(i, "U") for i in range(4)])
+    model = make_model(c, terms)
     ref = FockReference(4, list(hops))
     site = {i: FockReference(4, [], {i: "e"}).terms["e"] for i in (0, 2)}
     e_ref = 2 * site[0] + site[2]
@@ -240,7 +243,7 @@ def test_hamiltonian_action_merges_repeated_bonds_and_site_terms():
 
 def test_lowering_operators_in_up_first_ordering():
     # S- = (S+)^T and eta- = (eta+)^T in the real Fock basis, against the reference
-    from symcluster.operators import apply_eta_minus, apply_s_minus
+    from symcluster.hilbert.ladder import apply_eta_minus, apply_s_minus
     L = 4
     signs = [1, -1, -1, 1]
     ref = FockReference(L, list(sc.ring(4).bonds))
@@ -251,7 +254,7 @@ def test_lowering_operators_in_up_first_ordering():
 
 
 def test_per_state_memo_calls_the_operator_once_per_state():
-    from symcluster.operators import apply_s_plus, per_state_memo
+    from symcluster.hilbert.ladder import apply_s_plus, per_state_memo
     calls = []
 
     def op(state):

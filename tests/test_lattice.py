@@ -11,7 +11,7 @@ import pytest
 import sympy
 
 from symcluster.errors import InputError
-from symcluster.fock import sector_states
+from symcluster.hilbert.fock import sector_states
 from symcluster.symmetry.groups import compose
 from symcluster.symmetry.lattice import (
     adapted_basis, adapted_bases, lattice_symmetry, multiplicity, permute_state, state_orbits,

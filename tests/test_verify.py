@@ -70,7 +70,7 @@ def test_sum_rule_catches_a_shifted_level_polynomial():
 def _reference_sector(cluster, n_up, n_dn):
     """Integer matrices per coupling of one sector of the Jordan-Wigner reference, in the
     order of symcluster's sector basis (mapped through the reference's state index)."""
-    from symcluster.fock import sector_states
+    from symcluster.hilbert.fock import sector_states
     from reference_fock import FockReference
     labels = {i: lab for i, lab in enumerate(cluster.site_labels) if lab}
     ref = FockReference(cluster.n_sites, list(cluster.bonds), labels)
@@ -367,7 +367,7 @@ def test_lattice_label_images_match_the_permuted_states():
     # the block tables give, for every sector state and group element, the index and the
     # fermion sign of the permuted state: those of permute_state on the basis itself
     from symcluster.blocks import plan_symmetries
-    from symcluster.fock import sector_states
+    from symcluster.hilbert.fock import sector_states
     from symcluster.symmetry.lattice import permute_state
     from symcluster.verify import _BlockImages
     model = sc.hubbard(sc.cluster(5, [(0, 1), (1, 2), (2, 3), (3, 0), (0, 4, "tp")]))
@@ -423,7 +423,7 @@ def test_isotypic_traces_match_dense_projectors(sector):
 def test_numeric_matrix_is_the_entrywise_sum():
     # bit for bit the loop m[i, j] += a * float(u_l), label after label
     import numpy as np
-    from symcluster.fock import sector_states
+    from symcluster.hilbert.fock import sector_states
     from symcluster.verify import _numeric_matrix, _sector_terms
     model = sc.hubbard(sc.cluster(4, [(0, 1), (1, 2, "tp"), (2, 3)], site_labels={1: "e", 3: "e"}))
     states = sector_states(4, 2, 1)

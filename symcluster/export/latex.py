@@ -359,16 +359,48 @@ def _number_tex(value, digits):
     return f"${mant}" + (rf"\times 10^{{{int(exp)}}}$" if exp else "$")
 
 
+_TERM_TEX = {
+    # kind -> (sign, operator with a, b the modes of one term, index set name)
+    "hopping": ("-", r"\left(c^\dagger_{a\sigma} c_{b\sigma} + \mathrm{h.c.}\right)", True),
+    "hybridization": ("+", r"\left(c^\dagger_{a\sigma} c_{b\sigma} + \mathrm{h.c.}\right)", True),
+    "onsite": ("+", r"n_{a}", False),
+    "hubbard_u": ("+", r"n_{a\uparrow} n_{a\downarrow}", False),
+    "number_product": ("+", r"n_{a\sigma} n_{b\sigma'}", False),
+    "density_density": ("+", r"n_{a} n_{b}", False),
+    "zeeman": ("-", r"2 S^z_{a}", False),
+    "chemical_potential": ("-", r"n_{a}", False),
+    "exchange": ("+", r"\mathbf{S}_{a} \cdot \mathbf{S}_{b}", False),
+    "exchange_z": ("+", r"S^z_{a} S^z_{b}", False),
+    "exchange_xy": ("+", r"\tfrac{1}{2}\left(S^+_{a} S^-_{b} + \mathrm{h.c.}\right)", False),
+    "pair_hopping": ("+", r"\left(c^\dagger_{a\uparrow} c^\dagger_{a\downarrow} c_{b\downarrow} "
+                          r"c_{b\uparrow} + \mathrm{h.c.}\right)", False),
+    "spin_flip": ("+", r"\left(S^+_{a} S^-_{b} + \mathrm{h.c.}\right)", False),
+}
+
+
+def _where_tex(modes):
+    if len(modes[0]) == 1:
+        return r"a \in \{" + ",".join(str(m[0]) for m in modes) + r"\}"
+    return r"(a,b) \in \{" + ",".join("(" + ",".join(map(str, m)) + ")" for m in modes) + r"\}"
+
+
 def _hamiltonian_tex(model):
+    """H term by term: one sum per (kind, coupling, factor, spin) group of the model."""
     parts = []
-    for lab in sorted({h[2] for h in model.hops}):
-        parts.append(rf"- {_tex(sympy.Symbol(lab))} \sum_{{\langle ij\rangle \in B_{{{_tex(sympy.Symbol(lab))}}},\sigma}}"
-                     r"\left(c^\dagger_{i\sigma} c_{j\sigma} + \mathrm{h.c.}\right)")
-    if model.u_label:
-        parts.append(rf"+ {_tex(sympy.Symbol(model.u_label))} \sum_i n_{{i\uparrow}} n_{{i\downarrow}}")
-    for lab in sorted({o[1] for o in model.onsite}):
-        sites = ",".join(str(o[0]) for o in model.onsite if o[1] == lab)
-        parts.append(rf"+ {_tex(sympy.Symbol(lab))} \sum_{{i \in \{{{sites}\}}}} n_i")
+    for kind, label, scale, spin, modes in model.groups():
+        sign, op, spin_sum = _TERM_TEX.get(kind, ("+", r"\mathrm{" + kind.replace("_", r"\_")
+                                                   + "}_{a}", False))
+        factor = scale if sign == "+" else -scale
+        coef = _tex(sympy.Rational(factor.numerator, factor.denominator) * sympy.Symbol(label))
+        if isinstance(spin, tuple):
+            names = {0: r"\uparrow", 1: r"\downarrow"}
+            op = op.replace(r"\sigma'", names[spin[1]]).replace(r"\sigma", names[spin[0]])
+        elif spin is not None:
+            op = op.replace(r"\sigma", {0: r"\uparrow", 1: r"\downarrow"}[spin])
+            spin_sum = False
+        sigma = r",\sigma" if spin_sum else ""
+        text = coef + r" \sum_{" + _where_tex(modes) + sigma + "} " + op
+        parts.append(text if text.startswith("-") else "+ " + text)
     body = " ".join(parts).lstrip("+ ")
     return r"H = " + body
 

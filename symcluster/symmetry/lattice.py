@@ -1,7 +1,7 @@
 """Lattice symmetry on Fock states: signed site permutations and adapted bases.
 
 A site permutation ``g`` acts by ``c+_{i s} -> c+_{g(i) s}``.  On a basis
-state (ordering of :mod:`symcluster.fock`: spin-up block first, each block by
+state (ordering of :mod:`symcluster.hilbert.fock`: spin-up block first, each block by
 increasing site) it gives plus or minus the state with permuted bits; the sign
 is the parity of the reordering that brings the permuted creation operators
 of each spin block back into increasing order.

@@ -1,28 +1,49 @@
-"""Spin SU(2) and eta-pseudospin SU(2): exact detection and highest-weight projections.
+"""Spin SU(2) and eta-pseudospin SU(2): exact detection from the model's terms.
 
-Detection never trusts the cluster's name: the commutators are checked
-exactly on every Fock state with at most two electrons.  This suffices:
-H, S+ and eta+ are normal-ordered with at most two annihilators in H and at
-most one in S+ (none in eta+), so [H, X] - c X is a normal-ordered operator
-with at most two annihilators, and such an operator vanishes iff it vanishes
-on every state with <= 2 particles.
+Detection never trusts the model's name: the commutators are checked exactly on
+every Fock state with at most k particles, k the largest number of annihilators in
+one normal-ordered product of the terms (2 for every built-in term).  This
+suffices: S+ has one annihilator and eta+ none, so [H, X] - c X is a normal-ordered
+operator with at most k annihilators, and such an operator vanishes iff it vanishes
+on every state with <= k particles (apply its products with the fewest annihilators
+to the state holding exactly their annihilated modes).
+
+On a projected space (no double occupancy, or spins as singly occupied sites) the
+Hamiltonian is P H P with P the projector onto the space.  S+ preserves every
+mode's occupation number, so it commutes with P, and [P H P, S+] = P [H, S+] P:
+the Fock-space identity [H, S+] = 0 proves the symmetry there too.  eta+ leaves
+such spaces, so it is never used on them.
 """
 
 import sympy
 
-from ..fock import sector_states
-from ..operators import HamiltonianAction, apply_eta_plus, apply_s_plus, per_state_memo
+from ..hilbert.fock import sector_states
+from ..hilbert.action import HamiltonianAction
+from ..hilbert.ladder import apply_eta_plus, apply_s_plus, per_state_memo
 
-__all__ = ["has_spin_symmetry", "eta_symmetry"]
+__all__ = ["has_spin_symmetry", "eta_symmetry", "mode_sublattices"]
 
 
-def _low_states(n):
+def _low_states(n, k=2):
+    """Every Fock state on ``n`` modes with at most ``k`` particles."""
     out = []
-    for nu in range(3):
-        for nd in range(3 - nu):
+    for nu in range(k + 1):
+        for nd in range(k + 1 - nu):
             if nu <= n and nd <= n:
                 out.extend(sector_states(n, nu, nd))
     return out
+
+
+def _fock_action(model, h):
+    """An action of the model's terms on the whole Fock space (no projection), for the
+    commutator checks: ``h`` itself when the space is not projected."""
+    if h is not None and not model.space.projected and model.space.kind == "electrons":
+        return h
+    return HamiltonianAction(model, project=False)
+
+
+def _max_annihilators(model):
+    return max((t.max_annihilators() for t in model.terms), default=0)
 
 
 def _commutator_vanishes(h, op, shift, state):
@@ -52,14 +73,14 @@ def _commutator_vanishes(h, op, shift, state):
 def has_spin_symmetry(model, h=None):
     """True iff [H, S+] = 0 (checked exactly on all states with <= 2 electrons).
 
-    ``h`` is an optional :class:`~symcluster.operators.HamiltonianAction` of
+    ``h`` is an optional :class:`~symcluster.hilbert.action.HamiltonianAction` of
     ``model`` to share with other checks of the same solve.
     """
-    n = model.n_sites
-    if h is None:
-        h = HamiltonianAction(model)
+    n = model.n_modes
+    h = _fock_action(model, h)
     op = per_state_memo(lambda s: apply_s_plus(n, *s))
-    return all(_commutator_vanishes(h, op, {}, st) for st in _low_states(n))
+    return all(_commutator_vanishes(h, op, {}, st)
+               for st in _low_states(n, max(1, _max_annihilators(model))))
 
 
 def eta_symmetry(model, h=None):
@@ -68,14 +89,14 @@ def eta_symmetry(model, h=None):
     ``signs`` are the sublattice signs eps_i (+1 on the sublattice of site 0
     of each component, -1 on the other); ``shift`` is a dict {label: int}
     (for the Hubbard model {U: 1}: each eta+ raises the energy by U).
-    ``h`` is an optional :class:`~symcluster.operators.HamiltonianAction` of
+    ``h`` is an optional :class:`~symcluster.hilbert.action.HamiltonianAction` of
     ``model`` to share with other checks of the same solve.
     """
-    subl = model.cluster.sublattices()
-    if subl is None:
+    if model.space.projected or model.space.kind != "electrons":
         return None
-    a, _ = subl
-    signs = [1 if i in a else -1 for i in range(model.n_sites)]
+    signs = mode_sublattices(model)
+    if signs is None:
+        return None
     if h is None:
         h = HamiltonianAction(model)
     op = per_state_memo(lambda s: apply_eta_plus(signs, *s))
@@ -88,13 +109,46 @@ def eta_symmetry(model, h=None):
             if s2 == s0:
                 shift[lab] = shift.get(lab, 0) + c * x
     shift = {lab: x for lab, x in shift.items() if x}
-    n = model.n_sites
-    if not all(_commutator_vanishes(h, op, shift, st) for st in _low_states(n)):
+    n = model.n_modes
+    if not all(_commutator_vanishes(h, op, shift, st)
+               for st in _low_states(n, max(1, _max_annihilators(model)))):
         return None
     return signs, shift
 
 
+def mode_sublattices(model):
+    """Signs eps_m = +-1 per spatial mode that alternate across every one-body move.
+
+    The graph joins two modes when a normal-ordered product c+_a c_b (a != b) occurs in
+    a term; eps is +1 on the lowest mode of each connected component.  None when the
+    graph is not bipartite.
+    """
+    n = model.n_modes
+    nbrs = [set() for _ in range(n)]
+    for term in model.terms:
+        for prod, _ in term.operator:
+            if len(prod) == 2 and prod[0][2] and not prod[1][2] and prod[0][0] != prod[1][0]:
+                a, b = prod[0][0], prod[1][0]
+                nbrs[a].add(b)
+                nbrs[b].add(a)
+    colour = {}
+    for start in range(n):
+        if start in colour:
+            continue
+        colour[start] = 1
+        todo = [start]
+        while todo:
+            i = todo.pop()
+            for j in nbrs[i]:
+                if j not in colour:
+                    colour[j] = -colour[i]
+                    todo.append(j)
+                elif colour[j] == colour[i]:
+                    return None
+    return [colour[i] for i in range(n)]
+
+
 def shift_expr(shift):
     """The energy shift per eta+ as a sympy expression."""
-    from ..models import coupling_symbol
+    from ..symbols import coupling_symbol
     return sympy.Add(*[c * coupling_symbol(l) for l, c in sorted(shift.items())])

@@ -15,7 +15,7 @@ import time
 
 import symcluster as sc
 from symcluster.blocks import build_blocks, plan_symmetries
-from symcluster.fock import sector_states
+from symcluster.hilbert.fock import sector_states
 from symcluster.symmetry.lattice import multiplicity
 
 CLUSTERS = {

@@ -1,0 +1,12 @@
+"""Models: a local space plus terms; the families; model files.
+
+``terms`` (the operator builders and normal ordering) -> ``model`` (Model, validation)
+-> ``families`` (hubbard, anderson, kanamori, heisenberg, t_j, with_field).
+"""
+
+from .families import anderson, heisenberg, hubbard, kanamori, t_j, with_field
+from .model import Model, make_model
+from .terms import Term
+
+__all__ = ["Model", "make_model", "Term", "hubbard", "anderson", "kanamori", "heisenberg",
+           "t_j", "with_field"]
