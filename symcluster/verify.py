@@ -664,14 +664,18 @@ def _nmod_matrix(entries, dim, prime):
 
 
 def _label_matrices(terms, dim):
-    """The integer matrix of each label of a sector, ``{label: fmpz_mat}`` (python-flint),
-    made once for the sector's characteristic polynomials at every point."""
+    """Each label's matrix of a sector as ``{label: (fmpz_mat M, int D)}`` with A_l = M / D
+    (D the entries' common denominator), made once for the sector's characteristic
+    polynomials at every point."""
     out = {}
     for l, mat in terms.items():
+        den = 1
+        for a in mat.values():
+            den = lcm(den, Fraction(a).denominator)
         m = flint.fmpz_mat(dim, dim)
         for (i, j), a in mat.items():
-            m[i, j] = a
-        out[l] = m
+            m[i, j] = int(a * den)
+        out[l] = (m, den)
     return out
 
 
@@ -680,9 +684,9 @@ def _charpoly_mod(mats, dim, point_by_label, prime):
     ``mats`` are its :func:`_label_matrices` (H = sum_l u_l A_l, reduced and summed by
     python-flint)."""
     h = flint.nmod_mat(dim, dim, prime)
-    for l, m in mats.items():
+    for l, (m, den) in mats.items():
         v = point_by_label[l]
-        h += flint.nmod_mat(m, prime) * _mod(Fraction(int(v.p), int(v.q)), prime)
+        h += flint.nmod_mat(m, prime) * _mod(Fraction(int(v.p), int(v.q) * den), prime)
     return h.charpoly()
 
 
