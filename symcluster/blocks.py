@@ -28,7 +28,7 @@ from .errors import VerificationError
 from .linalg import check_reduced, kernel_of, reduce_basis
 from .hilbert.action import HamiltonianAction
 from .hilbert.ladder import apply_eta_minus, apply_s_plus, per_state_memo
-from .symmetry.spin import eta_symmetry, has_spin_symmetry, shift_expr
+from .symmetry.spin import eta_symmetry, shift_expr, spin_ladder_shift
 from .symmetry.termgraph import term_lattice_symmetry
 
 __all__ = ["BlockSpec", "SymmetryPlan", "plan_symmetries", "build_blocks", "sectors_to_solve"]
@@ -42,6 +42,8 @@ class SymmetryPlan:
     eta: object            # None or (signs, shift dict)
     lattice: object        # None or the lattice-symmetry object of symmetry.lattice
     sublattice_char: list = field(default_factory=list)  # +-1 per group element
+    # [H, S+] = spin_shift S+ ({} without a field; {h: -2} in a uniform field -h sum 2 S^z)
+    spin_shift: dict = field(default_factory=dict)
     # labels whose terms the sublattice gauge G maps to minus themselves (None: some
     # label's terms are neither even nor odd under G, so no gauge twins)
     odd_labels: object = None
@@ -52,9 +54,17 @@ class SymmetryPlan:
     def eta_shift(self):
         return shift_expr(self.eta[1]) if self.eta else None
 
+    @property
+    def spin_split(self):
+        """True when a uniform field splits each spin multiplet by S^z (spin_shift != {})."""
+        return bool(self.spin and self.spin_shift)
+
     def names(self):
         out = ["particle numbers N_up, N_dn"]
-        if self.spin:
+        if self.spin_split:
+            out.append(f"spin SU(2) split by a uniform field (S+ shifts E by "
+                       f"{shift_expr(self.spin_shift)})")
+        elif self.spin:
             out.append("spin SU(2)")
         if self.eta:
             out.append(f"eta-pseudospin SU(2) (eta+ shifts E by {self.eta_shift})")
@@ -75,6 +85,7 @@ class BlockSpec:
     vectors: list
     pivots: list
     eta_members: int = 1     # number of eta multiplet members generated (2 eta + 1)
+    spin_members: int = 1    # S^z members generated in a field (2 S + 1), else 1
     stages: list = field(default_factory=list)
 
 
@@ -85,7 +96,8 @@ def plan_symmetries(model, lattice=True, spin=True, eta=True):
     switched on is still used only where the exact check finds it.
     """
     h = HamiltonianAction(model)
-    spin = spin and has_spin_symmetry(model, h)
+    spin_shift = spin_ladder_shift(model, h) if spin else None
+    spin = spin_shift is not None
     eta = eta_symmetry(model, h) if eta else None
     lat = None
     sub_char = []
@@ -103,7 +115,8 @@ def plan_symmetries(model, lattice=True, spin=True, eta=True):
                     sub_char = []
                     break
                 sub_char.append(chi)
-    return SymmetryPlan(spin, eta, lat, sub_char, _odd_labels(model, eta), action=h)
+    return SymmetryPlan(spin, eta, lat, sub_char, spin_shift or {}, _odd_labels(model, eta),
+                        action=h)
 
 
 def _odd_labels(model, eta):
@@ -228,9 +241,10 @@ def _matrix_of_h(h, vectors, pivots, rng=None, coeff_memo=None):
     # H r must equal sum_i c_i w_i with c_i = sum_j M_ij a_j; compare scale * H r with
     # sum_i (scale c_i) w_i in integers (scale = lcm of the pivot values, a multiple of
     # every entry's denominator), one label at a time
-    scale = h.denominator
+    scale = 1
     for i, p in enumerate(pivots):
         scale = lcm(scale, abs(vectors[i][p]))
+    scale *= h.denominator
     res = {lab: {} for lab in h.labels}
     for s, x in r.items():
         if x:
@@ -339,7 +353,13 @@ def build_blocks(model, plan, electrons=None, report=None):
             if not vecs:
                 continue
             labels = {"N": n} if space.has_charge else {}
-            if plan.spin:
+            spin_members = 1
+            if plan.spin_split:
+                two_s = n_up - n_dn
+                labels["S"] = sympy.Rational(two_s, 2)
+                labels["Sz"] = sympy.Rational(two_s, 2)
+                spin_mult, spin_members = 1, two_s + 1
+            elif plan.spin:
                 two_s = n_up - n_dn
                 labels["S"] = sympy.Rational(two_s, 2)
                 spin_mult = two_s + 1
@@ -359,7 +379,7 @@ def build_blocks(model, plan, electrons=None, report=None):
                 dim, copies = irrep.dim, getattr(irrep, "copies", 1)
             blk = _matrix_of_h(h, vecs, piv, coeff_memo=coeff_memo)
             spec = BlockSpec((n_up, n_dn), labels, spin_mult * dim, copies, blk,
-                             vecs, piv, members, stages)
+                             vecs, piv, members, spin_members, stages)
             spec.irrep = irrep
             blocks.append(spec)
         if plan.spin:

@@ -12,6 +12,7 @@ from .algebra.closed import add_shift
 from .algebra.factor import factor_integer_dict
 from .algebra.polydict import integer_dict, poly_from_dict
 from .algebra.roots import ImplicitRoot, closed_forms
+from .symmetry.spin import shift_expr
 from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
                      sectors_to_solve)
 from .resources import Progress, block_dimensions, check_early, check_size, submit
@@ -450,6 +451,10 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     levels = []
     shift = plan.eta_shift
     shifter = _Shifter(shift, plan.eta[1] if plan.eta else None)
+    # a field: each step down in S^z moves the energy by -d ([H, S+] = d S+)
+    down = {lab: -x for lab, x in plan.spin_shift.items()} if plan.spin_split else None
+    spin_shift = shift_expr(down) if down else None
+    spin_shifter = _Shifter(spin_shift, down)
     moved = {}      # (irrep label, k odd) -> the irrep of the k-th eta member
     shifted = {}    # (id(closed form), k) -> the form moved by k eta pairs (forms shared by
                     # equal or twin blocks are moved once; `results` keeps them alive)
@@ -474,19 +479,31 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
                     if irr is not None and getattr(irr, "momentum", None) is not None:
                         qn["k"] = irr.momentum
                 poly = shifter(fac, k)
-                for r in roots:
-                    if not k:
-                        energy = r
-                    elif isinstance(r, ImplicitRoot):
-                        energy = ImplicitRoot(poly, r.index)
+                for j in range(spec.spin_members):
+                    # the j-th S^z member below S^z = S (a field splits the multiplet)
+                    if j:
+                        qn_j = dict(qn)
+                        qn_j["Sz"] = qn["S"] - j
+                        poly_j = spin_shifter(poly, j)
                     else:
-                        energy = shifted.get((id(r), k))
-                        if energy is None:
-                            energy = shifted[id(r), k] = add_shift(r, k, shift)
-                    src = (spec.block, spec.vectors) if not k and spec.block.dim <= 4 else None
-                    levels.append(Level(energy, deg, dict(qn), poly, None,
-                                        block=f"{spec.sector}:{spec.labels.get('irrep', '')}",
-                                        source=src))
+                        qn_j, poly_j = qn, poly
+                    for r in roots:
+                        energy = r
+                        if k:
+                            if isinstance(r, ImplicitRoot):
+                                energy = ImplicitRoot(poly, r.index)
+                            else:
+                                energy = shifted.get((id(r), k))
+                                if energy is None:
+                                    energy = shifted[id(r), k] = add_shift(r, k, shift)
+                        if j:
+                            energy = (ImplicitRoot(poly_j, r.index) if isinstance(r, ImplicitRoot)
+                                      else add_shift(energy, j, spin_shift))
+                        src = (spec.block, spec.vectors) if not (k or j) and spec.block.dim <= 4 \
+                            else None
+                        levels.append(Level(energy, deg, dict(qn_j), poly_j, None,
+                                            block=f"{spec.sector}:{spec.labels.get('irrep', '')}",
+                                            source=src))
     levels.sort(key=_level_order)
     timings["levels"] = time.perf_counter() - t_levels
     report = VerificationReport(digits=digits)
@@ -502,7 +519,9 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     n_checked = verify_blocks(blocks, results, seed)
     report.add("exact block characteristic polynomials vs. their factors "
                "(modulo a random 62-bit prime per point)", f"{n_checked} blocks", worst=0.0)
-    proven = (("spin",) if plan.spin else ()) + (("eta",) if plan.eta else ())
+    # a field splits the spin multiplets: the spin flip is no symmetry then
+    proven = (("spin",) if plan.spin and not plan.spin_split else ()) + (
+        ("eta",) if plan.eta else ())
     verify_spectrum(spectrum, wanted, digits=digits, seed=seed, proven=proven, executor=executor,
                     lattice=plan.lattice, action=plan.action)
     timings["verify"] = time.perf_counter() - t2

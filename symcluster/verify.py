@@ -357,6 +357,8 @@ def sector_share(level, n_up, n_dn, n_fixed=None):
     if n_up + n_dn != qn.get("N", n_fixed):
         return 0
     sz = sympy.Rational(n_up - n_dn, 2)
+    if "S" in qn and "Sz" in qn:            # a multiplet split by a field: one member
+        return level.degeneracy if qn["Sz"] == sz else 0
     if "S" in qn:
         s = qn["S"]
         if abs(sz) > s:
@@ -1227,7 +1229,7 @@ def _sector_shares(level, L, n_fixed=None):
     qn = level.quantum_numbers
     n = qn.get("N", n_fixed)
     sectors = [(n_up, n - n_up) for n_up in range(max(0, n - L), min(n, L) + 1)]
-    spin = qn.get("S", qn.get("Sz"))
+    spin = qn.get("Sz") if "Sz" in qn else qn.get("S")
     if isinstance(spin, sympy.Rational) and spin.q in (1, 2):
         twice = spin.p * (2 // spin.q)
     elif isinstance(spin, int):
@@ -1237,7 +1239,7 @@ def _sector_shares(level, L, n_fixed=None):
     if twice is None:
         out = [(sec, sector_share(level, *sec, n_fixed)) for sec in sectors]
         return [(sec, share) for sec, share in out if share]
-    if "S" in qn:
+    if "S" in qn and "Sz" not in qn:
         per = level.degeneracy // (twice + 1)
         return [((u, d), per) for u, d in sectors if abs(u - d) <= twice and per]
     return [((u, d), level.degeneracy) for u, d in sectors

@@ -21,7 +21,7 @@ from ..hilbert.fock import sector_states
 from ..hilbert.action import HamiltonianAction
 from ..hilbert.ladder import apply_eta_plus, apply_s_plus, per_state_memo
 
-__all__ = ["has_spin_symmetry", "eta_symmetry", "mode_sublattices"]
+__all__ = ["has_spin_symmetry", "spin_ladder_shift", "eta_symmetry", "mode_sublattices"]
 
 
 def _low_states(n, k=2):
@@ -81,6 +81,38 @@ def has_spin_symmetry(model, h=None):
     op = per_state_memo(lambda s: apply_s_plus(n, *s))
     return all(_commutator_vanishes(h, op, {}, st)
                for st in _low_states(n, max(1, _max_annihilators(model))))
+
+
+def spin_ladder_shift(model, h=None):
+    """``{label: int}`` with [H, S+] = shift * S+ exactly, or None when no such shift exists.
+
+    A shift of zero (``{}``) is full spin SU(2).  A nonzero shift comes from a uniform field
+    along z: H = H0 - h sum_i 2 S^z_i with [H0, S+] = 0 gives shift {h: -2}.  With N_up and
+    N_dn conserved ([H, S^z] = 0), [H, S+] = d S+ implies [H, S-] = -d S- and [H, S^2] = 0:
+    the kernel of S+ in the sector S^z = S holds the S = S^z states, and S- maps them to the
+    other members of their multiplet, each step down in S^z moving the energy by -d.
+    """
+    n = model.n_modes
+    h = _fock_action(model, h)
+    op = per_state_memo(lambda s: apply_s_plus(n, *s))
+    # read the shift on one down spin: [H, S+]|dn at mode 0> = shift * S+|...> + ...
+    s0 = (0, 1)
+    target = (1, 0)
+    shift = {}
+    for c, st in op(s0):                        # H S+ |s0>
+        for s2, lab, x in h[st]:
+            if s2 == target:
+                shift[lab] = shift.get(lab, 0) + c * x
+    for s1, lab, x in h[s0]:                    # - S+ H |s0>
+        for c, s2 in op(s1):
+            if s2 == target:
+                shift[lab] = shift.get(lab, 0) - c * x
+    shift = {lab: x for lab, x in shift.items() if x}
+    # the coefficient of |target> in S+|s0> is +1, so shift is the eigen-shift if one exists
+    if not all(_commutator_vanishes(h, op, shift, st)
+               for st in _low_states(n, max(1, _max_annihilators(model)))):
+        return None
+    return shift
 
 
 def eta_symmetry(model, h=None):
