@@ -20,6 +20,7 @@ from .errors import ModelError, VerificationError
 from .linalg import integer_multiple
 from .models import Model
 from .spectrum import Level, Spectrum, VerificationReport, check_digits
+from .symbols import CONSTANT
 from .verify import verify_blocks, verify_spectrum
 
 __all__ = ["solve", "solve_block"]
@@ -69,9 +70,20 @@ class Written:
 
 
 def _generators(names):
-    """``(E, *coupling symbols)`` for the coupling `names`."""
+    """``(E, *coupling symbols)`` for the coupling `names` (the constant part left out)."""
     from .symbols import ENERGY, coupling_symbol
-    return (ENERGY,) + tuple(coupling_symbol(n) for n in names)
+    return (ENERGY,) + tuple(coupling_symbol(n) for n in names if n != CONSTANT)
+
+
+def _set_constant(poly, names):
+    """A charpoly dict in (E, *names) with the constant part's variable (last) set to 1."""
+    if not names or names[-1] != CONSTANT:
+        return poly
+    out = {}
+    for exps, c in poly.items():
+        key = exps[:-1]
+        out[key] = out.get(key, 0) + c
+    return {k: c for k, c in out.items() if c}
 
 
 def _solve_packed(block, names, gens=None, written=None):
@@ -85,7 +97,7 @@ def _solve_packed(block, names, gens=None, written=None):
     """
     names = tuple(names)
     gens = _generators(names) if gens is None else gens
-    _, ints = integer_multiple(charpoly_dict(block, names))
+    _, ints = integer_multiple(_set_constant(charpoly_dict(block, names), names))
     out = []
     for rep, mult in factor_integer_dict(ints, gens)[1]:
         closed = _closed_forms_once(rep, gens, written)
@@ -341,8 +353,55 @@ def _run_blocks(blocks, names, executor, progress, written=None):
     return out
 
 
+def _check_fixed(model, fixed):
+    """``{label: sympy.Rational}`` from ``fixed`` (exact numbers or number texts)."""
+    if fixed is None:
+        return {}
+    if not isinstance(fixed, dict):
+        raise ModelError(f"fixed={fixed!r} is not a dict; give e.g. fixed={{'V_1': 1, 'eps_1': '-1/2'}}")
+    from fractions import Fraction
+    from .parsing import parse_number
+    out = {}
+    for label, value in fixed.items():
+        if label not in model.labels:
+            raise ModelError(f"fixed coupling {label!r} is not a coupling of the model; its "
+                             "couplings are " + ", ".join(model.labels))
+        if isinstance(value, str):
+            value = parse_number(value, label)
+        elif isinstance(value, bool) or not isinstance(value, (int, Fraction, sympy.Rational)):
+            raise ModelError(f"fixed value of {label!r} is {value!r}; give an exact number such as "
+                             "1, '-1/2' or fractions.Fraction(1, 3) (floats are not exact)")
+        out[label] = sympy.Rational(value.numerator, value.denominator) \
+            if isinstance(value, Fraction) else sympy.Rational(value)
+    if len(out) == len(model.labels):
+        raise ModelError("every coupling is fixed; keep at least one symbolic (the energies "
+                         "are then exact expressions in it)")
+    return out
+
+
+def _with_constant(model, fixed):
+    """The model with each fixed coupling's terms scaled by its value under the label CONSTANT."""
+    if not fixed:
+        return model
+    from dataclasses import replace
+    from fractions import Fraction
+    terms = []
+    for t in model.terms:
+        if t.label in fixed:
+            v = fixed[t.label]
+            f = Fraction(int(v.p), int(v.q))
+            if not f:
+                continue
+            t = replace(t, label=CONSTANT, operator=tuple((p, c * f) for p, c in t.operator),
+                        scale=t.scale * f)
+        terms.append(t)
+    # the constant part last, so that the block builder and the algebra see it last
+    terms = [t for t in terms if t.label != CONSTANT] + [t for t in terms if t.label == CONSTANT]
+    return replace(model, terms=tuple(terms))
+
+
 def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True, digits=30,
-          seed=None, executor=None, progress=None, force=False):
+          seed=None, executor=None, progress=None, force=False, fixed=None):
     """Exact, verified spectrum of a model.
 
     Parameters
@@ -374,6 +433,11 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         the run takes longer than a few seconds.
     force : bool
         Run even if the memory estimate exceeds the available memory.
+    fixed : dict, optional
+        ``{label: exact value}`` of couplings to hold at fixed values (ints, Fractions,
+        sympy Rationals or number texts such as ``"-1/2"``).  The energies are then exact
+        expressions in the other couplings only; every fixed coupling saves a variable
+        of the exact algebra.  Recorded in ``Spectrum.fixed``.
 
     Returns
     -------
@@ -394,15 +458,20 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     if seed is not None and (isinstance(seed, bool) or not isinstance(seed, int)):
         raise ModelError(f"seed={seed!r} is not an integer; give e.g. seed=1 or leave it out")
     wanted = _check_electrons(model, electrons)
+    fixed = _check_fixed(model, fixed)
+    original, model = model, _with_constant(model, fixed)
     timings = {}
     t0 = time.perf_counter()
     # before the detection, whose cost also grows with the cluster (commutators on every
     # state with at most two electrons, the automorphism search)
     space = model.space
-    check_early(space, wanted, len(model.labels) - 1, force)
+    n_free = len(model.labels) - (0 if CONSTANT in model.labels else 1)
+    check_early(space, wanted, n_free, force)
     plan = plan_symmetries(model, lattice=lattice, spin=spin, eta=eta)
+    if fixed:
+        _drop_constant_shifts(plan)
     sectors = sectors_to_solve(space, plan, wanted)
-    estimate = check_size(space, sectors, plan, len(model.labels) - 1, force,
+    estimate = check_size(space, sectors, plan, n_free, force,
                           _expected_workers(executor, block_dimensions(space, sectors, plan)))
     timings["memory_estimate_bytes"] = estimate
     sizes = []
@@ -436,15 +505,26 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     finally:
         prog.close()
     try:
-        return _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed,
-                       timings, t0, t1, executor)
+        return _finish(original, plan, blocks, results, twins, sizes, wanted, digits, seed,
+                       timings, t0, t1, executor, fixed)
     finally:
         if own_pool is not None:
             own_pool.shutdown()
 
 
+def _drop_constant_shifts(plan):
+    """Shortcuts whose energy shift involves a fixed coupling are not used (the shifted
+    polynomials would leave the integers): eta members, and the S^z members of a field."""
+    if plan.eta and CONSTANT in plan.eta[1]:
+        plan.eta, plan.sublattice_char, plan.odd_labels = None, [], None
+    if plan.spin_split and CONSTANT in plan.spin_shift:
+        plan.spin, plan.spin_shift = False, {}
+    if plan.odd_labels is not None and CONSTANT in plan.odd_labels:
+        plan.odd_labels = None          # t -> -t twins need the sign of a free coupling
+
+
 def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, timings, t0, t1,
-            executor):
+            executor, fixed=None):
     """Levels from the block results, then verification (through `executor` if given)."""
     timings["algebra"] = time.perf_counter() - t1
     t_levels = time.perf_counter()
@@ -507,7 +587,7 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     levels.sort(key=_level_order)
     timings["levels"] = time.perf_counter() - t_levels
     report = VerificationReport(digits=digits)
-    spectrum = Spectrum(model, levels, [], report, timings)
+    spectrum = Spectrum(model, levels, [], report, timings, dict(fixed or {}))
     used = plan.names()
     if twins:
         used.append(f"sublattice gauge t -> -t ({len(twins)} odd-N blocks derived from their twins)")

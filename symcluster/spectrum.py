@@ -931,6 +931,9 @@ class Spectrum:
     symmetries : list of dict
         Detected symmetries and block sizes per sector (see docs/symmetry.md).
     verification : VerificationReport
+    fixed : dict
+        ``{label: sympy.Rational}`` of couplings held at fixed values in the solve; the
+        energies depend on the other couplings only.
     """
 
     model: object
@@ -938,10 +941,12 @@ class Spectrum:
     symmetries: list = field(default_factory=list)
     verification: VerificationReport = field(default_factory=VerificationReport)
     timings: dict = field(default_factory=dict)
+    fixed: dict = field(default_factory=dict)
 
     @property
     def symbols(self):
-        return tuple(self.model.symbols)
+        """The free couplings (the model's, less those held at fixed values)."""
+        return tuple(s for s in self.model.symbols if s.name not in self.fixed)
 
     @property
     def n_states(self):

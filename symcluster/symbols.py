@@ -6,7 +6,12 @@ import sympy
 # cost into `import symcluster` (measured there) instead of into the first solve.
 import sympy.tensor.tensor  # noqa: F401
 
-__all__ = ["coupling_symbol", "ENERGY"]
+__all__ = ["coupling_symbol", "ENERGY", "CONSTANT"]
+
+#: The label of the constant part of a block (the terms of couplings held at fixed values,
+#: times those values).  No coupling label can take it (labels start with a letter); the
+#: exact algebra treats it as a coupling and sets it to 1 after the characteristic polynomial.
+CONSTANT = "_1"
 
 #: The energy variable, first generator of every characteristic polynomial.
 ENERGY = sympy.Symbol("E", real=True)

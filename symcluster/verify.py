@@ -40,7 +40,7 @@ from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched,
                             prefetch_isolations)
 from .errors import ModelError, VerificationError
 from .hilbert.fock import sector_states, states_with
-from .symbols import coupling_symbol
+from .symbols import CONSTANT, coupling_symbol
 from .hilbert.action import HamiltonianAction
 from .spectrum import closed_values, energy_numeric, shared_evaluation
 from .symmetry.lattice import spin_block_images
@@ -330,8 +330,12 @@ def _has_multiple_root(acc):
     return p.gcd(p.derivative()).degree() > 0
 
 
-def random_points(symbols, count, seed):
-    """``count`` random rational points; all values share one denominator per point."""
+def random_points(symbols, count, seed, fixed=None):
+    """``count`` random rational points; all values share one denominator per point.
+
+    The first point has positive values (nothing special about any coupling's name);
+    ``fixed`` ({Symbol: Rational}) adds couplings held at fixed exact values.
+    """
     rng = random.Random(seed)
     pts = []
     for k in range(count):
@@ -341,11 +345,19 @@ def random_points(symbols, count, seed):
             num = 0
             while num == 0 or num % den == 0:
                 num = rng.randint(-900, 900)
-            if s.name != "U" and k == 0:
+            if k == 0:
                 num = abs(num)
             pt[s] = sympy.Rational(num, den)
+        if fixed:
+            pt.update(fixed)
         pts.append(pt)
     return pts
+
+
+def _fixed_point(spectrum):
+    """{Symbol: Rational} of the couplings the spectrum holds at fixed values (or None)."""
+    fixed = getattr(spectrum, "fixed", None)
+    return {coupling_symbol(l): v for l, v in fixed.items()} if fixed else None
 
 
 def sector_share(level, n_up, n_dn, n_fixed=None):
@@ -738,8 +750,11 @@ def verify_blocks(blocks, results, seed, n_points=2):
     names = sorted({n for b in blocks for n in b.block.terms} |
                    {g.name for _, fac in zip(blocks, results) for f, _, _ in fac
                     for g in f.gens[1:]})
-    symbols = [coupling_symbol(n) for n in names]
-    points = random_points(symbols, n_points, seed + 7)
+    # the constant part of blocks with fixed couplings (label CONSTANT) has the value 1
+    symbols = [coupling_symbol(n) for n in names if n != CONSTANT]
+    points = random_points(symbols, n_points, seed + 7,
+                           {coupling_symbol(CONSTANT): sympy.Integer(1)} if CONSTANT in names
+                           else None)
     rng = random.Random(seed + 8)
     primes = [_next_prime(rng.randrange(2 ** 61, 2 ** 62)) for _ in points]
     forms = FormCache()
@@ -826,7 +841,8 @@ def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, tries=5
             last = exc
             # the replacement is drawn like the point it replaces (only the first point
             # has every hopping positive; later points take random signs)
-            points[pi] = random_points(symbols, pi + 1, seed + 1000 * (attempt + 1))[pi]
+            points[pi] = random_points(symbols, pi + 1, seed + 1000 * (attempt + 1),
+                                       _fixed_point(spectrum))[pi]
         except ArithmeticError as exc:   # a closed form that is not real: wrong, not unlucky
             _fail(str(exc))
     _fail(f"no usable verification point after {tries} draws ({last})")
@@ -868,10 +884,12 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     # the lattice-label check reads sectors as products of up and down spin blocks
     if space.kind != "electrons" or space.projected:
         lattice = None
-    symbols = model.symbols
+    symbols = spectrum.symbols          # the free couplings (fixed ones are in every point)
+    spectrum_fixed = {l: Fraction(int(v.p), int(v.q))
+                      for l, v in (getattr(spectrum, "fixed", None) or {}).items()}
     seed = random.SystemRandom().randrange(2 ** 31) if seed is None else seed
     report.seed = seed
-    points = random_points(symbols, n_points, seed)
+    points = random_points(symbols, n_points, seed, _fixed_point(spectrum))
     rng = random.Random(seed + 1)
     # one random 62-bit prime per point
     primes = [_next_prime(rng.randrange(2 ** 61, 2 ** 62)) for _ in points]
@@ -1021,10 +1039,12 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                 continue
             states = space.sector_states(n_up, n_dn)
             terms, tr1, tr2 = _sector_terms(model, states, action)
+            if spectrum_fixed:
+                tr1, tr2 = _at_fixed(tr1, spectrum_fixed), _at_fixed(tr2, spectrum_fixed)
             groups = _factor_groups(spectrum, members, (n_up, n_dn))
             _check_sum_rules(groups, tr1, tr2, (n_up, n_dn), sums, forms)
             if lattice is not None and dim <= EXACT_DIM:
-                by_label = {s.name: points[0][s] for s in symbols}
+                by_label = {s.name: v for s, v in points[0].items()}
                 vals = []
                 for li, _ in members:       # float64 values at the first point, once per level
                     x = floats0.get(li)
@@ -1043,7 +1063,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
             # exact per-level checks above already cover both points)
             use_points = points if dim <= EXACT_DIM else points[:1]
             for pi, pt in enumerate(use_points):
-                by_label = {s.name: pt[s] for s in symbols}
+                by_label = {s.name: v for s, v in pt.items()}
                 level_vals = []
                 if dim <= MP_DIM or dim > EXACT_DIM:     # the tiers that compare values
                     for li, share in members:
@@ -1318,6 +1338,22 @@ def _factor_groups(spectrum, members, sector):
             _fail(f"sector {sector} holds {count} of the {dp} roots of one factor")
         out.append((p, share))
     return out
+
+
+def _at_fixed(poly, fixed):
+    """A label polynomial {sorted label tuple: coefficient} with the fixed labels set to
+    their values ({label: Fraction})."""
+    out = {}
+    for key, c in poly.items():
+        rest = []
+        for lab in key:
+            if lab in fixed:
+                c = c * fixed[lab]
+            else:
+                rest.append(lab)
+        k = tuple(rest)
+        out[k] = out.get(k, 0) + c
+    return _clean({k: (int(v) if Fraction(v).denominator == 1 else v) for k, v in out.items()})
 
 
 def _check_sum_rules(groups, tr1, tr2, sector, sums, forms):

@@ -412,8 +412,8 @@ def test_a_closed_form_that_is_not_real_at_a_point_is_rejected_not_redrawn(monke
         out = real_roots(rep, gens, **kwargs)
         return None if out is None else [r + bad if r.has(t) else r for r in out]
 
-    def points(symbols, count, seed):
-        pts = real_points(symbols, count, seed)
+    def points(symbols, count, seed, fixed=None):
+        pts = real_points(symbols, count, seed, fixed)
         if len(pts) > 1 and seed < 1000:          # the second first-draw point: t < 0;
             pts[1] = {s: (-abs(v) if s.name == "t" else v) for s, v in pts[1].items()}
         else:                                     # any redraw: t > 0
@@ -438,8 +438,8 @@ def test_root_check_accepts_a_level_that_is_exactly_zero_at_the_point(monkeypatc
     hit = {"t": sympy.Rational(573, 131), "tp": sympy.Rational(824, 131),
            "U": sympy.Rational(-251, 131)}
 
-    def with_the_point(symbols, count, seed):
-        pts = original(symbols, count, seed)
+    def with_the_point(symbols, count, seed, fixed=None):
+        pts = original(symbols, count, seed, fixed)
         pts[-1] = {s: hit[s.name] for s in symbols}
         return pts
 
