@@ -381,13 +381,14 @@ class LatticeSymmetry:
         Element index of the translation ``T`` used for momentum labels.
     """
 
-    def __init__(self, group):
+    def __init__(self, group, momenta=True):
         self.group = group
         self.n_sites = group.n_sites
         self._mask_images = {}
         self._projectors = None
         self.table = group.character_table()
-        self.translation = _translation(group)
+        # momenta only for a group of site translations (not for orbitals of one atom)
+        self.translation = _translation(group) if momenta else None
         cof = group.class_of
         psis = [tuple(self.table.orbit_sum(o)[cof[a]] for a in range(group.order))
                 for o in range(len(self.table.orbits))]

@@ -94,4 +94,5 @@ def term_lattice_symmetry(model):
     elements = term_automorphisms(model)
     if len(elements) == 1:
         return None
-    return LatticeSymmetry(PermutationGroup(elements))
+    # a cyclic permutation of the orbitals of one atom is no translation: no momenta there
+    return LatticeSymmetry(PermutationGroup(elements), momenta=model.n_sites > 1)
