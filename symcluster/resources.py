@@ -8,6 +8,7 @@ from math import comb, factorial
 
 from .errors import TooLargeError
 from .symmetry.groups import _MAX_ORDER as MAX_GROUP_ORDER
+from .tiers import FLOAT_DIM
 
 __all__ = ["available_memory", "block_dimensions", "estimate_cost", "optimistic_cost",
            "check_early", "check_size", "Progress", "submit"]
@@ -123,7 +124,6 @@ def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0):
     """
     n_sites = _as_space(n_sites)
     dims = [_sector_dim(n_sites, u, d) for u, d in sectors]
-    from .verify import FLOAT_DIM
     k = max(1, n_free)
     per_term = _PER_TERM_BIT * (1 if k == 1 else 3)
     polys = sum(m ** (k + 2) for m in block_dimensions(n_sites, sectors, plan)) / factorial(k + 1)

@@ -8,10 +8,9 @@ import time
 import sympy
 
 from .algebra.charpoly import charpoly_dict
-from .algebra.closed import add_shift
+from .algebra.closed import add_shift, closed_forms
 from .algebra.factor import factor_integer_dict
 from .algebra.polydict import integer_dict, poly_from_dict
-from .algebra.roots import ImplicitRoot, closed_forms
 from .symmetry.spin import shift_expr
 from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
                      sectors_to_solve)
@@ -19,6 +18,7 @@ from .resources import Progress, block_dimensions, check_early, check_size, subm
 from .errors import ModelError, VerificationError
 from .linalg import integer_multiple
 from .models import Model
+from .numeric.implicit import ImplicitRoot
 from .spectrum import Level, Spectrum, VerificationReport, check_digits
 from .symbols import CONSTANT
 from .verify import verify_blocks, verify_spectrum

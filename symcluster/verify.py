@@ -26,215 +26,35 @@ import random
 import sys
 from fractions import Fraction
 from itertools import chain
-from math import comb, gcd, isfinite, lcm
+from math import comb, lcm
 
 import flint
 import mpmath
 import numpy as np
 import sympy
-from mpmath.libmp import (fzero, from_int, from_man_exp, from_rational, mpf_abs, mpf_add, mpf_div,
-                          mpf_gt, mpf_mul, mpf_pos, mpf_shift, mpf_sub, round_nearest, to_float)
 
 from .algebra.polydict import dense_terms
-from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched, isolation_key,
-                            prefetch_isolations)
 from .errors import ModelError, VerificationError
 from .hilbert.fock import sector_states, states_with
-from .symbols import CONSTANT, coupling_symbol
 from .hilbert.action import HamiltonianAction
-from .spectrum import closed_values, energy_numeric, shared_evaluation
+from .numeric.evaluate import Evaluation, closed_values, energy_numeric
+from .numeric.implicit import ImplicitRoot
+from .numeric.isolate import LAGUERRE_MIN_DEGREE, isolate
+from .numeric.residuals import (exact_backward_error, float_newton_radius, mp_coefficients,
+                                newton_radius, root_deviation)
+from .resources import submit
+from .symbols import CONSTANT, coupling_symbol
 from .symmetry.lattice import spin_block_images
+from .tiers import EXACT_DIM, FLOAT_DIM, MP_DIM
 
-__all__ = ["verify_spectrum", "random_points", "sector_share", "MP_DIM", "EXACT_DIM"]
-
-MP_DIM = 4
-EXACT_DIM = 500
-FLOAT_DIM = 6000
-
-
-def root_deviation(coeffs, x, scale, digits):
-    """Backward error of ``x`` as a root of the polynomial with (mpmath) ``coeffs``.
-
-    ``|P(x)| / sum_k |c_k| r^k`` with ``r = max(|x|, scale * 10**-digits)``: relative to
-    the size of ``x`` itself, except for a level that is exactly zero at the point.  Its
-    computed value is then a rounding residue (about 1e-71 at 30 digits), and the purely
-    relative measure would be 1 for ``P = E``; the floor ``scale * 10**-digits``, with
-    ``scale`` the energy scale of the point (its largest |coupling|), accepts the residue
-    while a value wrong by more than ``10**-digits`` of the scale still fails.
-    """
-    return _deviation(coeffs, x, scale * mpmath.mpf(10) ** (-digits))
-
-
-def _mp_coefficients(acc, full):
-    """The coefficients ``acc[i] / full`` (``full > 0``) as raw mpf values, with their
-    absolute values: ``(coefficients, |coefficients|)``.
-
-    Each is ``mpmath.mpf(n) / d`` with ``n / d`` in lowest terms, at the working
-    precision (the libmp operations of that expression).  Where ``acc[i]`` has at most
-    ``prec`` bits, ``mpf(n)`` is exact and the correctly rounded quotient is that of
-    ``acc[i] / full`` itself, so the fraction is not reduced.
-    """
-    prec, rnd = mpmath.mp._prec_rounding
-    den = from_int(full)
-    out = []
-    for a in acc:
-        if a.bit_length() <= prec:
-            out.append(mpf_div(from_int(a), den, prec, rnd))
-        else:
-            g = gcd(a, full)
-            out.append(mpf_div(mpf_pos(from_int(a // g), prec, rnd), from_int(full // g),
-                               prec, rnd))
-    return out, [mpf_abs(c, prec, rnd) for c in out]
-
-
-def _deviation(coeffs, x, floor):
-    """:func:`root_deviation` with its floor ``scale * 10**-digits`` computed by the caller.
-
-    Horner's rule as ``mpmath.polyval`` does it (``p = c + x p``), at the working
-    precision; on mpf numbers the same libmp operations run without the mpf wrappers
-    (:func:`_raw_deviation`).
-    """
-    mpf = mpmath.mpf
-    if not (coeffs and type(x) is mpf and type(floor) is mpf
-            and all(type(c) is mpf for c in coeffs)):
-        val = mpmath.polyval(coeffs, x)
-        r = max(abs(x), floor)
-        size = mpmath.polyval([abs(c) for c in coeffs], r)
-        return abs(val) / size if size else abs(val)
-    prec, rnd = mpmath.mp._prec_rounding
-    raw = [c._mpf_ for c in coeffs]
-    return mpmath.mp.make_mpf(_raw_deviation(raw, [mpf_abs(c, prec, rnd) for c in raw],
-                                             x._mpf_, floor._mpf_, prec, rnd))
-
-
-def _raw_deviation(raw, absolute, x, floor, prec, rnd):
-    """The backward error on raw mpf values: coefficients, their absolute values (each
-    ``abs(c)`` at the working precision), the value and the floor."""
-    val = raw[0]
-    for c in raw[1:]:
-        val = mpf_add(c, mpf_mul(x, val, prec, rnd), prec, rnd)
-    ax = mpf_abs(x, prec, rnd)
-    r = floor if mpf_gt(floor, ax) else ax      # max(|x|, floor) keeps |x| on a tie
-    size = absolute[0]
-    for c in absolute[1:]:
-        size = mpf_add(c, mpf_mul(r, size, prec, rnd), prec, rnd)
-    val = mpf_abs(val, prec, rnd)
-    return mpf_div(val, size, prec, rnd) if size != fzero else val
-
-
-def _horner_exact(acc, man, exp):
-    """``sum_i acc[i] x**(d - i)`` (``acc`` integers, highest power first) at the dyadic
-    ``x = man * 2**exp``, exactly: ``(n, e)`` with the value ``n * 2**e``.
-
-    For ``exp < 0`` the sum times ``2**(-exp d)`` is the integer
-    ``sum_i acc[i] man**(d - i) 2**(-exp i)``, which Horner's rule builds as
-    ``v = v man + acc[i] 2**(-exp i)``.
-    """
-    v = 0
-    if exp >= 0:
-        x = man << exp
-        for a in acc:
-            v = v * x + a
-        return v, 0
-    s = -exp
-    for i, a in enumerate(acc):
-        v = v * man + (a << (s * i))
-    return v, exp * (len(acc) - 1)
-
-
-def _exact_deviation(acc, x, floor, prec, rnd):
-    """:func:`root_deviation` of the raw mpf ``x`` for the polynomial with coefficients
-    ``acc / full`` (integers, highest first; ``full > 0`` cancels), with the raw floor.
-
-    ``|P(x)|`` and ``sum_k |c_k| r**k`` are evaluated exactly at the (dyadic) value ``x``
-    and at ``r = max(|x|, floor)``; their quotient is rounded once, to ``prec`` bits.
-    """
-    sign, man, exp, _ = x
-    n, e = _horner_exact(acc, -man if sign else man, exp)
-    ax = mpf_abs(x)                     # exact
-    _, rman, rexp, _ = floor if mpf_gt(floor, ax) else ax
-    size, se = _horner_exact([abs(a) for a in acc], rman, rexp)
-    n = abs(n)
-    if not size or not n:
-        return from_man_exp(n, e, prec, rnd)
-    # the quotient rounded once, as mpf_div rounds it: prec + 5 bits or more of the
-    # integer quotient, a sticky last bit for a non-zero remainder, then one rounding
-    extra = max(5, prec - n.bit_length() + size.bit_length() + 5)
-    quot, rem = divmod(n << extra, size)
-    if rem:
-        quot = (quot << 1) + 1
-        extra += 1
-    return from_man_exp(quot, e - se - extra, prec, rnd)
-
-
-def _newton_radius(raw, absolute, x, prec, rnd):
-    """Radius of a disk about ``x`` that holds a root of the polynomial (raw mpf values).
-
-    For a polynomial P of degree n, some root lies within ``n |P(x)| / |P'(x)|`` of any
-    x (from P'/P = sum_i 1/(x - r_i); e.g. P. Henrici, Applied and Computational Complex
-    Analysis, vol. 1, Wiley 1974, section 6.4 [from memory]).  The rounding of Horner's
-    rule at working precision u = 2^-prec is bounded by ``2 n u sum |c_k| |x|^k`` for P and
-    ``2 n u sum k |c_k| |x|^(k-1)`` for P' (N. J. Higham, Accuracy and Stability of
-    Numerical Algorithms, 2nd ed., section 5.1 [from memory]); both bounds are doubled here
-    and taken the safe way round.  Returns None where the computed |P'(x)| does not exceed
-    its rounding bound (x too close to a multiple root to separate anything).
-    """
-    n = len(raw) - 1
-    val, der = raw[0], fzero
-    size, size_d = absolute[0], fzero
-    ax = mpf_abs(x, prec, rnd)
-    for c, a in zip(raw[1:], absolute[1:]):
-        der = mpf_add(val, mpf_mul(x, der, prec, rnd), prec, rnd)
-        val = mpf_add(c, mpf_mul(x, val, prec, rnd), prec, rnd)
-        size_d = mpf_add(size, mpf_mul(ax, size_d, prec, rnd), prec, rnd)
-        size = mpf_add(a, mpf_mul(ax, size, prec, rnd), prec, rnd)
-    u = from_man_exp(4 * n, -prec)               # twice the bound's 2 n u
-    lower = mpf_sub(mpf_abs(der, prec, rnd), mpf_mul(u, size_d, prec, rnd), prec, rnd)
-    if not mpf_gt(lower, fzero):
-        return None
-    top = mpf_add(mpf_abs(val, prec, rnd), mpf_mul(u, size, prec, rnd), prec, rnd)
-    return mpf_mul(from_int(2 * n), mpf_div(top, lower, prec, rnd), prec, rnd)
-
-
-def _complex_newton_radius(cs, x):
-    """:func:`_newton_radius` for a value that is not a real mpf (mpmath arithmetic)."""
-    make = mpmath.mp.make_mpf
-    c = [make(v) for v in cs[0]]
-    n = len(c) - 1
-    val, der = mpmath.polyval(c, x, derivative=True)
-    ax = abs(x)
-    size = mpmath.polyval([make(v) for v in cs[1]], ax)
-    size_d = mpmath.polyval([k * make(v) for k, v in zip(range(n, 0, -1), cs[1][:-1])], ax)
-    u = mpmath.mpf(4 * n) * mpmath.eps
-    lower = abs(der) - u * size_d
-    if lower <= 0:
-        return None
-    return (2 * n * (abs(val) + u * size) / lower)._mpf_
-
-
-def _float_newton_radius(c, a, x):
-    """:func:`_newton_radius` in float64, about the float ``x``: coefficients ``c`` (the
-    working-precision ones rounded to float64) and their absolute values ``a``.  The
-    rounding bound covers Horner's rule and the rounding of the coefficients; None where
-    it does not separate P'(x) from 0 or a value is not finite."""
-    n = len(c) - 1
-    val, der, size, size_d, ax = c[0], 0.0, a[0], 0.0, abs(x)
-    for ci, ai in zip(c[1:], a[1:]):
-        der = val + x * der
-        val = ci + x * val
-        size_d = size + ax * size_d
-        size = ai + ax * size
-    u = 4 * (n + 1) * 2.0 ** -53
-    lower = abs(der) - u * size_d
-    if not (lower > 0 and isfinite(size) and isfinite(val)):
-        return None
-    return 2 * n * (abs(val) + u * size) / lower
+__all__ = ["verify_spectrum", "random_points", "sector_share", "MP_DIM", "EXACT_DIM",
+           "FLOAT_DIM", "root_deviation"]
 
 
 _FLOAT_MIN = sys.float_info.min        # the smallest normal float64
 
 
-def _separate_roots(group, pt, prec, rnd, floats):
+def _separate_roots(group, pt, floats):
     """Fail unless the values of one polynomial's levels are distinct roots of it.
 
     Returns True when they are, and False, undecided, when two disks touch and the
@@ -245,12 +65,13 @@ def _separate_roots(group, pt, prec, rnd, floats):
     ``group`` lists ``(level, value, ints)`` for the closed-form levels of one level
     polynomial (one factor of one block; ``ints`` its coefficients at the point as
     :meth:`_Form.ints_at` gives them, ``(acc, full)``).  About each value, a disk holds a
-    root (:func:`_newton_radius`); pairwise disjoint disks hold distinct roots, so the n
+    root (:func:`~symcluster.numeric.residuals.newton_radius`); pairwise disjoint disks
+    hold distinct roots, so the n
     forms of a degree-n factor are its n roots, each once.  The disks are tried in
     float64 first, about the values rounded to float64 and widened by that rounding, with
     the coefficients rounded once to float64; where they touch, again at working
-    precision.  ``floats`` caches the float64 coefficients for the call (None where one
-    is out of the float64 range).
+    precision (mpmath).  ``floats`` caches the float64 coefficients for the call (None
+    where one is out of the float64 range).
     """
     disks = []
     for lev, x, ints in group:
@@ -268,8 +89,8 @@ def _separate_roots(group, pt, prec, rnd, floats):
             floats[id(ints)] = fc
         r = None
         if fc is not None and type(x) is mpmath.mpf:
-            xf = to_float(x._mpf_)
-            r = _float_newton_radius(*fc, xf)
+            xf = float(x)
+            r = float_newton_radius(*fc, xf)
         if r is None:
             break
         disks.append((xf, r + 4 * 2.0 ** -53 * abs(xf)))
@@ -281,18 +102,11 @@ def _separate_roots(group, pt, prec, rnd, floats):
     for _, x, ints in group:
         cs = mp.get(id(ints))
         if cs is None:
-            cs = mp[id(ints)] = _mp_coefficients(*ints)
-        radii.append(_newton_radius(*cs, x._mpf_, prec, rnd) if type(x) is mpmath.mpf
-                     else _complex_newton_radius(cs, x))
+            cs = mp[id(ints)] = mp_coefficients(*ints)
+        radii.append(newton_radius(cs, x))
     for i, ((lev, x, _), rx) in enumerate(zip(group, radii)):
         for (lev2, y, _), ry in zip(group[i + 1:], radii[i + 1:]):
-            if rx is None or ry is None:
-                far = False
-            elif type(x) is mpmath.mpf and type(y) is mpmath.mpf:
-                far = mpf_gt(mpf_abs(mpf_sub(x._mpf_, y._mpf_, prec, rnd), prec, rnd),
-                             mpf_add(rx, ry, prec, rnd))
-            else:
-                far = abs(x - y) > mpmath.mp.make_mpf(mpf_add(rx, ry, prec, rnd))
+            far = rx is not None and ry is not None and abs(x - y) > rx + ry
             if not far:
                 if _has_multiple_root(group[0][2][0]):
                     return False
@@ -306,17 +120,16 @@ def _separate_elsewhere(group, symbols, seed, digits, tries=5):
     """:func:`_separate_roots` for one polynomial's levels at fresh random points, until
     one point decides (fails if none of ``tries`` does)."""
     form = _Form(group[0][0].polynomial)
-    prec, rnd = mpmath.mp._prec_rounding
     for attempt in range(tries):
         pt = random_points(symbols, 2, seed + 3000 + attempt)[1]
+        evaluation = Evaluation()       # the forms of one factor share subexpressions
         try:
-            with shared_evaluation():
-                vals = [energy_numeric(lev.energy, pt, digits + 5) for lev, _, _ in group]
+            vals = [energy_numeric(lev.energy, pt, digits + 5, evaluation=evaluation)
+                    for lev, _, _ in group]
         except (ZeroDivisionError, ValueError, ModelError, ArithmeticError):
             continue
         ints = form.ints_at(pt)
-        if _separate_roots([(lev, x, ints) for (lev, _, _), x in zip(group, vals)], pt,
-                           prec, rnd, {}):
+        if _separate_roots([(lev, x, ints) for (lev, _, _), x in zip(group, vals)], pt, {}):
             return
     _fail(f"the roots of the polynomial of level {group[0][0].energy} "
           f"(N={group[0][0].quantum_numbers['N']}) merge at every point tried, so its closed "
@@ -809,13 +622,15 @@ def _first_equal(levels):
     return [first.setdefault(lev.energy, i) for i, lev in enumerate(levels)]
 
 
-def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, tries=5, first=None):
+def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, evaluation, tries=5,
+                            first=None):
     """Values of all levels at ``points[pi]``; a point where a closed form is 0/0 is redrawn.
 
     A random rational point can, rarely, fall where roots of some level polynomial
     merge and its closed form is undefined (for instance a vanishing discriminant);
     such a point says nothing about correctness, so it is replaced in ``points`` by
-    a fresh one (the same for every check that follows).  ``first`` is
+    a fresh one (the same for every check that follows).  ``evaluation`` is the
+    caller's :class:`~symcluster.numeric.evaluate.Evaluation`; ``first`` is
     :func:`_first_equal` of the levels, if the caller has it.
     """
     levels = spectrum.levels
@@ -832,10 +647,11 @@ def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, tries=5
             own = [i for i, k in enumerate(first) if k == i]
             closed = [i for i in own if not hasattr(levels[i].energy, "numeric")]
             vals = dict(zip(closed, closed_values([levels[i].energy for i in closed], pt,
-                                                  digits + 5)))
+                                                  digits + 5, evaluation=evaluation)))
             for i in own:
                 if i not in vals:
-                    vals[i] = energy_numeric(levels[i].energy, pt, digits + 5)
+                    vals[i] = energy_numeric(levels[i].energy, pt, digits + 5,
+                                             evaluation=evaluation)
             return [vals[k] for k in first]
         except (ZeroDivisionError, ValueError, ModelError) as exc:
             last = exc
@@ -908,25 +724,26 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     report.add("state count", f"N in {sorted(wanted)}" if space.has_charge else "all states",
                worst=0.0, states=total)
 
-    # numeric values of every level at every point (closed forms and implicit roots);
-    # with an executor, the certified isolations of high-degree factors run on it first;
-    # closed forms share the values of common subexpressions (shared_evaluation)
+    # numeric values of every level at every point (closed forms and implicit roots),
+    # through one Evaluation that this call owns: closed forms share the values of common
+    # subexpressions, and with an executor the certified isolations of high-degree
+    # factors run on it first and are handed to the implicit roots through it
+    evaluation = Evaluation()
+    if executor is not None:
+        # one representative root per polynomial: the isolation does not depend on the index
+        reps = {id(l.energy.poly): l.energy for l in spectrum.levels
+                if isinstance(l.energy, ImplicitRoot) and l.energy.degree >= LAGUERRE_MIN_DEGREE}
+        keys = dict.fromkeys(r.isolation_key(pt, digits + 5)
+                             for pt in points for r in reps.values())
+        futures = [(key, submit(executor, isolate, *key)) for key in keys]
+        evaluation.isolations.update((key, fut.result()) for key, fut in futures)
+    first = _first_equal(spectrum.levels)
     values = []
-    try:
-        if executor is not None:
-            # one representative root per polynomial: the isolation does not depend on the index
-            reps = {id(l.energy.poly): l.energy for l in spectrum.levels
-                    if isinstance(l.energy, ImplicitRoot)
-                    and l.energy.degree >= LAGUERRE_MIN_DEGREE}
-            keys = [isolation_key(r, pt, digits + 5) for pt in points for r in reps.values()]
-            prefetch_isolations(keys, executor)
-        first = _first_equal(spectrum.levels)
-        with mpmath.workdps(digits + 10), shared_evaluation():
-            for pi in range(len(points)):
-                values.append(_values_at_usable_point(spectrum, symbols, points, pi, seed, digits,
-                                                      first=first))
-    finally:
-        clear_prefetched()
+    with mpmath.workdps(digits + 10):
+        for pi in range(len(points)):
+            values.append(_values_at_usable_point(spectrum, symbols, points, pi, seed, digits,
+                                                  evaluation, first=first))
+    del evaluation      # its compiled forms and values are not needed below
 
     # 2. each level is a root of its own polynomial (closed forms against polynomials)
     with mpmath.workdps(digits + 10):
@@ -934,10 +751,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         scales = [max(abs(mpmath.mpf(int(v.p)) / int(v.q)) for v in pt.values()) if pt else
                   mpmath.mpf(1) for pt in points]
         limit = mpmath.mpf(10) ** (-digits)
-        prec, rnd = mpmath.mp._prec_rounding
-        make = mpmath.mp.make_mpf
-        limit_raw = limit._mpf_
-        worst_raw = fzero
+        worst_root = mpmath.mpf(0)
         merged = {}         # id(level polynomial) -> its groups at points where roots merged
         # the integer form of each level's polynomial; None for an implicit root, whose
         # value is a certified root of this very polynomial
@@ -947,7 +761,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                 _fail(f"level {li} has no polynomial")
             level_forms.append(None if hasattr(lev.energy, "numeric") else forms(lev.polynomial))
         for pi, pt in enumerate(points):
-            floor = (scales[pi] * mpmath.mpf(10) ** (-digits))._mpf_
+            floor = scales[pi] * mpmath.mpf(10) ** (-digits)
             done = set()    # (id(form), id(value)): a level equal to one checked before
             by_poly = {}    # id(level polynomial) -> [(level, value, its coefficients)]
             at = values[pi]
@@ -959,31 +773,28 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                 ints = form.ints_at(pt)     # the coefficients times a positive integer
                 if key not in done:
                     done.add(key)
-                    if type(x) is mpmath.mpf:
+                    if type(x) is mpmath.mpf and mpmath.isfinite(x):
                         # |P(x)| and its scale exactly at the value, one rounding
-                        dev = _exact_deviation(ints[0], x._mpf_, floor, prec, rnd)
+                        dev = exact_backward_error(ints[0], x, floor)
                     else:
-                        cs = _mp_coefficients(*ints)
-                        dev = root_deviation([make(c) for c in cs[0]], x, scales[pi],
-                                             digits)._mpf_
-                    if mpf_gt(dev, limit_raw):
+                        dev = root_deviation(mp_coefficients(*ints), x, scales[pi], digits)
+                    if not dev <= limit:
                         lev = spectrum.levels[li]
                         _fail(f"level {lev.energy} (N={lev.quantum_numbers['N']}) is not a root of "
-                              f"its polynomial at {pt}: deviation {mpmath.nstr(make(dev), 3)}")
-                    if mpf_gt(dev, worst_raw):
-                        worst_raw = dev
+                              f"its polynomial at {pt}: deviation {mpmath.nstr(dev, 3)}")
+                    worst_root = max(worst_root, dev)
                 if len(ints[0]) > 2:
                     lev = spectrum.levels[li]
                     by_poly.setdefault(id(lev.polynomial), []).append((lev, x, ints))
             floats = {}     # id(coefficients) -> their float64 values and |.|, or None
             for key, group in by_poly.items():
-                if not _separate_roots(group, pt, prec, rnd, floats):
+                if not _separate_roots(group, pt, floats):
                     merged.setdefault(key, []).append(group)
         # a factor whose roots merged at every point is separated at further points
         for groups in merged.values():
             if len(groups) == len(points):
                 _separate_elsewhere(groups[0], symbols, seed, digits)
-    worst_root = to_float(worst_raw)
+    worst_root = float(worst_root)
     report.add("closed forms are roots of their polynomials", "all levels", points, worst_root)
     report.add("closed forms of one factor are distinct roots of it (pairwise disjoint disks "
                "of radius 2n|P(x)|/|P'(x)| about the values)",
@@ -1300,11 +1111,11 @@ def _enclosed_eigenvalues(entries, dim, prec):
     eigenvalues only; python-flint returns a real root with an imaginary part of exactly
     zero, and anything else is refused.
     """
-    make = mpmath.mp.make_mpf
     if dim == 1:
         x = Fraction(entries.get((0, 0), 0))
-        value = from_rational(x.numerator, x.denominator, prec, round_nearest)
-        return [(make(value), make(mpf_shift(mpf_abs(value), 1 - prec)))]
+        with mpmath.workprec(prec):
+            value = mpmath.fdiv(x.numerator, x.denominator)     # rounded to nearest
+            return [(value, mpmath.ldexp(abs(value), 1 - prec))]
     m = flint.fmpq_mat(dim, dim)
     for (i, j), x in entries.items():
         x = Fraction(x)
@@ -1319,7 +1130,8 @@ def _enclosed_eigenvalues(entries, dim, prec):
         x = z.real
         man, exp = x.mid().man_exp()
         rman, rexp = x.rad().man_exp()
-        vb = (make(from_man_exp(int(man), int(exp))), make(from_man_exp(int(rman), int(rexp))))
+        # exact: mpmath converts integers without rounding and ldexp does not round
+        vb = (mpmath.ldexp(int(man), int(exp)), mpmath.ldexp(int(rman), int(rexp)))
         out.extend([vb] * mult)
     out.sort(key=lambda vb: vb[0])
     return out

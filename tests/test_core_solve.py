@@ -455,7 +455,7 @@ def test_root_deviation_is_scale_aware_not_fooled_by_a_wrong_value():
     # P = E^2 - U E - 4 t^2 at t = 1/137, U = 900/137 (two-site singlet sector): its small
     # root -4t^2/U (1 + ...) ~ -3e-5 is far below the point's scale; a value wrong by a
     # relative 1e-25 must still fail at 30 digits (the floor is scale * 1e-30, not scale).
-    from symcluster.verify import root_deviation
+    from symcluster.numeric.residuals import root_deviation
     with mpmath.workdps(80):
         one = mpmath.mpf(1)
         six = mpmath.mpf(6)
@@ -481,12 +481,12 @@ def test_verification_redraws_a_point_where_a_closed_form_is_undefined(monkeypat
     original = V.energy_numeric
     bad = {}
 
-    def undefined_at_first_point(energy, point, digits=30, polynomial=None):
+    def undefined_at_first_point(energy, point, digits=30, polynomial=None, evaluation=None):
         key = tuple(sorted((s.name, str(v)) for s, v in point.items()))
         bad.setdefault("point", key)
         if key == bad["point"]:
             raise ZeroDivisionError("0/0 in a closed form")
-        return original(energy, point, digits, polynomial=polynomial)
+        return original(energy, point, digits, polynomial=polynomial, evaluation=evaluation)
 
     monkeypatch.setattr(V, "energy_numeric", undefined_at_first_point)
     spec = sc.solve(sc.hubbard(sc.chain(4)), electrons=[3])
@@ -529,13 +529,13 @@ def test_a_redrawn_second_point_keeps_random_signs(monkeypatch):
         if len(seen) == 2 and key == seen[1]:
             raise ZeroDivisionError("0/0 in a closed form")
 
-    def undefined_at_second_point(energy, point, digits=30, polynomial=None):
+    def undefined_at_second_point(energy, point, digits=30, polynomial=None, evaluation=None):
         meet(point)
-        return original(energy, point, digits, polynomial=polynomial)
+        return original(energy, point, digits, polynomial=polynomial, evaluation=evaluation)
 
-    def all_undefined_at_second_point(energies, point, digits):
+    def all_undefined_at_second_point(energies, point, digits, evaluation=None):
         meet(point)
-        return original_all(energies, point, digits)
+        return original_all(energies, point, digits, evaluation=evaluation)
 
     # closed forms are evaluated together (closed_values), implicit roots one by one
     monkeypatch.setattr(V, "energy_numeric", undefined_at_second_point)
@@ -555,7 +555,7 @@ def test_ball_evaluation_refuses_arguments_certainly_outside_the_domain():
     # sqrt of a negative number or acos of 2 is not a real closed form: the ball evaluation
     # must not clamp it to the domain edge (a wrong value); it declines instead.
     import flint
-    from symcluster.spectrum import _arb_eval, _Undecided
+    from symcluster.numeric.evaluate import _arb_eval, _Undecided
     x = sympy.Symbol("x")
     env = {x: flint.arb(-2)}
     for expr in (sympy.sqrt(x), sympy.acos(x), sympy.asin(-x)):
@@ -624,7 +624,7 @@ def test_negated_couplings_give_the_substituted_factors_and_roots():
     # _negate_couplings derives a gauge twin's factors: P(E, t, U) -> P(E, -t, U), roots
     # the roots r(-t) as a set.  Checked against sympy's substitution; an even factor keeps its forms
     # but gets a Poly object of its own (the verification counts roots per object).
-    from symcluster.algebra.roots import ImplicitRoot
+    from symcluster.numeric import ImplicitRoot
     from symcluster.solve import _negate_couplings
     from symcluster.symbols import ENERGY
     t, U = sympy.symbols("t U", real=True)

@@ -215,7 +215,7 @@ def test_missing_file_is_an_input_error(tmp_path):
 def test_version_2_stores_each_polynomial_once_and_reloads_roots():
     # chain(4) has implicit roots (degree > 4): their polynomial is shared by all its roots.
     import symcluster as sc
-    from symcluster.algebra.roots import ImplicitRoot
+    from symcluster.numeric import ImplicitRoot
     spec = sc.solve(sc.hubbard(sc.chain(4)), electrons=[3])
     doc = json.loads(dumps_spectrum(spec, point={"t": 1, "U": 4}, digits=30))
     distinct = {l.polynomial for l in spec.levels if l.polynomial is not None}

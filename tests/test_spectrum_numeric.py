@@ -23,7 +23,9 @@ import pytest
 import sympy
 
 import symcluster as sc
-from symcluster.spectrum import _RootCounter, energy_numeric, shared_evaluation
+from symcluster.numeric.evaluate import Evaluation, closed_values
+from symcluster.numeric.isolate import RootCounter
+from symcluster.spectrum import energy_numeric
 from reference_fock import FockReference
 
 R = sympy.Rational
@@ -187,7 +189,7 @@ def test_ring4_where_levels_split_by_powers_of_a_tiny_hopping(values, digits):
 
 
 # N = 4 of this cluster has an implicit (degree-6) level, whose value comes from the
-# general root isolation of symcluster.algebra.roots rather than from a closed form
+# general root isolation of symcluster.numeric.isolate rather than from a closed form
 # (about 20 s at these points, 2-core Xeon); the sectors below have closed forms only.
 @pytest.mark.parametrize("values", [
     # two Hubbard dimers (bonds tp = 1) coupled by t = 10^-300: every level sits within
@@ -210,7 +212,7 @@ def test_root_counter_counts_distinct_real_roots_in_closed_intervals():
     F = flint.fmpq
     p = flint.fmpq_poly([-1, 1]) * flint.fmpq_poly([-2, 1]) ** 2 * flint.fmpq_poly([-3, 1]) \
         * flint.fmpq_poly([1, 0, 1])
-    counter = _RootCounter(p.coeffs())
+    counter = RootCounter(p.coeffs())
     assert (counter.n_real, counter.n_distinct) == (3, 5)
     cases = [((0, 10), 3), ((1, 2), 2), ((F(3, 2), F(5, 2)), 1), ((2, 2), 1),
              ((F(5, 2), 3), 1), ((-5, F(1, 2)), 0), ((F(21, 10), F(29, 10)), 0), ((3, 3), 1)]
@@ -323,10 +325,9 @@ _FORMS = [
                                    {_T: R(-378, 103), _U: R(-659, 103)},
                                    {_T: R(1, 137), _U: R(900, 137)}])
 def test_closed_forms_equal_a_plain_mpmath_walk_shared_or_not(point):
-    from symcluster.spectrum import closed_values
     alone = [energy_numeric(f, point, 30) for f in _FORMS]
-    with shared_evaluation():
-        shared = [energy_numeric(f, point, 30) for f in _FORMS + _FORMS[::-1]]
+    shared_by = Evaluation()
+    shared = [energy_numeric(f, point, 30, evaluation=shared_by) for f in _FORMS + _FORMS[::-1]]
     together = closed_values(_FORMS[::-1], point, 30)[::-1]       # one sweep
     for f, a, s, s2, s3 in zip(_FORMS, alone, shared, shared[len(_FORMS):][::-1], together):
         want = _plain_value(f, point, 30)
@@ -340,8 +341,8 @@ def test_closed_forms_equal_a_plain_mpmath_walk_shared_or_not(point):
 
 
 def test_shared_evaluation_computes_a_common_square_root_once():
-    from symcluster.spectrum import _Program, _SQRT
-    prog = _Program()
+    from symcluster.numeric.compiled import _SQRT, Program
+    prog = Program()
     point = {_T: R(2, 7), _U: R(3, 5)}
     with mpmath.workdps(70):
         prog.evaluate(_FORMS[0], point)
@@ -353,8 +354,8 @@ def test_shared_evaluation_computes_a_common_square_root_once():
 def test_one_sweep_computes_only_the_operations_its_forms_need():
     # evaluate_all on some forms leaves the operations of the others uncomputed; asked
     # for the others afterwards, it computes theirs and keeps what is known
-    from symcluster.spectrum import _Program
-    prog = _Program()
+    from symcluster.numeric.compiled import Program
+    prog = Program()
     point = {_T: R(2, 7), _U: R(3, 5)}
     slots = [prog._compile(f) for f in _FORMS]
     with mpmath.workdps(70):
@@ -389,8 +390,9 @@ def test_sign_of_a_rational_argument_is_exact():
 def test_a_form_that_is_not_real_raises():
     with pytest.raises(ArithmeticError):
         energy_numeric(sympy.sqrt(-(_U**2) - 1), {_U: R(1, 3)}, 30)
-    with shared_evaluation(), pytest.raises(ArithmeticError):
-        energy_numeric(_T + sympy.sqrt(-(_U**2) - 1), {_T: R(1, 2), _U: R(1, 3)}, 30)
+    with pytest.raises(ArithmeticError):
+        energy_numeric(_T + sympy.sqrt(-(_U**2) - 1), {_T: R(1, 2), _U: R(1, 3)}, 30,
+                       evaluation=Evaluation())
 
 
 def test_a_node_without_an_mpmath_operation_uses_sympy():

@@ -163,24 +163,31 @@ def test_polys_sharing_a_representation_share_a_form_only_with_equal_generators(
     assert sorted(((k,) + exps, c) for k, exps, c, _ in other.terms) == want
 
 
-def test_mp_coefficients_are_mpmath_quotients_of_lowest_terms():
-    # mpmath.mpf(n) / d with n / d in lowest terms (mpmath itself), also where the
-    # numerator has more bits than the working precision
-    from symcluster.verify import _mp_coefficients
+def test_mp_coefficients_are_correctly_rounded_quotients():
+    # each coefficient acc[i] / full is the nearest number of the working precision to the
+    # exact quotient (checked in exact rational arithmetic: within half an ulp), also where
+    # the numerator has more bits than the working precision
+    from symcluster.numeric.residuals import mp_coefficients
     full = 3 ** 5 * 2 ** 7 * 101
     acc = [full, -6 * 101, 7, 0, 5 ** 300 * 3, -(2 ** 400) * 101 + 1]
     with mpmath.workdps(40):
-        raw, absolute = _mp_coefficients(acc, full)
-        for a, r, s in zip(acc, raw, absolute):
-            f = Fraction(a, full)
-            want = mpmath.mpf(f.numerator) / f.denominator
-            assert r == want._mpf_ and s == abs(want)._mpf_, a
+        prec = mpmath.mp.prec
+        for a, r in zip(acc, mp_coefficients(acc, full)):
+            want = Fraction(a, full)
+            man, exp = r.man_exp
+            got = Fraction(-man if r < 0 else man) * Fraction(2) ** exp
+            if want == 0:
+                assert got == 0
+                continue
+            ulp = Fraction(2) ** (mpmath.mag(r) - prec)      # an upper bound of r's ulp
+            assert abs(got - want) <= ulp / 2, a
+            assert man.bit_length() <= prec, a
 
 
 @pytest.mark.parametrize("seed", range(20))
 def test_root_deviation_is_mpmath_polyval_bit_for_bit(seed):
     # |P(x)| / sum |c_k| r^k, r = max(|x|, scale 10^-digits), with mpmath.polyval (mpmath)
-    from symcluster.verify import root_deviation
+    from symcluster.numeric.residuals import root_deviation
     rng = random.Random(seed)
     with mpmath.workdps(40):
         cs = [mpmath.mpf(rng.randint(-999, 999)) / rng.randint(1, 99)
@@ -200,12 +207,11 @@ def test_root_deviation_is_mpmath_polyval_bit_for_bit(seed):
 
 @pytest.mark.parametrize("seed", range(8))
 def test_exact_deviation_is_the_backward_error_rounded_once(seed):
-    # _exact_deviation (the verification's root check for real values) evaluates |P(x)| and
-    # sum |c_k| r^k exactly at the dyadic x; the reference is the same quotient summed
+    # exact_backward_error (the verification's root check for real values) evaluates |P(x)|
+    # and sum |c_k| r^k exactly at the dyadic x; the reference is the same quotient summed
     # term by term by mpmath at 3000 digits (an independent evaluation): they agree to
     # one rounding at the working precision (133 bits)
-    from mpmath import libmp
-    from symcluster.verify import _exact_deviation, _horner_exact
+    from symcluster.numeric.residuals import exact_backward_error
     rng = random.Random(seed)
     for trial in range(200):
         d = rng.randint(1, 6)
@@ -217,8 +223,7 @@ def test_exact_deviation_is_the_backward_error_rounded_once(seed):
                  if trial % 7 else mpmath.mpf(0))
             floor = mpmath.mpf(10) ** -rng.randint(5, 60)
         with mpmath.workdps(40):
-            prec, rnd = mpmath.mp._prec_rounding
-            got = mpmath.mpf(_exact_deviation(acc, x._mpf_, floor._mpf_, prec, rnd))
+            got = exact_backward_error(acc, x, floor)
         with mpmath.workdps(3000):
             r = max(abs(x), floor)
             val = abs(mpmath.fsum(mpmath.mpf(a) / full * x ** (d - i) for i, a in enumerate(acc)))
@@ -226,14 +231,21 @@ def test_exact_deviation_is_the_backward_error_rounded_once(seed):
                                for i, a in enumerate(acc))
             want = val / size if size else val
             assert abs(got - want) <= mpmath.mpf(2) ** -130 * want, (trial, acc, x)
-        # and it is mpmath's own correctly rounded quotient of the two exact sums
-        sign, man, exp, _ = x._mpf_
-        n, e = _horner_exact(acc, -man if sign else man, exp)
-        _, rman, rexp, _ = max(abs(x), floor)._mpf_
-        size, se = _horner_exact([abs(a) for a in acc], rman, rexp)
-        quotient = (libmp.mpf_div(libmp.from_man_exp(abs(n), e), libmp.from_man_exp(size, se),
-                                  prec, rnd) if size else libmp.from_man_exp(abs(n), e, prec, rnd))
-        assert _exact_deviation(acc, x._mpf_, floor._mpf_, prec, rnd) == quotient
+        # and it is the correctly rounded quotient of the two exact sums: in exact rational
+        # arithmetic (Fractions of the dyadic values), within half an ulp at 133 bits
+        def exact(v):
+            man, exp = v.man_exp
+            return Fraction(-man if v < 0 else man) * Fraction(2) ** exp
+        xq, rq = exact(x), max(abs(exact(x)), exact(floor))
+        num = abs(sum(Fraction(a) * xq ** (d - i) for i, a in enumerate(acc)))
+        den = sum(abs(Fraction(a)) * rq ** (d - i) for i, a in enumerate(acc))
+        q = num / den if den else num
+        if q:
+            with mpmath.workdps(40):
+                ulp = Fraction(2) ** (mpmath.mag(got) - mpmath.mp.prec)
+            assert abs(exact(got) - q) <= ulp / 2, (trial, acc, x)
+        else:
+            assert got == 0
 
 
 def test_sector_shares_split_multiplets_over_sz_sectors():
@@ -494,25 +506,20 @@ def test_a_root_listed_twice_is_rejected():
 def test_newton_radius_holds_a_root(seed):
     # the disk of radius _newton_radius about a perturbed root holds a root of P (reference:
     # mpmath.polyroots on the same coefficients), for perturbations from 1e-30 to 0.3
-    from mpmath.libmp import mpf_abs
-    from symcluster.verify import _newton_radius
+    from symcluster.numeric.residuals import newton_radius
     rng = random.Random(seed)
     n = rng.randint(2, 6)
     roots = [Fraction(rng.randint(-40, 40), rng.randint(1, 9)) for _ in range(n)]
     poly = sympy.Poly(sympy.Mul(*[x - sympy.Rational(r.numerator, r.denominator) for r in roots]), x)
     with mpmath.workdps(40):
         coeffs = [mpmath.mpf(int(c.p)) / int(c.q) for c in poly.all_coeffs()]
-        raw = [c._mpf_ for c in coeffs]
-        prec, rnd = mpmath.mp._prec_rounding
-        absolute = [mpf_abs(c, prec, rnd) for c in raw]
         ref = mpmath.polyroots(coeffs, maxsteps=200, extraprec=200)
         for r in roots:
             for eps in (mpmath.mpf(10) ** -30, mpmath.mpf(10) ** -5, mpmath.mpf("0.3")):
                 xv = mpmath.mpf(r.numerator) / r.denominator + eps * rng.choice([-1, 1])
-                rad = _newton_radius(raw, absolute, xv._mpf_, prec, rnd)
+                rad = newton_radius(coeffs, xv)
                 if rad is None:
                     continue
-                rad = mpmath.mp.make_mpf(rad)
                 assert min(abs(xv - z) for z in ref) <= rad
 
 
@@ -520,8 +527,8 @@ def test_float_disks_hold_a_root_and_close_roots_fall_back_to_working_precision(
     # _float_newton_radius: a root of P within the radius (reference: exact rational roots);
     # two distinct roots 1e-25 apart cannot be told apart in float64, so _separate_roots
     # must settle them at working precision (accepted), while a value listed twice fails
-    from mpmath.libmp import mpf_abs, to_float
-    from symcluster.verify import _float_newton_radius, _separate_roots
+    from symcluster.numeric.residuals import float_newton_radius
+    from symcluster.verify import _separate_roots
     rng = random.Random(11)
     for _ in range(40):
         roots = [Fraction(rng.randint(-50, 50), rng.randint(1, 7)) for _ in range(rng.randint(2, 4))]
@@ -531,7 +538,7 @@ def test_float_disks_hold_a_root_and_close_roots_fall_back_to_working_precision(
         a = [abs(v) for v in c]
         for r in roots:
             xf = float(r) * (1 + rng.choice([1e-12, -3e-9, 1e-3]))
-            rad = _float_newton_radius(c, a, xf)
+            rad = float_newton_radius(c, a, xf)
             if rad is not None:
                 assert min(abs(Fraction(xf) - s) for s in roots) <= Fraction(rad)
     a0 = sympy.Rational(1, 3)
@@ -540,28 +547,27 @@ def test_float_disks_hold_a_root_and_close_roots_fall_back_to_working_precision(
     den = 3 * 10**25 * 3
     ints = [int(v * den) for v in poly.all_coeffs()]
     with mpmath.workdps(60):
-        prec, rnd = mpmath.mp._prec_rounding
         cs = (tuple(ints), den)         # the coefficients ints / den, as _Form.ints_at gives them
 
         class Lev:
             energy = "E"
             quantum_numbers = {"N": 2}
         vals = [mpmath.mpf(1) / 3, mpmath.mpf(1) / 3 + mpmath.mpf(10) ** -25, mpmath.mpf(-2)]
-        _separate_roots([(Lev, v, cs) for v in vals], {}, prec, rnd, {})
+        _separate_roots([(Lev, v, cs) for v in vals], {}, {})
         with pytest.raises(VerificationError, match="not distinct roots"):
-            _separate_roots([(Lev, v, cs) for v in (vals[0], vals[0], vals[2])], {}, prec, rnd, {})
+            _separate_roots([(Lev, v, cs) for v in (vals[0], vals[0], vals[2])], {}, {})
 
 
 def test_complex_values_get_newton_disks_too():
     # a closed form evaluated with complex intermediates can come back as an mpc with a
     # tiny imaginary part: its disk must still hold the root, and two such values of one
     # root must still be rejected
-    from symcluster.verify import _complex_newton_radius, _mp_coefficients, _separate_roots
+    from symcluster.numeric.residuals import mp_coefficients, newton_radius
+    from symcluster.verify import _separate_roots
     with mpmath.workdps(50):
-        prec, rnd = mpmath.mp._prec_rounding
-        cs = _mp_coefficients([1, -6, 11, -6], 1)           # (x - 1)(x - 2)(x - 3)
+        cs = mp_coefficients([1, -6, 11, -6], 1)            # (x - 1)(x - 2)(x - 3)
         z = mpmath.mpc(2, mpmath.mpf(10) ** -35)
-        rad = mpmath.mp.make_mpf(_complex_newton_radius(cs, z))
+        rad = newton_radius(cs, z)
         assert abs(z - 2) <= rad < mpmath.mpf("0.5")
 
         class Lev:
@@ -569,10 +575,10 @@ def test_complex_values_get_newton_disks_too():
             quantum_numbers = {"N": 3}
         ints = ((1, -6, 11, -6), 1)
         ones = [mpmath.mpc(1, 1e-40), z, mpmath.mpf(3)]
-        _separate_roots([(Lev, v, ints) for v in ones], {}, prec, rnd, {})
+        _separate_roots([(Lev, v, ints) for v in ones], {}, {})
         with pytest.raises(VerificationError, match="not distinct roots"):
             _separate_roots([(Lev, v, ints) for v in (z, z + mpmath.mpf(10) ** -40, mpmath.mpf(3))],
-                            {}, prec, rnd, {})
+                            {}, {})
 
 
 @pytest.mark.parametrize("ints", [((10 ** 400, -6 * 10 ** 400, 11 * 10 ** 400, -6 * 10 ** 400), 1),
@@ -584,16 +590,15 @@ def test_coefficients_beyond_float64_are_separated_at_working_precision(ints):
     # reject a root listed twice
     from symcluster.verify import _separate_roots
     with mpmath.workdps(50):
-        prec, rnd = mpmath.mp._prec_rounding
 
         class Lev:
             energy = "E"
             quantum_numbers = {"N": 3}
         floats = {}
-        _separate_roots([(Lev, mpmath.mpf(v), ints) for v in (1, 2, 3)], {}, prec, rnd, floats)
+        _separate_roots([(Lev, mpmath.mpf(v), ints) for v in (1, 2, 3)], {}, floats)
         assert floats == {id(ints): None}
         with pytest.raises(VerificationError, match="not distinct roots"):
-            _separate_roots([(Lev, mpmath.mpf(v), ints) for v in (1, 1, 3)], {}, prec, rnd, {})
+            _separate_roots([(Lev, mpmath.mpf(v), ints) for v in (1, 1, 3)], {}, {})
 
 
 def test_roots_that_merge_at_a_point_leave_it_undecided_not_failed():
@@ -602,19 +607,17 @@ def test_roots_that_merge_at_a_point_leave_it_undecided_not_failed():
     # finds the multiple root and the check is undecided (False) instead of failing
     from symcluster.verify import _separate_roots
     with mpmath.workdps(50):
-        prec, rnd = mpmath.mp._prec_rounding
 
         class Lev:
             energy = "E"
             quantum_numbers = {"N": 3}
         ints = ((1, -5, 7, -3), 1)
         vals = [mpmath.mpf(1), mpmath.mpf(1), mpmath.mpf(3)]
-        assert _separate_roots([(Lev, v, ints) for v in vals], {}, prec, rnd, {}) is False
+        assert _separate_roots([(Lev, v, ints) for v in vals], {}, {}) is False
         ints = ((1, -6, 11, -6), 1)                 # (x - 1)(x - 2)(x - 3): no excuse
         with pytest.raises(VerificationError, match="not distinct roots"):
-            _separate_roots([(Lev, v, ints) for v in vals], {}, prec, rnd, {})
-        assert _separate_roots([(Lev, mpmath.mpf(v), ints) for v in (1, 2, 3)], {}, prec, rnd,
-                               {}) is True
+            _separate_roots([(Lev, v, ints) for v in vals], {}, {})
+        assert _separate_roots([(Lev, mpmath.mpf(v), ints) for v in (1, 2, 3)], {}, {}) is True
 
 
 def test_two_dimers_at_a_point_with_equal_hoppings_verify():

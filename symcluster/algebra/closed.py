@@ -16,8 +16,17 @@ leading coefficient):
 * degree 4: biquadratic and ``y^4 + p y^2 + s^2`` structure first, otherwise the
   resolvent cubic (trigonometric form, kept ascending) and its three square roots.
 
-The validity of these forms (real intermediates wherever the polynomial is
-real-rooted; the multiset of values) is described in :mod:`symcluster.algebra.roots`.
+Validity: every closed form uses only real intermediate quantities (square roots of
+non-negative numbers, ``acos`` of numbers in [-1, 1]) for every real coupling point at
+which the polynomial is real-rooted, and the forms of a factor equal its roots *as a
+multiset* at every such point where they are defined.  They are undefined (0/0) only on
+a lower-dimensional set where several roots coincide, for homogeneous polynomials in two
+couplings typically only at the origin.  Individual forms are not tied to a fixed rank:
+where a square root was pulled out of a polynomial factor ``f``
+(``sqrt(f**2 g) -> f sqrt(g)``) the ``+-`` branches swap where ``f < 0``; the list is
+ascending wherever those factors are positive.  :func:`closed_forms` decides which
+factors get closed forms; the others become implicit roots
+(:mod:`symcluster.numeric.implicit`).
 """
 
 from __future__ import annotations
@@ -26,7 +35,7 @@ import flint
 import sympy
 from sympy.core.basic import _args_sortkey as _SORT_KEY      # sympy's own argument order
 
-__all__ = ["closed_form_roots", "add_shift"]
+__all__ = ["closed_form_roots", "closed_forms", "add_shift"]
 
 _ONE = ("_one",)        # generator name of the coefficient ring when there are no couplings
 
@@ -488,3 +497,40 @@ def add_shift(r, k, shift):
     commutative = True if r.is_commutative and shift.is_commutative else None
     return _add(r, _mul(sympy.Integer(k), shift, commutative=commutative),
                 commutative=commutative)
+
+
+def closed_forms(rep, gens, max_closed_degree=4, rings=None):
+    """Closed forms of an irreducible factor given as plain data, or None.
+
+    Parameters
+    ----------
+    rep : dict[tuple[int, ...], int]
+        Irreducible over Q, integer coefficients, exponent tuples in ``gens``.
+    gens : tuple of sympy.Symbol
+        ``(E, *couplings)``.
+    max_closed_degree : int, optional
+    rings : dict, optional
+        Shared between the factors of one caller (see
+        :func:`closed_form_roots`).
+
+    Returns
+    -------
+    list of sympy.Expr or None
+        The ``deg_E`` closed forms; None where the roots are implicit (degree above
+        `max_closed_degree` and at least 3, or a non-constant leading coefficient in
+        ``E`` at degree 3 or 4).
+
+    Examples
+    --------
+    >>> E, t = sympy.symbols("E t", real=True)
+    >>> closed_forms({(2, 0): 1, (0, 2): -4}, (E, t))
+    [-2*t, 2*t]
+    >>> closed_forms({(5, 0): 1, (0, 5): -1}, (E, t)) is None
+    True
+    """
+    deg = max(m[0] for m in rep)
+    if deg <= 2:
+        return closed_form_roots(rep, gens, rings)
+    if deg <= max_closed_degree and all(not any(m[1:]) for m in rep if m[0] == deg):
+        return closed_form_roots(rep, gens, rings)
+    return None

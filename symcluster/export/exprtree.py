@@ -337,9 +337,9 @@ def poly_from_tree(node, path="poly"):
 
 def _default_root_factory():
     try:
-        from ..algebra.roots import ImplicitRoot
+        from ..numeric.implicit import ImplicitRoot
     except ImportError:
-        raise InputError("the file contains implicit roots but symcluster.algebra.roots is not "
+        raise InputError("the file contains implicit roots but symcluster.numeric.implicit is not "
                          "available in this installation; update symcluster") from None
     return ImplicitRoot
 
@@ -368,7 +368,7 @@ def from_tree(node, root_factory=None):
         Parsed JSON.
     root_factory : callable, optional
         ``root_factory(poly, index)`` builds implicit roots; default
-        ``symcluster.algebra.roots.ImplicitRoot``.
+        ``symcluster.numeric.implicit.ImplicitRoot``.
 
     Returns
     -------

@@ -1,0 +1,13 @@
+"""Sector dimensions at which the verification changes tier (docs/verification.md).
+
+A leaf module: the verification (:mod:`symcluster.verify`) applies these limits and the
+memory estimate (:mod:`symcluster.resources`) counts the float64 tier's dense matrices,
+so both import them from here.
+"""
+
+#: Sectors up to this dimension: certified eigenvalues in ball arithmetic.
+MP_DIM = 4
+#: Up to this dimension: the exact characteristic polynomial modulo a random prime.
+EXACT_DIM = 500
+#: Up to this dimension: float64 eigenvalues of the dense sector matrix; above, none.
+FLOAT_DIM = 6000
