@@ -173,6 +173,12 @@ def make_model(cluster, terms, space=None, name="custom"):
         for prod, c in t.operator:
             if not isinstance(c, Fraction):
                 raise ModelError(f"a {t.kind} term has a coefficient {c!r} that is not exact")
+            for s in (0, 1):
+                if sum(1 if d else -1 for _, sp, d in prod if sp == s):
+                    raise ModelError(
+                        f"a {t.kind} term with coupling {t.label!r} changes N_{'up' if s == 0 else 'dn'}"
+                        "; every term must conserve the numbers of up and down fermions "
+                        "(the sectors are (N_up, N_dn))")
             for mode, spin, _ in prod:
                 if not 0 <= mode < space.n_modes:
                     raise ModelError(
