@@ -313,7 +313,7 @@ class _Reader:
         if name is None:
             name = base.name if base is not None else default_name
         if cl is None:
-            cl = _geometry(space, all_terms, name)
+            cl = _geometry(space, all_terms)
         if cl.site_labels != (None,) * cl.n_sites and (base is None
                                                         or base.name not in ("hubbard", "t-J")):
             self.fail("site_energy in [cluster] is read only by the hubbard and t_j families; "
@@ -497,7 +497,7 @@ class _Reader:
                         term = builder(*place, label, factor)
                 except ModelError as exc:
                     self.fail(f"{what} on {self.place_text(place, space)}: {exc}", ModelError)
-                key = (term.kind, term.label, term.modes, term.spin)
+                key = (term.kind, term.label, term.operator)   # [0, 1] and [1, 0] alike
                 if key in seen:
                     self.fail(f"{what}: the {kind} term with coupling {label!r} on "
                               f"{self.place_text(place, space)} is given twice ({seen[key]} "
@@ -622,7 +622,7 @@ class _Reader:
         return out
 
 
-def _geometry(space, terms, name):
+def _geometry(space, terms):
     """A Cluster for a model file without [cluster]: the site pairs its terms join."""
     pairs = {}
     for t in terms:
@@ -630,4 +630,5 @@ def _geometry(space, terms, name):
         if len(sites) == 2:
             pairs.setdefault(tuple(sites), t.label)
     bonds = tuple(sorted((i, j, lab) for (i, j), lab in pairs.items()))
-    return Cluster(space.n_sites, bonds, (None,) * space.n_sites, name)
+    return Cluster(space.n_sites, bonds, (None,) * space.n_sites,
+                   "atom" if space.n_sites == 1 else "cluster")
