@@ -421,3 +421,19 @@ def test_nothing_in_a_file_is_evaluated(monkeypatch):
 def test_docstring_examples_run(module):
     result = doctest.testmod(module, optionflags=doctest.ELLIPSIS)
     assert result.attempted > 0 and result.failed == 0
+
+
+@pytest.mark.parametrize("doc", ["model-files.md", "conventions.md"])
+def test_the_docs_give_every_term_kind_a_sign_convention(doc):
+    text = open(os.path.join(os.path.dirname(HERE), "docs", doc), encoding="utf-8").read()
+    for kind in modelfile.TERM_KINDS:
+        assert f"| `{kind}` |" in text, (doc, kind)
+
+
+def test_every_worked_model_file_loads():
+    names = sorted(f for f in os.listdir(WORKED) if f.endswith(".toml"))
+    assert names == ["anderson_two_bath.toml", "heisenberg_j1j2.toml", "kanamori_t2g.toml",
+                     "lieb_fragment.toml"]
+    for name in names:
+        model, fixed = load_model_file(os.path.join(WORKED, name))
+        assert model.terms and fixed == {}
