@@ -12,7 +12,8 @@ from .clusters import (Cluster, chain, cluster, complete, cube, grid, ladder, lo
                        parse_cluster_toml, ring, star, tetrahedron)
 from .errors import (ClusterError, InputError, ModelError, SymclusterError, TooLargeError,
                      VerificationError)
-from .models import Model, anderson, heisenberg, hubbard, kanamori, make_model, t_j, with_field
+from .models import (Model, anderson, heisenberg, hubbard, kanamori, load_model_file, make_model,
+                     parse_model_toml, t_j, with_field)
 from .spectrum import Level, Spectrum, VerificationReport
 from .solve import solve
 
@@ -22,7 +23,7 @@ __all__ = [
     "Cluster", "chain", "cluster", "complete", "cube", "grid", "ladder", "load_cluster_file",
     "parse_cluster_toml", "ring", "star", "tetrahedron", "Model", "hubbard", "solve",
     "Level", "Spectrum", "VerificationReport", "SymclusterError", "ClusterError", "ModelError",
-    "InputError", "VerificationError", "TooLargeError",
+    "InputError", "VerificationError", "TooLargeError", "load_model_file", "parse_model_toml",
 ]
 from .analysis import series, transitions  # noqa: E402  (depends on the classes above)
 

@@ -19,7 +19,8 @@ from . import __version__
 from .errors import ClusterError, InputError, SymclusterError
 from .parsing import parse_number
 
-__all__ = ["main", "parse_point", "parse_electrons", "build_cluster", "SHAPES"]
+__all__ = ["main", "parse_point", "parse_electrons", "build_cluster", "build_model", "SHAPES",
+           "FAMILIES"]
 
 #: shape word -> (number of integer arguments, argument names, description)
 SHAPES = {
@@ -39,10 +40,11 @@ DEMO_STEM = "symcluster-demo"
 DEMO_POINT = "t=1,U=4"
 
 _DESCRIPTION = """\
-Exact energy levels of the Hubbard model on a small cluster, in closed form
-where one exists, each verified numerically before it is printed.
+Exact energy levels of the Hubbard model (and of other models: --family,
+--model) on a small cluster, in closed form where one exists, each verified
+numerically before it is printed.
 
-The model (sign convention used everywhere):
+The default model (sign convention used everywhere):
 
   H = - sum_{bonds <ij>} sum_{s=up,dn} t_ij (c+_is c_js + h.c.)
       + U sum_i n_i,up n_i,dn   [+ sum_i eps_i n_i for labelled sites]
@@ -51,6 +53,11 @@ t > 0 is the usual choice but nothing assumes it.  Energies are exact
 expressions in the couplings (t, U, and any bond/site labels of a cluster
 file); where no closed form exists a level is given as the k-th real root,
 ascending, of an irreducible polynomial.  Verification cannot be switched off.
+
+Other models: --family heisenberg | t_j | anderson N | kanamori N (--field h
+adds a Zeeman field), or --model FILE.toml, a model file of your own
+(docs/model-files.md, examples in worked/*.toml).  --at then takes that
+model's couplings, e.g. --at J=1 for the Heisenberg model.
 
 Run without arguments for a demo: the two-site cluster (chain 2), all
 electron numbers, table at t=1, U=4, written to ./symcluster-demo.tex
@@ -64,12 +71,16 @@ examples:
   symcluster levels ring 4 --electrons 4 --at t=1,U=8 --digits 20
   symcluster levels grid 2 2 --electrons 2,3 --latex grid.tex --standalone
   symcluster levels --cluster-file dimer.toml --json dimer.json
+  symcluster levels ring 6 --family heisenberg --at J=1
+  symcluster levels --family anderson 1 --at eps_d=-2,U=4,eps_1=0,V_1=1
+  symcluster levels --model worked/heisenberg_j1j2.toml --at J1=1,J2=1/2
   symcluster shapes                            list the built-in cluster shapes
 """
 
 _LEVELS_HELP = """\
-Solve the Hubbard model on a cluster and print its levels sorted by electron
-number N (and by energy at the --at point, if given).
+Solve a model on a cluster (the Hubbard model unless --family or --model
+says otherwise) and print its levels sorted by electron number N (and by
+energy at the --at point, if given).
 
 CLUSTER is a shape word followed by its sizes:
 """ + "\n".join(f"  {w} {' '.join(a)}".ljust(22) + d for w, (_, a, d) in SHAPES.items()) + """
@@ -114,10 +125,10 @@ def parse_point(text):
     return out
 
 
-def parse_electrons(text, n_sites):
-    """Electron numbers from ``all``, ``2``, ``2,3`` or ``1-3`` (0 .. 2*n_sites)."""
+def parse_electrons(text, n_sites, top=None):
+    """Electron numbers from ``all``, ``2``, ``2,3`` or ``1-3`` (0 .. top, default 2*n_sites)."""
     text = text.strip()
-    top = 2 * n_sites
+    top = 2 * n_sites if top is None else top
     if text == "all":
         return None
     wanted = set()
@@ -172,6 +183,107 @@ def build_cluster(words):
                            f"valid sizes") from None
 
 
+#: --family word -> (number of integer arguments, argument name, description)
+FAMILIES = {
+    "hubbard": (0, "", "-t on every bond, U on every site (the default)"),
+    "heisenberg": (0, "", "J S_i.S_j on every bond (bond label t becomes J); spin-1/2 sites"),
+    "t_j": (0, "", "t-J model: -t P(c+c + h.c.)P + J (S_i.S_j - n_i n_j/4) on every bond"),
+    "anderson": (1, "N", "impurity (eps_d, U) with N bath sites (eps_k, V_k); no cluster"),
+    "kanamori": (1, "N", "one atom, N orbitals, Kanamori U and Hund's J; no cluster"),
+}
+
+
+def _family_words(args):
+    """(family name, its integer arguments, cluster words) from --family and CLUSTER."""
+    words = list(getattr(args, "family", None) or ["hubbard"])
+    cluster_words = list(getattr(args, "cluster", None) or [])
+    name = words[0].lower().replace("-", "_")
+    if name not in FAMILIES:
+        raise InputError(f"--family {words[0]!r} is not a model family; choose one of "
+                         + ", ".join(FAMILIES) + " (or give a model file with --model)")
+    n_args, arg_name, _ = FAMILIES[name]
+    own, rest = words[1:1 + n_args], words[1 + n_args:]
+    if len(own) < n_args or not all(re.match(r"^[0-9]{1,4}$", w) for w in own):
+        raise InputError(f"--family {name} takes {n_args} whole number ({arg_name}), got "
+                         f"{' '.join(words[1:]) or 'none'}; write e.g. --family {name} 2")
+    if rest:                          # '--family heisenberg ring 4': the cluster came after
+        if cluster_words:
+            raise InputError(f"--family {name} got extra words {' '.join(rest)!r}; give the "
+                             "cluster once, before --family")
+        cluster_words = rest
+    return name, [int(w) for w in own], cluster_words
+
+
+def build_model(args):
+    """(model, fixed values) named by the model options: --model, --family, --field,
+    and the cluster (shape words or --cluster-file).
+
+    Examples
+    --------
+    >>> import argparse
+    >>> a = argparse.Namespace(cluster=["ring", "4"], cluster_file=None, model=None,
+    ...                        family=["heisenberg"], field_label="h")
+    >>> build_model(a)[0].labels
+    ('J', 'h')
+    """
+    from . import models
+    from .clusters import load_cluster_file
+    model_file = getattr(args, "model", None)
+    field = getattr(args, "field_label", None)
+    if model_file is not None:
+        if getattr(args, "family", None):
+            raise InputError("give either --model FILE or --family NAME, not both")
+        if args.cluster or args.cluster_file:
+            raise InputError("a model file defines its own sites; drop the cluster ("
+                             + (" ".join(args.cluster) or args.cluster_file)
+                             + ") or put it into the file's [cluster] table")
+        model, fixed = models.load_model_file(model_file)
+    else:
+        name, ints, words = _family_words(args)
+        if args.cluster_file and words:
+            raise InputError("give either a shape (" + " ".join(words)
+                             + ") or --cluster-file, not both")
+        if name in ("anderson", "kanamori"):
+            if words or args.cluster_file:
+                raise InputError(f"--family {name} builds its own sites; drop the cluster ("
+                                 + (" ".join(words) or args.cluster_file) + ")")
+            model = getattr(models, name)(ints[0])
+        else:
+            if not words and not args.cluster_file:
+                raise InputError("no cluster given; add a shape such as 'ring 4' or "
+                                 "--cluster-file F.toml")
+            cl = load_cluster_file(args.cluster_file) if args.cluster_file else build_cluster(words)
+            model = getattr(models, name)(cl)
+        fixed = {}
+    if field is not None:
+        model = models.with_field(model, field)
+    return model, fixed
+
+
+def _electrons(text, model):
+    """Electron numbers for the model's space; a spin model takes only 'all'."""
+    if not model.space.has_charge:
+        if text.strip() != "all":
+            raise InputError(f"--electrons {text}: a spin model has no electron number; "
+                             "leave --electrons out")
+        return None
+    return parse_electrons(text, model.n_sites, top=model.space.max_particles)
+
+
+def _add_model_options(parser, field_options):
+    parser.add_argument("--model", metavar="FILE.toml",
+                        help="read the model (local space, sites, terms, fixed couplings) "
+                             "from a TOML model file (docs/model-files.md; examples in "
+                             "worked/*.toml) instead of a family and a cluster")
+    parser.add_argument("--family", nargs="+", metavar=("NAME", "N"),
+                        help="model family: hubbard (default), heisenberg, t_j, "
+                             "'anderson N' (N bath sites) or 'kanamori N' (N orbitals); "
+                             "anderson and kanamori need no cluster")
+    parser.add_argument(*field_options, dest="field_label", metavar="LABEL",
+                        help="add a Zeeman field -LABEL sum_i 2 S^z_i (coupling LABEL, e.g. h) "
+                             "to the model")
+
+
 def _make_parser():
     p = _Parser(prog="symcluster", description=_DESCRIPTION, epilog=_EXAMPLES,
                 formatter_class=argparse.RawDescriptionHelpFormatter)
@@ -185,10 +297,12 @@ def _make_parser():
     lv.add_argument("--cluster-file", metavar="FILE.toml",
                     help="read the cluster (sites, labelled bonds, site energies) from a "
                          "TOML cluster file instead (see docs/cluster-files.md)")
+    _add_model_options(lv, ("--field", "--with-field"))
     lv.add_argument("--electrons", metavar="LIST", default="all",
                     help="electron numbers to solve: 'all' (default), '2', '2,3' or '1-3'")
     lv.add_argument("--at", metavar="NAME=VALUE,...",
-                    help="evaluate every level at this point, e.g. t=1,U=4 (values: integers, "
+                    help="evaluate every level at this point, e.g. t=1,U=4 (the model's own "
+                         "couplings, e.g. J=1 for --family heisenberg; values: integers, "
                          "decimals, 1e-3 or fractions 3/2; all couplings needed)")
     lv.add_argument("--digits", type=_digits, default=12, metavar="D",
                     help="significant digits of numerical values (default 12)")
@@ -211,6 +325,9 @@ def _make_parser():
                             help="read the cluster from a TOML cluster file instead")
     model_opts.add_argument("--electrons", metavar="LIST", default="all",
                             help="electron numbers to solve first (default all)")
+    # thermo's own --field is a number (the field of the thermodynamics), so the analysis
+    # commands spell the model's field coupling --with-field
+    _add_model_options(model_opts, ("--with-field",))
     from .analysis.commands import add_commands
     add_commands(sub, parents=[model_opts], build_spectrum=_analysis_spectrum)
     sub.add_parser("shapes", help="list the built-in cluster shapes",
@@ -239,8 +356,13 @@ def _check_outputs(paths):
         check_writable(p)
 
 
-def _check_point(point, model):
-    known = [s.name for s in model.symbols]
+def _check_point(point, model, fixed=None):
+    fixed = fixed or {}
+    for name in point:
+        if name in fixed:
+            raise InputError(f"--at: {name} is fixed to {fixed[name]} by the model file; "
+                             "leave it out of --at")
+    known = [s.name for s in model.symbols if s.name not in fixed]
     for name in point:
         if name not in known:
             raise InputError(f"--at: unknown coupling {name!r}; this model's couplings are "
@@ -254,24 +376,31 @@ def _check_point(point, model):
 
 def _analysis_spectrum(args):
     """Solve the model named by the shared model options of the analysis commands."""
-    from .clusters import load_cluster_file
-    from .models import hubbard
-    if args.cluster_file and args.cluster:
-        raise InputError("give either a shape (" + " ".join(args.cluster)
-                         + ") or --cluster-file, not both")
-    if not args.cluster_file and not args.cluster:
-        raise InputError("no cluster given; add a shape such as 'ring 4' or --cluster-file F.toml")
-    cl = load_cluster_file(args.cluster_file) if args.cluster_file else build_cluster(args.cluster)
-    return _solve(hubbard(cl), parse_electrons(args.electrons, cl.n_sites))
+    model, fixed = build_model(args)
+    if not model.space.has_charge:
+        kind = getattr(args, "analysis", None)
+        if kind in ("thermo", "gaps"):
+            raise InputError(f"{kind} works with electron numbers, which a spin model does not "
+                             "have; use levels, ground-map, series, derivative or plot")
+        if getattr(args, "sector", None) is not None:
+            raise InputError("--sector: a spin model has no electron number; leave --sector out")
+    return _solve(model, _electrons(args.electrons, model), fixed=fixed)
 
 
-def _solve(model, electrons, force=False, serial=False):
+def _solve(model, electrons, force=False, serial=False, fixed=None):
     import symcluster
     solve = getattr(symcluster, "solve", None)
     if solve is None:
         raise SymclusterError("this installation has no solver (symcluster.solve is missing); "
                               "reinstall symcluster")
     kwargs = {}
+    if fixed:
+        import inspect
+        if "fixed" not in inspect.signature(solve).parameters:
+            raise InputError("the model file fixes " + ", ".join(fixed) + " in [fixed], but "
+                             "this symcluster's solve cannot take fixed values yet; remove the "
+                             "[fixed] table and give the values with --at")
+        kwargs["fixed"] = fixed
     if force:
         kwargs["force"] = True
     if serial:
@@ -282,22 +411,16 @@ def _solve(model, electrons, force=False, serial=False):
 def _run_levels(args, out, err):
     from .export import (dumps_spectrum, format_symmetries, format_table, latex_table,
                          write_texts_atomic)
-    from .models import hubbard
-    from .clusters import load_cluster_file
-    if args.cluster_file and args.cluster:
-        raise InputError("give either a shape (" + " ".join(args.cluster)
-                         + ") or --cluster-file, not both")
     if args.standalone and not args.latex:
         raise InputError("--standalone needs --latex FILE.tex; add it or drop --standalone")
-    cl = load_cluster_file(args.cluster_file) if args.cluster_file else build_cluster(args.cluster)
-    model = hubbard(cl)
-    electrons = parse_electrons(args.electrons, cl.n_sites)
+    model, fixed = build_model(args)
+    electrons = _electrons(args.electrons, model)
     point = parse_point(args.at) if args.at else None
     if point is not None:
-        _check_point(point, model)
+        _check_point(point, model, fixed)
     _check_outputs([args.latex, args.json])
     spectrum = _solve(model, electrons, getattr(args, "force", False),
-                      getattr(args, "serial", False))
+                      getattr(args, "serial", False), fixed)
     # everything is produced in memory first; files are written only if all succeeded
     table = format_table(spectrum, point=point, digits=args.digits)
     sym = format_symmetries(spectrum) if args.show_symmetry else ""

@@ -12,7 +12,8 @@ from .errors import ClusterError, InputError
 
 __all__ = [
     "Cluster", "cluster", "chain", "ring", "grid", "complete", "tetrahedron",
-    "cube", "star", "ladder", "load_cluster_file", "parse_cluster_toml", "BUILTIN_SHAPES",
+    "cube", "star", "ladder", "load_cluster_file", "parse_cluster_toml", "cluster_from_table",
+    "BUILTIN_SHAPES",
 ]
 
 _NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
@@ -285,7 +286,27 @@ def parse_cluster_toml(text, source="<string>"):
     version = data.get("version", 1)
     if type(version) is not int or version != 1:      # true and 1.0 equal 1 in Python
         raise InputError(f"{source}: cluster file version {version!r} is not supported; use version = 1")
-    allowed = {"format", "version", "name", "sites", "bonds", "site_energy"}
+    return cluster_from_table(data, source, extra_keys=("format", "version"))
+
+
+def cluster_from_table(data, source="<string>", extra_keys=()):
+    """Cluster from the keys of a cluster file (``name``, ``sites``, ``bonds``,
+    ``site_energy``) given as a dict, e.g. a model file's ``[cluster]`` table.
+
+    Parameters
+    ----------
+    data : dict
+    source : str
+        Names the file (or table) in error messages.
+    extra_keys : iterable of str
+        Further keys the caller has already read (they are not unknown).
+
+    Examples
+    --------
+    >>> cluster_from_table({"sites": 3, "bonds": [[0, 1], [1, 2, "tp"]]}).bonds
+    ((0, 1, 't'), (1, 2, 'tp'))
+    """
+    allowed = {"name", "sites", "bonds", "site_energy"} | set(extra_keys)
     extra = sorted(set(data) - allowed)
     if extra:
         raise InputError(f"{source}: unknown key {extra[0]!r}; allowed keys are "

@@ -101,7 +101,8 @@ def coerce_point(symbols, values):
     if missing:
         raise ModelError(
             "no value given for coupling(s) " + ", ".join(missing)
-            + "; give every coupling a value, e.g. t=1 U=4"
+            + "; give every coupling a value, e.g. "
+            + " ".join(f"{n}=1" for n in by_name)
         )
     return out
 

@@ -359,50 +359,70 @@ def _number_tex(value, digits):
     return f"${mant}" + (rf"\times 10^{{{int(exp)}}}$" if exp else "$")
 
 
+#: kind -> (sign, operator with %a, %b for the modes and %s, %t for spins; spin-summed?)
 _TERM_TEX = {
-    # kind -> (sign, operator with a, b the modes of one term, index set name)
-    "hopping": ("-", r"\left(c^\dagger_{a\sigma} c_{b\sigma} + \mathrm{h.c.}\right)", True),
-    "hybridization": ("+", r"\left(c^\dagger_{a\sigma} c_{b\sigma} + \mathrm{h.c.}\right)", True),
-    "onsite": ("+", r"n_{a}", False),
-    "hubbard_u": ("+", r"n_{a\uparrow} n_{a\downarrow}", False),
-    "number_product": ("+", r"n_{a\sigma} n_{b\sigma'}", False),
-    "density_density": ("+", r"n_{a} n_{b}", False),
-    "zeeman": ("-", r"2 S^z_{a}", False),
-    "chemical_potential": ("-", r"n_{a}", False),
-    "exchange": ("+", r"\mathbf{S}_{a} \cdot \mathbf{S}_{b}", False),
-    "exchange_z": ("+", r"S^z_{a} S^z_{b}", False),
-    "exchange_xy": ("+", r"\tfrac{1}{2}\left(S^+_{a} S^-_{b} + \mathrm{h.c.}\right)", False),
-    "pair_hopping": ("+", r"\left(c^\dagger_{a\uparrow} c^\dagger_{a\downarrow} c_{b\downarrow} "
-                          r"c_{b\uparrow} + \mathrm{h.c.}\right)", False),
-    "spin_flip": ("+", r"\left(S^+_{a} S^-_{b} + \mathrm{h.c.}\right)", False),
+    "hopping": (-1, r"\left(c^\dagger_{%a%s} c_{%b%s} + \mathrm{h.c.}\right)", True),
+    "hybridization": (1, r"\left(c^\dagger_{%a%s} c_{%b%s} + \mathrm{h.c.}\right)", True),
+    "onsite": (1, r"n_{%a}", False),
+    "hubbard_u": (1, r"n_{%a\uparrow} n_{%a\downarrow}", False),
+    "number_product": (1, r"n_{%a%s} n_{%b%t}", False),
+    "density_density": (1, r"n_{%a} n_{%b}", False),
+    "zeeman": (-1, r"2 S^z_{%a}", False),
+    "chemical_potential": (-1, r"n_{%a}", False),
+    "exchange": (1, r"\mathbf{S}_{%a} \cdot \mathbf{S}_{%b}", False),
+    "exchange_z": (1, r"S^z_{%a} S^z_{%b}", False),
+    "exchange_xy": (1, r"\tfrac{1}{2}\left(S^+_{%a} S^-_{%b} + \mathrm{h.c.}\right)", False),
+    "pair_hopping": (1, r"\left(c^\dagger_{%a\uparrow} c^\dagger_{%a\downarrow} "
+                        r"c_{%b\downarrow} c_{%b\uparrow} + \mathrm{h.c.}\right)", False),
+    "spin_flip": (1, r"\left(S^+_{%a} S^-_{%b} + \mathrm{h.c.}\right)", False),
 }
+_SPIN_TEX = {"s": r"\sigma", "-s": r"\bar\sigma", "up": r"\uparrow", "dn": r"\downarrow"}
 
 
-def _where_tex(modes):
-    if len(modes[0]) == 1:
-        return r"a \in \{" + ",".join(str(m[0]) for m in modes) + r"\}"
-    return r"(a,b) \in \{" + ",".join("(" + ",".join(map(str, m)) + ")" for m in modes) + r"\}"
+def _coefficient_tex(coeff, sign):
+    """The coefficient of one sum: ``-t``, ``\\frac{J}{4}``, ``\\left(U - 2 J\\right)``."""
+    parts = []
+    for label, scale in coeff:
+        f = sign * scale
+        mag = _tex(sympy.Rational(abs(f.numerator), f.denominator) * sympy.Symbol(label))
+        parts.append(("-" if f < 0 else "+", mag))
+    text = ("- " if parts[0][0] == "-" else "") + parts[0][1]
+    text += "".join(f" {sg} {body}" for sg, body in parts[1:])
+    return r"\left(" + text + r"\right)" if len(parts) > 1 else text
 
 
 def _hamiltonian_tex(model):
-    """H term by term: one sum per (kind, coupling, factor, spin) group of the model."""
-    parts = []
-    for kind, label, scale, spin, modes in model.groups():
-        sign, op, spin_sum = _TERM_TEX.get(kind, ("+", r"\mathrm{" + kind.replace("_", r"\_")
-                                                   + "}_{a}", False))
-        factor = scale if sign == "+" else -scale
-        coef = _tex(sympy.Rational(factor.numerator, factor.denominator) * sympy.Symbol(label))
-        if isinstance(spin, tuple):
-            names = {0: r"\uparrow", 1: r"\downarrow"}
-            op = op.replace(r"\sigma'", names[spin[1]]).replace(r"\sigma", names[spin[0]])
-        elif spin is not None:
-            op = op.replace(r"\sigma", {0: r"\uparrow", 1: r"\downarrow"}[spin])
-            spin_sum = False
-        sigma = r",\sigma" if spin_sum else ""
-        text = coef + r" \sum_{" + _where_tex(modes) + sigma + "} " + op
-        parts.append(text if text.startswith("-") else "+ " + text)
-    body = " ".join(parts).lstrip("+ ")
-    return r"H = " + body
+    """H sum by sum (:meth:`Model.sums`): one sum per kind, spin and coefficient."""
+    from ..models.model import spin_fill
+    out = ""
+    for kind, spin, coeff, modes in model.sums():
+        sign, op, summed = _TERM_TEX.get(
+            kind, (1, r"\mathrm{" + kind.replace("_", r"\_") + "}_{%a}", False))
+        s, t, spin_sum = spin_fill(kind, spin, summed)
+        op = op.replace("%s", _SPIN_TEX[s]).replace("%t", _SPIN_TEX[t])
+        sigma = r"\sigma" if spin_sum else ""
+        if len(modes) == 1:
+            op = op.replace("%a", str(modes[0][0])).replace("%b", str(modes[0][-1]))
+            where = r"\sum_{\sigma} " if spin_sum else ""
+        else:
+            op = op.replace("%a", "a").replace("%b", "b")
+            if len(modes[0]) == 1:
+                if sorted(m[0] for m in modes) == list(range(model.space.n_modes)):
+                    where = r"\sum_{a" + ("," + sigma if sigma else "") + "} "
+                else:
+                    where = (r"\sum_{a \in \{" + ",".join(str(m[0]) for m in modes) + r"\}"
+                             + ("," + sigma if sigma else "") + "} ")
+            else:
+                where = (r"\sum_{(a,b) \in \{" + ",".join(f"({m[0]},{m[1]})" for m in modes)
+                         + r"\}" + ("," + sigma if sigma else "") + "} ")
+        text = f"{_coefficient_tex(coeff, sign)} {where}{op}"
+        if not out:
+            out = text
+        elif text.startswith("- "):
+            out += " " + text
+        else:
+            out += " + " + text
+    return "H = " + (out or "0")
 
 
 def latex_table(spectrum, point=None, digits=10, standalone=False):
@@ -495,7 +515,7 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
         out += _comment("check " + ", ".join(f"{k}={v}" for k, v in c.items()))
     for r in spectrum.symmetries or []:
         out += _comment("symmetry " + ", ".join(f"{k}={v}" for k, v in r.items()))
-    out.append(r"\noindent " + tex_escape(spectrum.model.cluster.describe()) + ";")
+    out.append(r"\noindent " + tex_escape(spectrum.model.geometry_text()) + ";")
     out.append(r"$" + _hamiltonian_tex(spectrum.model) + r"$.")
     out.append(f"{len(levels)} levels, {spectrum.n_states} states. "
                r"$g$: degeneracy (all states of the level).")

@@ -6,6 +6,8 @@ Energies are printed in sympy's one-line syntax; an implicit root reads
 ``root k of P(E) = 0`` with k counted from 1 in ascending order.
 """
 
+import re
+
 import mpmath
 import sympy
 
@@ -14,6 +16,8 @@ from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
 from .exprtree import int_to_decimal, is_implicit_root
+
+_EPS = re.compile(r"^eps(?=[_0-9]|$)")
 
 __all__ = ["format_table", "format_symmetries", "energy_text", "poly_text", "spin_text",
            "numeric_values", "level_sort_key"]
@@ -35,7 +39,18 @@ class _ExactStrPrinter(StrPrinter):
 
 
 class _ExactLatexPrinter(LatexPrinter):
-    """sympy's LaTeX printer, with integers of any length (no 4300-digit limit)."""
+    """sympy's LaTeX printer, with integers of any length (no 4300-digit limit).
+
+    A coupling named ``eps`` or ``eps_...`` (an on-site energy, e.g. the Anderson
+    model's ``eps_d``) is written as ``\\varepsilon``, as sympy writes a symbol named
+    ``varepsilon``.
+    """
+
+    def _print_Symbol(self, expr, style="plain"):
+        name = expr.name
+        if _EPS.match(name) and expr not in self._settings["symbol_names"]:
+            expr = sympy.Symbol("varepsilon" + name[3:], **expr.assumptions0)
+        return super()._print_Symbol(expr, style=style)
 
     def _print_int(self, expr):
         return int_to_decimal(expr)
@@ -90,7 +105,7 @@ def poly_text(poly, latex=False):
     """
     if len(poly.as_dict()) <= FAST_PRINT_TERMS:
         return exact_latex(poly.as_expr()) if latex else exact_sstr(poly.as_expr())
-    names = [sympy.latex(g) if latex else g.name for g in poly.gens]
+    names = [exact_latex(g) if latex else g.name for g in poly.gens]
     out = []
     for monom, coeff in sorted(poly.terms(), key=lambda mc: mc[0], reverse=True):
         c = sympy.Rational(coeff)

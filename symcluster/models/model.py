@@ -78,56 +78,180 @@ class Model:
             out.setdefault((t.kind, t.label, t.scale, t.spin), []).append(t.modes)
         return [(k, l, s, sp, modes) for (k, l, s, sp), modes in out.items()]
 
+    def sums(self):
+        """The Hamiltonian as printed: ``[(kind, spin, coefficient, modes), ...]``.
+
+        Terms of one kind with the same spin on the same list of modes are merged into
+        one sum whose ``coefficient`` is a linear combination ``((label, Fraction), ...)``
+        of couplings (Kanamori's ``U' = U - 2J`` reads ``(U - 2J)``).  Two
+        ``number_product`` sums that differ only by exchanging the spins are merged into
+        one over both spins, with ``spin`` ``"opposite"`` (up-down and down-up) or
+        ``"same"`` (up-up and down-down).
+
+        Examples
+        --------
+        >>> import symcluster as sc
+        >>> [(k, c) for k, _, c, _ in sc.kanamori(2).sums()][1]
+        ('number_product', (('U', Fraction(1, 1)), ('J', Fraction(-2, 1))))
+        """
+        merged = {}
+        for kind, label, scale, spin, modes in self.groups():
+            coeff = merged.setdefault((kind, spin, tuple(modes)), {})
+            coeff[label] = coeff.get(label, 0) + scale
+            if not coeff[label]:
+                del coeff[label]
+        rows = [(k, sp, tuple(c.items()), list(m)) for (k, sp, m), c in merged.items() if c]
+        out, used = [], set()
+        for i, (kind, spin, coeff, modes) in enumerate(rows):
+            if i in used:
+                continue
+            if kind == "number_product" and spin in ((0, 1), (0, 0)):
+                partner = (1, 0) if spin == (0, 1) else (1, 1)
+                for j in range(i + 1, len(rows)):
+                    if j not in used and rows[j] == (kind, partner, coeff, modes):
+                        used.add(j)
+                        spin = "opposite" if spin == (0, 1) else "same"
+                        break
+            out.append((kind, spin, coeff, modes))
+        return out
+
     def hamiltonian_text(self):
-        """H written out term by term in plain text (the text header's form)."""
-        return " + ".join(_group_text(*g, self.space) for g in self.groups()) or "0"
+        """H written out sum by sum in plain text (the text header's form).
+
+        Examples
+        --------
+        >>> import symcluster as sc
+        >>> sc.anderson(1).hamiltonian_text()
+        'eps_d n_0 + U n_0,up n_0,dn + eps_1 n_1 + V_1 sum_s (c+_0,s c_1,s + h.c.)'
+        >>> sc.with_field(sc.heisenberg(sc.ring(3))).hamiltonian_text()
+        'J sum_<ab in {(0,1),(0,2),(1,2)}> S_a.S_b - h sum_a 2 Sz_a'
+        """
+        parts = [_sum_text(*row, self.space) for row in self.sums()]
+        text = parts[0] if parts else "0"
+        for part in parts[1:]:
+            text += f" - {part[1:]}" if part.startswith("-") else f" + {part}"
+        return text
+
+    def geometry_text(self):
+        """The sites and bonds in words (the bonds' labels only for the Hubbard family).
+
+        Examples
+        --------
+        >>> import symcluster as sc
+        >>> sc.heisenberg(sc.ring(4)).geometry_text()
+        'ring(4): 4 sites, 4 bonds'
+        """
+        c = self.cluster
+        if self.name.startswith("hubbard"):
+            return c.describe()
+        nb = len(c.bonds)
+        text = f"{c.name}: {c.n_sites} site{'' if c.n_sites == 1 else 's'}"
+        return text if c.n_sites == 1 and not nb else f"{text}, {nb} bond{'' if nb == 1 else 's'}"
 
     def describe(self):
-        return (f"{self.name} model on {self.cluster.describe()}; {self.space.describe()}; "
+        """One line: name, geometry, local space and H (the text and LaTeX headers).
+
+        Examples
+        --------
+        >>> import symcluster as sc
+        >>> sc.heisenberg(sc.chain(2)).describe()
+        'heisenberg model on chain(2): 2 sites, 1 bond; spin-1/2 on each site; H = J S_0.S_1'
+        """
+        modes = ""
+        if self.space.n_orbitals > 1 and self.space.n_sites > 1:
+            modes = f" (mode a = {self.space.n_orbitals}*site + orbital)"
+        return (f"{self.name} model on {self.geometry_text()}; {self.space.describe()}{modes}; "
                 f"H = {self.hamiltonian_text()}")
 
 
+#: kind -> (sign, operator with %a, %b for the modes, %s, %t for spins; spin-summed?)
 _TEXT = {
-    "hopping": ("-{c} sum_<ab in {w}>,s (c+_as c_bs + h.c.)", "-{c} sum_<ab in {w}> (c+_a{s} c_b{s} + h.c.)"),
-    "hybridization": ("{c} sum_<ab in {w}>,s (c+_as c_bs + h.c.)", None),
-    "onsite": ("{c} sum_(a in {w}) n_a", None),
-    "hubbard_u": ("{c} sum_(a in {w}) n_a,up n_a,dn", None),
-    "number_product": ("{c} sum_(ab in {w}) n_a,{s0} n_b,{s1}", None),
-    "density_density": ("{c} sum_<ab in {w}> n_a n_b", None),
-    "zeeman": ("-{c} sum_(a in {w}) 2 Sz_a", None),
-    "chemical_potential": ("-{c} sum_(a in {w}) n_a", None),
-    "exchange": ("{c} sum_<ab in {w}> S_a.S_b", None),
-    "exchange_z": ("{c} sum_<ab in {w}> Sz_a Sz_b", None),
-    "exchange_xy": ("{c} sum_<ab in {w}> (S+_a S-_b + h.c.)/2", None),
-    "pair_hopping": ("{c} sum_<ab in {w}> (c+_a,up c+_a,dn c_b,dn c_b,up + h.c.)", None),
-    "spin_flip": ("{c} sum_<ab in {w}> (S+_a S-_b + h.c.)", None),
+    "hopping": (-1, "(c+_%a,%s c_%b,%s + h.c.)", True),
+    "hybridization": (1, "(c+_%a,%s c_%b,%s + h.c.)", True),
+    "onsite": (1, "n_%a", False),
+    "hubbard_u": (1, "n_%a,up n_%a,dn", False),
+    "number_product": (1, "n_%a,%s n_%b,%t", False),
+    "density_density": (1, "n_%a n_%b", False),
+    "zeeman": (-1, "2 Sz_%a", False),
+    "chemical_potential": (-1, "n_%a", False),
+    "exchange": (1, "S_%a.S_%b", False),
+    "exchange_z": (1, "Sz_%a Sz_%b", False),
+    "exchange_xy": (1, "(S+_%a S-_%b + h.c.)/2", False),
+    "pair_hopping": (1, "(c+_%a,up c+_%a,dn c_%b,dn c_%b,up + h.c.)", False),
+    "spin_flip": (1, "(S+_%a S-_%b + h.c.)", False),
 }
+_SPIN_WORD = {0: "up", 1: "dn"}
 
 
-def _coefficient_text(label, scale):
-    if scale == 1:
-        return label
-    if scale == -1:
-        return f"(-{label})"
-    return f"({scale}*{label})"
+def coefficient_terms(coeff, sign=1):
+    """``[(sign, text), ...]`` of a coefficient of :meth:`Model.sums`, in its order.
+
+    ``text`` is one coupling times the magnitude of its factor, in sympy's one-line
+    syntax (``J``, ``2*J``, ``J/4``, ``3*J/2``).
+
+    Examples
+    --------
+    >>> coefficient_terms((("U", Fraction(1)), ("J", Fraction(-2))))
+    [('+', 'U'), ('-', '2*J')]
+    """
+    out = []
+    for label, scale in coeff:
+        f = sign * Fraction(scale)
+        p, q = abs(f.numerator), f.denominator
+        text = label if p == 1 else f"{p}*{label}"
+        out.append(("-" if f < 0 else "+", text if q == 1 else f"{text}/{q}"))
+    return out
 
 
-def _where_text(modes, space):
+def coefficient_text(coeff, sign=1):
+    """The coefficient as text, in parentheses when it has several couplings.
+
+    Examples
+    --------
+    >>> coefficient_text((("U", Fraction(1)), ("J", Fraction(-2))))
+    '(U - 2*J)'
+    >>> coefficient_text((("t", Fraction(1)),), sign=-1)
+    '-t'
+    """
+    terms = coefficient_terms(coeff, sign)
+    text = ("-" if terms[0][0] == "-" else "") + terms[0][1]
+    for sg, body in terms[1:]:
+        text += f" {sg} {body}"
+    return f"({text})" if len(terms) > 1 else text
+
+
+def spin_fill(kind, spin, summed):
+    """(first spin, second spin, sum over s?) for the operator templates of a sum."""
+    if spin == "opposite":
+        return "s", "-s", True
+    if spin == "same":
+        return "s", "s", True
+    if isinstance(spin, tuple):
+        return _SPIN_WORD[spin[0]], _SPIN_WORD[spin[1]], False
+    if spin is not None:
+        return _SPIN_WORD[spin], _SPIN_WORD[spin], False
+    return "s", "s", summed
+
+
+def _sum_text(kind, spin, coeff, modes, space):
+    sign, op, summed = _TEXT.get(kind, (1, kind + "(%a)", False))
+    ctext = coefficient_text(coeff, sign)
+    s, t, spin_sum = spin_fill(kind, spin, summed)
+    op = op.replace("%s", s).replace("%t", t)
+    if len(modes) == 1:
+        one = modes[0]
+        op = op.replace("%a", str(one[0])).replace("%b", str(one[-1]))
+        where = "sum_s " if spin_sum else ""
+        return f"{ctext} {where}{op}"
+    op = op.replace("%a", "a").replace("%b", "b")
     if len(modes[0]) == 1:
-        items = [str(m[0]) for m in modes]
+        if sorted(m[0] for m in modes) == list(range(space.n_modes)):
+            where = "sum_a"
+        else:
+            where = "sum_(a in {" + ",".join(str(m[0]) for m in modes) + "})"
     else:
-        items = ["(" + ",".join(str(x) for x in m) + ")" for m in modes]
-    text = "{" + ",".join(items) + "}"
-    return text
-
-
-def _group_text(kind, label, scale, spin, modes, space):
-    both, one = _TEXT.get(kind, ("{c} * " + kind + " on {w}", None))
-    fmt = one if (spin is not None and one is not None and kind == "hopping") else both
-    spins = {0: "up", 1: "dn"}
-    s0, s1 = (spins.get(spin[0]), spins.get(spin[1])) if isinstance(spin, tuple) else ("", "")
-    return fmt.format(c=_coefficient_text(label, scale), w=_where_text(modes, space),
-                      s=("," + spins[spin]) if isinstance(spin, int) else "", s0=s0, s1=s1)
+        where = "sum_<ab in {" + ",".join(f"({m[0]},{m[1]})" for m in modes) + "}>"
+    return f"{ctext} {where}{',s' if spin_sum else ''} {op}"
 
 
 def make_model(cluster, terms, space=None, name="custom"):
