@@ -395,11 +395,6 @@ def _solve(model, electrons, force=False, serial=False, fixed=None):
                               "reinstall symcluster")
     kwargs = {}
     if fixed:
-        import inspect
-        if "fixed" not in inspect.signature(solve).parameters:
-            raise InputError("the model file fixes " + ", ".join(fixed) + " in [fixed], but "
-                             "this symcluster's solve cannot take fixed values yet; remove the "
-                             "[fixed] table and give the values with --at")
         kwargs["fixed"] = fixed
     if force:
         kwargs["force"] = True

@@ -149,6 +149,7 @@ def spectrum_to_dict(spectrum, point=None, digits=30, eigenvectors=True):
         "format": FORMAT,
         "version": VERSION,
         "model": _model_dict(spectrum.model),
+        "fixed": {k: str(v) for k, v in (getattr(spectrum, "fixed", None) or {}).items()},
         "point": None if pt is None else {s.name: _rat_str(v) for s, v in pt.items()},
         "digits": int(digits),
         "n_states": int(spectrum.n_states),

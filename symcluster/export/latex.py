@@ -508,6 +508,8 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
     out.append("% symcluster energy table; in a document of your own this needs")
     out.append("% " + _PACKAGES)
     out += _comment("model: " + spectrum.model.describe())
+    if getattr(spectrum, "fixed", None):
+        out += _comment("fixed couplings: " + ", ".join(f"{k}={v}" for k, v in spectrum.fixed.items()))
     rep = spectrum.verification
     out += _comment(rep.summary())
     out += _comment(f"verification digits: {rep.as_dict().get('digits')}")
