@@ -253,3 +253,15 @@ def test_u_on_some_sites_only_shrinks_the_group():
     part = sc.make_model(cl, terms + [hubbard_u(1), hubbard_u(3)])
     assert "lattice automorphisms (order 24)" in sc.solve(full, electrons=[1]).symmetries[0]["symmetries"]
     assert "lattice automorphisms (order 4)" in sc.solve(part, electrons=[1]).symmetries[0]["symmetries"]
+
+
+def test_terms_a_space_cannot_hold_are_refused():
+    # a spin space holds one spin per site (no charge moves); a projected space has no
+    # doubly occupied mode for U or pair hopping to act on
+    with pytest.raises(sc.ModelError, match="moves fermions between sites"):
+        sc.make_model(sc.chain(2), [hopping(0, 1)], LocalSpace("spins", 2))
+    with pytest.raises(sc.ModelError, match="doubly occupied"):
+        sc.make_model(sc.chain(2), [hopping(0, 1), hubbard_u(0)],
+                      LocalSpace("electrons", 2, projected=True))
+    with pytest.raises(sc.ModelError, match="doubly occupied"):
+        sc.make_model(sc.chain(2), [pair_hopping(0, 1)], LocalSpace("electrons", 2, projected=True))

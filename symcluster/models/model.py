@@ -254,6 +254,23 @@ def _sum_text(kind, spin, coeff, modes, space):
     return f"{ctext} {where}{',s' if spin_sum else ''} {op}"
 
 
+def _check_fits_space(term, prod, space):
+    """Refuse a product that a spin space or a projected space cannot hold."""
+    if space.kind == "spins":
+        modes = {m for m, _, _ in prod}
+        if any(sum(1 if d else -1 for m2, _, d in prod if m2 == m) for m in modes):
+            raise ModelError(
+                f"a {term.kind} term with coupling {term.label!r} moves fermions between sites; "
+                "a spin space has exactly one spin per site: use exchange, exchange_z, "
+                "exchange_xy, spin_flip or zeeman terms")
+    if space.projected:
+        ann = [(m, s) for m, s, d in prod if not d]
+        if any((m, 1 - s) in ann for m, s in ann):
+            raise ModelError(
+                f"a {term.kind} term with coupling {term.label!r} acts only on doubly occupied "
+                "modes, which a space without double occupancy does not have; remove it")
+
+
 def make_model(cluster, terms, space=None, name="custom"):
     """A validated :class:`Model` from a cluster, terms and a local space.
 
@@ -303,6 +320,7 @@ def make_model(cluster, terms, space=None, name="custom"):
                         f"a {t.kind} term with coupling {t.label!r} changes N_{'up' if s == 0 else 'dn'}"
                         "; every term must conserve the numbers of up and down fermions "
                         "(the sectors are (N_up, N_dn))")
+            _check_fits_space(t, prod, space)
             for mode, spin, _ in prod:
                 if not 0 <= mode < space.n_modes:
                     raise ModelError(
