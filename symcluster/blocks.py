@@ -244,7 +244,7 @@ def _matrix_of_h(h, vectors, pivots, rng=None, coeff_memo=None):
     scale = 1
     for i, p in enumerate(pivots):
         scale = lcm(scale, abs(vectors[i][p]))
-    scale *= h.denominator
+    scale *= h.denominator      # 1 for an integral action
     res = {lab: {} for lab in h.labels}
     for s, x in r.items():
         if x:
@@ -273,7 +273,11 @@ def _matrix_of_h(h, vectors, pivots, rng=None, coeff_memo=None):
         raise VerificationError(
             f"internal error: reduced basis is not invariant under H (state {st}); "
             "please report this cluster")
-    return LinearBlock(k, terms, integral=h.integral)
+    factor = getattr(h, "factor", 1)
+    if factor != 1:             # the images were those of factor * H
+        terms = {lab: {key: Fraction(v) / factor for key, v in mat.items()}
+                 for lab, mat in terms.items()}
+    return LinearBlock(k, terms, integral=h.integral and factor == 1)
 
 
 def _first_failure(h, r, vectors, scaled, res):
@@ -313,6 +317,10 @@ def build_blocks(model, plan, electrons=None, report=None):
     h = plan.action
     if h is None or h.model is not model:
         h = HamiltonianAction(model)
+    if not h.integral:
+        # rational coefficients (spin exchange, t-J): the blocks are read off the integer
+        # action of factor * H and divided by factor (integer arithmetic, not Fractions)
+        h = HamiltonianAction(model, integral=True)
     coeff_memo = {}
     s_plus = per_state_memo(lambda s: apply_s_plus(L, *s))
     if plan.eta:

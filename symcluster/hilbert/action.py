@@ -45,7 +45,7 @@ def _apply_product(seq, w):
 class _Compiled:
     """The moves of a list of terms on a space (see the module docstring)."""
 
-    def __init__(self, terms, n_modes):
+    def __init__(self, terms, n_modes, factor=1):
         M = self.M = n_modes
         self.full = (1 << M) - 1
         diag = {}          # label -> {"pair": {value: mask}, "up": {...}, "dn": {...}, "other": []}
@@ -58,6 +58,7 @@ class _Compiled:
             if lab not in self.labels:
                 self.labels.append(lab)
             for prod, coef in term.operator:
+                coef = coef * factor
                 if coef.denominator != 1:
                     self.integral = False
                 cre = [(s * M + m) for m, s, d in prod if d]
@@ -103,10 +104,10 @@ class _Compiled:
             other = [(mu, md, _exact(v)) for mu, md, v in d["other"] if v]
             self.diag.append((lab, parts, other))
         self.general = [(lab, _exact(Fraction(c)), seq) for lab, c, seq in general]
-        self.denominator = 1
+        self.denominator = 1               # of the compiled coefficients (factor included)
         for term in terms:
             for _, c in term.operator:
-                self.denominator = lcm(self.denominator, c.denominator)
+                self.denominator = lcm(self.denominator, (c * factor).denominator)
 
     def image(self, up, dn, allows=None):
         """H|up, dn> as a list of ``(state', label, coefficient)`` (repeats allowed)."""
@@ -151,7 +152,7 @@ class _Compiled:
         return out
 
 
-def compile_terms(terms, n_modes):
+def compile_terms(terms, n_modes, factor=1):
     """The compiled moves of ``terms`` on ``n_modes`` spatial modes (see the module docstring).
 
     Examples
@@ -160,7 +161,7 @@ def compile_terms(terms, n_modes):
     >>> compile_terms([hopping(0, 1)], 2).image(0b01, 0)
     [((2, 0), 't', -1)]
     """
-    return _Compiled(terms, n_modes)
+    return _Compiled(terms, n_modes, factor)
 
 
 def apply_hamiltonian(model, up, dn):
@@ -200,6 +201,10 @@ class HamiltonianAction(dict):
     project : bool
         On a projected space, drop images outside it (default True); False gives the
         terms' action on the whole Fock space (for the symmetry checks).
+    integral : bool
+        If True, the images are those of ``factor * H`` with ``factor`` the least common
+        denominator of the terms' coefficients, so that every coefficient is an int (the
+        block builder's exact arithmetic stays in integers); ``factor`` is 1 otherwise.
 
     Attributes
     ----------
@@ -219,10 +224,15 @@ class HamiltonianAction(dict):
     (((2, 1), 't', -1), ((1, 2), 't', -1), ((1, 1), 'U', 1))
     """
 
-    def __init__(self, model, project=True):
+    def __init__(self, model, project=True, integral=False):
         super().__init__()
         self.model = model
-        self._comp = compile_terms(model.terms, model.space.n_modes)
+        den = 1
+        for term in model.terms:
+            for _, c in term.operator:
+                den = lcm(den, c.denominator)
+        self.factor = den if integral else 1
+        self._comp = compile_terms(model.terms, model.space.n_modes, self.factor)
         self._allows = model.space.allows if project and model.space.projected else None
         self.labels = tuple(self._comp.labels)
         self.integral = self._comp.integral
