@@ -504,7 +504,7 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
                "(modulo a random 62-bit prime per point)", f"{n_checked} blocks", worst=0.0)
     proven = (("spin",) if plan.spin else ()) + (("eta",) if plan.eta else ())
     verify_spectrum(spectrum, wanted, digits=digits, seed=seed, proven=proven, executor=executor,
-                    lattice=plan.lattice, action=plan.action)
+                    lattice=plan.lattice)
     timings["verify"] = time.perf_counter() - t2
     timings["total"] = time.perf_counter() - t0
     return spectrum
