@@ -39,6 +39,7 @@ from .algebra.polydict import dense_terms
 from .algebra.roots import (LAGUERRE_MIN_DEGREE, ImplicitRoot, clear_prefetched, isolation_key,
                             prefetch_isolations)
 from .errors import ModelError, VerificationError
+from .checks.labels import check_state_labels
 from .checks.large import check_large_sector
 from .checks.plain import sector_matrices, sector_matrix
 from .hilbert.fock import states_with
@@ -877,6 +878,10 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         _fail(f"degeneracies add up to {total}, expected {expected} states")
     report.add("state count", f"N in {sorted(wanted)}" if space.has_charge else "all states",
                worst=0.0, states=total)
+    n_labelled = check_state_labels(spectrum.levels, n_fixed)
+    report.add("N and Sz labels match the basis states of the level's block (S: the highest "
+               "weight Sz = S)", "levels from blocks of dimension <= 4", worst=0.0,
+               levels=n_labelled)
 
     # numeric values of every level at every point (closed forms and implicit roots);
     # with an executor, the certified isolations of high-degree factors run on it first;
