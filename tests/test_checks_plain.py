@@ -37,8 +37,9 @@ def _allowed(kind, projected, n_modes, up, dn):
     return True
 
 
-def _reference_sector(model, n_up, n_dn):
-    """{label: dense Fraction array} of one sector, and its states (up, dn), sorted."""
+def _reference_sector(model, n_up, n_dn, matrices):
+    """{label: dense Fraction array} of one sector, and its states (up, dn), sorted;
+    ``matrices`` are the terms' :func:`operator_matrix`."""
     space = model.space
     m = space.n_modes
     states = sorted((u, d) for u, d in product(range(2 ** m), repeat=2)
@@ -46,8 +47,7 @@ def _reference_sector(model, n_up, n_dn):
                     and _allowed(space.kind, space.projected, m, u, d))
     idx = [FockReference.state_index(u, d, m) for u, d in states]
     out = {}
-    for term in model.terms:
-        mat, den = operator_matrix(term.operator, m)
+    for term, (mat, den) in zip(model.terms, matrices):
         block = mat[idx][:, idx].toarray()
         acc = out.setdefault(term.label, np.zeros(block.shape, dtype=object))
         acc += np.vectorize(lambda a: Fraction(int(a), den), otypes=[object])(block)
@@ -61,8 +61,9 @@ def test_plain_sector_matrices_match_the_kronecker_reference(name):
     model = _MODELS[name]()
     sectors = model.space.sectors()
     built = sector_matrices(model, sectors)
+    matrices = [operator_matrix(term.operator, model.space.n_modes) for term in model.terms]
     for sector in sectors:
-        states, ref = _reference_sector(model, *sector)
+        states, ref = _reference_sector(model, *sector, matrices)
         got = built[sector].as_dicts()
         assert built[sector].dim == len(states)
         assert sector_matrix(model, *sector).as_dicts() == got       # one sector alone
