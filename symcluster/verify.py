@@ -12,9 +12,14 @@ Tiers, per (N_up, N_dn) sector, at >= 2 random rational parameter points:
   point needs the prime to divide a fixed non-zero integer of at most a few
   thousand bits: probability < 1e-14; both points must pass);
   every level's value is a root of its polynomial at >= ``digits`` digits;
-* beyond: float64 eigenvalues of the unreduced sector equal the level values
-  (relative 1e-9), and each block's exact charpoly at the point equals the
-  product of its factors.
+* dim <= FLOAT_DIM: float64 eigenvalues of the unreduced sector equal the level
+  values (relative 1e-9);
+* beyond (``float_dim=``): exact Tr H^m (m = 1..4) at every point and the lowest
+  Lanczos eigenvalues at the first point (:mod:`symcluster.checks.large`);
+* every block's exact charpoly at the point equals the product of its factors.
+
+Every unreduced sector matrix comes from the model's terms by the plain route of
+:mod:`symcluster.checks.plain`, which shares no code with the block builder.
 
 Always: degeneracies add up to each sector's dimension and to 4^L; the
 symbolic sum rules sum deg*E = Tr H and sum deg*E^2 = Tr H^2 per sector; each
