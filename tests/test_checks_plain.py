@@ -107,3 +107,19 @@ def test_plain_route_sees_a_wrong_sign_convention():
         got[i, j] = v
     assert np.array_equal(got, fermion.terms["t"][idx][:, idx].toarray())
     assert not np.array_equal(got, boson.terms["t"][idx][:, idx].toarray())
+
+
+def test_plain_route_imports_nothing_of_the_block_builder():
+    # the independence claimed in docs/verification.md, read off the module's imports
+    # (Python's ast): nothing from symcluster.hilbert, directly or relatively
+    import ast
+    import symcluster.checks.plain as plain
+    tree = ast.parse(open(plain.__file__, encoding="utf-8").read())
+    names = []
+    for node in ast.walk(tree):
+        if isinstance(node, ast.ImportFrom):
+            names.append("." * node.level + (node.module or ""))
+        elif isinstance(node, ast.Import):
+            names.extend(a.name for a in node.names)
+    parts = {p for n in names for p in n.strip(".").split(".")}
+    assert names and not parts & {"hilbert", "action", "fock", "ladder"}, names

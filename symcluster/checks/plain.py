@@ -74,8 +74,8 @@ def sector_occupations(space, n_up, n_dn):
 
     Examples
     --------
-    >>> from symcluster.hilbert.space import LocalSpace
-    >>> sector_occupations(LocalSpace("spins", 2), 1, 1).tolist()
+    >>> import symcluster as sc
+    >>> sector_occupations(sc.heisenberg(sc.chain(2)).space, 1, 1).tolist()
     [[1, 0, 0, 1], [0, 1, 1, 0]]
     """
     m = space.n_modes
