@@ -603,7 +603,7 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     proven = (("spin",) if plan.spin and not plan.spin_split else ()) + (
         ("eta",) if plan.eta else ())
     verify_spectrum(spectrum, wanted, digits=digits, seed=seed, proven=proven, executor=executor,
-                    lattice=plan.lattice, action=plan.action)
+                    lattice=plan.lattice)
     timings["verify"] = time.perf_counter() - t2
     timings["total"] = time.perf_counter() - t0
     return spectrum

@@ -12,9 +12,14 @@ Tiers, per (N_up, N_dn) sector, at >= 2 random rational parameter points:
   point needs the prime to divide a fixed non-zero integer of at most a few
   thousand bits: probability < 1e-14; both points must pass);
   every level's value is a root of its polynomial at >= ``digits`` digits;
-* beyond: float64 eigenvalues of the unreduced sector equal the level values
-  (relative 1e-9), and each block's exact charpoly at the point equals the
-  product of its factors.
+* dim <= FLOAT_DIM: float64 eigenvalues of the unreduced sector equal the level
+  values (relative 1e-9);
+* beyond (``float_dim=``): exact Tr H^m (m = 1..4) at every point and the lowest
+  Lanczos eigenvalues at the first point (:mod:`symcluster.checks.large`);
+* every block's exact charpoly at the point equals the product of its factors.
+
+Every unreduced sector matrix comes from the model's terms by the plain route of
+:mod:`symcluster.checks.plain`, which shares no code with the block builder.
 
 Always: degeneracies add up to each sector's dimension and to 4^L; the
 symbolic sum rules sum deg*E = Tr H and sum deg*E^2 = Tr H^2 per sector; each
@@ -35,8 +40,10 @@ import sympy
 
 from .algebra.polydict import dense_terms
 from .errors import ModelError, VerificationError
-from .hilbert.fock import sector_states, states_with
-from .hilbert.action import HamiltonianAction
+from .checks.labels import check_state_labels
+from .checks.large import check_large_sector
+from .checks.plain import sector_matrices, sector_matrix
+from .hilbert.fock import states_with
 from .numeric.evaluate import Evaluation, closed_values, energy_numeric
 from .numeric.implicit import ImplicitRoot
 from .numeric.isolate import LAGUERRE_MIN_DEGREE, isolate
@@ -194,32 +201,19 @@ def sector_share(level, n_up, n_dn, n_fixed=None):
     raise VerificationError("level without spin information; cannot assign it to a sector")
 
 
-def _sector_terms(model, states, action=None):
-    """(terms, Tr H, Tr H^2) of one sector.
+def _sector_traces(terms, dim):
+    """(Tr H, Tr H^2) of one sector, exact polynomials {sorted label tuple: int or Fraction}.
 
-    ``terms`` is the sparse sector matrix {label: {(i, j): int}} read off the images
-    H|state>; the traces are exact polynomials {sorted label tuple: int} of it:
-    Tr H sums the diagonal, Tr H^2 = sum_ij H_ij^2 (H is symmetric) sums the squares
-    of the entries, sum_l1,l2 u_l1 u_l2 <A_l1, A_l2> over the label matrices A_l.
-    ``action`` is a :class:`~symcluster.hilbert.action.HamiltonianAction` of ``model`` to
-    reuse between sectors (its bond masks); images are not stored in it.
+    ``terms`` is the sparse sector matrix {label: {(i, j): int or Fraction}} (the plain
+    route's, :mod:`symcluster.checks.plain`).  Tr H sums the diagonal, Tr H^2 = sum_ij
+    H_ij^2 (H is symmetric) sums the squares of the entries, sum_l1,l2 u_l1 u_l2
+    <A_l1, A_l2> over the label matrices A_l.
     """
-    if action is None:
-        action = HamiltonianAction(model)
-    idx = {s: k for k, s in enumerate(states)}
-    terms = {}
-    for j, s in enumerate(states):
-        for s2, lab, a in action.image(*s):
-            m = terms.get(lab)
-            if m is None:
-                m = terms[lab] = {}
-            key = (idx[s2], j)
-            m[key] = m.get(key, 0) + a
     tr1, tr2 = {}, {}
     labels = list(terms)
     for x, l1 in enumerate(labels):
         m1 = terms[l1]
-        tr1[(l1,)] = sum(m1.get((i, i), 0) for i in range(len(states)))
+        tr1[(l1,)] = sum(m1.get((i, i), 0) for i in range(dim))
         tr2[(l1, l1)] = sum(a * a for a in m1.values())
         for l2 in labels[x + 1:]:
             m2 = terms[l2]
@@ -227,7 +221,7 @@ def _sector_terms(model, states, action=None):
             if common:
                 key = (l1, l2) if l1 <= l2 else (l2, l1)
                 tr2[key] = 2 * sum(m1[k] * m2[k] for k in common)
-    return terms, _clean(tr1), _clean(tr2)
+    return _clean(tr1), _clean(tr2)
 
 
 def _clean(p):
@@ -669,15 +663,20 @@ def _fail(msg):
 
 
 def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, proven=(),
-                    executor=None, lattice=None, action=None):
+                    executor=None, lattice=None, float_dim=FLOAT_DIM):
     """Run every check on ``spectrum``; fill its verification report; raise on failure.
+
+    Every sector matrix is built from the model's terms by the plain route of
+    :mod:`symcluster.checks.plain`, which shares no code with the block builder.
+    Sectors of dimension above ``float_dim`` (default :data:`FLOAT_DIM`) are not
+    diagonalised in float64: they get the exact power traces Tr H^m (m = 1 .. 4) at each
+    point and the lowest Lanczos eigenvalues at the first point
+    (:mod:`symcluster.checks.large`) instead.
 
     ``lattice`` (the detected lattice symmetry, or None) adds the check of the lattice
     labels: in every sector of dimension at most ``EXACT_DIM`` the levels labelled with an
     irrep carry the traces of H^0, H^1, H^2 on that irrep's isotypic subspace (float64, first
-    point; see :func:`_check_lattice_labels`).  ``action`` (optional) is the solve's
-    :class:`~symcluster.hilbert.action.HamiltonianAction` (images already computed are read from
-    it).
+    point; see :func:`_check_lattice_labels`).
 
     ``proven`` names symmetries that were proven exactly by operator identities
     ("spin": [H, S+] = 0; "eta": [H, eta+] = delta eta+).  Sectors that such a
@@ -712,9 +711,6 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     report.primes = primes
     forms = FormCache()     # integer forms of the level polynomials, for this call only
     wanted = set(space.particle_numbers()) if electrons is None else set(electrons)
-    # H on basis states, for the sector matrices (the solve's own, with the images its
-    # symmetry checks and blocks computed, when it passes it)
-    action = HamiltonianAction(model) if action is None or action.model is not model else action
 
     # 1. state counting
     total = sum(l.degeneracy for l in spectrum.levels)
@@ -723,6 +719,10 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         _fail(f"degeneracies add up to {total}, expected {expected} states")
     report.add("state count", f"N in {sorted(wanted)}" if space.has_charge else "all states",
                worst=0.0, states=total)
+    n_labelled = check_state_labels(spectrum.levels, n_fixed)
+    report.add("N and Sz labels match the basis states of the level's block (S: the highest "
+               "weight Sz = S)", "levels from blocks of dimension <= 4", worst=0.0,
+               levels=n_labelled)
 
     # numeric values of every level at every point (closed forms and implicit roots),
     # through one Evaluation that this call owns: closed forms share the values of common
@@ -821,6 +821,17 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     sums = {}               # Vieta's power sums by polynomial (_check_sum_rules)
     reduced = [{} for _ in points]      # id(form) -> monic nmod_poly, per point and prime
     spectra = {}            # exact sector matrix -> its eigenvalues (equal sectors once)
+    large = []              # worst deviations of the sectors above float_dim
+
+    def flip_covered(n_up, n_dn):
+        return ("spin" in proven and n_up < n_dn
+                and by_sector.get((n_up, n_dn), []) == by_sector.get((n_dn, n_up)))
+
+    # the plain route's sector matrices, every sector up to float_dim in one pass
+    plain = sector_matrices(model, [
+        (n_up, n - n_up) for n in sorted(wanted) for n_up in range(max(0, n - L), min(n, L) + 1)
+        if 0 < space.sector_dim(n_up, n - n_up) <= float_dim
+        and not flip_covered(n_up, n - n_up)])
     for n in sorted(wanted):
         for n_up in range(max(0, n - L), min(n, L) + 1):
             n_dn = n - n_up
@@ -829,13 +840,11 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
             got = sum(s for _, s in members)
             if got != dim:
                 _fail(f"sector (N_up={n_up}, N_dn={n_dn}) has {got} states in the levels, expected {dim}")
-            if dim > FLOAT_DIM:
-                continue
             if not dim:
                 continue
             mirrored = (("spin" in proven and n_up < n_dn)
                         or ("eta" in proven and n > L and (2 * L - n) in wanted))
-            if "spin" in proven and n_up < n_dn and members == by_sector.get((n_dn, n_up)):
+            if flip_covered(n_up, n_dn):
                 # the spin flip (a rotation by pi about the x axis, which commutes with H
                 # once [H, S+] = 0 is proven, and with every site permutation U(g)) maps
                 # this sector onto (n_dn, n_up), which holds the same levels with the same
@@ -848,12 +857,19 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                     flipped_labels += 1
                 skipped += 1
                 continue
-            states = space.sector_states(n_up, n_dn)
-            terms, tr1, tr2 = _sector_terms(model, states, action)
+            matrix = (plain[n_up, n_dn] if dim <= float_dim
+                      else sector_matrix(model, n_up, n_dn))
+            terms = matrix.as_dicts()
+            tr1, tr2 = _sector_traces(terms, dim)
             if spectrum_fixed:
                 tr1, tr2 = _at_fixed(tr1, spectrum_fixed), _at_fixed(tr2, spectrum_fixed)
             groups = _factor_groups(spectrum, members, (n_up, n_dn))
             _check_sum_rules(groups, tr1, tr2, (n_up, n_dn), sums, forms)
+            if dim > float_dim:
+                if not mirrored:
+                    large.append(_check_large_sector(matrix, members, values, points, symbols,
+                                                     (n_up, n_dn), digits, seed))
+                continue
             if lattice is not None and dim <= EXACT_DIM:
                 by_label = {s.name: v for s, v in points[0].items()}
                 vals = []
@@ -862,7 +878,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                     if x is None:
                         x = floats0[li] = float(values[0][li])
                     vals.append(x)
-                dev = _check_lattice_labels(spectrum, lattice, members, states, terms,
+                dev = _check_lattice_labels(spectrum, lattice, members, dim, terms,
                                             by_label, vals, (n_up, n_dn), label_images)
                 if dev is not None:
                     labelled += 1
@@ -916,9 +932,14 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                points, worst["balls"])
     report.add("exact sector characteristic polynomial (modulo a random 62-bit prime per point)",
                f"sectors {MP_DIM} < dim <= {EXACT_DIM}", points, 0.0, primes=primes)
-    report.add("float64 eigenvalues of unreduced sectors", f"sectors {EXACT_DIM} < dim <= {FLOAT_DIM}",
+    report.add("float64 eigenvalues of unreduced sectors", f"sectors {EXACT_DIM} < dim <= {float_dim}",
                points[:1], worst["float"])
-    scope, extra = f"every sector with dim <= {FLOAT_DIM}", {}
+    if large:
+        report.add("large sectors: exact power traces Tr H^m (m = 1..4) at every point, lowest "
+                   "Lanczos eigenvalues (float64) at the first point",
+                   f"sectors with dim > {float_dim}", points, max(d for d, _ in large),
+                   sectors=len(large), lanczos_residual=max(r for _, r in large))
+    scope, extra = "every sector", {}
     if flipped:
         scope += _FLIP_SCOPE
         extra["spin_flip_images"] = flipped
@@ -944,7 +965,15 @@ _FLIP_SCOPE = (", except a sector N_up < N_dn that holds the levels of its spin-
                "(N_dn, N_up) (spin SU(2) proven): that image's check covers it")
 
 
-def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, vals, sector,
+def _check_large_sector(matrix, members, values, points, symbols, sector, digits, seed):
+    """:func:`~symcluster.checks.large.check_large_sector` of one sector's members
+    (``(level index, share)``) with their values at every point."""
+    levels = [[(at[li], share) for li, share in members] for at in values]
+    by_label = [{s.name: v for s, v in pt.items()} for pt in points]
+    return check_large_sector(matrix, levels, by_label, sector, digits, seed)
+
+
+def _check_lattice_labels(spectrum, lattice, members, dim, terms, by_label, vals, sector,
                           images):
     """Check the lattice labels of one sector's levels; return the worst deviation.
 
@@ -956,8 +985,9 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     permuted states, ``sum_j sign_j A[j, g(j)]``; float64 at the first point, where
     ``vals`` are the members' values (floats).  ``images`` is a :class:`_BlockImages` of
     this call (the permuted spin blocks).
-    ``states`` is the sector's basis in the order of :func:`~symcluster.hilbert.fock.sector_states`
-    (every up block with every down block).
+    ``dim`` is the sector's dimension; ``terms`` are its matrices in the basis order of
+    :func:`~symcluster.checks.plain.sector_occupations` (every up block with every down
+    block, each ascending).
     Returns None when a level's label is not one of the group's irreps (a derived
     label, marked ``*``).
     """
@@ -965,7 +995,6 @@ def _check_lattice_labels(spectrum, lattice, members, states, terms, by_label, v
     idx = [where.get(spectrum.levels[li].quantum_numbers.get("irrep")) for li, _ in members]
     if None in idx:
         return None
-    dim = len(states)
     want = _isotypic_traces(terms, dim, by_label, sector, images)       # [m][irrep]
     # the members' states, and the sums of their values and squares, by irrep (a few
     # levels: plain floats)

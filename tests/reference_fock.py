@@ -215,3 +215,27 @@ def free_levels(single_particle, n_up, n_dn):
     ups = [sum(single_particle[k] for k in occ) for occ in combinations(range(L), n_up)]
     dns = [sum(single_particle[k] for k in occ) for occ in combinations(range(L), n_dn)]
     return sorted(a + b for a in ups for b in dns)
+
+
+def operator_matrix(products, n_modes):
+    """Exact Fock-space matrix of a sum of ladder-operator products on ``n_modes`` spatial
+    modes (2 * n_modes spin-orbitals: up modes first, then down modes).
+
+    ``products`` is an iterable of ``(product, Fraction)``, each product a tuple of
+    ``(mode, spin, dagger)`` written left to right.  Returns ``(int sparse matrix, den)``
+    with the operator equal to ``matrix / den``; basis indices as :meth:`FockReference.state_index`.
+    """
+    products = list(products)
+    n = 2 * n_modes
+    c = [_mode_operator(m, n) for m in range(n)]
+    den = 1
+    for _, coef in products:
+        den = den * Fraction(coef).denominator // np.gcd(den, Fraction(coef).denominator)
+    out = sp.csr_matrix((2 ** n, 2 ** n), dtype=np.int64)
+    for prod, coef in products:
+        mat = sp.identity(2 ** n, dtype=np.int64, format="csr")
+        for mode, spin, dagger in prod:
+            op = c[spin * n_modes + mode]
+            mat = mat @ (op.T.tocsr() if dagger else op)
+        out = out + int(Fraction(coef) * den) * mat
+    return out.tocsr(), den

@@ -89,11 +89,15 @@ _CLUSTERS = {"ring4": lambda: sc.ring(4),
 def test_sector_matrix_and_traces_match_the_fock_reference(name, sector):
     # Tr H = sum_l u_l tr A_l and Tr H^2 = sum_l1,l2 u_l1 u_l2 sum_ij A_l1[i,j] A_l2[i,j]
     # with A_l the reference's integer matrices (numpy), keys sorted label tuples
-    from symcluster.verify import _sector_terms
+    # the verification's plain sector matrices (symcluster.checks.plain), in the order of the
+    # package's sector basis
+    from symcluster.checks.plain import sector_matrix
+    from symcluster.verify import _sector_traces
     cluster = _CLUSTERS[name]()
     model = sc.hubbard(cluster)
     states, ref = _reference_sector(cluster, *sector)
-    terms, tr1, tr2 = _sector_terms(model, states)
+    terms = sector_matrix(model, *sector).as_dicts()
+    tr1, tr2 = _sector_traces(terms, len(states))
     for lab, mat in ref.items():
         got = terms.get(lab, {})
         want = {(i, j): int(mat[i, j]) for i in range(len(states)) for j in range(len(states))
@@ -112,7 +116,8 @@ def test_sector_matrix_and_traces_match_the_fock_reference(name, sector):
 def test_sector_charpoly_modulo_a_prime_matches_sympy():
     # det(x - H) of the reference's (2, 1) sector at a rational point, by sympy over Q,
     # then reduced modulo the prime coefficient by coefficient
-    from symcluster.verify import _charpoly_mod, _label_matrices, _sector_terms
+    from symcluster.checks.plain import sector_matrix
+    from symcluster.verify import _charpoly_mod, _label_matrices
     cluster = _CLUSTERS["labels"]()
     model = sc.hubbard(cluster)
     states, ref = _reference_sector(cluster, 2, 1)
@@ -123,7 +128,7 @@ def test_sector_charpoly_modulo_a_prime_matches_sympy():
             sympy.zeros(len(states)))
     want = [c % prime if c.q == 1 else c.p * pow(c.q, -1, prime) % prime
             for c in reversed(H.charpoly(x).all_coeffs())]
-    terms = _sector_terms(model, states)[0]
+    terms = sector_matrix(model, 2, 1).as_dicts()
     got = _charpoly_mod(_label_matrices(terms, len(states)), len(states), point, prime)
     assert [int(c) for c in got.coeffs()] == want
 
@@ -406,7 +411,8 @@ def test_isotypic_traces_match_dense_projectors(sector):
     import numpy as np
     from test_lattice import ref_permute
     from symcluster.blocks import plan_symmetries
-    from symcluster.verify import _BlockImages, _isotypic_traces, _sector_terms
+    from symcluster.checks.plain import sector_matrix
+    from symcluster.verify import _BlockImages, _isotypic_traces
     cluster = sc.cluster(5, [(0, 1), (1, 2), (2, 3), (3, 0), (0, 4, "tp")])
     model = sc.hubbard(cluster)
     lattice = plan_symmetries(model).lattice
@@ -426,7 +432,7 @@ def test_isotypic_traces_match_dense_projectors(sector):
         proj *= irrep.dim / lattice.group.order
         for m in range(3):
             want[m][j] = float(np.trace(proj @ np.linalg.matrix_power(h, m)))
-    got = _isotypic_traces(_sector_terms(model, states)[0], dim, point, sector,
+    got = _isotypic_traces(sector_matrix(model, *sector).as_dicts(), dim, point, sector,
                            _BlockImages(lattice, 5))
     assert np.allclose(got, want, rtol=1e-12, atol=1e-12)
     assert abs(sum(got[0]) - dim) < 1e-9          # the projectors add up to the identity
@@ -436,10 +442,11 @@ def test_numeric_matrix_is_the_entrywise_sum():
     # bit for bit the loop m[i, j] += a * float(u_l), label after label
     import numpy as np
     from symcluster.hilbert.fock import sector_states
-    from symcluster.verify import _numeric_matrix, _sector_terms
+    from symcluster.checks.plain import sector_matrix
+    from symcluster.verify import _numeric_matrix
     model = sc.hubbard(sc.cluster(4, [(0, 1), (1, 2, "tp"), (2, 3)], site_labels={1: "e", 3: "e"}))
     states = sector_states(4, 2, 1)
-    terms = _sector_terms(model, states)[0]
+    terms = sector_matrix(model, 2, 1).as_dicts()
     point = {"t": sympy.Rational(-7, 13), "tp": sympy.Rational(5, 3), "U": sympy.Rational(9, 7),
              "e": sympy.Rational(-1, 6)}
     want = np.zeros((len(states), len(states)))
@@ -471,7 +478,7 @@ def test_spin_flip_images_share_the_lattice_label_check():
     assert alone["sectors"] == 25 and "spin_flip_images" not in alone
     assert alone["scope"] == "sectors with dim <= 500"
     sums = next(c for c in spec.verification.checks if c["check"].startswith("sum rules"))
-    assert "spin_flip_images" not in sums and sums["scope"] == "every sector with dim <= 6000"
+    assert "spin_flip_images" not in sums and sums["scope"] == "every sector"
     two = [lev for lev in spec.levels if lev.quantum_numbers["N"] == 2]
     a = next(lev for lev in two if lev.quantum_numbers["irrep"].startswith("k=0"))
     b = next(lev for lev in two if lev.quantum_numbers["irrep"] != a.quantum_numbers["irrep"]
