@@ -302,7 +302,7 @@ def _run_levels(args, out, err):
     cl = load_cluster_file(args.cluster_file) if args.cluster_file else build_cluster(args.cluster)
     model = hubbard(cl)
     electrons = parse_electrons(args.electrons, cl.n_sites)
-    point = parse_point(args.at) if args.at else None
+    point = parse_point(args.at) if args.at is not None else None
     if point is not None:
         _check_point(point, model)
     _check_outputs([args.latex, args.json], inputs=[args.cluster_file])

@@ -24,8 +24,28 @@ _RESERVED = {"E", "U", "I", "N", "S", "O", "Q", "pi", "oo", "beta", "mu", "h", "
              "sqrt", "cos", "sin", "acos", "exp", "log", "lambda"}
 
 
+#: Longest coupling label accepted.
+MAX_LABEL_CHARS = 64
+
+
 def check_label(label, what):
-    """Raise ClusterError unless ``label`` is a valid coupling name."""
+    """Raise ClusterError unless ``label`` is a valid coupling name.
+
+    A name is letters, digits and underscores, starting with a letter, at most
+    :data:`MAX_LABEL_CHARS` long, neither reserved nor a Python keyword.
+
+    Examples
+    --------
+    >>> check_label("tp", "bond")
+    'tp'
+    >>> check_label("class", "bond")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    symcluster.errors.ClusterError: bond label 'class' is a Python keyword, ...
+    """
+    if isinstance(label, str) and len(label) > MAX_LABEL_CHARS:
+        raise ClusterError(f"{what} label {label[:20]!r}... has {len(label)} characters; give "
+                           f"a name of at most {MAX_LABEL_CHARS}")
     if not isinstance(label, str) or not _NAME.match(label):
         raise ClusterError(
             f"{what} label {label!r} is not a valid symbol name; use letters, digits and "
