@@ -3,14 +3,16 @@
 Thin by design: every computation is :func:`symcluster.solve` and the
 functions of :mod:`symcluster.export`.  Any :class:`SymclusterError` or usage
 mistake becomes exactly one line ``symcluster: error: <problem>; <fix>`` on
-stderr and exit code 2.  Output paths are checked (a file can be created there)
-before the solve; after it, all outputs are produced in memory, written to
-temporary files beside their targets and renamed into place only when every one
-succeeded (all files or none).
+stderr and exit code 2.  Output paths are checked before the solve
+(:func:`symcluster.export.files.check_outputs`: a regular file or a new path, a
+symbolic link written through, never an input of the run, never two outputs at
+one file); after it, all outputs are produced in memory, written to temporary
+files beside their targets and renamed into place only when every one
+succeeded (all files or none).  Every note (``symcluster: wrote FILE``) goes to
+standard error, so that standard output holds only the results.
 """
 
 import argparse
-import os
 import re
 import sys
 
@@ -318,6 +320,9 @@ def _make_parser():
     lv.add_argument("--serial", action="store_true",
                     help="solve the blocks in this process only (default: all cores for "
                          "large runs)")
+    lv.add_argument("--no-lattice", action="store_true",
+                    help="do not use the cluster's lattice symmetry (for clusters with too "
+                         "many automorphisms, such as 'complete 8')")
     model_opts = argparse.ArgumentParser(add_help=False)
     model_opts.add_argument("cluster", nargs="*", metavar="CLUSTER",
                             help="shape word and sizes, e.g. 'ring 4' or 'grid 2 3'")
@@ -328,6 +333,8 @@ def _make_parser():
     # thermo's own --field is a number (the field of the thermodynamics), so the analysis
     # commands spell the model's field coupling --with-field
     _add_model_options(model_opts, ("--with-field",))
+    model_opts.add_argument("--no-lattice", action="store_true",
+                            help="do not use the cluster's lattice symmetry")
     from .analysis.commands import add_commands
     add_commands(sub, parents=[model_opts], build_spectrum=_analysis_spectrum)
     sub.add_parser("shapes", help="list the built-in cluster shapes",
@@ -342,18 +349,10 @@ def _digits(text):
     return digits_argument(text)
 
 
-def _check_outputs(paths):
-    """Before the solve: distinct paths, each one creatable (export.check_writable)."""
-    from .export import check_writable
-    seen = set()
-    for p in paths:
-        if p is None:
-            continue
-        full = os.path.abspath(p)
-        if full in seen:
-            raise InputError(f"{p!r} is given for two outputs; give each output its own file")
-        seen.add(full)
-        check_writable(p)
+def _check_outputs(paths, inputs=()):
+    """Before the solve: every output writable, none an input, no two the same file."""
+    from .export.files import check_outputs
+    check_outputs(paths, inputs)
 
 
 def _check_point(point, model, fixed=None):
@@ -375,7 +374,13 @@ def _check_point(point, model, fixed=None):
 
 
 def _analysis_spectrum(args):
-    """Solve the model named by the shared model options of the analysis commands."""
+    """Solve the model named by the shared model options of the analysis commands.
+
+    Every option is checked against the model before the solve starts
+    (:func:`symcluster.analysis.commands.check_request`), the output paths
+    included.
+    """
+    from .analysis.commands import check_request
     model, fixed = build_model(args)
     if not model.space.has_charge:
         kind = getattr(args, "analysis", None)
@@ -384,10 +389,12 @@ def _analysis_spectrum(args):
                              "have; use levels, ground-map, series, derivative or plot")
         if getattr(args, "sector", None) is not None:
             raise InputError("--sector: a spin model has no electron number; leave --sector out")
-    return _solve(model, _electrons(args.electrons, model), fixed=fixed)
+    electrons = _electrons(args.electrons, model)
+    check_request(args, model, electrons)
+    return _solve(model, electrons, fixed=fixed, lattice=not getattr(args, "no_lattice", False))
 
 
-def _solve(model, electrons, force=False, serial=False, fixed=None):
+def _solve(model, electrons, force=False, serial=False, fixed=None, lattice=True):
     import symcluster
     solve = getattr(symcluster, "solve", None)
     if solve is None:
@@ -400,6 +407,8 @@ def _solve(model, electrons, force=False, serial=False, fixed=None):
         kwargs["force"] = True
     if serial:
         kwargs["executor"] = "serial"
+    if not lattice:
+        kwargs["lattice"] = False
     return solve(model, electrons=electrons, **kwargs)
 
 
@@ -410,12 +419,14 @@ def _run_levels(args, out, err):
         raise InputError("--standalone needs --latex FILE.tex; add it or drop --standalone")
     model, fixed = build_model(args)
     electrons = _electrons(args.electrons, model)
-    point = parse_point(args.at) if args.at else None
+    point = parse_point(args.at) if args.at is not None else None
     if point is not None:
         _check_point(point, model, fixed)
-    _check_outputs([args.latex, args.json])
+    _check_outputs([args.latex, args.json],
+                   inputs=[args.cluster_file, getattr(args, "model", None)])
     spectrum = _solve(model, electrons, getattr(args, "force", False),
-                      getattr(args, "serial", False), fixed)
+                      getattr(args, "serial", False), fixed,
+                      not getattr(args, "no_lattice", False))
     # everything is produced in memory first; files are written only if all succeeded
     table = format_table(spectrum, point=point, digits=args.digits)
     sym = format_symmetries(spectrum) if args.show_symmetry else ""
@@ -437,7 +448,8 @@ def _run_levels(args, out, err):
 def _demo_args():
     return argparse.Namespace(cluster=["chain", "2"], cluster_file=None, electrons="all",
                               at=DEMO_POINT, digits=12, latex=DEMO_STEM + ".tex",
-                              standalone=True, json=DEMO_STEM + ".json", show_symmetry=False)
+                              standalone=True, json=DEMO_STEM + ".json", show_symmetry=False,
+                              no_lattice=False)
 
 
 def _shapes_text():

@@ -5,7 +5,10 @@ returning clusters; :func:`load_cluster_file` reads the TOML format described
 in docs/cluster-files.md.
 """
 
+import keyword
+import operator
 import re
+import unicodedata
 from dataclasses import dataclass
 
 from .errors import ClusterError, InputError
@@ -22,8 +25,28 @@ _RESERVED = {"E", "U", "I", "N", "S", "O", "Q", "pi", "oo", "beta", "mu", "h", "
              "sqrt", "cos", "sin", "acos", "exp", "log", "lambda"}
 
 
+#: Longest coupling label accepted.
+MAX_LABEL_CHARS = 64
+
+
 def check_label(label, what):
-    """Raise ClusterError unless ``label`` is a valid coupling name."""
+    """Raise ClusterError unless ``label`` is a valid coupling name.
+
+    A name is letters, digits and underscores, starting with a letter, at most
+    :data:`MAX_LABEL_CHARS` long, neither reserved nor a Python keyword.
+
+    Examples
+    --------
+    >>> check_label("tp", "bond")
+    'tp'
+    >>> check_label("class", "bond")  # doctest: +ELLIPSIS
+    Traceback (most recent call last):
+    ...
+    symcluster.errors.ClusterError: bond label 'class' is a Python keyword, ...
+    """
+    if isinstance(label, str) and len(label) > MAX_LABEL_CHARS:
+        raise ClusterError(f"{what} label {label[:20]!r}... has {len(label)} characters; give "
+                           f"a name of at most {MAX_LABEL_CHARS}")
     if not isinstance(label, str) or not _NAME.match(label):
         raise ClusterError(
             f"{what} label {label!r} is not a valid symbol name; use letters, digits and "
@@ -32,7 +55,42 @@ def check_label(label, what):
         raise ClusterError(
             f"{what} label {label!r} is reserved (used for energies, U, or functions); "
             f"choose another name such as t2 or eps_a")
+    if keyword.iskeyword(label):          # also None, True and False
+        raise ClusterError(
+            f"{what} label {label!r} is a Python keyword, which cannot name a coupling; "
+            f"choose another name such as t2 or eps_a")
     return label
+
+
+def _index(value):
+    """A site index or count as a Python int: int, numpy integer, anything with __index__
+    except bool; None if it is not one."""
+    if isinstance(value, bool):
+        return None
+    try:
+        return operator.index(value)
+    except TypeError:
+        return None
+
+
+_UNPRINTABLE = {"Cc", "Cf", "Cs", "Co", "Cn", "Zl", "Zp"}
+
+
+def _printable(text):
+    """``text`` with every control or line-separator character replaced by '?'."""
+    return "".join("?" if unicodedata.category(ch) in _UNPRINTABLE else ch for ch in text)
+
+
+def check_name(name):
+    """Raise ClusterError unless ``name`` is a one-line printable cluster name."""
+    if not isinstance(name, str):
+        raise ClusterError(f"cluster name {name!r} is not a string; give e.g. name='dimer'")
+    for ch in name:
+        if unicodedata.category(ch) in _UNPRINTABLE:
+            raise ClusterError(
+                f"cluster name {name!r} contains the control or separator character "
+                f"U+{ord(ch):04X}; give a name on one line without control characters")
+    return name
 
 
 @dataclass(frozen=True)
@@ -129,14 +187,20 @@ def cluster(n_sites, bonds, site_labels=None, name="custom"):
     >>> c.bonds
     ((0, 1, 't'), (1, 2, 'tp'))
     """
-    if isinstance(n_sites, bool) or not isinstance(n_sites, int):
+    n_index = _index(n_sites)
+    if n_index is None:
         raise ClusterError(f"number of sites {n_sites!r} is not an integer; give e.g. 4")
+    n_sites = n_index
     if n_sites < 1:
         raise ClusterError(f"a cluster needs at least one site, got {n_sites}; give n_sites >= 1")
     if n_sites > MAX_SITES:
         raise ClusterError(
             f"{n_sites} sites is far beyond exact diagonalization (at most {MAX_SITES} sites are "
             f"accepted, and full spectra reach about 8); give fewer sites")
+    check_name(name)
+    if isinstance(bonds, (str, bytes, dict)) or not hasattr(bonds, "__iter__"):
+        raise ClusterError(f"bonds={bonds!r} is not a list of bonds; give e.g. "
+                           f"bonds=[(0, 1), (1, 2)] (an empty list for a single site)")
     seen = {}
     for raw in bonds:
         try:
@@ -149,9 +213,13 @@ def cluster(n_sites, bonds, site_labels=None, name="custom"):
             i, j, label = items
         else:
             raise ClusterError(f"bond {raw!r} is not a pair (i, j) or triple (i, j, label)")
+        ii, jj = _index(i), _index(j)
+        for k, kk in ((i, ii), (j, jj)):
+            if kk is None:
+                raise ClusterError(f"bond {raw!r}: site {k!r} is not an integer index; give "
+                                   f"sites as whole numbers such as (0, 1)")
+        i, j = ii, jj
         for k in (i, j):
-            if isinstance(k, bool) or not isinstance(k, int):
-                raise ClusterError(f"bond {raw!r}: site {k!r} is not an integer index")
             if not 0 <= k < n_sites:
                 raise ClusterError(
                     f"bond ({i}, {j}) uses site {k}, outside 0..{n_sites - 1}; "
@@ -175,8 +243,11 @@ def cluster(n_sites, bonds, site_labels=None, name="custom"):
     if site_labels is not None:
         items = site_labels.items() if isinstance(site_labels, dict) else enumerate(site_labels)
         for k, lab in items:
-            if isinstance(k, bool) or not isinstance(k, int) or not 0 <= k < n_sites:
-                raise ClusterError(f"site label given for site {k!r}, outside 0..{n_sites - 1}")
+            kk = _index(k)
+            if kk is None or not 0 <= kk < n_sites:
+                raise ClusterError(f"site label given for site {k!r}, outside 0..{n_sites - 1}; "
+                                   f"give a site index from 0 to {n_sites - 1}")
+            k = kk
             if lab is not None:
                 labels[k] = check_label(lab, "site")
     clash = set(seen.values()) & {l for l in labels if l}
@@ -326,21 +397,36 @@ def cluster_from_table(data, source="<string>", extra_keys=()):
             labels[int(key)] = lab
         except ValueError:
             raise InputError(f"{source}: site_energy key {key!r} is not a site index") from None
-    name = data.get("name", source)
+    name = data.get("name")
+    if name is None:
+        name = _printable(source)          # a file name may hold any character
+    elif not isinstance(name, str):
+        raise InputError(f"{source}: 'name' must be a string such as name = \"dimer\"")
     try:
-        return cluster(n, raw_bonds, site_labels=labels, name=str(name))
+        return cluster(n, raw_bonds, site_labels=labels, name=name)
     except ClusterError as exc:
         raise ClusterError(f"{source}: {exc}") from None
 
 
+#: Largest cluster file read, in bytes.  Any cluster that can be solved is far smaller
+#: (8 sites with all 28 bonds labelled take about 1 kB).
+MAX_FILE_BYTES = 1_000_000
+
+
 def load_cluster_file(path):
-    """Read a TOML cluster file; errors name the file and the problem."""
-    try:
-        with open(path, "r", encoding="utf-8") as fh:
-            text = fh.read()
-    except OSError as exc:
-        raise InputError(f"cannot read cluster file {path!r}: {exc.strerror}; check the path") from None
-    except UnicodeDecodeError as exc:
-        raise InputError(f"cluster file {path!r} is not UTF-8 text (byte {exc.start}); "
-                         "save it as UTF-8 TOML") from None
+    """Read a TOML cluster file; errors name the file and the problem.
+
+    At most :data:`MAX_FILE_BYTES` bytes are read; a larger file (or a device
+    such as /dev/zero) is refused.
+
+    Examples
+    --------
+    >>> import os, tempfile
+    >>> f = os.path.join(tempfile.mkdtemp(), "dimer.toml")
+    >>> _ = open(f, "w").write('format = "symcluster-cluster"\\nsites = 2\\nbonds = [[0, 1]]\\n')
+    >>> load_cluster_file(f).bonds
+    ((0, 1, 't'),)
+    """
+    from .parsing import read_input_file
+    text = read_input_file(path, "cluster file", MAX_FILE_BYTES)
     return parse_cluster_toml(text, source=str(path))

@@ -270,6 +270,29 @@ class Spectrum:
         return out
 
     def select(self, **qn):
-        """Levels whose quantum numbers match every given key, e.g. select(N=2)."""
+        """Levels whose quantum numbers match every given key, e.g. select(N=2).
+
+        Raises
+        ------
+        ModelError
+            A key is not a quantum number of any level (``select(n=4)``), naming
+            the keys there are.
+
+        Examples
+        --------
+        >>> import sympy
+        >>> spec = Spectrum(None, [Level(sympy.Integer(0), 1, {"N": 0})])
+        >>> len(spec.select(N=0)), len(spec.select(N=1))
+        (1, 0)
+        >>> spec.select(n=0)
+        Traceback (most recent call last):
+        ...
+        symcluster.errors.ModelError: select(n=...): 'n' is not a quantum number of these levels; the keys are N
+        """
+        known = {k for l in self.levels for k in l.quantum_numbers}
+        for k in qn:
+            if self.levels and k not in known:
+                raise ModelError(f"select({k}=...): {k!r} is not a quantum number of these "
+                                 f"levels; the keys are {', '.join(sorted(known))}")
         return [l for l in self.levels
                 if all(l.quantum_numbers.get(k) == v for k, v in qn.items())]

@@ -314,3 +314,27 @@ def test_a_list_option_keeps_all_its_values_when_the_first_is_negative(capsys):
         ["--range=-1:2", "--mu", "-1", "-2"]
     assert _attach_negative_values(["x", "--", "--range", "-3"], single) == \
         ["x", "--", "--range", "-3"]
+
+
+def test_a_huge_cluster_file_is_refused_without_reading_it_all(tmp_path, capsys):
+    # issue "Reliability", finding 5: --cluster-file /dev/zero read until memory ran out;
+    # now at most 1 MB is read (a valid file padded with a comment is refused too)
+    f = tmp_path / "big.toml"
+    f.write_text('format = "symcluster-cluster"\nsites = 2\nbonds = [[0, 1]]\n#'
+                 + "x" * 1_100_000 + "\n")
+    assert main(["levels", "--cluster-file", str(f)]) == 2
+    assert "larger than 1,000,000 bytes" in _one_error_line(capsys)
+
+
+def test_too_many_automorphisms_gives_advice_the_command_line_can_follow(capsys):
+    # 'complete 8' has 8! = 40320 automorphisms, over the detection's limit; the advice
+    # used to be "raise max_order", which no option offers
+    assert main(["levels", "complete", "8", "--electrons", "1"]) == 2
+    line = _one_error_line(capsys)
+    assert "max_order" not in line and "--no-lattice" in line
+    assert main(["levels", "complete", "8", "--electrons", "1", "--no-lattice",
+                 "--at", "t=1,U=4"]) == 0
+    rows = [r.split() for r in capsys.readouterr().out.splitlines() if r.startswith("1 ")]
+    # one electron on the complete graph K8: -(8-1)t once and +t seven times, with two
+    # spin states each (adjacency spectrum of K_n: n-1 and -1 (n-1 times); common practice)
+    assert sorted((r[-1], int(r[-3])) for r in rows) == [("-7*t", 2), ("t", 14)]

@@ -231,3 +231,55 @@ def test_cluster_file_that_is_not_utf8(tmp_path):
     p.write_bytes(b"\xff\xfe sites = 2")
     with pytest.raises(InputError, match="not UTF-8"):
         sc.load_cluster_file(p)
+
+
+# ---------------------------------------------------------------- API edges (issue "Reliability", finding 6)
+
+def test_bonds_none_is_a_cluster_error_with_a_fix():
+    with pytest.raises(ClusterError, match=r"bonds=None is not a list of bonds; give e\.g\."):
+        sc.cluster(3, bonds=None)
+    with pytest.raises(ClusterError, match="not a list of bonds"):
+        sc.cluster(2, bonds="01")
+
+
+def test_numpy_integers_are_site_indices():
+    np = pytest.importorskip("numpy")
+    c = sc.cluster(np.int64(3), [(np.int64(0), np.int32(1)), (np.uint8(1), 2, "tp")],
+                   site_labels={np.int16(2): "eps"})
+    assert c.n_sites == 3 and type(c.n_sites) is int
+    assert c.bonds == ((0, 1, "t"), (1, 2, "tp")) and all(type(i) is int for b in c.bonds
+                                                            for i in b[:2])
+    assert c.site_labels == (None, None, "eps")
+    with pytest.raises(ClusterError, match="not an integer index"):
+        sc.cluster(2, [(np.float64(0), 1)])
+    with pytest.raises(ClusterError, match="not an integer index"):
+        sc.cluster(2, [(True, 0)])
+
+
+@pytest.mark.parametrize("label", ["None", "True", "False", "class", "if", "def", "import",
+                                   "lambda", "return", "yield", "not", "and"])
+def test_python_keywords_are_not_coupling_labels(label):
+    with pytest.raises(ClusterError, match="keyword|reserved"):
+        sc.cluster(2, [(0, 1, label)])
+    with pytest.raises(ClusterError, match="keyword|reserved"):
+        sc.cluster(2, [(0, 1)], site_labels={0: label})
+    with pytest.raises(SymclusterError, match="keyword|reserved"):
+        sc.hubbard(sc.chain(2), U=label)
+
+
+@pytest.mark.parametrize("name", ["a\nb", "tab\there", "nul\x00", "bell\x07", "esc\x1b[31m",
+                                  "line\u2028sep", "rtl\u202eoverride"])
+def test_control_characters_in_a_cluster_name_are_refused(name):
+    with pytest.raises(ClusterError, match="control"):
+        sc.cluster(2, [(0, 1)], name=name)
+
+
+def test_a_cluster_file_name_with_a_newline_is_refused(tmp_path):
+    f = tmp_path / "c.toml"
+    f.write_text('format = "symcluster-cluster"\nname = "two\\nlines"\nsites = 2\n'
+                 'bonds = [[0, 1]]\n')
+    with pytest.raises(ClusterError, match="control"):
+        sc.load_cluster_file(f)
+    f.write_text('format = "symcluster-cluster"\nname = 5\nsites = 2\nbonds = [[0, 1]]\n')
+    with pytest.raises(InputError, match="'name' must be a string"):
+        sc.load_cluster_file(f)

@@ -95,7 +95,7 @@ def test_bad_site_labels_and_too_large():
     with pytest.raises(ClusterError, match="one label"):
         automorphisms(3, [(0, 1, "t")], site_labels=["a"])
     n, bonds = complete(6)
-    with pytest.raises(TooLargeError, match="max_order"):
+    with pytest.raises(TooLargeError, match="lattice=False"):
         automorphisms(n, bonds, max_order=100)
 
 

@@ -419,3 +419,22 @@ def test_interruption_between_renames_is_undone(tmp_path, monkeypatch):
     monkeypatch.setattr(jsonio.os, "replace", real_replace)
     assert a.read_text() == "A-old" and not b.exists()
     assert sorted(p.name for p in tmp_path.iterdir()) == ["a.txt"]
+
+
+@pytest.mark.parametrize("bad", [-3, 0, 2.0, "2", True, None])
+def test_a_degeneracy_that_is_not_a_positive_integer_is_refused(bad):
+    # issue "Reliability", finding 6: a negative degeneracy used to load silently
+    doc = json.loads(dumps_spectrum(two_site_spectrum()))
+    doc["levels"][0]["degeneracy"] = bad
+    with pytest.raises(InputError, match="degeneracy"):
+        loads_spectrum(json.dumps(doc))
+
+
+def test_read_json_stops_at_its_size_limit(tmp_path):
+    f = tmp_path / "big.json"
+    f.write_text(" " * 2000 + dumps_spectrum(two_site_spectrum()))
+    with pytest.raises(InputError, match="larger than 1,000 bytes"):
+        read_json(f, max_bytes=1000)
+    assert read_json(f)["n_states"] == 16
+    with pytest.raises(InputError, match="larger than"):
+        read_json("/dev/zero", max_bytes=10_000)

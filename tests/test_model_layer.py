@@ -265,3 +265,20 @@ def test_terms_a_space_cannot_hold_are_refused():
                       LocalSpace("electrons", 2, projected=True))
     with pytest.raises(sc.ModelError, match="doubly occupied"):
         sc.make_model(sc.chain(2), [pair_hopping(0, 1)], LocalSpace("electrons", 2, projected=True))
+
+
+def test_thermodynamics_of_a_spin_model_and_of_a_field_split_spectrum():
+    # Heisenberg 4-ring multiplets (S=0: -2J, 0; S=1: -J, 0, 0; S=2: J; textbook, from
+    # H = (J/2)[S^2 - S_A^2 - S_B^2]): Z(T=J=1) = e^2 + 1 + 3e + 6 + 5/e
+    import math
+    from symcluster.analysis.thermo import thermo_table
+    spec = sc.solve(sc.heisenberg(sc.ring(4)))
+    row = thermo_table(spec, {"J": 1}, [1], n_electrons=4, interaction=None)[0]
+    z = math.exp(2) + 1 + 3 * math.e + 6 + 5 / math.e
+    assert abs(float(row["lnZ"]) - math.log(z)) < 1e-12
+    # a field-split two-site spectrum: its Sz members are counted once each (the grand
+    # canonical density at mu = U/2 is exactly 2 at every T and h, particle-hole symmetry)
+    spec = sc.solve(sc.with_field(sc.hubbard(sc.chain(2))))
+    row = thermo_table(spec, {"t": 1, "U": 4, "h": "1/2"}, [1], mus=[2], interaction="U")[0]
+    assert abs(float(row["density"]) - 2) < 1e-20
+    assert float(row["magnetization"]) > 0

@@ -10,6 +10,12 @@ the model options, passed in through ``parents``) and calls
 Coupling values use a small grammar, never evaluated as code:
 ``name=value`` with value an integer, decimal or fraction (``t=1``,
 ``U=-2.5``, ``U=7/2``); ranges are ``lo:hi`` with the same numbers.
+
+Every option is checked against the model before the solve
+(:func:`check_request`): electron numbers in range, the sectors the command
+needs among those solved, couplings that exist, limits on every size
+(``--order``, number of temperatures and chemical potentials), output paths.
+Notes (``symcluster: wrote FILE``) go to standard error.
 """
 
 import argparse
@@ -20,8 +26,17 @@ import mpmath
 
 from ..errors import InputError, ModelError
 from ..parsing import NUMBER, parse_number
+from .sectors import format_numbers
+from .series import MAX_ORDER
+from .thermo import MAX_ROWS
 
-__all__ = ["add_commands", "run_analysis", "parse_assignment", "parse_range"]
+__all__ = ["add_commands", "run_analysis", "parse_assignment", "parse_range", "check_request",
+           "MAX_VALUES"]
+
+#: Most values one list option (--temperatures, --mu) takes.
+MAX_VALUES = 1000
+#: Quantum-number keys a level can carry (docs/outputs.md), for --color-by.
+QUANTUM_KEYS = ("N", "S", "Sz", "eta", "irrep", "irrep_dim", "k")
 
 _NUM = NUMBER          # the grammar of symcluster/parsing.py, shared with the levels command
 _ASSIGN = re.compile(rf"^\s*([A-Za-z_][A-Za-z0-9_]*)\s*=\s*({_NUM})\s*$")
@@ -36,6 +51,19 @@ def digits_argument(text):
 
 
 _number = parse_number
+
+
+def _whole_number(lo, hi):
+    """argparse type: a whole number from lo to hi (one message for every bounded option)."""
+    def parse(text):
+        t = text.strip()
+        if not re.match(r"^[+-]?[0-9]{1,9}$", t) or not lo <= int(t) <= hi:
+            raise argparse.ArgumentTypeError(f"{text!r} is not a whole number from {lo} to {hi}")
+        return int(t)
+    return parse
+
+
+_SECTOR = _whole_number(-10 ** 6, 10 ** 6)    # checked against the cluster by check_request
 
 
 def parse_assignment(items):
@@ -61,10 +89,11 @@ def parse_range(text):
     return _number(m.group(1), "lower end"), _number(m.group(2), "upper end")
 
 
-def _common(p, sweep=False, point=False, sector=True):
+def _common(p, sweep=False, point=False, sector=True, latex=True):
     if sector:
-        p.add_argument("--sector", type=int, default=None, metavar="N",
-                       help="electron number (default: all levels)")
+        p.add_argument("--sector", type=_SECTOR, default=None, metavar="N",
+                       help="electron number (default: all levels; needs every electron "
+                            "number solved)")
     if sweep:
         p.add_argument("--coupling", default="U", help="swept coupling (default U)")
         p.add_argument("--range", default="0:10", help="lo:hi of the swept coupling")
@@ -75,7 +104,9 @@ def _common(p, sweep=False, point=False, sector=True):
                        help="values of every coupling, name=number (default t=1 U=4)")
     p.add_argument("--digits", type=digits_argument, default=30, metavar="D",
                    help="significant digits of numerical values, 1 to 1000 (default 30)")
-    p.add_argument("--latex", default=None, metavar="FILE", help="also write a LaTeX document")
+    if latex:
+        p.add_argument("--latex", default=None, metavar="FILE",
+                       help="also write a LaTeX document")
 
 
 def _add_ground_map(p):
@@ -84,36 +115,40 @@ def _add_ground_map(p):
 
 def _add_gaps(p):
     _common(p, point=True, sector=False)
-    p.add_argument("--sector", type=int, required=True, metavar="N")
+    p.add_argument("--sector", type=_SECTOR, required=True, metavar="N")
     p.add_argument("--over", default=None, metavar="NAME:LO:HI",
                    help="certify the expressions over a coupling range, e.g. U:0:20")
 
 
 def _add_series(p):
     _common(p, point=True)
-    p.add_argument("--level", type=int, default=0,
+    p.add_argument("--level", type=_whole_number(0, 10 ** 6), default=0,
                    help="index of the level in the sector, ascending at --at (default 0)")
     p.add_argument("--coupling", default="U")
-    p.add_argument("--order", type=int, default=5)
+    p.add_argument("--order", type=_whole_number(0, MAX_ORDER), default=5,
+                   help=f"order of the series, 0 to {MAX_ORDER} (default 5)")
     p.add_argument("--about", default="oo", help="oo (strong coupling) or a number")
 
 
 def _add_thermo(p):
     _common(p, point=True)
-    p.add_argument("--temperatures", nargs="+", default=["1/10", "1/2", "1", "2", "10"])
-    p.add_argument("--mu", nargs="+", default=["0"], help="chemical potentials (grand ensemble)")
+    p.add_argument("--temperatures", nargs="+", default=["1/10", "1/2", "1", "2", "10"],
+                   help=f"temperatures T > 0, at most {MAX_VALUES}")
+    p.add_argument("--mu", nargs="+", default=["0"],
+                   help=f"chemical potentials (grand ensemble), at most {MAX_VALUES}")
     p.add_argument("--field", default="0", help="Zeeman field h, H_Z = -h (N_up - N_dn)")
 
 
 def _add_plot(p):
-    _common(p, sweep=True)
-    p.add_argument("--color-by", default="S", help="quantum number for the colours")
+    _common(p, sweep=True, latex=False)
+    p.add_argument("--color-by", default="S", choices=QUANTUM_KEYS,
+                   help="quantum number for the colours")
     p.add_argument("--output", default="levels", help="output stem (.png and .pdf)")
 
 
 def _add_derivative(p):
     _common(p, point=True)
-    p.add_argument("--level", type=int, default=0)
+    p.add_argument("--level", type=_whole_number(0, 10 ** 6), default=0)
     p.add_argument("--coupling", default="U")
 
 
@@ -154,9 +189,7 @@ def _runner(build_spectrum):
     return run
 
 
-def _check_output_paths(args):
-    """Refuse output paths where no file can be created, before anything is computed."""
-    from ..export.jsonio import check_writable
+def _output_paths(args):
     paths = []
     if getattr(args, "latex", None):
         paths.append(args.latex)
@@ -164,8 +197,120 @@ def _check_output_paths(args):
         import pathlib
         stem = str(pathlib.Path(args.output).with_suffix(""))   # as plots.plot_levels does
         paths += [stem + ".png", stem + ".pdf"]
-    for p in paths:
-        check_writable(p)
+    return paths
+
+
+def _check_output_paths(args):
+    """Refuse output paths that cannot or must not be written, before anything is computed."""
+    from ..export.files import check_outputs
+    check_outputs(_output_paths(args), inputs=[getattr(args, "cluster_file", None)])
+
+
+_ALL_SECTORS = {
+    "ground-map": "without --sector, ground-map compares the levels of every electron number",
+    "plot": "without --sector, plot draws every electron number and marks the ground-state "
+            "changes between them",
+    "thermo": "without --sector, thermo is grand canonical and sums over every electron number",
+    "series": "without --sector, --level counts the levels of every electron number",
+    "derivative": "without --sector, --level counts the levels of every electron number",
+}
+
+
+def check_request(args, model, electrons):
+    """Check an analysis command's options against the model, before the solve.
+
+    Parameters
+    ----------
+    args : argparse.Namespace
+    model : Model
+    electrons : list of int or None
+        The electron numbers that will be solved (None: all).
+
+    Raises
+    ------
+    InputError
+        An electron number impossible on the cluster, a sector the command needs
+        that ``--electrons`` leaves out (the grand-canonical thermo and the ground
+        state over all N need every N; the gaps at N need N-2 .. N+1), an unknown
+        coupling, a malformed value or range, or a size over its limit.
+    """
+    kind = args.analysis
+    L = model.cluster.n_sites
+    top = model.space.max_particles
+    couplings = [s.name for s in model.symbols]
+    n = getattr(args, "sector", None)
+    if n is not None and not 0 <= n <= top:
+        raise InputError(f"--sector {n} is impossible on {L} site{'s' if L != 1 else ''}; "
+                         f"choose an electron number from 0 to {top}")
+    if kind == "gaps":
+        needed = [m for m in range(n - 2, n + 2) if 0 <= m <= top]
+        what = (f"the gaps at N={n} need N={format_numbers(needed)} (charge gap N-1 and N+1, "
+                f"pair binding N-1 and N-2)")
+        fix = (f"give --electrons {min(needed)}-{max(needed)} or leave out --electrons")
+    elif n is None:
+        needed = list(range(top + 1))
+        what = _ALL_SECTORS[kind]
+        fix = "add --sector N for one electron number, or leave out --electrons"
+    else:
+        needed = [n]
+        what = f"--sector {n} needs N={n}"
+        fix = f"add {n} to --electrons or leave out --electrons"
+    if electrons is not None:
+        missing = sorted(set(needed) - set(electrons))
+        if missing:
+            raise InputError(f"{what}, but --electrons {args.electrons} leaves out "
+                             f"N={format_numbers(missing)}; {fix}")
+
+    def known(name, option):
+        if name not in couplings:
+            raise InputError(f"{option}: unknown coupling {name!r}; this model's couplings are "
+                             + ", ".join(couplings))
+
+    if kind in ("ground-map", "plot"):
+        lo, hi = parse_range(args.range)
+        if not lo < hi:
+            raise InputError(f"--range {args.range} is empty; give lo:hi with lo < hi, e.g. "
+                             f"0:10")
+        known(args.coupling, "--coupling")
+        for name in parse_assignment(args.fixed):
+            known(name, "--fixed")
+            if name == args.coupling:
+                raise InputError(f"--fixed gives a value for {name}, the swept coupling; drop "
+                                 f"it from --fixed")
+    else:
+        for name in parse_assignment(args.at):
+            known(name, "--at")
+    if kind in ("series", "derivative"):
+        known(args.coupling, "--coupling")
+    if kind == "series" and args.about not in ("oo", "inf"):
+        _number(args.about, "--about")
+    if kind == "gaps" and args.over:
+        name, rng = _parse_over(args.over)
+        known(name, "--over")
+        if not rng[0] < rng[1]:
+            raise InputError(f"--over {args.over}: the range is empty; give NAME:LO:HI with "
+                             f"LO < HI, e.g. U:0:20")
+    if kind == "thermo":
+        for option, values in (("--temperatures", args.temperatures), ("--mu", args.mu)):
+            if len(values) > MAX_VALUES:
+                raise InputError(f"{option} has {len(values)} values; give at most {MAX_VALUES}")
+        if len(args.temperatures) * len(args.mu) > MAX_ROWS:
+            raise InputError(f"{len(args.temperatures)} temperatures x {len(args.mu)} values "
+                             f"of --mu make more than {MAX_ROWS} rows; give fewer values")
+        for x in args.temperatures:
+            if not _number(x, "temperature") > 0:
+                raise InputError(f"temperature {x} is not positive; give temperatures T > 0 "
+                                 f"(the ground state is the limit T -> 0: see 'levels')")
+        for x in args.mu:
+            _number(x, "chemical potential")
+        _number(args.field, "field")
+
+
+def _parse_over(text):
+    name, sep, rest = (text or "").partition(":")
+    if not sep or not re.match(r"^[A-Za-z][A-Za-z0-9_]*$", name.strip()):
+        raise InputError(f"--over {text!r} is not of the form NAME:LO:HI; write e.g. U:0:20")
+    return name.strip(), parse_range(rest)
 
 
 def _level_at(spec, args, pt):
@@ -178,8 +323,12 @@ def _level_at(spec, args, pt):
     return ordered[args.level]
 
 
-def run_analysis(spec, args, out=None):
-    """Run the subcommand ``args.analysis`` on a spectrum; print text, maybe LaTeX. Returns 0."""
+def run_analysis(spec, args, out=None, err=None):
+    """Run the subcommand ``args.analysis`` on a spectrum; print text, maybe LaTeX. Returns 0.
+
+    Results go to ``out`` (default standard output), notes such as
+    ``symcluster: wrote FILE`` to ``err`` (default standard error).
+    """
     from . import analysis_latex as lx
     from .gaps import charge_gap, pair_binding, spin_gap
     from .observables import energy_derivative
@@ -188,6 +337,7 @@ def run_analysis(spec, args, out=None):
     from .transitions import transitions
 
     out = out or sys.stdout
+    err = err or sys.stderr
     kind = args.analysis
     frags = []
     if kind in ("ground-map", "plot"):
@@ -206,10 +356,7 @@ def run_analysis(spec, args, out=None):
             out.write(f"no ground-state change for {args.coupling} in {rng[0]}..{rng[1]}\n")
         frags.append(lx.latex_transitions(pts, args.digits))
     elif kind == "gaps":
-        over = None
-        if args.over:
-            name, _, rest = args.over.partition(":")
-            over = (name, parse_range(rest))
+        over = _parse_over(args.over) if args.over else None
         res = []
         for fn in (charge_gap, spin_gap, pair_binding):
             try:
@@ -242,7 +389,8 @@ def run_analysis(spec, args, out=None):
         from .plots import plot_levels
         files = plot_levels(spec, args.output, args.coupling, rng, fixed, args.sector,
                             args.color_by)
-        out.write("wrote " + ", ".join(files) + "\n")
+        for name in files:
+            err.write(f"symcluster: wrote {name}\n")
     elif kind == "derivative":
         lev = _level_at(spec, args, pt)
         d = energy_derivative(lev, args.coupling)
@@ -252,9 +400,9 @@ def run_analysis(spec, args, out=None):
         frags.append(f"\\[ \\frac{{\\partial E}}{{\\partial {args.coupling}}} = {d.latex()} \\]\n")
     else:
         raise InputError(f"unknown analysis {kind!r}; choose one of {', '.join(_COMMANDS)}")
-    if args.latex and frags:
-        from ..export.jsonio import write_text_atomic
+    if getattr(args, "latex", None) and frags:
+        from ..export.files import write_text_atomic
         # whole file or none (temporary file beside it, then rename)
         write_text_atomic(args.latex, lx.latex_document(*frags, comment=f"symcluster {kind}"))
-        out.write(f"wrote {args.latex}\n")
+        err.write(f"symcluster: wrote {args.latex}\n")
     return 0

@@ -23,6 +23,7 @@ import sympy
 
 from ..errors import ModelError
 from .observables import level_value
+from .sectors import require_electrons
 from .transitions import ground_states
 
 __all__ = ["GapResult", "lowest_level", "charge_gap", "spin_gap", "pair_binding"]
@@ -79,12 +80,15 @@ def lowest_level(spec, at, digits=30, **qn):
     (tuple of Level, mpmath.mpf)
         The levels at the minimum (within 10**-30 relative) and the minimum.
     """
+    want = ", ".join(f"{k}={v}" for k, v in qn.items())
+    n = qn.get("N")
+    if n is not None and (isinstance(n, bool) or not isinstance(n, int)):
+        raise ModelError(f"N={n!r} is not an electron number; give an integer such as 2")
+    require_electrons(spec, None if n is None else [n], f"the lowest level with {want or 'any N'}")
     levels = spec.select(**qn)
     if not levels:
-        want = ", ".join(f"{k}={v}" for k, v in qn.items())
-        have = sorted({l.quantum_numbers.get("N") for l in spec.levels})
-        raise ModelError(f"no levels with {want}; this spectrum has N in {have} "
-                         "(the gap needs the neighbouring electron numbers)")
+        raise ModelError(f"no levels with {want}; choose quantum numbers that occur in the "
+                         f"spectrum")
     pt = _point(spec, at)
     with mpmath.workdps(digits + 10):
         vals = [level_value(l, pt, digits + 5) for l in levels]
@@ -131,6 +135,13 @@ def _build(name, spec, parts, at, over, digits):
     return res
 
 
+def _electron_number(n):
+    if isinstance(n, bool) or not hasattr(n, "__index__"):
+        raise ModelError(f"n_electrons={n!r} is not an electron number; give an integer such "
+                         f"as 2")
+    return int(n.__index__())
+
+
 def charge_gap(spec, n_electrons, at, over=None, digits=30):
     """Δc = E0(N+1) + E0(N−1) − 2 E0(N), exact.
 
@@ -149,14 +160,16 @@ def charge_gap(spec, n_electrons, at, over=None, digits=30):
     -------
     GapResult
     """
-    n = n_electrons
+    n = _electron_number(n_electrons)
+    require_electrons(spec, [n - 1, n, n + 1], f"the charge gap at N={n}")
     return _build("charge gap", spec, [(1, {"N": n + 1}), (1, {"N": n - 1}), (-2, {"N": n})],
                   at, over, digits)
 
 
 def pair_binding(spec, n_electrons, at, over=None, digits=30):
     """Δp = 2 E0(N−1) − E0(N) − E0(N−2), exact (> 0 means binding)."""
-    n = n_electrons
+    n = _electron_number(n_electrons)
+    require_electrons(spec, [n - 2, n - 1, n], f"the pair binding at N={n}")
     return _build("pair binding", spec, [(2, {"N": n - 1}), (-1, {"N": n}), (-1, {"N": n - 2})],
                   at, over, digits)
 
@@ -169,6 +182,8 @@ def spin_gap(spec, n_electrons, at, over=None, digits=30, mode="next"):
     ModelError
         If the levels carry no spin label "S", or no level has the required spin.
     """
+    n_electrons = _electron_number(n_electrons)
+    require_electrons(spec, [n_electrons], f"the spin gap at N={n_electrons}")
     pt = _point(spec, at)
     ground, _ = lowest_level(spec, pt, digits, N=n_electrons)
     if any("S" not in l.quantum_numbers for l in ground):

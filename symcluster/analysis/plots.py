@@ -12,9 +12,12 @@ import sympy
 from ..errors import ModelError
 from ..spectrum import to_rational
 from .observables import level_value
-from .transitions import transitions
+from .transitions import _select, transitions
 
-__all__ = ["plot_levels"]
+__all__ = ["plot_levels", "MAX_POINTS"]
+
+#: Most points per curve.
+MAX_POINTS = 10_000
 
 
 def _pyplot():
@@ -52,16 +55,36 @@ def plot_levels(spec, path, coupling="U", interval=(0, 10), fixed=None, n_electr
     Returns
     -------
     list of str
-        The files written.
+        The files written (both or none: they are written as
+        :func:`symcluster.export.files.write_files_atomic` writes, so a device, a
+        FIFO or a directory at either path is refused).
+
+    Raises
+    ------
+    ModelError
+        ``color_by`` is not a quantum number of the levels, ``n_points`` is out
+        of range, or the spectrum lacks the sectors asked for (all of them for
+        ``n_electrons=None``).
     """
+    import io
     import pathlib
 
-    plt = _pyplot()
+    from ..export.files import write_files_atomic
+
+    if isinstance(n_points, bool) or not isinstance(n_points, int) \
+            or not 2 <= n_points <= MAX_POINTS:
+        raise ModelError(f"n_points={n_points!r}; give a whole number from 2 to {MAX_POINTS}")
     fixed = dict(fixed or {})
-    levels = spec.levels if n_electrons is None else spec.select(N=n_electrons)
-    if not levels:
-        raise ModelError(f"no levels with N={n_electrons}")
+    levels = _select(spec, n_electrons)
+    keys_present = sorted({k for l in levels for k in l.quantum_numbers})
+    if color_by not in keys_present:
+        raise ModelError(f"color_by={color_by!r} is not a quantum number of these levels; "
+                         f"choose one of {', '.join(keys_present)}")
     lo, hi = (to_rational("interval", v) for v in interval)
+    if not lo < hi:
+        raise ModelError(f"interval ({lo}, {hi}) is empty; give (lower, upper) with "
+                         f"lower < upper")
+    plt = _pyplot()
     xs = [lo + (hi - lo) * sympy.Rational(i, n_points - 1) for i in range(n_points)]
     units = [k for k, v in fixed.items() if to_rational(str(k), v) == 1]
     unit = units[0] if len(units) == 1 else None
@@ -90,9 +113,13 @@ def plot_levels(spec, path, coupling="U", interval=(0, 10), fixed=None, n_electr
     ax.legend(fontsize=8, loc="best")
     fig.tight_layout()
     stem = pathlib.Path(path).with_suffix("")
-    out = []
-    for ext in (".png", ".pdf"):
-        fig.savefig(str(stem) + ext, dpi=150)
-        out.append(str(stem) + ext)
-    plt.close(fig)
-    return out
+    files = []
+    try:
+        for ext in (".png", ".pdf"):
+            buf = io.BytesIO()
+            fig.savefig(buf, format=ext[1:], dpi=150)
+            files.append((str(stem) + ext, buf.getvalue()))
+    finally:
+        plt.close(fig)
+    write_files_atomic(files)
+    return [name for name, _ in files]

@@ -22,8 +22,13 @@ import sympy
 from ..errors import ModelError
 from ..spectrum import exact_rational
 from .observables import energy_derivative, level_polynomial, level_value
+from .sectors import _particles, _space_of, held_electrons, require_electrons
 
-__all__ = ["partition_function", "thermo_table", "high_temperature_series", "QUANTITIES"]
+__all__ = ["partition_function", "thermo_table", "high_temperature_series", "QUANTITIES",
+           "MAX_ROWS"]
+
+#: Most rows (temperatures x chemical potentials) one thermo_table computes.
+MAX_ROWS = 10_000
 
 QUANTITIES = ("energy", "entropy", "specific_heat", "double_occupancy", "density",
               "magnetization", "susceptibility")
@@ -32,6 +37,8 @@ QUANTITIES = ("energy", "entropy", "specific_heat", "double_occupancy", "density
 def _sz_content(level, need):
     """[(Sz, weight)] for a level; weights sum to the degeneracy."""
     qn = level.quantum_numbers
+    if "Sz" in qn:          # one S^z (with S too: a multiplet split by a field)
+        return [(sympy.Rational(qn["Sz"]), sympy.Integer(level.degeneracy))]
     if "S" in qn:
         S = sympy.Rational(qn["S"])
         k = int(2 * S + 1)
@@ -45,12 +52,22 @@ def _sz_content(level, need):
 
 
 def _levels(spec, n_electrons):
+    """The levels of the ensemble; refused unless the spectrum holds all it needs."""
     if n_electrons is None:
+        held = held_electrons(spec)
+        one = f"n_electrons={held[0]}" if held else "n_electrons=N"
+        require_electrons(spec, None, "the grand-canonical ensemble",
+                          "solve all electron numbers (solve(model) without electrons=; on "
+                          f"the command line leave out --electrons), or use the canonical "
+                          f"ensemble of one electron number ({one}; on the command line "
+                          f"--sector)")
         return list(spec.levels)
-    out = spec.select(N=n_electrons)
-    if not out:
-        raise ModelError(f"no levels with N={n_electrons}")
-    return out
+    if isinstance(n_electrons, bool) or not isinstance(n_electrons, int):
+        raise ModelError(f"n_electrons={n_electrons!r} is not an electron number; give an "
+                         f"integer such as 2, or None for the grand-canonical ensemble")
+    require_electrons(spec, [n_electrons], f"the canonical ensemble of N={n_electrons}")
+    space = _space_of(spec)
+    return [lev for lev in spec.levels if _particles(lev, space) == n_electrons]
 
 
 def partition_function(spec, n_electrons=None, beta=None, mu=None, h=None):
@@ -80,7 +97,7 @@ def partition_function(spec, n_electrons=None, beta=None, mu=None, h=None):
         else:
             e = sympy.Symbol(f"E_{k}", real=True)
             names[e] = lev
-        n = lev.quantum_numbers["N"]
+        n = _particles(lev, _space_of(spec))
         chem = -mu * n if n_electrons is None else 0
         for sz, w in _sz_content(lev, h != 0):
             total += w * sympy.exp(-beta * (e + chem - 2 * h * sz))
@@ -114,8 +131,19 @@ def thermo_table(spec, at, temperatures, n_electrons=None, mus=(0,), h=0, digits
     """
     pt = spec.point(at)
     levels = _levels(spec, n_electrons)
+    space = _space_of(spec)
     if n_electrons is not None:
         mus = (0,)
+    temperatures, mus = list(temperatures), list(mus)
+    if not temperatures or not mus:
+        raise ModelError("no temperatures (or no chemical potentials) given; give at least one")
+    if len(temperatures) * len(mus) > MAX_ROWS:
+        raise ModelError(f"{len(temperatures)} temperatures x {len(mus)} chemical potentials "
+                         f"make more than {MAX_ROWS} rows; give fewer values")
+    for T in temperatures:
+        if not _mp(T) > 0:
+            raise ModelError(f"temperature {T} is not positive; give temperatures T > 0 (the "
+                             f"limit T -> 0 is the ground state: see lowest_level)")
     wd = digits + 15
     rows = []
     with mpmath.workdps(wd):
@@ -126,11 +154,9 @@ def thermo_table(spec, at, temperatures, n_electrons=None, mus=(0,), h=0, digits
             d = (energy_derivative(lev, interaction).numeric(pt, wd)
                  if interaction and interaction in {s.name for s in pt} else mpmath.mpf(0))
             for sz, w in _sz_content(lev, hh != 0):
-                data.append((e, lev.quantum_numbers["N"], 2 * _mp(sz), _mp(w), d))
+                data.append((e, _particles(lev, space), 2 * _mp(sz), _mp(w), d))
         for T in temperatures:
             b = 1 / _mp(T)
-            if b <= 0:
-                raise ModelError(f"temperature {T} must be positive")
             for mu in mus:
                 rows.append(_row(data, b, _mp(mu), hh, n_electrons is None, T, mu, digits))
     return rows

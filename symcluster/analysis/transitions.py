@@ -31,6 +31,7 @@ import sympy
 from ..errors import ModelError, VerificationError
 from ..spectrum import exact_rational
 from .observables import find_symbol, level_polynomial, level_symbols, level_value
+from .sectors import require_electrons
 
 __all__ = ["Transition", "GroundPiece", "transitions", "ground_states", "crossings"]
 
@@ -363,10 +364,18 @@ def _midpoint(xn, yn):
 
 
 def _select(spec, n_electrons):
-    levels = spec.levels if n_electrons is None else spec.select(N=n_electrons)
+    """The levels of one sector, or of all (None); refused unless the spectrum holds them."""
+    if n_electrons is None:
+        require_electrons(spec, None, "the ground state over all electron numbers",
+                          "solve all electron numbers (solve(model) without electrons=; on "
+                          "the command line leave out --electrons), or scan one sector "
+                          "(n_electrons=N; on the command line --sector N)")
+        return list(spec.levels)
+    require_electrons(spec, [n_electrons], f"the ground state of N={n_electrons}")
+    levels = spec.select(N=n_electrons)
     if not levels:
-        have = sorted({l.quantum_numbers.get("N") for l in spec.levels})
-        raise ModelError(f"no levels with N={n_electrons}; this spectrum has N in {have}")
+        raise ModelError(f"no levels with N={n_electrons}; choose an electron number the "
+                         f"spectrum holds")
     return levels
 
 

@@ -12,13 +12,12 @@ in every level, are still read.
 import json
 import math
 import os
-import shutil
-import tempfile
 
 import mpmath
 import sympy
 
 from ..errors import InputError
+from .files import check_writable, write_text_atomic, write_texts_atomic
 from .exprtree import (from_tree, int_to_decimal, is_implicit_root, parse_pi_multiple,
                        poly_from_tree, poly_to_tree, root_of_poly, to_tree)
 from .text import energy_text, level_sort_key, numeric_values, poly_text
@@ -189,143 +188,6 @@ def dumps_spectrum(spectrum, point=None, digits=30):
     return json.dumps(spectrum_to_dict(spectrum, point, digits), indent=1, allow_nan=False) + "\n"
 
 
-def check_writable(path):
-    """Check, before any long computation, that a file can be created at ``path``.
-
-    The directory must exist, ``path`` must not be a directory, and a file must
-    be creatable there: a temporary file is created in the directory and removed
-    again (so a read-only directory or a place such as /proc is caught now, not
-    after the solve).
-
-    Raises
-    ------
-    InputError
-        Naming the path, the problem and the fix.
-    """
-    path = os.fspath(path)
-    full = os.path.abspath(path)
-    directory = os.path.dirname(full)
-    if not os.path.isdir(directory):
-        raise InputError(f"cannot write {path!r}: directory {directory!r} does not exist; "
-                         f"create it or choose another path")
-    if os.path.isdir(full):
-        raise InputError(f"cannot write {path!r}: it is a directory; give a file name")
-    try:
-        fd, tmp = tempfile.mkstemp(prefix=".symcluster-check-", suffix=".tmp", dir=directory)
-    except OSError as exc:
-        raise InputError(f"cannot write {path!r}: no file can be created in directory "
-                         f"{directory!r} ({exc.strerror}); choose a writable directory") from None
-    os.close(fd)
-    _remove_quietly(tmp)
-
-
-def _remove_quietly(path):
-    try:
-        os.unlink(path)
-    except OSError:
-        pass
-
-
-def write_texts_atomic(outputs):
-    """Write several files all or none: ``outputs`` is a list of ``(path, text)``.
-
-    Every text is first written in full to a temporary file in its target
-    directory; only when all of them succeeded are they renamed into place
-    (``os.replace``).  On any failure the temporaries are removed and no target
-    file is created or changed: an existing target is kept under a temporary
-    name (a hard link, or a copy) until every rename succeeded, and put back if a
-    later rename fails; a new target is removed again.
-
-    Raises
-    ------
-    InputError
-        If a directory does not exist or is not writable, or a write fails.
-    """
-    outputs = [(os.fspath(p), t) for p, t in outputs]
-    temps = []
-    try:
-        umask = os.umask(0)
-        os.umask(umask)
-        for path, text in outputs:
-            directory = os.path.dirname(os.path.abspath(path))
-            try:
-                fd, tmp = tempfile.mkstemp(prefix=".symcluster-", suffix=".tmp", dir=directory)
-            except OSError as exc:
-                raise InputError(f"cannot write {path!r}: {exc.strerror}; check that the "
-                                 f"directory exists and is writable") from None
-            temps.append(tmp)
-            try:
-                with os.fdopen(fd, "w", encoding="utf-8", newline="\n") as fh:
-                    fh.write(text)
-                    fh.flush()
-                    os.fsync(fh.fileno())
-                os.chmod(tmp, 0o666 & ~umask)
-            except OSError as exc:
-                raise InputError(f"cannot write {path!r}: {exc.strerror}; choose another "
-                                 f"output path") from None
-        placed = []                    # (path, backup or None), in the order renamed
-        try:
-            for (path, _), tmp in zip(outputs, temps):
-                if os.path.isdir(path):
-                    raise InputError(f"cannot write {path!r}: it is a directory; give a file name")
-                backup = _backup(path) if os.path.lexists(path) else None
-                if backup is not None:
-                    temps.append(backup)   # removed in the end either way
-                try:
-                    os.replace(tmp, path)
-                except OSError as exc:
-                    raise InputError(f"cannot write {path!r}: {exc.strerror}; choose another "
-                                     f"output path") from None
-                placed.append((path, backup))
-        except BaseException:          # also an interruption between two renames
-            stranded = []
-            for done, backup in reversed(placed):
-                if backup is None:
-                    _remove_quietly(done)
-                else:
-                    try:
-                        os.replace(backup, done)
-                    except OSError:
-                        temps.remove(backup)           # keep the old content, and say where
-                        stranded.append(f"{done!r} (its old content is in {backup!r})")
-            if stranded:
-                raise InputError("writing the outputs failed and could not be undone for "
-                                 + ", ".join(stranded) + "; restore them by hand") from None
-            raise
-    finally:
-        for tmp in temps:
-            if os.path.lexists(tmp):
-                _remove_quietly(tmp)
-
-
-def _backup(path):
-    """A temporary second name (hard link, else a copy) of the existing file ``path``."""
-    directory = os.path.dirname(os.path.abspath(path))
-    try:
-        fd, name = tempfile.mkstemp(prefix=".symcluster-old-", suffix=".tmp", dir=directory)
-        os.close(fd)
-        os.unlink(name)
-        try:
-            os.link(path, name)
-        except OSError:
-            shutil.copy2(path, name)
-        return name
-    except OSError as exc:
-        raise InputError(f"cannot write {path!r}: the existing file cannot be kept aside while "
-                         f"the outputs are written ({exc.strerror}); choose another path") from None
-
-
-def write_text_atomic(path, text):
-    """Write ``text`` to ``path`` whole or not at all (temporary file + os.replace).
-
-    Raises
-    ------
-    InputError
-        If the directory does not exist or is not writable.
-    """
-    write_texts_atomic([(path, text)])
-
-
 def write_json(spectrum, path, point=None, digits=30):
     """Write the spectrum as JSON to ``path`` atomically (never a half-written file)."""
     write_text_atomic(path, dumps_spectrum(spectrum, point, digits))
@@ -419,7 +281,9 @@ def decode_spectrum_dict(data, source="<data>", root_factory=None):
     for i, lev in enumerate(levels):
         where = f"{source}: levels[{i}]"
         tree = _need(lev, "energy", dict, where)
-        _need(lev, "degeneracy", int, where)
+        if _need(lev, "degeneracy", int, where) < 1:
+            raise InputError(f"{where}: degeneracy {lev['degeneracy']} is not a positive "
+                             f"number of states; the file was edited or damaged, regenerate it")
         entry = dict(lev)
         try:
             if version >= 2:
@@ -512,7 +376,12 @@ def loads_spectrum(text, source="<string>", root_factory=None):
     return decode_spectrum_dict(data, source, root_factory)
 
 
-def read_json(path, root_factory=None):
+#: Default limit of :func:`read_json`, in bytes (the largest spectra written so far, the
+#: 8-site clusters, are far smaller).
+MAX_JSON_BYTES = 2 ** 30
+
+
+def read_json(path, root_factory=None, max_bytes=MAX_JSON_BYTES):
     """Read a file written by :func:`write_json`.
 
     Parameters
@@ -520,6 +389,9 @@ def read_json(path, root_factory=None):
     path : str or os.PathLike
     root_factory : callable, optional
         Builds implicit roots from ``(poly, index)``; default ImplicitRoot.
+    max_bytes : int
+        A larger file (or a device such as /dev/zero) is refused without being
+        read whole (default 1 GiB).
 
     Returns
     -------
@@ -529,16 +401,19 @@ def read_json(path, root_factory=None):
     Raises
     ------
     InputError
-        If the file cannot be read or does not follow the schema.
+        If the file cannot be read, is too large or does not follow the schema.
+
+    Examples
+    --------
+    >>> import os, tempfile
+    >>> from symcluster.spectrum import Level, Spectrum
+    >>> from symcluster import hubbard, chain
+    >>> path = os.path.join(tempfile.mkdtemp(), "one.json")
+    >>> write_json(Spectrum(hubbard(chain(1)), [Level(sympy.Integer(0), 1, {"N": 0})]), path)
+    >>> read_json(path)["levels"][0]["degeneracy"]
+    1
     """
-    try:
-        with open(path, "r", encoding="utf-8") as fh:
-            text = fh.read()
-    except OSError as exc:
-        raise InputError(f"cannot read {os.fspath(path)!r}: {exc.strerror}; check the "
-                         f"path") from None
-    except UnicodeDecodeError:
-        raise InputError(f"{os.fspath(path)!r} is not UTF-8 text; give a JSON file written "
-                         f"by symcluster") from None
+    from ..parsing import read_input_file
+    text = read_input_file(path, "JSON file", max_bytes)
     return loads_spectrum(text, source=os.fspath(path), root_factory=root_factory)
 

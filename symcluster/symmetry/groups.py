@@ -148,7 +148,9 @@ def automorphisms(n_sites, bonds, site_labels=None, max_order=_MAX_ORDER):
             found.append(tuple(image))
             if len(found) > max_order:
                 raise TooLargeError(f"the cluster has more than {max_order} automorphisms; "
-                                    "label sites or bonds to break the symmetry, or raise max_order")
+                                    "label sites or bonds to break the symmetry, or solve "
+                                    "without the lattice symmetry (solve(..., lattice=False); "
+                                    "on the command line --no-lattice)")
             return
         v = order[depth]
         p = parent[v]
