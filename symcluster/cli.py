@@ -369,12 +369,31 @@ def _attach_negative_values(argv, single):
 def main(argv=None):
     """Run the command line; return the exit code (0 success, 2 bad input).
 
+    Run as the program (``argv`` None, as the ``symcluster`` command and
+    ``python -m symcluster`` do), SIGINT and SIGTERM stop the run at once: the
+    worker processes are killed, nothing is written, and the process exits with
+    130 or 143 (docs/cli.md).  Called with ``argv``, an interruption is a
+    ``KeyboardInterrupt`` as usual (exit code 130 returned, nothing written).
+
     Parameters
     ----------
     argv : list of str, optional
         Arguments without the program name (default ``sys.argv[1:]``).
+
+    Examples
+    --------
+    >>> main(["shapes"]) == 0 # doctest: +ELLIPSIS
+    built-in shapes ...
+    True
     """
-    argv = list(sys.argv[1:] if argv is None else argv)
+    if argv is None:
+        from .interrupts import stop_on_signals
+        with stop_on_signals():
+            return _main(list(sys.argv[1:]))
+    return _main(list(argv))
+
+
+def _main(argv):
     out, err = sys.stdout, sys.stderr
     commands = {"levels", "shapes", "demo", "ground-map", "gaps", "series", "thermo", "plot",
                 "derivative"}

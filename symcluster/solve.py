@@ -16,6 +16,7 @@ from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_sym
                      sectors_to_solve)
 from .resources import Progress, block_dimensions, check_early, check_size, submit
 from .errors import ModelError, VerificationError
+from .interrupts import process_pool, stop_pool
 from .linalg import integer_multiple
 from .models import Model
 from .spectrum import Level, Spectrum, VerificationReport, check_digits
@@ -298,9 +299,10 @@ def _pool_workers(dims):
 
 
 def _default_executor(blocks):
-    """A process pool on all cores when the algebra is heavy enough to pay for it."""
+    """A process pool on all cores when the algebra is heavy enough to pay for it (its
+    processes never outlive this one: interrupts.process_pool)."""
     workers = _pool_workers([b.block.dim for b in blocks])
-    return concurrent.futures.ProcessPoolExecutor(max_workers=workers) if workers else None
+    return process_pool(workers) if workers else None
 
 
 def _expected_workers(executor, dims):
@@ -425,17 +427,22 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         results = [solved[i] if i in solved else _negate_couplings(solved[twins[i]], odd, written)
                    for i in range(len(blocks))]
     except BaseException:
+        # KeyboardInterrupt included: kill the workers rather than wait for their tasks
         if own_pool is not None:
-            own_pool.shutdown(cancel_futures=True)
+            stop_pool(own_pool)
         raise
     finally:
         prog.close()
     try:
-        return _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed,
-                       timings, t0, t1, executor)
-    finally:
+        spectrum = _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed,
+                           timings, t0, t1, executor)
+    except BaseException:
         if own_pool is not None:
-            own_pool.shutdown()
+            stop_pool(own_pool)
+        raise
+    if own_pool is not None:
+        own_pool.shutdown()
+    return spectrum
 
 
 def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, timings, t0, t1,

@@ -19,6 +19,7 @@ import mpmath
 import sympy
 
 from ..errors import InputError
+from ..interrupts import outputs_commit, signals_held
 from .exprtree import (from_tree, int_to_decimal, is_implicit_root, parse_pi_multiple,
                        poly_from_tree, poly_to_tree, root_of_poly, to_tree)
 from .text import energy_text, level_sort_key, numeric_values, poly_text
@@ -188,6 +189,7 @@ def dumps_spectrum(spectrum, point=None, digits=30):
     return json.dumps(spectrum_to_dict(spectrum, point, digits), indent=1, allow_nan=False) + "\n"
 
 
+@signals_held                   # a stop never leaves the test file behind
 def check_writable(path):
     """Check, before any long computation, that a file can be created at ``path``.
 
@@ -225,6 +227,7 @@ def _remove_quietly(path):
         pass
 
 
+@outputs_commit                 # a stop leaves every output complete or none, no temporaries
 def write_texts_atomic(outputs):
     """Write several files all or none: ``outputs`` is a list of ``(path, text)``.
 
