@@ -265,13 +265,15 @@ def _analysis_spectrum(args):
     return _solve(hubbard(cl), parse_electrons(args.electrons, cl.n_sites))
 
 
-def _solve(model, electrons, force=False, serial=False):
+def _solve(model, electrons, force=False, serial=False, progress=None):
     import symcluster
     solve = getattr(symcluster, "solve", None)
     if solve is None:
         raise SymclusterError("this installation has no solver (symcluster.solve is missing); "
                               "reinstall symcluster")
     kwargs = {}
+    if progress is not None:
+        kwargs["progress"] = progress
     if force:
         kwargs["force"] = True
     if serial:
@@ -296,14 +298,26 @@ def _run_levels(args, out, err):
     if point is not None:
         _check_point(point, model)
     _check_outputs([args.latex, args.json])
-    spectrum = _solve(model, electrons, getattr(args, "force", False),
-                      getattr(args, "serial", False))
-    # everything is produced in memory first; files are written only if all succeeded
-    table = format_table(spectrum, point=point, digits=args.digits)
-    sym = format_symmetries(spectrum) if args.show_symmetry else ""
-    tex = latex_table(spectrum, point=point, digits=args.digits,
-                      standalone=args.standalone) if args.latex else None
-    js = dumps_spectrum(spectrum, point=point, digits=args.digits) if args.json else None
+    from .resources import Progress
+    progress = Progress()               # on a terminal, for runs longer than a few seconds
+    try:
+        spectrum = _solve(model, electrons, getattr(args, "force", False),
+                          getattr(args, "serial", False), progress)
+        # everything is produced in memory first; files are written only if all succeeded
+        n_out = 1 + bool(args.latex) + bool(args.json)
+        progress.phase("output, table", n_out, "outputs")
+        table = format_table(spectrum, point=point, digits=args.digits)
+        sym = format_symmetries(spectrum) if args.show_symmetry else ""
+        tex = js = None
+        if args.latex:
+            progress.phase("output, LaTeX", n_out, "outputs", done=1)
+            tex = latex_table(spectrum, point=point, digits=args.digits,
+                              standalone=args.standalone)
+        if args.json:
+            progress.phase("output, JSON", n_out, "outputs", done=n_out - 1)
+            js = dumps_spectrum(spectrum, point=point, digits=args.digits)
+    finally:
+        progress.close()
     files = [(path, text) for path, text in ((args.latex, tex), (args.json, js)) if path]
     # all files or none: temporaries first, renamed into place only if every one succeeded;
     # the table is printed only after that, so exit code 2 means no output at all

@@ -253,7 +253,9 @@ def _stop(signum, frame):
         kill_processes(child_pids())
         name = signal.Signals(signum).name
         with contextlib.suppress(OSError):
-            os.write(2, f"symcluster: stopped by {name}; nothing was written\n".encode())
+            # on a terminal the progress line (or the echoed ^C) is still open: end it
+            start = "\n" if os.isatty(2) else ""
+            os.write(2, f"{start}symcluster: stopped by {name}; nothing was written\n".encode())
     # no clean-up in Python: temporary output files exist only while the signals are
     # held (signals_held), and stdout's buffer holds nothing yet (the table is printed last)
     os._exit(code)

@@ -332,10 +332,30 @@ def _run_blocks(blocks, names, executor, progress, written=None):
     order = sorted(range(len(blocks)), key=lambda i: -blocks[i].block.dim)
     futures = {submit(executor, _solve_packed, blocks[i].block, names): i for i in order}
     out = [None] * len(blocks)
-    for fut in concurrent.futures.as_completed(futures):
-        out[futures[fut]] = _unpack(fut.result())
-        progress.step()
+    pending = set(futures)
+    while pending:
+        # a time-out now and then keeps the progress line's clock going while the
+        # largest blocks (submitted first) take minutes
+        done, pending = concurrent.futures.wait(
+            pending, timeout=1.0, return_when=concurrent.futures.FIRST_COMPLETED)
+        for fut in done:
+            out[futures[fut]] = _unpack(fut.result())
+            progress.step()
+        progress.tick()
     return out
+
+
+class _CountedList(list):
+    """A list that reports every append to ``step`` (build_blocks appends one entry per
+    sector to its ``report`` list: the progress of the block phase)."""
+
+    def __init__(self, step):
+        super().__init__()
+        self._step = step
+
+    def append(self, item):
+        super().append(item)
+        self._step()
 
 
 def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True, digits=30,
@@ -366,9 +386,14 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         pay for it; pass ``"serial"`` to stay in this process.  A
         ``ThreadPoolExecutor`` is accepted but runs one task at a time: the
         working precision of python-flint and mpmath is process-wide.
-    progress : bool, optional
-        Progress line on stderr; default: only when stderr is a terminal and
-        the run takes longer than a few seconds.
+    progress : bool or Progress, optional
+        Progress line on stderr naming each phase (symmetry detection, blocks,
+        exact algebra, the verification's steps) with its count.  Default (None):
+        only when stderr is a terminal, once the run has lasted a few seconds;
+        True: from the start, terminal or not; False: never; a
+        :class:`~symcluster.resources.Progress` of the caller's (which goes on
+        reporting the caller's own phases afterwards): that one.  It never
+        changes the result.
     force : bool
         Run even if the memory estimate exceeds the available memory.
 
@@ -391,23 +416,37 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     if seed is not None and (isinstance(seed, bool) or not isinstance(seed, int)):
         raise ModelError(f"seed={seed!r} is not an integer; give e.g. seed=1 or leave it out")
     wanted = _check_electrons(model, electrons)
+    if progress is not None and not isinstance(progress, (bool, Progress)):
+        raise ModelError(f"progress={progress!r}: give True, False or leave it out")
     timings = {}
     t0 = time.perf_counter()
+    prog = progress if isinstance(progress, Progress) else Progress(enabled=progress)
+    try:
+        return _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, force,
+                      timings, t0)
+    finally:
+        if prog is not progress:
+            prog.close()
+
+
+def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, force, timings, t0):
+    """:func:`solve` after its arguments were checked."""
     # before the detection, whose cost also grows with the cluster (commutators on every
     # state with at most two electrons, the automorphism search)
     check_early(model.n_sites, wanted, len(model.labels) - 1, force)
+    prog.phase("symmetry detection")
     plan = plan_symmetries(model, lattice=lattice, spin=spin, eta=eta)
     sectors = sectors_to_solve(model.n_sites, plan, wanted)
     estimate = check_size(model.n_sites, sectors, plan, len(model.labels) - 1, force,
                           _expected_workers(executor, block_dimensions(model.n_sites, sectors,
                                                                        plan)))
     timings["memory_estimate_bytes"] = estimate
-    sizes = []
+    prog.phase("blocks", len(sectors), "sectors")
+    sizes = _CountedList(prog.step)
     blocks = build_blocks(model, plan, wanted, report=sizes)
     timings["blocks"] = time.perf_counter() - t0
     names = model.labels
     t1 = time.perf_counter()
-    prog = Progress(len(blocks), "exact algebra, blocks", enabled=progress)
     own_pool = None
     if executor is None:
         executor = own_pool = _default_executor(blocks)
@@ -415,7 +454,8 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         executor = None
     twins = gauge_twins(model, plan, blocks)
     copies = equal_blocks(blocks, skip=twins)
-    prog.total = len(blocks) - len(twins) - len(copies)
+    # blocks derived from others (gauge twins, equal copies) are not counted
+    prog.phase("exact algebra", len(blocks) - len(twins) - len(copies), "blocks")
     try:
         todo = [i for i in range(len(blocks)) if i not in twins and i not in copies]
         written = Written()             # the closed forms of this solve
@@ -431,11 +471,9 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         if own_pool is not None:
             stop_pool(own_pool)
         raise
-    finally:
-        prog.close()
     try:
         spectrum = _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed,
-                           timings, t0, t1, executor)
+                           timings, t0, t1, executor, prog)
     except BaseException:
         if own_pool is not None:
             stop_pool(own_pool)
@@ -446,8 +484,9 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
 
 
 def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, timings, t0, t1,
-            executor):
-    """Levels from the block results, then verification (through `executor` if given)."""
+            executor, progress=None):
+    """Levels from the block results, then verification (through `executor` if given;
+    steps reported to `progress`, a :class:`~symcluster.resources.Progress`)."""
     timings["algebra"] = time.perf_counter() - t1
     t_levels = time.perf_counter()
     levels = []
@@ -456,7 +495,11 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     moved = {}      # (irrep label, k odd) -> the irrep of the k-th eta member
     shifted = {}    # (id(closed form), k) -> the form moved by k eta pairs (forms shared by
                     # equal or twin blocks are moved once; `results` keeps them alive)
+    if progress is not None:
+        progress.phase("levels", len(blocks), "blocks")
     for spec, factors in zip(blocks, results):
+        if progress is not None:
+            progress.step()
         for fac, mult, roots in factors:
             if mult % spec.copies:
                 raise VerificationError(
@@ -501,12 +544,12 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
          "largest_block": s["largest_block"]} for s in sizes]
     t2 = time.perf_counter()
     seed = random.SystemRandom().randrange(2 ** 31) if seed is None else seed
-    n_checked = verify_blocks(blocks, results, seed)
+    n_checked = verify_blocks(blocks, results, seed, progress=progress)
     report.add("exact block characteristic polynomials vs. their factors "
                "(modulo a random 62-bit prime per point)", f"{n_checked} blocks", worst=0.0)
     proven = (("spin",) if plan.spin else ()) + (("eta",) if plan.eta else ())
     verify_spectrum(spectrum, wanted, digits=digits, seed=seed, proven=proven, executor=executor,
-                    lattice=plan.lattice, action=plan.action)
+                    lattice=plan.lattice, action=plan.action, progress=progress)
     timings["verify"] = time.perf_counter() - t2
     timings["total"] = time.perf_counter() - t0
     return spectrum

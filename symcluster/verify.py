@@ -713,7 +713,7 @@ def _next_prime(n):
     return int(n)
 
 
-def verify_blocks(blocks, results, seed, n_points=2):
+def verify_blocks(blocks, results, seed, n_points=2, progress=None):
     """Exact check of the symbolic algebra, block by block.
 
     At random rational points and modulo a random 62-bit prime per point, the
@@ -722,7 +722,8 @@ def verify_blocks(blocks, results, seed, n_points=2):
     irreducible factors (to their multiplicities) evaluated at the point.
     Returns the number of blocks checked; raises VerificationError otherwise.  Blocks
     equal entry for entry, with equal factors, are one computation, done once (the count
-    includes every block).
+    includes every block).  ``progress`` (optional, a
+    :class:`~symcluster.resources.Progress`) counts the computations done.
     """
     if not blocks:
         return 0
@@ -746,6 +747,8 @@ def verify_blocks(blocks, results, seed, n_points=2):
         if not any(t == terms for t in same):
             same.append(terms)
             distinct.append((spec, factors))
+    if progress is not None:
+        progress.phase("verification, block polynomials", len(distinct) * len(points), "checks")
     for pt, prime in zip(points, primes):
         vals = {s.name: _mod(Fraction(int(v.p), int(v.q)), prime) for s, v in pt.items()}
         inverses = {}           # denominator of a block entry -> its inverse modulo the prime
@@ -776,6 +779,8 @@ def verify_blocks(blocks, results, seed, n_points=2):
             if prod != cp:
                 _fail(f"block {spec.labels} (dimension {n}): its characteristic polynomial at "
                       f"{pt} differs from the product of its computed factors (modulo {prime})")
+            if progress is not None:
+                progress.step()
     return len(blocks)
 
 
@@ -828,7 +833,7 @@ def _fail(msg):
 
 
 def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, proven=(),
-                    executor=None, lattice=None, action=None):
+                    executor=None, lattice=None, action=None, progress=None):
     """Run every check on ``spectrum``; fill its verification report; raise on failure.
 
     ``lattice`` (the detected lattice symmetry, or None) adds the check of the lattice
@@ -836,7 +841,8 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     irrep carry the traces of H^0, H^1, H^2 on that irrep's isotypic subspace (float64, first
     point; see :func:`_check_lattice_labels`).  ``action`` (optional) is the solve's
     :class:`~symcluster.operators.HamiltonianAction` (images already computed are read from
-    it).
+    it).  ``progress`` (optional, a :class:`~symcluster.resources.Progress`) is told each
+    step: the isolation of roots, the values at each point, each sector.
 
     ``proven`` names symmetries that were proven exactly by operator identities
     ("spin": [H, S+] = 0; "eta": [H, eta+] = delta eta+).  Sectors that such a
@@ -876,22 +882,27 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     report.add("state count", f"N in {sorted(wanted)}", worst=0.0, states=total)
 
     # numeric values of every level at every point (closed forms and implicit roots);
-    # with an executor, the certified isolations of high-degree factors run on it first;
-    # closed forms share the values of common subexpressions (shared_evaluation)
+    # the certified isolations of high-degree factors run first (on the executor, if
+    # any; counted by the progress line); closed forms share the values of common
+    # subexpressions (shared_evaluation)
     values = []
     try:
-        if executor is not None:
-            # one representative root per polynomial: the isolation does not depend on the index
-            reps = {id(l.energy.poly): l.energy for l in spectrum.levels
-                    if isinstance(l.energy, ImplicitRoot)
-                    and l.energy.degree >= LAGUERRE_MIN_DEGREE}
+        # one representative root per polynomial: the isolation does not depend on the index
+        reps = {id(l.energy.poly): l.energy for l in spectrum.levels
+                if isinstance(l.energy, ImplicitRoot)
+                and l.energy.degree >= LAGUERRE_MIN_DEGREE}
+        if reps:
             keys = [isolation_key(r, pt, digits + 5) for pt in points for r in reps.values()]
-            prefetch_isolations(keys, executor)
+            prefetch_isolations(keys, executor, progress)
         first = _first_equal(spectrum.levels)
+        if progress is not None:
+            progress.phase("verification, values at points", len(points), "points")
         with mpmath.workdps(digits + 10), shared_evaluation():
             for pi in range(len(points)):
                 values.append(_values_at_usable_point(spectrum, symbols, points, pi, seed, digits,
                                                       first=first))
+                if progress is not None:
+                    progress.step()
     finally:
         clear_prefetched()
 
@@ -977,8 +988,13 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     sums = {}               # Vieta's power sums by polynomial (_check_sum_rules)
     reduced = [{} for _ in points]      # id(form) -> monic nmod_poly, per point and prime
     spectra = {}            # exact sector matrix -> its eigenvalues (equal sectors once)
+    if progress is not None:
+        progress.phase("verification, sectors",
+                       sum(min(n, L) + 1 - max(0, n - L) for n in wanted), "sectors")
     for n in sorted(wanted):
         for n_up in range(max(0, n - L), min(n, L) + 1):
+            if progress is not None:
+                progress.step()
             n_dn = n - n_up
             members = by_sector.get((n_up, n_dn), [])
             dim = comb(L, n_up) * comb(L, n_dn)

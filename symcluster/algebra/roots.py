@@ -21,6 +21,7 @@ integer polynomial obtained by substituting an exact rational point.
 from __future__ import annotations
 
 import collections
+import concurrent.futures
 import contextlib
 import functools
 from fractions import Fraction
@@ -311,16 +312,34 @@ def isolation_key(root, point, digits):
     return coeffs, int(digits + 2 if den is not None else digits)
 
 
-def prefetch_isolations(keys, executor):
-    """Run the isolations ``keys`` (from :func:`isolation_key`) through ``executor``.
+def prefetch_isolations(keys, executor, progress=None):
+    """Run the isolations ``keys`` (from :func:`isolation_key`) through ``executor``
+    (None: here, one after the other).
 
     The results are only a cache: :func:`_isolate` returns them instead of recomputing.
-    Call :func:`clear_prefetched` when done.
+    Call :func:`clear_prefetched` when done.  ``progress`` (optional, a
+    :class:`~symcluster.resources.Progress`) counts the isolations done.
     """
     keys = [k for k in dict.fromkeys(keys) if k not in _SEEDED]
-    futures = [(k, submit(executor, _isolate_compute, *k)) for k in keys]
-    for k, fut in futures:
-        _SEEDED[k] = fut.result()
+    if progress is not None:
+        progress.phase("verification, isolation of roots", len(keys), "polynomials")
+    if executor is None:
+        for k in keys:
+            _SEEDED[k] = _isolate_compute(*k)
+            if progress is not None:
+                progress.step()
+        return
+    futures = {submit(executor, _isolate_compute, *k): k for k in keys}
+    pending = set(futures)
+    while pending:
+        done, pending = concurrent.futures.wait(pending, timeout=1.0,
+                                                return_when=concurrent.futures.FIRST_COMPLETED)
+        for fut in done:
+            _SEEDED[futures[fut]] = fut.result()
+            if progress is not None:
+                progress.step()
+        if progress is not None:
+            progress.tick()
 
 
 def clear_prefetched():
