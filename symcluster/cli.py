@@ -394,7 +394,7 @@ def _analysis_spectrum(args):
     return _solve(model, electrons, fixed=fixed, lattice=not getattr(args, "no_lattice", False))
 
 
-def _solve(model, electrons, force=False, serial=False, fixed=None, lattice=True):
+def _solve(model, electrons, force=False, serial=False, fixed=None, lattice=True, progress=None):
     import symcluster
     solve = getattr(symcluster, "solve", None)
     if solve is None:
@@ -403,6 +403,8 @@ def _solve(model, electrons, force=False, serial=False, fixed=None, lattice=True
     kwargs = {}
     if fixed:
         kwargs["fixed"] = fixed
+    if progress is not None:
+        kwargs["progress"] = progress
     if force:
         kwargs["force"] = True
     if serial:
@@ -424,15 +426,27 @@ def _run_levels(args, out, err):
         _check_point(point, model, fixed)
     _check_outputs([args.latex, args.json],
                    inputs=[args.cluster_file, getattr(args, "model", None)])
-    spectrum = _solve(model, electrons, getattr(args, "force", False),
-                      getattr(args, "serial", False), fixed,
-                      not getattr(args, "no_lattice", False))
-    # everything is produced in memory first; files are written only if all succeeded
-    table = format_table(spectrum, point=point, digits=args.digits)
-    sym = format_symmetries(spectrum) if args.show_symmetry else ""
-    tex = latex_table(spectrum, point=point, digits=args.digits,
-                      standalone=args.standalone) if args.latex else None
-    js = dumps_spectrum(spectrum, point=point, digits=args.digits) if args.json else None
+    from .resources import Progress
+    progress = Progress()               # on a terminal, for runs longer than a few seconds
+    try:
+        spectrum = _solve(model, electrons, getattr(args, "force", False),
+                          getattr(args, "serial", False), fixed,
+                          not getattr(args, "no_lattice", False), progress)
+        # everything is produced in memory first; files are written only if all succeeded
+        n_out = 1 + bool(args.latex) + bool(args.json)
+        progress.phase("output, table", n_out, "outputs")
+        table = format_table(spectrum, point=point, digits=args.digits)
+        sym = format_symmetries(spectrum) if args.show_symmetry else ""
+        tex = js = None
+        if args.latex:
+            progress.phase("output, LaTeX", n_out, "outputs", done=1)
+            tex = latex_table(spectrum, point=point, digits=args.digits,
+                              standalone=args.standalone)
+        if args.json:
+            progress.phase("output, JSON", n_out, "outputs", done=n_out - 1)
+            js = dumps_spectrum(spectrum, point=point, digits=args.digits)
+    finally:
+        progress.close()
     files = [(path, text) for path, text in ((args.latex, tex), (args.json, js)) if path]
     # all files or none: temporaries first, renamed into place only if every one succeeded;
     # the table is printed only after that, so exit code 2 means no output at all
@@ -499,12 +513,31 @@ def _attach_negative_values(argv, single):
 def main(argv=None):
     """Run the command line; return the exit code (0 success, 2 bad input).
 
+    Run as the program (``argv`` None, as the ``symcluster`` command and
+    ``python -m symcluster`` do), SIGINT and SIGTERM stop the run at once: the
+    worker processes are killed, nothing is written, and the process exits with
+    130 or 143 (docs/cli.md).  Called with ``argv``, an interruption is a
+    ``KeyboardInterrupt`` as usual (exit code 130 returned, nothing written).
+
     Parameters
     ----------
     argv : list of str, optional
         Arguments without the program name (default ``sys.argv[1:]``).
+
+    Examples
+    --------
+    >>> main(["shapes"]) == 0 # doctest: +ELLIPSIS
+    built-in shapes ...
+    True
     """
-    argv = list(sys.argv[1:] if argv is None else argv)
+    if argv is None:
+        from .interrupts import stop_on_signals
+        with stop_on_signals():
+            return _main(list(sys.argv[1:]))
+    return _main(list(argv))
+
+
+def _main(argv):
     out, err = sys.stdout, sys.stderr
     commands = {"levels", "shapes", "demo", "ground-map", "gaps", "series", "thermo", "plot",
                 "derivative"}

@@ -207,33 +207,114 @@ def check_size(n_sites, sectors, plan=None, n_free=1, force=False, workers=0):
 
 
 class Progress:
-    """One-line progress on a terminal (stderr) for runs longer than ``after`` seconds.
+    """Progress of a long run: one line on a terminal, rewritten in place.
 
-    Quiet when stderr is not a terminal or ``enabled`` is False.
+    A run goes through phases (symmetry detection, blocks, exact algebra, the
+    verification's steps, ...); the line names the current one with its count and the
+    time since the run started::
+
+        symcluster: exact algebra: 12/40 blocks (35 s)
+
+    It only reports: the work is the same whether it shows or not.
+
+    Parameters
+    ----------
+    enabled : bool or None
+        None (default): show on a terminal (``stream.isatty()``), once the run has
+        lasted ``after`` seconds (a short run stays quiet); True: show from the start,
+        terminal or not; False: never.
+    stream : file, optional
+        Where to write (default: ``sys.stderr`` at the time of the call).
+    after : float
+        Seconds of quiet before the line first appears (``enabled=None`` only).
+
+    Examples
+    --------
+    >>> import io
+    >>> out = io.StringIO()
+    >>> p = Progress(enabled=True, stream=out)
+    >>> p.phase("exact algebra", 2, "blocks")
+    >>> p.step(); p.step()
+    >>> p.close()
+    >>> "exact algebra: 2/2 blocks" in out.getvalue()
+    True
     """
 
-    def __init__(self, total, label, enabled=None, after=3.0, stream=None):
-        self.stream = stream or sys.stderr
-        self.enabled = (self.stream.isatty() if enabled is None else enabled)
-        self.total, self.label, self.after = total, label, after
+    #: at most this many rewrites of the line per second (a phase change always shows)
+    RATE = 10
+
+    def __init__(self, enabled=None, stream=None, after=3.0):
+        self.stream = sys.stderr if stream is None else stream
+        if enabled is None:
+            isatty = getattr(self.stream, "isatty", None)
+            try:
+                enabled = bool(isatty()) if isatty is not None else False
+            except (OSError, ValueError):
+                enabled = False
+            self.after = after
+        else:
+            self.after = 0.0
+        self.enabled = bool(enabled)
         self.start = time.perf_counter()
+        self.name, self.total, self.unit = "", 0, ""
         self.done = 0
         self.shown = False
+        self._last = None           # time of the last write
+        self._pending = False       # a step not shown yet (rate limit)
+        self._width = 0             # length of the line on screen
+
+    def phase(self, name, total=0, unit="", done=0):
+        """Start the phase ``name`` of ``total`` steps (0: no count) counted in ``unit``,
+        ``done`` of them done already."""
+        self.name, self.total, self.unit = name, int(total), unit
+        self.done = done
+        self._show(force=True)
 
     def step(self, n=1):
+        """``n`` more steps of the current phase are done."""
         self.done += n
+        self._show(force=self.done >= self.total)
+
+    def tick(self):
+        """Nothing new to count: refresh the time shown (at most :attr:`RATE` times a second)."""
+        self._show()
+
+    def _show(self, force=False):
         if not self.enabled:
             return
-        elapsed = time.perf_counter() - self.start
-        if elapsed >= self.after:
-            self.shown = True
-            self.stream.write(f"\r{self.label}: {self.done}/{self.total} ({elapsed:.0f} s)")
+        now = time.perf_counter()
+        elapsed = now - self.start
+        if elapsed < self.after:
+            return
+        if not force and self._last is not None and now - self._last < 1.0 / self.RATE:
+            self._pending = True            # shown by the next write, or on close
+            return
+        self._pending = False
+        self._last = now
+        count = f": {self.done}/{self.total}" if self.total else ""
+        unit = f" {self.unit}" if self.total and self.unit else ""
+        text = f"symcluster: {self.name}{count}{unit} ({elapsed:.0f} s)"
+        pad = " " * max(0, self._width - len(text))     # wipe a longer previous line
+        self._width = len(text)
+        try:
+            self.stream.write("\r" + text + pad)
             self.stream.flush()
+        except (OSError, ValueError):       # a closed or broken stream: stop reporting
+            self.enabled = False
+            return
+        self.shown = True
 
     def close(self):
+        """End the line (if anything was shown), showing the last count first."""
+        if self._pending:
+            self._show(force=True)
         if self.enabled and self.shown:
-            self.stream.write("\n")
-            self.stream.flush()
+            try:
+                self.stream.write("\n")
+                self.stream.flush()
+            except (OSError, ValueError):
+                pass
+        self.shown = False
 
 
 # ----------------------------------------------------------------------------

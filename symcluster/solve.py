@@ -16,6 +16,7 @@ from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_sym
                      sectors_to_solve)
 from .resources import Progress, block_dimensions, check_early, check_size, submit
 from .errors import ModelError, VerificationError
+from .interrupts import process_pool, stop_pool
 from .linalg import integer_multiple
 from .models import Model
 from .numeric.implicit import ImplicitRoot
@@ -315,9 +316,10 @@ def _pool_workers(dims):
 
 
 def _default_executor(blocks):
-    """A process pool on all cores when the algebra is heavy enough to pay for it."""
+    """A process pool on all cores when the algebra is heavy enough to pay for it (its
+    processes never outlive this one: interrupts.process_pool)."""
     workers = _pool_workers([b.block.dim for b in blocks])
-    return concurrent.futures.ProcessPoolExecutor(max_workers=workers) if workers else None
+    return process_pool(workers) if workers else None
 
 
 def _expected_workers(executor, dims):
@@ -347,9 +349,16 @@ def _run_blocks(blocks, names, executor, progress, written=None):
     order = sorted(range(len(blocks)), key=lambda i: -blocks[i].block.dim)
     futures = {submit(executor, _solve_packed, blocks[i].block, names): i for i in order}
     out = [None] * len(blocks)
-    for fut in concurrent.futures.as_completed(futures):
-        out[futures[fut]] = _unpack(fut.result())
-        progress.step()
+    pending = set(futures)
+    while pending:
+        # a time-out now and then keeps the progress line's clock going while the
+        # largest blocks (submitted first) take minutes
+        done, pending = concurrent.futures.wait(
+            pending, timeout=1.0, return_when=concurrent.futures.FIRST_COMPLETED)
+        for fut in done:
+            out[futures[fut]] = _unpack(fut.result())
+            progress.step()
+        progress.tick()
     return out
 
 
@@ -400,6 +409,19 @@ def _with_constant(model, fixed):
     return replace(model, terms=tuple(terms))
 
 
+class _CountedList(list):
+    """A list that reports every append to ``step`` (build_blocks appends one entry per
+    sector to its ``report`` list: the progress of the block phase)."""
+
+    def __init__(self, step):
+        super().__init__()
+        self._step = step
+
+    def append(self, item):
+        super().append(item)
+        self._step()
+
+
 def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True, digits=30,
           seed=None, executor=None, progress=None, force=False, fixed=None):
     """Exact, verified spectrum of a model.
@@ -428,9 +450,14 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         pay for it; pass ``"serial"`` to stay in this process.  A
         ``ThreadPoolExecutor`` is accepted but runs one task at a time: the
         working precision of python-flint and mpmath is process-wide.
-    progress : bool, optional
-        Progress line on stderr; default: only when stderr is a terminal and
-        the run takes longer than a few seconds.
+    progress : bool or Progress, optional
+        Progress line on stderr naming each phase (symmetry detection, blocks,
+        exact algebra, the verification's steps) with its count.  Default (None):
+        only when stderr is a terminal, once the run has lasted a few seconds;
+        True: from the start, terminal or not; False: never; a
+        :class:`~symcluster.resources.Progress` of the caller's (which goes on
+        reporting the caller's own phases afterwards): that one.  It never
+        changes the result.
     force : bool
         Run even if the memory estimate exceeds the available memory.
     fixed : dict, optional
@@ -459,14 +486,29 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         raise ModelError(f"seed={seed!r} is not an integer; give e.g. seed=1 or leave it out")
     wanted = _check_electrons(model, electrons)
     fixed = _check_fixed(model, fixed)
-    original, model = model, _with_constant(model, fixed)
+    if progress is not None and not isinstance(progress, (bool, Progress)):
+        raise ModelError(f"progress={progress!r}: give True, False or leave it out")
     timings = {}
     t0 = time.perf_counter()
+    prog = progress if isinstance(progress, Progress) else Progress(enabled=progress)
+    try:
+        return _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, force,
+                      timings, t0, fixed)
+    finally:
+        if prog is not progress:
+            prog.close()
+
+
+def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, force, timings, t0,
+           fixed):
+    """:func:`solve` after its arguments were checked."""
+    original, model = model, _with_constant(model, fixed)
     # before the detection, whose cost also grows with the cluster (commutators on every
     # state with at most two electrons, the automorphism search)
     space = model.space
     n_free = len(model.labels) - (0 if CONSTANT in model.labels else 1)
     check_early(space, wanted, n_free, force)
+    prog.phase("symmetry detection")
     plan = plan_symmetries(model, lattice=lattice, spin=spin, eta=eta)
     if fixed:
         _drop_constant_shifts(plan)
@@ -474,12 +516,12 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     estimate = check_size(space, sectors, plan, n_free, force,
                           _expected_workers(executor, block_dimensions(space, sectors, plan)))
     timings["memory_estimate_bytes"] = estimate
-    sizes = []
+    prog.phase("blocks", len(sectors), "sectors")
+    sizes = _CountedList(prog.step)
     blocks = build_blocks(model, plan, wanted, report=sizes)
     timings["blocks"] = time.perf_counter() - t0
     names = model.labels
     t1 = time.perf_counter()
-    prog = Progress(len(blocks), "exact algebra, blocks", enabled=progress)
     own_pool = None
     if executor is None:
         executor = own_pool = _default_executor(blocks)
@@ -487,7 +529,8 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         executor = None
     twins = gauge_twins(model, plan, blocks)
     copies = equal_blocks(blocks, skip=twins)
-    prog.total = len(blocks) - len(twins) - len(copies)
+    # blocks derived from others (gauge twins, equal copies) are not counted
+    prog.phase("exact algebra", len(blocks) - len(twins) - len(copies), "blocks")
     try:
         todo = [i for i in range(len(blocks)) if i not in twins and i not in copies]
         written = Written()             # the closed forms of this solve
@@ -499,17 +542,20 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         results = [solved[i] if i in solved else _negate_couplings(solved[twins[i]], odd, written)
                    for i in range(len(blocks))]
     except BaseException:
+        # KeyboardInterrupt included: kill the workers rather than wait for their tasks
         if own_pool is not None:
-            own_pool.shutdown(cancel_futures=True)
+            stop_pool(own_pool)
         raise
-    finally:
-        prog.close()
     try:
-        return _finish(original, plan, blocks, results, twins, sizes, wanted, digits, seed,
-                       timings, t0, t1, executor, fixed)
-    finally:
+        spectrum = _finish(original, plan, blocks, results, twins, sizes, wanted, digits, seed,
+                           timings, t0, t1, executor, prog, fixed)
+    except BaseException:
         if own_pool is not None:
-            own_pool.shutdown()
+            stop_pool(own_pool)
+        raise
+    if own_pool is not None:
+        own_pool.shutdown()
+    return spectrum
 
 
 def _drop_constant_shifts(plan):
@@ -524,8 +570,9 @@ def _drop_constant_shifts(plan):
 
 
 def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, timings, t0, t1,
-            executor, fixed=None):
-    """Levels from the block results, then verification (through `executor` if given)."""
+            executor, progress=None, fixed=None):
+    """Levels from the block results, then verification (through `executor` if given;
+    steps reported to `progress`, a :class:`~symcluster.resources.Progress`)."""
     timings["algebra"] = time.perf_counter() - t1
     t_levels = time.perf_counter()
     levels = []
@@ -538,7 +585,11 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     moved = {}      # (irrep label, k odd) -> the irrep of the k-th eta member
     shifted = {}    # (id(closed form), k) -> the form moved by k eta pairs (forms shared by
                     # equal or twin blocks are moved once; `results` keeps them alive)
+    if progress is not None:
+        progress.phase("levels", len(blocks), "blocks")
     for spec, factors in zip(blocks, results):
+        if progress is not None:
+            progress.step()
         for fac, mult, roots in factors:
             if mult % spec.copies:
                 raise VerificationError(
@@ -596,14 +647,14 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
          "largest_block": s["largest_block"]} for s in sizes]
     t2 = time.perf_counter()
     seed = random.SystemRandom().randrange(2 ** 31) if seed is None else seed
-    n_checked = verify_blocks(blocks, results, seed)
+    n_checked = verify_blocks(blocks, results, seed, progress=progress)
     report.add("exact block characteristic polynomials vs. their factors "
                "(modulo a random 62-bit prime per point)", f"{n_checked} blocks", worst=0.0)
     # a field splits the spin multiplets: the spin flip is no symmetry then
     proven = (("spin",) if plan.spin and not plan.spin_split else ()) + (
         ("eta",) if plan.eta else ())
     verify_spectrum(spectrum, wanted, digits=digits, seed=seed, proven=proven, executor=executor,
-                    lattice=plan.lattice)
+                    lattice=plan.lattice, progress=progress)
     timings["verify"] = time.perf_counter() - t2
     timings["total"] = time.perf_counter() - t0
     return spectrum

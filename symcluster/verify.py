@@ -27,6 +27,7 @@ closed form is checked against its own polynomial at >= ``digits`` digits, and t
 forms of one factor are distinct roots of it (pairwise disjoint Newton disks).
 """
 
+import concurrent.futures
 import random
 import sys
 from fractions import Fraction
@@ -541,7 +542,7 @@ def _next_prime(n):
     return int(n)
 
 
-def verify_blocks(blocks, results, seed, n_points=2):
+def verify_blocks(blocks, results, seed, n_points=2, progress=None):
     """Exact check of the symbolic algebra, block by block.
 
     At random rational points and modulo a random 62-bit prime per point, the
@@ -550,7 +551,8 @@ def verify_blocks(blocks, results, seed, n_points=2):
     irreducible factors (to their multiplicities) evaluated at the point.
     Returns the number of blocks checked; raises VerificationError otherwise.  Blocks
     equal entry for entry, with equal factors, are one computation, done once (the count
-    includes every block).
+    includes every block).  ``progress`` (optional, a
+    :class:`~symcluster.resources.Progress`) counts the computations done.
     """
     if not blocks:
         return 0
@@ -577,6 +579,8 @@ def verify_blocks(blocks, results, seed, n_points=2):
         if not any(t == terms for t in same):
             same.append(terms)
             distinct.append((spec, factors))
+    if progress is not None:
+        progress.phase("verification, block polynomials", len(distinct) * len(points), "checks")
     for pt, prime in zip(points, primes):
         vals = {s.name: _mod(Fraction(int(v.p), int(v.q)), prime) for s, v in pt.items()}
         inverses = {}           # denominator of a block entry -> its inverse modulo the prime
@@ -607,6 +611,8 @@ def verify_blocks(blocks, results, seed, n_points=2):
             if prod != cp:
                 _fail(f"block {spec.labels} (dimension {n}): its characteristic polynomial at "
                       f"{pt} differs from the product of its computed factors (modulo {prime})")
+            if progress is not None:
+                progress.step()
     return len(blocks)
 
 
@@ -663,7 +669,7 @@ def _fail(msg):
 
 
 def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, proven=(),
-                    executor=None, lattice=None, float_dim=FLOAT_DIM):
+                    executor=None, lattice=None, float_dim=FLOAT_DIM, progress=None):
     """Run every check on ``spectrum``; fill its verification report; raise on failure.
 
     Every sector matrix is built from the model's terms by the plain route of
@@ -676,7 +682,9 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     ``lattice`` (the detected lattice symmetry, or None) adds the check of the lattice
     labels: in every sector of dimension at most ``EXACT_DIM`` the levels labelled with an
     irrep carry the traces of H^0, H^1, H^2 on that irrep's isotypic subspace (float64, first
-    point; see :func:`_check_lattice_labels`).
+    point; see :func:`_check_lattice_labels`).  ``progress`` (optional, a
+    :class:`~symcluster.resources.Progress`) is told each step: the isolation of roots, the
+    values at each point, each sector.
 
     ``proven`` names symmetries that were proven exactly by operator identities
     ("spin": [H, S+] = 0; "eta": [H, eta+] = delta eta+).  Sectors that such a
@@ -726,23 +734,45 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
 
     # numeric values of every level at every point (closed forms and implicit roots),
     # through one Evaluation that this call owns: closed forms share the values of common
-    # subexpressions, and with an executor the certified isolations of high-degree
-    # factors run on it first and are handed to the implicit roots through it
+    # subexpressions, and the certified isolations of high-degree factors run first (on the
+    # executor, if any; counted by the progress line) and are handed to the implicit roots
+    # through it
     evaluation = Evaluation()
-    if executor is not None:
-        # one representative root per polynomial: the isolation does not depend on the index
-        reps = {id(l.energy.poly): l.energy for l in spectrum.levels
-                if isinstance(l.energy, ImplicitRoot) and l.energy.degree >= LAGUERRE_MIN_DEGREE}
-        keys = dict.fromkeys(r.isolation_key(pt, digits + 5)
-                             for pt in points for r in reps.values())
-        futures = [(key, submit(executor, isolate, *key)) for key in keys]
-        evaluation.isolations.update((key, fut.result()) for key, fut in futures)
+    # one representative root per polynomial: the isolation does not depend on the index
+    reps = {id(l.energy.poly): l.energy for l in spectrum.levels
+            if isinstance(l.energy, ImplicitRoot) and l.energy.degree >= LAGUERRE_MIN_DEGREE}
+    if reps:
+        keys = list(dict.fromkeys(r.isolation_key(pt, digits + 5)
+                                  for pt in points for r in reps.values()))
+        if progress is not None:
+            progress.phase("verification, isolation of roots", len(keys), "polynomials")
+        if executor is None:
+            for key in keys:
+                evaluation.isolations[key] = isolate(*key)
+                if progress is not None:
+                    progress.step()
+        else:
+            futures = {submit(executor, isolate, *key): key for key in keys}
+            pending = set(futures)
+            while pending:
+                done, pending = concurrent.futures.wait(
+                    pending, timeout=1.0, return_when=concurrent.futures.FIRST_COMPLETED)
+                for fut in done:
+                    evaluation.isolations[futures[fut]] = fut.result()
+                    if progress is not None:
+                        progress.step()
+                if progress is not None:
+                    progress.tick()
     first = _first_equal(spectrum.levels)
     values = []
+    if progress is not None:
+        progress.phase("verification, values at points", len(points), "points")
     with mpmath.workdps(digits + 10):
         for pi in range(len(points)):
             values.append(_values_at_usable_point(spectrum, symbols, points, pi, seed, digits,
                                                   evaluation, first=first))
+            if progress is not None:
+                progress.step()
     del evaluation      # its compiled forms and values are not needed below
 
     # 2. each level is a root of its own polynomial (closed forms against polynomials)
@@ -832,8 +862,13 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
         (n_up, n - n_up) for n in sorted(wanted) for n_up in range(max(0, n - L), min(n, L) + 1)
         if 0 < space.sector_dim(n_up, n - n_up) <= float_dim
         and not flip_covered(n_up, n - n_up)])
+    if progress is not None:
+        progress.phase("verification, sectors",
+                       sum(min(n, L) + 1 - max(0, n - L) for n in wanted), "sectors")
     for n in sorted(wanted):
         for n_up in range(max(0, n - L), min(n, L) + 1):
+            if progress is not None:
+                progress.step()
             n_dn = n - n_up
             members = by_sector.get((n_up, n_dn), [])
             dim = space.sector_dim(n_up, n_dn)

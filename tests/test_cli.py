@@ -20,7 +20,7 @@ from test_export_text import two_site_spectrum
 def fake_solve(monkeypatch):
     calls = []
 
-    def solve(model, electrons=None, verify=True):
+    def solve(model, electrons=None, verify=True, **options):   # options: progress, ...
         calls.append((model, electrons))
         spec = two_site_spectrum()
         if electrons is not None:
@@ -80,7 +80,7 @@ def test_no_arguments_runs_the_demo(fake_solve, tmp_path, monkeypatch, capsys):
 
 
 def test_failed_solve_writes_nothing(monkeypatch, tmp_path, capsys):
-    def solve(model, electrons=None, verify=True):
+    def solve(model, electrons=None, verify=True, **options):
         raise VerificationError("level 3 differs from its block by 1e-5; report this bug")
     monkeypatch.setattr(symcluster, "solve", solve, raising=False)
     rc = main(["levels", "chain", "2", "--json", str(tmp_path / "x.json")])
@@ -223,7 +223,7 @@ def test_failure_while_writing_leaves_no_file_at_all(monkeypatch, tmp_path, caps
     sub.mkdir()
     tex, js = tmp_path / "a.tex", sub / "a.json"
 
-    def solve(model, electrons=None, verify=True):
+    def solve(model, electrons=None, verify=True, **options):
         sub.rmdir()                           # the check before the solve has passed by now
         spec = two_site_spectrum()
         spec.model = model

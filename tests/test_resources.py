@@ -91,15 +91,85 @@ class _Tty(io.StringIO):
 
 def test_progress_only_on_a_terminal_after_a_delay():
     tty = _Tty()
-    p = Progress(3, "blocks", stream=tty, after=0.0)
+    p = Progress(stream=tty, after=0.0)
+    p.phase("blocks", 3, "sectors")
     p.step()
     p.close()
-    assert "blocks: 1/3" in tty.getvalue()
+    assert "blocks: 1/3 sectors" in tty.getvalue()
+    assert tty.getvalue().endswith("\n")          # the line is ended on close
     pipe = io.StringIO()           # not a terminal: quiet
-    q = Progress(3, "blocks", stream=pipe, after=0.0)
+    q = Progress(stream=pipe, after=0.0)
+    q.phase("blocks", 3, "sectors")
     q.step()
     q.close()
     assert pipe.getvalue() == ""
+    late = _Tty()                  # a terminal, but the run has not lasted long enough yet
+    r = Progress(stream=late, after=1e9)
+    r.phase("blocks", 3, "sectors")
+    r.step()
+    r.close()
+    assert late.getvalue() == ""
+    never = _Tty()
+    s = Progress(enabled=False, stream=never)
+    s.phase("blocks", 3, "sectors")
+    s.step()
+    s.close()
+    assert never.getvalue() == ""
+
+
+def test_progress_names_every_phase_of_a_solve_with_a_count(monkeypatch):
+    # grid(2,3) at half filling has factors of degree >= 24, whose certified root
+    # isolation is a phase of its own; progress=True shows from the start
+    tty = _Tty()
+    monkeypatch.setattr("sys.stderr", tty)
+    model = sc.hubbard(sc.grid(2, 3))
+    shown = sc.solve(model, electrons=[6], executor="serial", seed=3, progress=True)
+    text = tty.getvalue()
+    lines = [l.strip() for l in text.split("\r") if l.strip()]
+    assert any(l.startswith("symcluster: symmetry detection") for l in lines)
+    for phase, unit in [("blocks", "sectors"), ("exact algebra", "blocks"),
+                        ("levels", "blocks"), ("verification, block polynomials", "checks"),
+                        ("verification, isolation of roots", "polynomials"),
+                        ("verification, values at points", "points"),
+                        ("verification, sectors", "sectors")]:
+        counts = [re.match(rf"symcluster: {re.escape(phase)}: (\d+)/(\d+) {unit} \(\d+ s\)$", l)
+                  for l in lines]
+        counts = [(int(m.group(1)), int(m.group(2))) for m in counts if m]
+        assert counts, f"no count for the phase {phase!r} in {text!r}"
+        total = counts[0][1]
+        assert total > 0 and (total, total) in counts      # counted up to the end
+        assert [d for d, _ in counts] == sorted(d for d, _ in counts)
+    # the phases come in the order of the pipeline
+    order = [text.index(p) for p in ("symmetry detection", "blocks:", "exact algebra",
+                                     "levels:", "block polynomials", "isolation", "values at points",
+                                     "verification, sectors")]
+    assert order == sorted(order)
+    # reporting never changes the result
+    monkeypatch.setattr("sys.stderr", io.StringIO())
+    quiet = sc.solve(model, electrons=[6], executor="serial", seed=3, progress=False)
+    key = lambda spec: [(str(l.energy), l.degeneracy, str(l.quantum_numbers))
+                        for l in spec.levels]
+    assert key(shown) == key(quiet)
+
+
+def test_progress_is_quiet_when_stderr_is_not_a_terminal(capsys):
+    sc.solve(sc.hubbard(sc.ring(4)), electrons=[4], seed=1)          # progress=None
+    assert capsys.readouterr().err == ""
+    sc.solve(sc.hubbard(sc.ring(4)), electrons=[4], seed=1, progress=False)
+    assert capsys.readouterr().err == ""
+
+
+def test_progress_counts_the_tasks_of_an_executor(monkeypatch):
+    # with an executor, blocks and isolations are counted as their results arrive
+    tty = _Tty()
+    monkeypatch.setattr("sys.stderr", tty)
+    with concurrent.futures.ThreadPoolExecutor(max_workers=2) as pool:
+        sc.solve(sc.hubbard(sc.grid(2, 3)), electrons=[6], executor=pool, seed=3, progress=True)
+    text = tty.getvalue()
+    algebra = re.findall(r"exact algebra: (\d+)/(\d+) blocks", text)
+    assert algebra and algebra[-1][0] == algebra[-1][1] != "0"
+    iso = re.findall(r"isolation of roots: (\d+)/(\d+) polynomials", text)
+    assert iso and iso[-1][0] == iso[-1][1] != "0"
 
 
 def test_any_executor_gives_the_same_levels():
@@ -239,3 +309,17 @@ def test_available_memory_is_memavailable_of_proc_meminfo():
         want = int(re.search(r"^MemAvailable:\s+(\d+) kB", fh.read(), re.M).group(1)) * 1024
     got = resources.available_memory()
     assert isinstance(got, int) and abs(got - want) <= 0.05 * want
+
+
+def test_progress_must_be_a_flag_or_a_progress_line():
+    with pytest.raises(sc.ModelError, match="progress="):
+        sc.solve(sc.hubbard(sc.chain(2)), progress="yes")
+    # a caller's own line goes on after the solve (the command line adds its outputs)
+    tty = _Tty()
+    line = Progress(enabled=True, stream=tty)
+    sc.solve(sc.hubbard(sc.chain(2)), progress=line)
+    line.phase("output, table", 1, "outputs")
+    line.close()
+    text = tty.getvalue()
+    assert "verification, sectors" in text
+    assert text.index("verification, sectors") < text.index("output, table: 0/1 outputs")

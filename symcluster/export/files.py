@@ -22,6 +22,7 @@ import stat
 import tempfile
 
 from ..errors import InputError
+from ..interrupts import outputs_commit, signals_held
 
 __all__ = ["output_target", "check_writable", "check_outputs", "write_files_atomic",
            "write_texts_atomic", "write_text_atomic"]
@@ -100,6 +101,7 @@ def _same_file(a, b):
         return os.path.realpath(a) == os.path.realpath(b)
 
 
+@signals_held                   # a stop never leaves the test file behind
 def check_writable(path):
     """Check, before any long computation, that ``path`` can be written.
 
@@ -199,6 +201,7 @@ def _as_bytes(data):
     return data.encode("utf-8") if isinstance(data, str) else bytes(data)
 
 
+@outputs_commit                 # a stop leaves every output complete or none, no temporaries
 def write_files_atomic(outputs):
     """Write several files all or none: ``outputs`` is a list of ``(path, str or bytes)``.
 

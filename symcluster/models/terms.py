@@ -75,7 +75,10 @@ def check_coupling_label(label, what="coupling"):
     >>> check_coupling_label("J_H")
     'J_H'
     """
-    if not isinstance(label, str) or not _NAME.match(label) or keyword.iskeyword(label):
+    if isinstance(label, str) and (keyword.iskeyword(label) or label in ("True", "False", "None")):
+        raise ModelError(f"{what} label {label!r} is a Python keyword (reserved); choose "
+                         "another name such as U2 or eps_a")
+    if not isinstance(label, str) or not _NAME.match(label):
         raise ModelError(f"{what} label {label!r} is not a valid name; use letters, digits and "
                          "underscores, starting with a letter (e.g. t, U, J_H, eps_1)")
     if label in RESERVED or label in ("True", "False", "None"):
