@@ -550,9 +550,6 @@ def test_density_interaction_keeps_spin_but_not_eta():
     assert not any("eta" in lev.quantum_numbers for lev in spec.levels)
 
 
-@pytest.mark.xfail(strict=True, reason="missing feature (issue 17, Deliver 3; "
-                   "notes/model-layer.md: 'S and Sz both for a uniform field' not yet done): "
-                   "levels in a uniform field carry Sz but not S")
 def test_uniform_field_levels_keep_their_spin():
     """A uniform field -h 2 S^z_total commutes with S^2, so each level keeps S and gains S^z
     (|S^z| <= S)."""
@@ -561,6 +558,38 @@ def test_uniform_field_levels_keep_their_spin():
         qn = lev.quantum_numbers
         assert "S" in qn and "Sz" in qn, f"level {lev.block}: {qn}"
         assert abs(qn["Sz"]) <= qn["S"]
+
+
+def test_three_bath_anderson_with_the_bath_fixed():
+    """sc.anderson(3) with its six bath couplings held at exact values (solve(fixed=...)):
+    the energies are exact in eps_d and U, and agree with the dense reference of the full
+    eight-coupling model at the same values, sector by sector."""
+    fixed = {"eps_1": "-1/2", "eps_2": "0", "eps_3": "1/2", "V_1": "1", "V_2": "1/2",
+             "V_3": "3/4"}
+    spec = sc.solve(sc.anderson(3), fixed=fixed)
+    assert {s.name for s in spec.symbols} == {"eps_d", "U"}
+    ref = anderson_ref(3)
+    for free in ({"eps_d": "-3/2", "U": "5/2"}, {"eps_d": "1/3", "U": "-1"}):
+        point = {k: Fraction(v) for k, v in {**fixed, **free}.items()}
+        assert_same_spectrum(_FixedView(spec, fixed), ref, point, 4 ** 4)
+
+
+class _FixedView:
+    """A solved spectrum seen with the fixed couplings dropped from the points it is given
+    (the reference needs every coupling; the spectrum takes only the free ones)."""
+
+    def __init__(self, spec, fixed):
+        self._spec, self._fixed = spec, fixed
+        self.n_states, self.levels = spec.n_states, spec.levels
+
+    def _free(self, point):
+        return {k: v for k, v in point.items() if k not in self._fixed}
+
+    def numeric(self, point, digits=30):
+        return self._spec.numeric(self._free(point), digits=digits)
+
+    def point(self, point):
+        return self._spec.point(self._free(point))
 
 
 # ------------------------------------------------------------------------------ one hole
