@@ -8,14 +8,14 @@ Public API (stable names)::
     spec.numeric({"t": 1, "U": 4}, digits=30)
 """
 
-from .clusters import (Cluster, chain, cluster, complete, cube, grid, ladder, load_cluster_file,
+from symcluster.lattice.clusters import (Cluster, chain, cluster, complete, cube, grid, ladder, load_cluster_file,
                        parse_cluster_toml, ring, star, tetrahedron)
-from .errors import (ClusterError, InputError, ModelError, SymclusterError, TooLargeError,
+from symcluster.errors import (ClusterError, InputError, ModelError, SymclusterError, TooLargeError,
                      VerificationError)
-from .models import (Model, anderson, heisenberg, hubbard, kanamori, load_model_file, make_model,
+from symcluster.models import (Model, anderson, heisenberg, hubbard, kanamori, load_model_file, make_model,
                      parse_model_toml, t_j, with_field)
-from .spectrum import Level, Spectrum, VerificationReport
-from .solve import solve
+from symcluster.spectrum import Level, Spectrum, VerificationReport
+from symcluster.pipeline.solve import solve
 
 __version__ = "0.1.0"
 
@@ -25,6 +25,6 @@ __all__ = [
     "Level", "Spectrum", "VerificationReport", "SymclusterError", "ClusterError", "ModelError",
     "InputError", "VerificationError", "TooLargeError", "load_model_file", "parse_model_toml",
 ]
-from .analysis import series, transitions  # noqa: E402  (depends on the classes above)
+from symcluster.analysis import series, transitions  # noqa: E402  (depends on the classes above)
 
 __all__ += ["series", "transitions"]

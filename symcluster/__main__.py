@@ -1,5 +1,5 @@
 """``python -m symcluster``: the command line (see symcluster.cli)."""
 
-from .cli import main
+from symcluster.cli import main
 
 raise SystemExit(main())

@@ -1,6 +1,6 @@
 """The ``symcluster`` command: parse the command line, call the API, print, write files.
 
-Thin by design: every computation is :func:`symcluster.solve` and the
+Thin by design: every computation is :func:`symcluster.pipeline.solve` and the
 functions of :mod:`symcluster.export`.  Any :class:`SymclusterError` or usage
 mistake becomes exactly one line ``symcluster: error: <problem>; <fix>`` on
 stderr and exit code 2.  Output paths are checked before the solve
@@ -17,9 +17,9 @@ import re
 import sys
 
 
-from . import __version__
-from .errors import ClusterError, InputError, SymclusterError
-from .parsing import parse_number
+from symcluster import __version__
+from symcluster.errors import ClusterError, InputError, SymclusterError
+from symcluster.parsing import parse_number
 
 __all__ = ["main", "parse_point", "parse_electrons", "build_cluster", "build_model", "SHAPES",
            "FAMILIES"]
@@ -153,7 +153,7 @@ def parse_electrons(text, n_sites, top=None):
 
 def build_cluster(words):
     """Cluster from shape words such as ``["ring", "4"]``."""
-    from . import clusters
+    from symcluster.lattice import clusters
     if not words:
         raise InputError("no cluster given; name a shape such as 'chain 2' or 'ring 4', "
                          "or use --cluster-file FILE.toml")
@@ -228,8 +228,8 @@ def build_model(args):
     >>> build_model(a)[0].labels
     ('J', 'h')
     """
-    from . import models
-    from .clusters import load_cluster_file
+    from symcluster import models
+    from symcluster.lattice.clusters import load_cluster_file
     model_file = getattr(args, "model", None)
     field = getattr(args, "field_label", None)
     if model_file is not None:
@@ -335,7 +335,7 @@ def _make_parser():
     _add_model_options(model_opts, ("--with-field",))
     model_opts.add_argument("--no-lattice", action="store_true",
                             help="do not use the cluster's lattice symmetry")
-    from .analysis.commands import add_commands
+    from symcluster.analysis.commands import add_commands
     add_commands(sub, parents=[model_opts], build_spectrum=_analysis_spectrum)
     sub.add_parser("shapes", help="list the built-in cluster shapes",
                    description="List the built-in cluster shapes and their sizes.")
@@ -345,13 +345,13 @@ def _make_parser():
 
 
 def _digits(text):
-    from .analysis.commands import digits_argument     # one rule for every subcommand
+    from symcluster.analysis.commands import digits_argument     # one rule for every subcommand
     return digits_argument(text)
 
 
 def _check_outputs(paths, inputs=()):
     """Before the solve: every output writable, none an input, no two the same file."""
-    from .export.files import check_outputs
+    from symcluster.export.files import check_outputs
     check_outputs(paths, inputs)
 
 
@@ -380,7 +380,7 @@ def _analysis_spectrum(args):
     (:func:`symcluster.analysis.commands.check_request`), the output paths
     included.
     """
-    from .analysis.commands import check_request
+    from symcluster.analysis.commands import check_request
     model, fixed = build_model(args)
     if not model.space.has_charge:
         kind = getattr(args, "analysis", None)
@@ -398,7 +398,7 @@ def _solve(model, electrons, force=False, serial=False, fixed=None, lattice=True
     import symcluster
     solve = getattr(symcluster, "solve", None)
     if solve is None:
-        raise SymclusterError("this installation has no solver (symcluster.solve is missing); "
+        raise SymclusterError("this installation has no solver (symcluster.pipeline.solve is missing); "
                               "reinstall symcluster")
     kwargs = {}
     if fixed:
@@ -415,7 +415,7 @@ def _solve(model, electrons, force=False, serial=False, fixed=None, lattice=True
 
 
 def _run_levels(args, out, err):
-    from .export import (dumps_spectrum, format_symmetries, format_table, latex_table,
+    from symcluster.export import (dumps_spectrum, format_symmetries, format_table, latex_table,
                          write_texts_atomic)
     if args.standalone and not args.latex:
         raise InputError("--standalone needs --latex FILE.tex; add it or drop --standalone")
@@ -426,7 +426,7 @@ def _run_levels(args, out, err):
         _check_point(point, model, fixed)
     _check_outputs([args.latex, args.json],
                    inputs=[args.cluster_file, getattr(args, "model", None)])
-    from .resources import Progress
+    from symcluster.pipeline.resources import Progress
     progress = Progress()               # on a terminal, for runs longer than a few seconds
     try:
         spectrum = _solve(model, electrons, getattr(args, "force", False),
@@ -531,7 +531,7 @@ def main(argv=None):
     True
     """
     if argv is None:
-        from .interrupts import stop_on_signals
+        from symcluster.interrupts import stop_on_signals
         with stop_on_signals():
             return _main(list(sys.argv[1:]))
     return _main(list(argv))

@@ -1,6 +1,6 @@
 """Stopping a run cleanly: pool processes that never outlive it, and SIGINT/SIGTERM.
 
-Three pieces, used by :mod:`symcluster.solve`, :mod:`symcluster.export` and the
+Three pieces, used by :mod:`symcluster.pipeline.solve`, :mod:`symcluster.export` and the
 command line:
 
 * :func:`process_pool` makes the process pool of a solve.  Its processes ignore

@@ -18,7 +18,7 @@ from fractions import Fraction
 
 import sympy
 
-from .errors import InputError
+from symcluster.errors import InputError
 
 __all__ = ["NUMBER", "parse_number", "read_input_file"]
 

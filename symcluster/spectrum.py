@@ -18,8 +18,8 @@ from fractions import Fraction
 import mpmath
 import sympy
 
-from .errors import ModelError
-from .numeric.evaluate import energy_numeric
+from symcluster.errors import ModelError
+from symcluster.numeric.evaluate import energy_numeric
 
 __all__ = ["Level", "Spectrum", "VerificationReport", "coerce_point", "energy_numeric",
            "to_rational", "exact_rational", "check_digits"]
@@ -190,7 +190,7 @@ class Level:
         the level's block has dimension <= 4 (None otherwise).
         """
         if self.eigenvectors is None and self.source is not None:
-            from .eigvec import block_eigenvector
+            from symcluster.blocks.eigvec import block_eigenvector
             block, vectors = self.source
             vec = block_eigenvector(block, vectors, self.polynomial, self.energy)
             self.eigenvectors = [vec] if vec else []

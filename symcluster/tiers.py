@@ -1,7 +1,7 @@
 """Sector dimensions at which the verification changes tier (docs/verification.md).
 
-A leaf module: the verification (:mod:`symcluster.verify`) applies these limits and the
-memory estimate (:mod:`symcluster.resources`) counts the float64 tier's dense matrices,
+A leaf module: the verification (:mod:`symcluster.verify.core`) applies these limits and the
+memory estimate (:mod:`symcluster.pipeline.resources`) counts the float64 tier's dense matrices,
 so both import them from here.
 """
 

@@ -1,4 +1,4 @@
-"""Bond lists of the built-in shapes, written independently of symcluster.clusters.
+"""Bond lists of the built-in shapes, written independently of symcluster.lattice.clusters.
 
 Each function returns (n_sites, [(i, j, "t"), ...]); used by the group and
 lattice tests so that they do not depend on the cluster constructors.

@@ -18,7 +18,7 @@ import pytest
 import sympy
 
 import symcluster as sc
-from symcluster.blocks import build_blocks, plan_symmetries
+from symcluster.blocks.build import build_blocks, plan_symmetries
 from symcluster.hilbert.fock import sector_states
 from symcluster.symmetry.lattice import multiplicity
 
@@ -150,8 +150,8 @@ def test_gauge_twin_blocks_have_t_negated_characteristic_polynomials(cluster):
     # solver derives such twin blocks instead of solving them; here both characteristic
     # polynomials are computed directly and compared symbolically.
     from symcluster.algebra.charpoly import charpoly
-    from symcluster.blocks import build_blocks, plan_symmetries
-    from symcluster.solve import gauge_twins
+    from symcluster.blocks.build import build_blocks, plan_symmetries
+    from symcluster.pipeline.solve import gauge_twins
     model = sc.hubbard(cluster)
     plan = plan_symmetries(model)
     blocks = build_blocks(model, plan)
@@ -174,7 +174,7 @@ def test_equal_blocks_are_equal_matrices_and_solved_once(cluster):
     # factors (a copy).  Here both are solved on their own and compared, and the solved
     # spectrum gives every block Poly objects of its own (the verification counts roots
     # per object).
-    from symcluster.solve import equal_blocks, gauge_twins, solve_block
+    from symcluster.pipeline.solve import equal_blocks, gauge_twins, solve_block
     model = sc.hubbard(cluster)
     plan = plan_symmetries(model)
     blocks = build_blocks(model, plan)
@@ -237,7 +237,7 @@ def test_block_entries_are_reference_matrix_elements(cluster):
 
 def test_invariance_check_names_the_first_state_outside_the_span():
     # one basis vector |s>: H|s> leaves its span at every state a hop reaches
-    from symcluster.blocks import _matrix_of_h
+    from symcluster.blocks.build import _matrix_of_h
     from symcluster.errors import VerificationError
     from symcluster.hilbert.action import HamiltonianAction, apply_hamiltonian
     model = sc.hubbard(sc.ring(4))
@@ -339,8 +339,8 @@ def test_a_factor_met_in_several_blocks_gets_its_closed_forms_once(monkeypatch):
     # (and polynomials in the couplings shared between factors); each block's factors
     # and roots equal those of solving it alone, tree for tree
     import sys
-    from symcluster.solve import Written, _generators, equal_blocks, gauge_twins, solve_block
-    solve_mod = sys.modules["symcluster.solve"]
+    from symcluster.pipeline.solve import Written, _generators, equal_blocks, gauge_twins, solve_block
+    solve_mod = sys.modules["symcluster.pipeline.solve"]
     model = sc.hubbard(sc.ring(4))
     plan = plan_symmetries(model)
     blocks = build_blocks(model, plan)

@@ -8,7 +8,7 @@ import numpy as np
 import pytest
 
 import symcluster as sc
-from symcluster.checks.plain import sector_matrices, sector_matrix, sector_occupations
+from symcluster.verify.plain import sector_matrices, sector_matrix, sector_occupations
 from symcluster.errors import VerificationError
 from symcluster.models.model import make_model
 from symcluster.models.terms import Term
@@ -116,7 +116,7 @@ def test_plain_route_imports_nothing_of_the_block_builder():
     # the independence claimed in docs/verification.md, read off the module's imports
     # (Python's ast): nothing from symcluster.hilbert, directly or relatively
     import ast
-    import symcluster.checks.plain as plain
+    import symcluster.verify.plain as plain
     tree = ast.parse(open(plain.__file__, encoding="utf-8").read())
     names = []
     for node in ast.walk(tree):

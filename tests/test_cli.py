@@ -154,7 +154,7 @@ def test_point_and_electron_grammars():
 def test_end_to_end_subprocess(tmp_path):
     """The real solver through ``python -m symcluster`` (no stand-ins)."""
     assert hasattr(symcluster, "solve"), \
-        "symcluster.solve is missing: the end-to-end CLI run cannot work"
+        "symcluster.pipeline.solve is missing: the end-to-end CLI run cannot work"
     js = tmp_path / "dimer.json"
     root = os.path.dirname(os.path.dirname(os.path.abspath(symcluster.__file__)))
     env = dict(os.environ, PYTHONPATH=os.pathsep.join(

@@ -1,4 +1,4 @@
-"""Cluster construction, validation messages and TOML loading (symcluster.clusters)."""
+"""Cluster construction, validation messages and TOML loading (symcluster.lattice.clusters)."""
 
 import pytest
 

@@ -385,7 +385,7 @@ def test_numeric_at_thousands_of_digits_picks_the_same_root():
 def test_a_wrong_closed_form_is_rejected(monkeypatch):
     # The verification must compare the closed forms themselves (not values re-derived
     # from their polynomials) with the blocks: a formula off by t/10^6 must be caught.
-    solve_mod = importlib.import_module("symcluster.solve")
+    solve_mod = importlib.import_module("symcluster.pipeline.solve")
     real = solve_mod.closed_forms
     t = sympy.Symbol("t", real=True)
 
@@ -402,8 +402,8 @@ def test_a_closed_form_that_is_not_real_at_a_point_is_rejected_not_redrawn(monke
     # sqrt(t) - sqrt(t^3)/t is 0 for t > 0 and imaginary for t < 0: added to every closed
     # form, the levels are right on half of the parameter space only. A verification point
     # with t < 0 must reject them; redrawing it until t > 0 would accept a wrong formula.
-    verify_mod = importlib.import_module("symcluster.verify")
-    solve_mod = importlib.import_module("symcluster.solve")
+    verify_mod = importlib.import_module("symcluster.verify.core")
+    solve_mod = importlib.import_module("symcluster.pipeline.solve")
     real_roots, real_points = solve_mod.closed_forms, verify_mod.random_points
     t = sympy.Symbol("t", real=True)
     bad = sympy.sqrt(t) - sympy.sqrt(t**3) / t
@@ -432,7 +432,7 @@ def test_root_check_accepts_a_level_that_is_exactly_zero_at_the_point(monkeypatc
     # a rounding residue (~1e-71), and a purely relative backward error |P(x)| / |x|
     # was 1 for P = E - (U - t + tp): a correct result was discarded. The check must
     # measure the residue against the energy scale of the point instead.
-    import symcluster.verify as V
+    import symcluster.verify.core as V
 
     original = V.random_points
     hit = {"t": sympy.Rational(573, 131), "tp": sympy.Rational(824, 131),
@@ -476,7 +476,7 @@ def test_verification_redraws_a_point_where_a_closed_form_is_undefined(monkeypat
     # If a random point falls where some closed form is undefined (0/0 where only some
     # roots of its polynomial merge), the point proves nothing either way: verification
     # must draw another point for every check, not crash or refuse a correct result.
-    import symcluster.verify as V
+    import symcluster.verify.core as V
 
     original = V.energy_numeric
     bad = {}
@@ -501,7 +501,7 @@ def test_coeffs_at_matches_sympy_substitution():
     # The verification's integer-arithmetic evaluation of P(E; point) against plain
     # sympy substitution, with rational coefficients and coupling values of
     # different denominators (and a zero value).
-    from symcluster.verify import coeffs_at
+    from symcluster.verify.core import coeffs_at
     E, t, tp, U = sympy.symbols("E t tp U", real=True)
     expr = (E**3 - sympy.Rational(5, 6) * E**2 * t * U + 7 * E * tp**2
             - sympy.Rational(3, 4) * t**2 * tp * U**2 + U**5 - 2)
@@ -517,7 +517,7 @@ def test_a_redrawn_second_point_keeps_random_signs(monkeypatch):
     # Only the first verification point has every hopping positive; a replacement for a
     # later point must be drawn like that point (random signs), or a closed form wrong
     # only for negative hopping could pass every check with two positive points.
-    import symcluster.verify as V
+    import symcluster.verify.core as V
 
     original, original_all = V.energy_numeric, V.closed_values
     seen = []
@@ -625,7 +625,7 @@ def test_negated_couplings_give_the_substituted_factors_and_roots():
     # the roots r(-t) as a set.  Checked against sympy's substitution; an even factor keeps its forms
     # but gets a Poly object of its own (the verification counts roots per object).
     from symcluster.numeric import ImplicitRoot
-    from symcluster.solve import _negate_couplings
+    from symcluster.pipeline.solve import _negate_couplings
     from symcluster.symbols import ENERGY
     t, U = sympy.symbols("t U", real=True)
     E = ENERGY
@@ -651,9 +651,9 @@ def test_negated_couplings_through_the_solves_written_forms(monkeypatch):
     # it (the same objects, no new writing); a new one is written once and stored, with
     # the forms written without it (compared as trees).
     import sys
-    from symcluster.solve import Written, _negate_couplings
+    from symcluster.pipeline.solve import Written, _negate_couplings
     from symcluster.symbols import ENERGY
-    solve_mod = sys.modules["symcluster.solve"]
+    solve_mod = sys.modules["symcluster.pipeline.solve"]
     t, U = sympy.symbols("t U", real=True)
     E = ENERGY
     fac = sympy.Poly(E**2 - U * E - 4 * t**2 + 2 * t * U, E, t, U)
@@ -680,7 +680,7 @@ def test_negated_couplings_through_the_solves_written_forms(monkeypatch):
 @pytest.mark.parametrize("k", [1, 2, 3])
 def test_eta_shifter_is_sympy_substitution(k):
     # P(E - k*shift) against sympy's own substitution and expansion (independent)
-    from symcluster.solve import _Shifter
+    from symcluster.pipeline.solve import _Shifter
     E, t, U, V = (sympy.Symbol(n, real=True) for n in "EtUV")
     shift = {"U": 1, "V": -2}
     expr = sympy.expand((E - U) ** 2 * (E + 3 * t) - 4 * t ** 2 * E + V * U)
@@ -699,10 +699,10 @@ def test_eta_shifter_is_sympy_substitution(k):
 def test_block_check_covers_equal_blocks_and_catches_a_wrong_copy():
     # verify_blocks checks blocks equal entry for entry (with equal factors) once; a copy
     # whose factors differ from its twin's is checked on its own and fails
-    from symcluster.blocks import build_blocks, plan_symmetries
-    from symcluster.solve import _copy_factors, equal_blocks, solve_block
+    from symcluster.blocks.build import build_blocks, plan_symmetries
+    from symcluster.pipeline.solve import _copy_factors, equal_blocks, solve_block
     from symcluster.errors import VerificationError
-    from symcluster.verify import verify_blocks
+    from symcluster.verify.core import verify_blocks
     model = sc.hubbard(sc.ring(4))
     blocks = build_blocks(model, plan_symmetries(model))
     copies = equal_blocks(blocks)

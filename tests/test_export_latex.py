@@ -6,7 +6,7 @@ import subprocess
 import pytest
 import sympy
 
-from symcluster.clusters import chain
+from symcluster.lattice.clusters import chain
 from symcluster.export.latex import latex_table, name_subexpressions, tex_escape
 from symcluster.models import hubbard
 from symcluster.spectrum import Level, Spectrum, VerificationReport

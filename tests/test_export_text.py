@@ -10,7 +10,7 @@ export/CLI test modules.
 import mpmath
 import sympy
 
-from symcluster.clusters import chain
+from symcluster.lattice.clusters import chain
 from symcluster.export.text import energy_text, format_symmetries, format_table
 from symcluster.models import hubbard
 from symcluster.spectrum import Level, Spectrum, VerificationReport

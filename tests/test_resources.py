@@ -9,10 +9,10 @@ import re
 import pytest
 
 import symcluster as sc
-from symcluster import resources
-from symcluster.blocks import build_blocks, plan_symmetries, sectors_to_solve
+from symcluster.pipeline import resources
+from symcluster.blocks.build import build_blocks, plan_symmetries, sectors_to_solve
 from symcluster.errors import TooLargeError
-from symcluster.resources import Progress
+from symcluster.pipeline.resources import Progress
 
 
 def test_guard_refuses_with_the_estimate(monkeypatch):
@@ -69,7 +69,7 @@ def test_ten_site_ring_is_refused_on_a_24_gib_machine(monkeypatch):
     def must_not_run(*args, **kwargs):
         raise AssertionError("the guard let ring(10) through to the block construction")
 
-    monkeypatch.setattr(importlib.import_module("symcluster.solve"), "build_blocks", must_not_run)
+    monkeypatch.setattr(importlib.import_module("symcluster.pipeline.solve"), "build_blocks", must_not_run)
     with pytest.raises(TooLargeError) as info:
         sc.solve(sc.hubbard(sc.ring(10)))
     msg = str(info.value)
@@ -210,7 +210,7 @@ def test_thread_pool_tasks_run_one_at_a_time():
     # precision and raised).  Each task counts the tasks running beside it.
     import threading
     import time as _time
-    from symcluster.resources import submit
+    from symcluster.workers import submit
     state = {"running": 0, "most": 0}
     lock = threading.Lock()
 
@@ -287,7 +287,7 @@ def test_huge_clusters_are_refused_before_the_symmetry_detection(monkeypatch, ma
     def must_not_run(*args, **kwargs):
         raise AssertionError("the symmetry detection ran for a cluster that cannot fit")
 
-    monkeypatch.setattr(importlib.import_module("symcluster.solve"), "plan_symmetries", must_not_run)
+    monkeypatch.setattr(importlib.import_module("symcluster.pipeline.solve"), "plan_symmetries", must_not_run)
     with pytest.raises(TooLargeError) as info:
         sc.solve(sc.hubbard(make()))
     msg = str(info.value)

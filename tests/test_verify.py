@@ -9,7 +9,7 @@ import sympy
 
 import symcluster as sc
 from symcluster.errors import VerificationError
-from symcluster.verify import _power_sums, verify_spectrum
+from symcluster.verify.core import _power_sums, verify_spectrum
 
 E, t, U, x = sympy.symbols("E t U x")
 
@@ -89,10 +89,10 @@ _CLUSTERS = {"ring4": lambda: sc.ring(4),
 def test_sector_matrix_and_traces_match_the_fock_reference(name, sector):
     # Tr H = sum_l u_l tr A_l and Tr H^2 = sum_l1,l2 u_l1 u_l2 sum_ij A_l1[i,j] A_l2[i,j]
     # with A_l the reference's integer matrices (numpy), keys sorted label tuples
-    # the verification's plain sector matrices (symcluster.checks.plain), in the order of the
+    # the verification's plain sector matrices (symcluster.verify.plain), in the order of the
     # package's sector basis
-    from symcluster.checks.plain import sector_matrix
-    from symcluster.verify import _sector_traces
+    from symcluster.verify.plain import sector_matrix
+    from symcluster.verify.core import _sector_traces
     cluster = _CLUSTERS[name]()
     model = sc.hubbard(cluster)
     states, ref = _reference_sector(cluster, *sector)
@@ -116,8 +116,8 @@ def test_sector_matrix_and_traces_match_the_fock_reference(name, sector):
 def test_sector_charpoly_modulo_a_prime_matches_sympy():
     # det(x - H) of the reference's (2, 1) sector at a rational point, by sympy over Q,
     # then reduced modulo the prime coefficient by coefficient
-    from symcluster.checks.plain import sector_matrix
-    from symcluster.verify import _charpoly_mod, _label_matrices
+    from symcluster.verify.plain import sector_matrix
+    from symcluster.verify.core import _charpoly_mod, _label_matrices
     cluster = _CLUSTERS["labels"]()
     model = sc.hubbard(cluster)
     states, ref = _reference_sector(cluster, 2, 1)
@@ -136,7 +136,7 @@ def test_sector_charpoly_modulo_a_prime_matches_sympy():
 def test_polynomials_modulo_a_prime_are_monic_reductions():
     # P(E; point) reduced modulo p and made monic, against sympy substitution; equal
     # polynomials in separate objects share one form (and one reduction)
-    from symcluster.verify import FormCache, _poly_mod
+    from symcluster.verify.core import FormCache, _poly_mod
     prime = 2305843009213693951
     P = sympy.Poly(3 * E**2 - sympy.Rational(5, 2) * E * t + U**2 - 7, E, t, U, domain=sympy.QQ)
     Q = sympy.Poly(3 * E**2 - sympy.Rational(5, 2) * E * t + U**2 - 7, E, t, U, domain=sympy.QQ)
@@ -155,7 +155,7 @@ def test_polys_sharing_a_representation_share_a_form_only_with_equal_generators(
     # Poly.new(rep, *gens) copies (the eta members of one factor) are read once; the
     # same representation under other generators is another polynomial, with its own
     # terms (checked against sympy's as_dict)
-    from symcluster.verify import FormCache
+    from symcluster.verify.core import FormCache
     P = sympy.Poly(E**2 - 2 * E * t + U**2 - 7, E, t, U, domain=sympy.ZZ)
     copy = sympy.Poly.new(P.rep, *P.gens)
     swapped = sympy.Poly.new(P.rep, E, U, t)
@@ -258,7 +258,7 @@ def test_sector_shares_split_multiplets_over_sz_sectors():
     # 2 states each; S = 1/2 with degeneracy 4, N = 3: Sz = +-1/2 hold 2 each; Sz labels only
     # put everything in their own sector
     from symcluster.spectrum import Level
-    from symcluster.verify import _sector_shares
+    from symcluster.verify.core import _sector_shares
     half = sympy.Rational(1, 2)
     assert _sector_shares(Level(U, 6, {"N": 4, "S": sympy.Integer(1)}), 4) == \
         [((1, 3), 2), ((2, 2), 2), ((3, 1), 2)]
@@ -287,7 +287,7 @@ def test_small_sector_eigenvalues_enclose_mpmath_eigsy():
     # The enclosures (python-flint: exact charpoly, certified roots) against mpmath.eigsy
     # of the matrix summed at 40 digits (mpmath, an independent library): within the
     # bound, bounds tiny; an equal matrix of another sector gives the same list
-    from symcluster.verify import _sector_eigenvalues
+    from symcluster.verify.core import _sector_eigenvalues
     spectra = {}
     with mpmath.workdps(40):
         got = _sector_eigenvalues(_SECTOR_TERMS, 3, _SECTOR_POINT, spectra)
@@ -311,7 +311,7 @@ def _exact(v):
 def test_one_state_sector_eigenvalue_encloses_the_entry(x):
     # a 1 x 1 sector: its entry is the eigenvalue; the enclosure must hold it exactly
     # (checked in rationals), with a bound of about one ulp
-    from symcluster.verify import _sector_eigenvalues
+    from symcluster.verify.core import _sector_eigenvalues
     with mpmath.workdps(40):
         (value, bound), = _sector_eigenvalues({"U": {(0, 0): 1}}, 1, {"U": sympy.Rational(
             x.numerator, x.denominator)}, {})
@@ -323,7 +323,7 @@ def test_one_state_sector_eigenvalue_encloses_the_entry(x):
 def test_small_sector_eigenvalues_keep_multiplicities():
     # 4-site ring, one electron, t = 3/7: -2t cos k for k = 0, +-pi/2, pi (tight binding,
     # e.g. Ashcroft & Mermin ch. 10): -6/7, 0 (twice), 6/7; the double eigenvalue is kept twice
-    from symcluster.verify import _sector_eigenvalues
+    from symcluster.verify.core import _sector_eigenvalues
     hop = {}
     for i in range(4):
         hop[(i, (i + 1) % 4)] = hop[((i + 1) % 4, i)] = -1
@@ -338,7 +338,7 @@ def test_small_sector_eigenvalues_of_a_rank_one_matrix():
     # (2/3) J_4 (J the all-ones matrix) has the eigenvalue 8/3 once and 0 three times
     # (rank one, trace 8/3; common practice, no source): the enclosures list each
     # eigenvalue as often as it occurs, and 0 exactly
-    from symcluster.verify import _sector_eigenvalues
+    from symcluster.verify.core import _sector_eigenvalues
     ones = {(i, j): 1 for i in range(4) for j in range(4)}
     with mpmath.workdps(40):
         got = _sector_eigenvalues({"t": ones}, 4, {"t": sympy.Rational(2, 3)}, {})
@@ -352,7 +352,7 @@ def test_a_non_real_sector_eigenvalue_is_refused():
     # a real symmetric matrix has real eigenvalues; the rotation [[0, -1], [1, 0]] (not
     # symmetric, eigenvalues +-i) stands in for a broken sector matrix
     from symcluster.errors import VerificationError
-    from symcluster.verify import _sector_eigenvalues
+    from symcluster.verify.core import _sector_eigenvalues
     with mpmath.workdps(40), pytest.raises(VerificationError, match="non-real eigenvalue"):
         _sector_eigenvalues({"t": {(0, 1): -1, (1, 0): 1}}, 2, {"t": sympy.Integer(1)}, {})
 
@@ -362,9 +362,9 @@ def test_swapped_lattice_labels_are_rejected():
     # levels are -2t cos k (tight binding), k = 0 and k = pi have different energies; swapping
     # their labels must fail (a review found that no check looked at the labels).
     import symcluster as sc
-    from symcluster.blocks import plan_symmetries
+    from symcluster.blocks.build import plan_symmetries
     from symcluster.errors import VerificationError
-    from symcluster.verify import verify_spectrum
+    from symcluster.verify.core import verify_spectrum
     model = sc.hubbard(sc.ring(4))
     spec = sc.solve(model)
     assert any("lattice labels" in c["check"] for c in spec.verification.checks)
@@ -383,10 +383,10 @@ def test_swapped_lattice_labels_are_rejected():
 def test_lattice_label_images_match_the_permuted_states():
     # the block tables give, for every sector state and group element, the index and the
     # fermion sign of the permuted state: those of permute_state on the basis itself
-    from symcluster.blocks import plan_symmetries
+    from symcluster.blocks.build import plan_symmetries
     from symcluster.hilbert.fock import sector_states
     from symcluster.symmetry.lattice import permute_state
-    from symcluster.verify import _BlockImages
+    from symcluster.verify.core import _BlockImages
     model = sc.hubbard(sc.cluster(5, [(0, 1), (1, 2), (2, 3), (3, 0), (0, 4, "tp")]))
     lattice = plan_symmetries(model).lattice
     images = _BlockImages(lattice, 5)
@@ -410,9 +410,9 @@ def test_isotypic_traces_match_dense_projectors(sector):
     # sector matrices of tests/reference_fock.py, multiplied out with numpy
     import numpy as np
     from test_lattice import ref_permute
-    from symcluster.blocks import plan_symmetries
-    from symcluster.checks.plain import sector_matrix
-    from symcluster.verify import _BlockImages, _isotypic_traces
+    from symcluster.blocks.build import plan_symmetries
+    from symcluster.verify.plain import sector_matrix
+    from symcluster.verify.core import _BlockImages, _isotypic_traces
     cluster = sc.cluster(5, [(0, 1), (1, 2), (2, 3), (3, 0), (0, 4, "tp")])
     model = sc.hubbard(cluster)
     lattice = plan_symmetries(model).lattice
@@ -442,8 +442,8 @@ def test_numeric_matrix_is_the_entrywise_sum():
     # bit for bit the loop m[i, j] += a * float(u_l), label after label
     import numpy as np
     from symcluster.hilbert.fock import sector_states
-    from symcluster.checks.plain import sector_matrix
-    from symcluster.verify import _numeric_matrix
+    from symcluster.verify.plain import sector_matrix
+    from symcluster.verify.core import _numeric_matrix
     model = sc.hubbard(sc.cluster(4, [(0, 1), (1, 2, "tp"), (2, 3)], site_labels={1: "e", 3: "e"}))
     states = sector_states(4, 2, 1)
     terms = sector_matrix(model, 2, 1).as_dicts()
@@ -461,7 +461,7 @@ def test_spin_flip_images_share_the_lattice_label_check():
     # with spin SU(2) proven, a sector N_up < N_dn holding the levels of (N_dn, N_up) is
     # covered by that sector's check (same levels, same traces); the report says so, the
     # count of sectors adds up, and a swapped label is still caught
-    from symcluster.blocks import plan_symmetries
+    from symcluster.blocks.build import plan_symmetries
     model = sc.hubbard(sc.ring(4))
     spec = sc.solve(model, seed=2)
     plan = plan_symmetries(model)
@@ -535,7 +535,7 @@ def test_float_disks_hold_a_root_and_close_roots_fall_back_to_working_precision(
     # two distinct roots 1e-25 apart cannot be told apart in float64, so _separate_roots
     # must settle them at working precision (accepted), while a value listed twice fails
     from symcluster.numeric.residuals import float_newton_radius
-    from symcluster.verify import _separate_roots
+    from symcluster.verify.core import _separate_roots
     rng = random.Random(11)
     for _ in range(40):
         roots = [Fraction(rng.randint(-50, 50), rng.randint(1, 7)) for _ in range(rng.randint(2, 4))]
@@ -570,7 +570,7 @@ def test_complex_values_get_newton_disks_too():
     # tiny imaginary part: its disk must still hold the root, and two such values of one
     # root must still be rejected
     from symcluster.numeric.residuals import mp_coefficients, newton_radius
-    from symcluster.verify import _separate_roots
+    from symcluster.verify.core import _separate_roots
     with mpmath.workdps(50):
         cs = mp_coefficients([1, -6, 11, -6], 1)            # (x - 1)(x - 2)(x - 3)
         z = mpmath.mpc(2, mpmath.mpf(10) ** -35)
@@ -595,7 +595,7 @@ def test_coefficients_beyond_float64_are_separated_at_working_precision(ints):
     # (x - 1)(x - 2)(x - 3) scaled out of the float64 range (overflow, underflow to 0,
     # subnormal): no float64 disks; the working-precision ones accept the three roots and
     # reject a root listed twice
-    from symcluster.verify import _separate_roots
+    from symcluster.verify.core import _separate_roots
     with mpmath.workdps(50):
 
         class Lev:
@@ -612,7 +612,7 @@ def test_roots_that_merge_at_a_point_leave_it_undecided_not_failed():
     # (x - 1)^2 (x - 3) at the point: two distinct closed forms may take the value 1 there
     # (their factor's roots merge on a hypersurface of the couplings); the exact gcd test
     # finds the multiple root and the check is undecided (False) instead of failing
-    from symcluster.verify import _separate_roots
+    from symcluster.verify.core import _separate_roots
     with mpmath.workdps(50):
 
         class Lev:
@@ -644,7 +644,7 @@ def test_two_dimers_at_a_point_with_equal_hoppings_verify():
 def test_forms_separated_at_fresh_points_when_every_point_merges():
     # _separate_elsewhere draws further points for a factor whose roots merged at every
     # verification point: real distinct forms pass; a form listed twice fails
-    from symcluster.verify import _separate_elsewhere
+    from symcluster.verify.core import _separate_elsewhere
     c = sc.cluster(4, [(0, 1), (2, 3, "tp")])
     spec = sc.solve(sc.hubbard(c), lattice=False, seed=3)
     quartic = [lev for lev in spec.levels
@@ -662,7 +662,7 @@ def test_forms_separated_at_fresh_points_when_every_point_merges():
 
 def test_next_prime_is_sympys():
     # against sympy.nextprime (an independent implementation), at the 62-bit size used
-    from symcluster.verify import _next_prime
+    from symcluster.verify.core import _next_prime
     rng = random.Random(11)
     for n in [rng.randrange(2 ** 61, 2 ** 62) for _ in range(40)] + [1, 2, 13, 2 ** 61 - 2]:
         assert _next_prime(n) == sympy.nextprime(n)

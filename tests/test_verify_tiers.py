@@ -12,10 +12,10 @@ import pytest
 import sympy
 
 import symcluster as sc
-from symcluster.checks.large import check_large_sector
-from symcluster.checks.plain import sector_matrix
+from symcluster.verify.large import check_large_sector
+from symcluster.verify.plain import sector_matrix
 from symcluster.errors import VerificationError
-from symcluster.verify import verify_spectrum
+from symcluster.verify.core import verify_spectrum
 
 
 def _gens(spec):

@@ -4,12 +4,12 @@ Everything here uses only the public Level/Spectrum API (symcluster.spectrum).
 See docs/analysis.md.
 """
 
-from .gaps import GapResult, charge_gap, lowest_level, pair_binding, spin_gap
-from .observables import (LevelDerivative, double_occupancy, energy_derivative,
+from symcluster.analysis.gaps import GapResult, charge_gap, lowest_level, pair_binding, spin_gap
+from symcluster.analysis.observables import (LevelDerivative, double_occupancy, energy_derivative,
                           kinetic_energy)
-from .series import series, series_coefficients
-from .thermo import high_temperature_series, partition_function, thermo_table
-from .transitions import GroundPiece, Transition, crossings, ground_states, transitions
+from symcluster.analysis.series import series, series_coefficients
+from symcluster.analysis.thermo import high_temperature_series, partition_function, thermo_table
+from symcluster.analysis.transitions import GroundPiece, Transition, crossings, ground_states, transitions
 
 __all__ = [
     "transitions", "crossings", "ground_states", "Transition", "GroundPiece",
@@ -23,5 +23,5 @@ __all__ = [
 
 def plot_levels(*args, **kwargs):
     """Lazy wrapper around :func:`symcluster.analysis.plots.plot_levels` (needs matplotlib)."""
-    from .plots import plot_levels as _plot
+    from symcluster.analysis.plots import plot_levels as _plot
     return _plot(*args, **kwargs)

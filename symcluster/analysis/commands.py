@@ -24,11 +24,11 @@ import sys
 
 import mpmath
 
-from ..errors import InputError, ModelError
-from ..parsing import NUMBER, parse_number
-from .sectors import format_numbers
-from .series import MAX_ORDER
-from .thermo import MAX_ROWS
+from symcluster.errors import InputError, ModelError
+from symcluster.parsing import NUMBER, parse_number
+from symcluster.analysis.sectors import format_numbers
+from symcluster.analysis.series import MAX_ORDER
+from symcluster.analysis.thermo import MAX_ROWS
 
 __all__ = ["add_commands", "run_analysis", "parse_assignment", "parse_range", "check_request",
            "MAX_VALUES"]
@@ -202,7 +202,7 @@ def _output_paths(args):
 
 def _check_output_paths(args):
     """Refuse output paths that cannot or must not be written, before anything is computed."""
-    from ..export.files import check_outputs
+    from symcluster.export.files import check_outputs
     check_outputs(_output_paths(args), inputs=[getattr(args, "cluster_file", None)])
 
 
@@ -329,12 +329,12 @@ def run_analysis(spec, args, out=None, err=None):
     Results go to ``out`` (default standard output), notes such as
     ``symcluster: wrote FILE`` to ``err`` (default standard error).
     """
-    from . import analysis_latex as lx
-    from .gaps import charge_gap, pair_binding, spin_gap
-    from .observables import energy_derivative
-    from .series import series
-    from .thermo import thermo_table
-    from .transitions import transitions
+    from symcluster.analysis import analysis_latex as lx
+    from symcluster.analysis.gaps import charge_gap, pair_binding, spin_gap
+    from symcluster.analysis.observables import energy_derivative
+    from symcluster.analysis.series import series
+    from symcluster.analysis.thermo import thermo_table
+    from symcluster.analysis.transitions import transitions
 
     out = out or sys.stdout
     err = err or sys.stderr
@@ -386,7 +386,7 @@ def run_analysis(spec, args, out=None, err=None):
                                 else str(r[c]) for c in cols) + "\n")
         frags.append(lx.latex_thermo_table(rows, digits=args.digits))
     elif kind == "plot":
-        from .plots import plot_levels
+        from symcluster.analysis.plots import plot_levels
         files = plot_levels(spec, args.output, args.coupling, rng, fixed, args.sector,
                             args.color_by)
         for name in files:
@@ -401,7 +401,7 @@ def run_analysis(spec, args, out=None, err=None):
     else:
         raise InputError(f"unknown analysis {kind!r}; choose one of {', '.join(_COMMANDS)}")
     if getattr(args, "latex", None) and frags:
-        from ..export.files import write_text_atomic
+        from symcluster.export.files import write_text_atomic
         # whole file or none (temporary file beside it, then rename)
         write_text_atomic(args.latex, lx.latex_document(*frags, comment=f"symcluster {kind}"))
         err.write(f"symcluster: wrote {args.latex}\n")

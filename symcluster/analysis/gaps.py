@@ -21,10 +21,10 @@ from dataclasses import dataclass
 import mpmath
 import sympy
 
-from ..errors import ModelError
-from .observables import level_value
-from .sectors import require_electrons
-from .transitions import ground_states
+from symcluster.errors import ModelError
+from symcluster.analysis.observables import level_value
+from symcluster.analysis.sectors import require_electrons
+from symcluster.analysis.transitions import ground_states
 
 __all__ = ["GapResult", "lowest_level", "charge_gap", "spin_gap", "pair_binding"]
 

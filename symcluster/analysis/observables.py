@@ -22,8 +22,8 @@ from dataclasses import dataclass
 import mpmath
 import sympy
 
-from ..errors import ModelError
-from ..spectrum import exact_rational
+from symcluster.errors import ModelError
+from symcluster.spectrum import exact_rational
 
 __all__ = ["LevelDerivative", "energy_derivative", "double_occupancy", "kinetic_energy",
            "level_polynomial", "level_symbols"]

@@ -9,10 +9,10 @@ display is required.
 
 import sympy
 
-from ..errors import ModelError
-from ..spectrum import to_rational
-from .observables import level_value
-from .transitions import _select, transitions
+from symcluster.errors import ModelError
+from symcluster.spectrum import to_rational
+from symcluster.analysis.observables import level_value
+from symcluster.analysis.transitions import _select, transitions
 
 __all__ = ["plot_levels", "MAX_POINTS"]
 
@@ -69,7 +69,7 @@ def plot_levels(spec, path, coupling="U", interval=(0, 10), fixed=None, n_electr
     import io
     import pathlib
 
-    from ..export.files import write_files_atomic
+    from symcluster.export.files import write_files_atomic
 
     if isinstance(n_points, bool) or not isinstance(n_points, int) \
             or not 2 <= n_points <= MAX_POINTS:

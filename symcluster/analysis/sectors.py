@@ -15,7 +15,7 @@ taken as complete.
 """
 
 
-from ..errors import ModelError
+from symcluster.errors import ModelError
 
 __all__ = ["n_sites_of", "electron_range", "held_electrons", "require_electrons",
            "format_numbers"]
@@ -39,7 +39,7 @@ def _space_of(spec):
     n = n_sites_of(spec)
     if n is None:
         return None
-    from ..hilbert.space import LocalSpace
+    from symcluster.hilbert.space import LocalSpace
     return LocalSpace("electrons", n)
 
 

@@ -25,9 +25,9 @@ The result is checked against the level's numeric value before it is returned.
 import mpmath
 import sympy
 
-from ..errors import ModelError, VerificationError
-from ..spectrum import to_rational
-from .observables import find_symbol, level_polynomial, level_symbols, level_value
+from symcluster.errors import ModelError, VerificationError
+from symcluster.spectrum import to_rational
+from symcluster.analysis.observables import find_symbol, level_polynomial, level_symbols, level_value
 
 __all__ = ["series", "series_coefficients", "MAX_ORDER"]
 

@@ -19,10 +19,10 @@ from math import comb
 import mpmath
 import sympy
 
-from ..errors import ModelError
-from ..spectrum import exact_rational
-from .observables import energy_derivative, level_polynomial, level_value
-from .sectors import _particles, _space_of, held_electrons, require_electrons
+from symcluster.errors import ModelError
+from symcluster.spectrum import exact_rational
+from symcluster.analysis.observables import energy_derivative, level_polynomial, level_value
+from symcluster.analysis.sectors import _particles, _space_of, held_electrons, require_electrons
 
 __all__ = ["partition_function", "thermo_table", "high_temperature_series", "QUANTITIES",
            "MAX_ROWS"]

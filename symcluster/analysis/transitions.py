@@ -28,10 +28,10 @@ import flint
 import mpmath
 import sympy
 
-from ..errors import ModelError, VerificationError
-from ..spectrum import exact_rational
-from .observables import find_symbol, level_polynomial, level_symbols, level_value
-from .sectors import require_electrons
+from symcluster.errors import ModelError, VerificationError
+from symcluster.spectrum import exact_rational
+from symcluster.analysis.observables import find_symbol, level_polynomial, level_symbols, level_value
+from symcluster.analysis.sectors import require_electrons
 
 __all__ = ["Transition", "GroundPiece", "transitions", "ground_states", "crossings"]
 

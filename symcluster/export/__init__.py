@@ -4,11 +4,11 @@ Everything here depends only on the public Spectrum/Level API
 (symcluster.spectrum); see docs/outputs.md for the layouts and the JSON schema.
 """
 
-from .exprtree import from_tree, to_tree
-from .jsonio import (dumps_spectrum, loads_spectrum, read_json, spectrum_to_dict,
+from symcluster.export.exprtree import from_tree, to_tree
+from symcluster.export.jsonio import (dumps_spectrum, loads_spectrum, read_json, spectrum_to_dict,
                      write_json, write_text_atomic, write_texts_atomic, check_writable)
-from .latex import latex_table
-from .text import format_symmetries, format_table
+from symcluster.export.latex import latex_table
+from symcluster.export.text import format_symmetries, format_table
 
 __all__ = ["format_table", "format_symmetries", "latex_table", "write_json", "read_json",
            "dumps_spectrum", "loads_spectrum", "spectrum_to_dict", "write_text_atomic",

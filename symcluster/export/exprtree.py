@@ -26,7 +26,7 @@ import re
 
 import sympy
 
-from ..errors import InputError, ModelError
+from symcluster.errors import InputError, ModelError
 
 __all__ = ["to_tree", "from_tree", "poly_to_tree", "poly_from_tree", "root_of_poly",
            "is_implicit_root", "int_to_decimal", "decimal_to_int", "parse_pi_multiple", "OPS",
@@ -337,7 +337,7 @@ def poly_from_tree(node, path="poly"):
 
 def _default_root_factory():
     try:
-        from ..numeric.implicit import ImplicitRoot
+        from symcluster.numeric.implicit import ImplicitRoot
     except ImportError:
         raise InputError("the file contains implicit roots but symcluster.numeric.implicit is not "
                          "available in this installation; update symcluster") from None

@@ -21,8 +21,8 @@ import shutil
 import stat
 import tempfile
 
-from ..errors import InputError
-from ..interrupts import outputs_commit, signals_held
+from symcluster.errors import InputError
+from symcluster.interrupts import outputs_commit, signals_held
 
 __all__ = ["output_target", "check_writable", "check_outputs", "write_files_atomic",
            "write_texts_atomic", "write_text_atomic"]

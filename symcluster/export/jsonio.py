@@ -16,12 +16,12 @@ import os
 import mpmath
 import sympy
 
-from ..errors import InputError
-from .files import check_writable, write_text_atomic, write_texts_atomic
-from .exprtree import (from_tree, int_to_decimal, is_implicit_root, parse_pi_multiple,
+from symcluster.errors import InputError
+from symcluster.export.files import check_writable, write_text_atomic, write_texts_atomic
+from symcluster.export.exprtree import (from_tree, int_to_decimal, is_implicit_root, parse_pi_multiple,
                        poly_from_tree, poly_to_tree, root_of_poly, to_tree)
-from .text import energy_text, level_sort_key, numeric_values, poly_text
-from .latex import _poly_tex, energy_latex
+from symcluster.export.text import energy_text, level_sort_key, numeric_values, poly_text
+from symcluster.export.latex import _poly_tex, energy_latex
 
 __all__ = ["FORMAT", "VERSION", "spectrum_to_dict", "dumps_spectrum", "write_json",
            "read_json", "loads_spectrum", "decode_spectrum_dict", "write_text_atomic",
@@ -413,7 +413,7 @@ def read_json(path, root_factory=None, max_bytes=MAX_JSON_BYTES):
     >>> read_json(path)["levels"][0]["degeneracy"]
     1
     """
-    from ..parsing import read_input_file
+    from symcluster.parsing import read_input_file
     text = read_input_file(path, "JSON file", max_bytes)
     return loads_spectrum(text, source=os.fspath(path), root_factory=root_factory)
 

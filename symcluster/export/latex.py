@@ -21,8 +21,8 @@ import re
 import mpmath
 import sympy
 
-from .exprtree import int_to_decimal, is_implicit_root
-from .text import exact_latex, level_sort_key, numeric_values, poly_text
+from symcluster.export.exprtree import int_to_decimal, is_implicit_root
+from symcluster.export.text import exact_latex, level_sort_key, numeric_values, poly_text
 
 __all__ = ["latex_table", "energy_latex", "tex_escape", "name_subexpressions", "wrap_tex_lines",
            "MAX_LINE", "LONG_POLY_CHARS"]
@@ -393,7 +393,7 @@ def _coefficient_tex(coeff, sign):
 
 def _hamiltonian_tex(model):
     """H sum by sum (:meth:`Model.sums`): one sum per kind, spin and coefficient."""
-    from ..models.model import spin_fill
+    from symcluster.models.model import spin_fill
     out = ""
     for kind, spin, coeff, modes in model.sums():
         sign, op, summed = _TERM_TEX.get(

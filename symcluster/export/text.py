@@ -11,11 +11,11 @@ import re
 import mpmath
 import sympy
 
-from ..spectrum import energy_numeric
+from symcluster.spectrum import energy_numeric
 from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
-from .exprtree import int_to_decimal, is_implicit_root
+from symcluster.export.exprtree import int_to_decimal, is_implicit_root
 
 _EPS = re.compile(r"^eps(?=[_0-9]|$)")
 

@@ -15,7 +15,7 @@ Every term's operator (normal-ordered products of ladder operators, see
 
 On a projected space (no double occupancy) images outside the space are dropped:
 the action is that of ``P H P``.  The verification builds its matrices by a separate,
-plain route (:mod:`symcluster.checks.plain`) that shares none of this code.
+plain route (:mod:`symcluster.verify.plain`) that shares none of this code.
 """
 
 from fractions import Fraction

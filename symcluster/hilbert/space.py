@@ -17,8 +17,8 @@ Sectors are labelled by ``(N_up, N_dn)``; a spin space has ``N_up + N_dn = L``.
 from dataclasses import dataclass
 from math import comb
 
-from ..errors import ModelError
-from .fock import states_with
+from symcluster.errors import ModelError
+from symcluster.hilbert.fock import states_with
 
 __all__ = ["LocalSpace"]
 

@@ -5,10 +5,10 @@
 -> ``modelfile`` (TOML model files, docs/model-files.md).
 """
 
-from .families import anderson, heisenberg, hubbard, kanamori, t_j, with_field
-from .model import Model, make_model
-from .modelfile import load_model_file, parse_model_toml
-from .terms import Term
+from symcluster.models.families import anderson, heisenberg, hubbard, kanamori, t_j, with_field
+from symcluster.models.model import Model, make_model
+from symcluster.models.modelfile import load_model_file, parse_model_toml
+from symcluster.models.terms import Term
 
 __all__ = ["Model", "make_model", "Term", "hubbard", "anderson", "kanamori", "heisenberg",
            "t_j", "with_field", "load_model_file", "parse_model_toml"]

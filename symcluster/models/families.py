@@ -7,11 +7,11 @@ names and signatures are stable.  Sign conventions are those of the term builder
 
 from fractions import Fraction
 
-from ..clusters import Cluster, cluster as make_cluster
-from ..errors import ModelError
-from ..hilbert.space import LocalSpace
-from .model import Model, make_model
-from .terms import (check_coupling_label, density_density, exchange, hopping, hubbard_u,
+from symcluster.lattice.clusters import Cluster, cluster as make_cluster
+from symcluster.errors import ModelError
+from symcluster.hilbert.space import LocalSpace
+from symcluster.models.model import Model, make_model
+from symcluster.models.terms import (check_coupling_label, density_density, exchange, hopping, hubbard_u,
                     hybridization, number_product, onsite, pair_hopping, spin_flip, zeeman)
 
 __all__ = ["hubbard", "anderson", "kanamori", "heisenberg", "t_j", "with_field"]

@@ -9,11 +9,11 @@ build it.  Every coupling is ``sympy.Symbol(label, real=True)``; the Hamiltonian
 from dataclasses import dataclass
 from fractions import Fraction
 
-from ..clusters import Cluster
-from ..errors import ModelError
-from ..hilbert.space import LocalSpace
-from ..symbols import coupling_symbol
-from .terms import Term
+from symcluster.lattice.clusters import Cluster
+from symcluster.errors import ModelError
+from symcluster.hilbert.space import LocalSpace
+from symcluster.symbols import coupling_symbol
+from symcluster.models.terms import Term
 
 __all__ = ["Model", "make_model", "coupling_symbol"]
 

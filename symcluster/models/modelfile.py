@@ -41,12 +41,12 @@ from fractions import Fraction
 
 import sympy
 
-from ..clusters import BUILTIN_SHAPES, MAX_SITES, Cluster, cluster_from_table, grid
-from ..errors import ClusterError, InputError, ModelError
-from ..hilbert.space import LocalSpace
-from ..parsing import parse_number
-from . import families, terms as T
-from .model import make_model
+from symcluster.lattice.clusters import BUILTIN_SHAPES, MAX_SITES, Cluster, cluster_from_table, grid
+from symcluster.errors import ClusterError, InputError, ModelError
+from symcluster.hilbert.space import LocalSpace
+from symcluster.parsing import parse_number
+from symcluster.models import families, terms as T
+from symcluster.models.model import make_model
 
 __all__ = ["load_model_file", "parse_model_toml", "read_limited", "MAX_BYTES", "FORMAT",
            "TERM_KINDS", "FAMILIES"]

@@ -42,7 +42,7 @@ from fractions import Fraction
 import keyword
 import re
 
-from ..errors import ModelError
+from symcluster.errors import ModelError
 
 __all__ = [
     "Term", "check_coupling_label", "normal_order", "hopping", "hybridization", "onsite", "hubbard_u",

@@ -17,9 +17,9 @@ such spaces, so it is never used on them.
 
 import sympy
 
-from ..hilbert.fock import sector_states
-from ..hilbert.action import HamiltonianAction
-from ..hilbert.ladder import apply_eta_plus, apply_s_plus, per_state_memo
+from symcluster.hilbert.fock import sector_states
+from symcluster.hilbert.action import HamiltonianAction
+from symcluster.hilbert.ladder import apply_eta_plus, apply_s_plus, per_state_memo
 
 __all__ = ["has_spin_symmetry", "spin_ladder_shift", "eta_symmetry", "mode_sublattices"]
 
@@ -182,5 +182,5 @@ def mode_sublattices(model):
 
 def shift_expr(shift):
     """The energy shift per eta+ as a sympy expression."""
-    from ..symbols import coupling_symbol
+    from symcluster.symbols import coupling_symbol
     return sympy.Add(*[c * coupling_symbol(l) for l, c in sorted(shift.items())])

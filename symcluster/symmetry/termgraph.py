@@ -10,9 +10,9 @@ mode m replaced by g(m) and brought back to normal order, must equal the sum its
 that pass form a group (the stabiliser of H), which is returned.
 """
 
-from ..models.terms import normal_order
-from .groups import PermutationGroup, automorphisms
-from .lattice import LatticeSymmetry
+from symcluster.models.terms import normal_order
+from symcluster.symmetry.groups import PermutationGroup, automorphisms
+from symcluster.symmetry.lattice import LatticeSymmetry
 
 __all__ = ["term_automorphisms", "term_lattice_symmetry"]
 

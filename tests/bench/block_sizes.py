@@ -14,7 +14,7 @@ import sys
 import time
 
 import symcluster as sc
-from symcluster.blocks import build_blocks, plan_symmetries
+from symcluster.blocks.build import build_blocks, plan_symmetries
 from symcluster.hilbert.fock import sector_states
 from symcluster.symmetry.lattice import multiplicity
 

@@ -11,7 +11,7 @@ import re
 import unicodedata
 from dataclasses import dataclass
 
-from .errors import ClusterError, InputError
+from symcluster.errors import ClusterError, InputError
 
 __all__ = [
     "Cluster", "cluster", "chain", "ring", "grid", "complete", "tetrahedron",
@@ -427,6 +427,6 @@ def load_cluster_file(path):
     >>> load_cluster_file(f).bonds
     ((0, 1, 't'),)
     """
-    from .parsing import read_input_file
+    from symcluster.parsing import read_input_file
     text = read_input_file(path, "cluster file", MAX_FILE_BYTES)
     return parse_cluster_toml(text, source=str(path))

@@ -31,7 +31,7 @@ from math import lcm
 
 import numpy as np
 
-from ..errors import VerificationError
+from symcluster.errors import VerificationError
 
 __all__ = ["sector_occupations", "SectorMatrix", "sector_matrices", "sector_matrix"]
 

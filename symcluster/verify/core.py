@@ -15,11 +15,11 @@ Tiers, per (N_up, N_dn) sector, at >= 2 random rational parameter points:
 * dim <= FLOAT_DIM: float64 eigenvalues of the unreduced sector equal the level
   values (relative 1e-9);
 * beyond (``float_dim=``): exact Tr H^m (m = 1..4) at every point and the lowest
-  Lanczos eigenvalues at the first point (:mod:`symcluster.checks.large`);
+  Lanczos eigenvalues at the first point (:mod:`symcluster.verify.large`);
 * every block's exact charpoly at the point equals the product of its factors.
 
 Every unreduced sector matrix comes from the model's terms by the plain route of
-:mod:`symcluster.checks.plain`, which shares no code with the block builder.
+:mod:`symcluster.verify.plain`, which shares no code with the block builder.
 
 Always: degeneracies add up to each sector's dimension and to 4^L; the
 symbolic sum rules sum deg*E = Tr H and sum deg*E^2 = Tr H^2 per sector; each
@@ -39,21 +39,21 @@ import mpmath
 import numpy as np
 import sympy
 
-from .algebra.polydict import dense_terms
-from .errors import ModelError, VerificationError
-from .checks.labels import check_state_labels
-from .checks.large import check_large_sector
-from .checks.plain import sector_matrices, sector_matrix
-from .hilbert.fock import states_with
-from .numeric.evaluate import Evaluation, closed_values, energy_numeric
-from .numeric.implicit import ImplicitRoot
-from .numeric.isolate import LAGUERRE_MIN_DEGREE, isolate
-from .numeric.residuals import (exact_backward_error, float_newton_radius, mp_coefficients,
+from symcluster.algebra.polydict import dense_terms
+from symcluster.errors import ModelError, VerificationError
+from symcluster.verify.labels import check_state_labels
+from symcluster.verify.large import check_large_sector
+from symcluster.verify.plain import sector_matrices, sector_matrix
+from symcluster.hilbert.fock import states_with
+from symcluster.numeric.evaluate import Evaluation, closed_values, energy_numeric
+from symcluster.numeric.implicit import ImplicitRoot
+from symcluster.numeric.isolate import LAGUERRE_MIN_DEGREE, isolate
+from symcluster.numeric.residuals import (exact_backward_error, float_newton_radius, mp_coefficients,
                                 newton_radius, root_deviation)
-from .resources import submit
-from .symbols import CONSTANT, coupling_symbol
-from .symmetry.lattice import spin_block_images
-from .tiers import EXACT_DIM, FLOAT_DIM, MP_DIM
+from symcluster.workers import submit
+from symcluster.symbols import CONSTANT, coupling_symbol
+from symcluster.symmetry.lattice import spin_block_images
+from symcluster.tiers import EXACT_DIM, FLOAT_DIM, MP_DIM
 
 __all__ = ["verify_spectrum", "random_points", "sector_share", "MP_DIM", "EXACT_DIM",
            "FLOAT_DIM", "root_deviation"]
@@ -206,7 +206,7 @@ def _sector_traces(terms, dim):
     """(Tr H, Tr H^2) of one sector, exact polynomials {sorted label tuple: int or Fraction}.
 
     ``terms`` is the sparse sector matrix {label: {(i, j): int or Fraction}} (the plain
-    route's, :mod:`symcluster.checks.plain`).  Tr H sums the diagonal, Tr H^2 = sum_ij
+    route's, :mod:`symcluster.verify.plain`).  Tr H sums the diagonal, Tr H^2 = sum_ij
     H_ij^2 (H is symmetric) sums the squares of the entries, sum_l1,l2 u_l1 u_l2
     <A_l1, A_l2> over the label matrices A_l.
     """
@@ -552,7 +552,7 @@ def verify_blocks(blocks, results, seed, n_points=2, progress=None):
     Returns the number of blocks checked; raises VerificationError otherwise.  Blocks
     equal entry for entry, with equal factors, are one computation, done once (the count
     includes every block).  ``progress`` (optional, a
-    :class:`~symcluster.resources.Progress`) counts the computations done.
+    :class:`~symcluster.pipeline.resources.Progress`) counts the computations done.
     """
     if not blocks:
         return 0
@@ -673,17 +673,17 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     """Run every check on ``spectrum``; fill its verification report; raise on failure.
 
     Every sector matrix is built from the model's terms by the plain route of
-    :mod:`symcluster.checks.plain`, which shares no code with the block builder.
+    :mod:`symcluster.verify.plain`, which shares no code with the block builder.
     Sectors of dimension above ``float_dim`` (default :data:`FLOAT_DIM`) are not
     diagonalised in float64: they get the exact power traces Tr H^m (m = 1 .. 4) at each
     point and the lowest Lanczos eigenvalues at the first point
-    (:mod:`symcluster.checks.large`) instead.
+    (:mod:`symcluster.verify.large`) instead.
 
     ``lattice`` (the detected lattice symmetry, or None) adds the check of the lattice
     labels: in every sector of dimension at most ``EXACT_DIM`` the levels labelled with an
     irrep carry the traces of H^0, H^1, H^2 on that irrep's isotypic subspace (float64, first
     point; see :func:`_check_lattice_labels`).  ``progress`` (optional, a
-    :class:`~symcluster.resources.Progress`) is told each step: the isolation of roots, the
+    :class:`~symcluster.pipeline.resources.Progress`) is told each step: the isolation of roots, the
     values at each point, each sector.
 
     ``proven`` names symmetries that were proven exactly by operator identities
@@ -1001,7 +1001,7 @@ _FLIP_SCOPE = (", except a sector N_up < N_dn that holds the levels of its spin-
 
 
 def _check_large_sector(matrix, members, values, points, symbols, sector, digits, seed):
-    """:func:`~symcluster.checks.large.check_large_sector` of one sector's members
+    """:func:`~symcluster.verify.large.check_large_sector` of one sector's members
     (``(level index, share)``) with their values at every point."""
     levels = [[(at[li], share) for li, share in members] for at in values]
     by_label = [{s.name: v for s, v in pt.items()} for pt in points]
@@ -1021,7 +1021,7 @@ def _check_lattice_labels(spectrum, lattice, members, dim, terms, by_label, vals
     ``vals`` are the members' values (floats).  ``images`` is a :class:`_BlockImages` of
     this call (the permuted spin blocks).
     ``dim`` is the sector's dimension; ``terms`` are its matrices in the basis order of
-    :func:`~symcluster.checks.plain.sector_occupations` (every up block with every down
+    :func:`~symcluster.verify.plain.sector_occupations` (every up block with every down
     block, each ascending).
     Returns None when a level's label is not one of the group's irreps (a derived
     label, marked ``*``).

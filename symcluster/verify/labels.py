@@ -10,7 +10,7 @@ with spin SU(2) present but not used (``solve(model, spin=False)``), the sectors
 
 from fractions import Fraction
 
-from ..errors import VerificationError
+from symcluster.errors import VerificationError
 
 __all__ = ["check_state_labels"]
 

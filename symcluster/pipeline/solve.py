@@ -1,4 +1,4 @@
-"""The pipeline behind ``symcluster.solve``: blocks -> exact algebra -> levels -> verification."""
+"""The pipeline behind ``symcluster.pipeline.solve``: blocks -> exact algebra -> levels -> verification."""
 
 import concurrent.futures
 import os
@@ -7,22 +7,23 @@ import time
 
 import sympy
 
-from .algebra.charpoly import charpoly_dict
-from .algebra.closed import add_shift, closed_forms
-from .algebra.factor import factor_integer_dict
-from .algebra.polydict import integer_dict, poly_from_dict
-from .symmetry.spin import shift_expr
-from .blocks import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
+from symcluster.algebra.charpoly import charpoly_dict
+from symcluster.algebra.closed import add_shift, closed_forms
+from symcluster.algebra.factor import factor_integer_dict
+from symcluster.algebra.polydict import integer_dict, poly_from_dict
+from symcluster.symmetry.spin import shift_expr
+from symcluster.blocks.build import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
                      sectors_to_solve)
-from .resources import Progress, block_dimensions, check_early, check_size, submit
-from .errors import ModelError, VerificationError
-from .interrupts import process_pool, stop_pool
-from .linalg import integer_multiple
-from .models import Model
-from .numeric.implicit import ImplicitRoot
-from .spectrum import Level, Spectrum, VerificationReport, check_digits
-from .symbols import CONSTANT
-from .verify import verify_blocks, verify_spectrum
+from symcluster.pipeline.resources import Progress, block_dimensions, check_early, check_size
+from symcluster.workers import submit
+from symcluster.errors import ModelError, VerificationError
+from symcluster.interrupts import process_pool, stop_pool
+from symcluster.linalg import integer_multiple
+from symcluster.models import Model
+from symcluster.numeric.implicit import ImplicitRoot
+from symcluster.spectrum import Level, Spectrum, VerificationReport, check_digits
+from symcluster.symbols import CONSTANT
+from symcluster.verify.core import verify_blocks, verify_spectrum
 
 __all__ = ["solve", "solve_block"]
 
@@ -72,7 +73,7 @@ class Written:
 
 def _generators(names):
     """``(E, *coupling symbols)`` for the coupling `names` (the constant part left out)."""
-    from .symbols import ENERGY, coupling_symbol
+    from symcluster.symbols import ENERGY, coupling_symbol
     return (ENERGY,) + tuple(coupling_symbol(n) for n in names if n != CONSTANT)
 
 
@@ -125,7 +126,7 @@ def _closed_forms_once(rep, gens, written=None):
 def _unpack(packed, gens=None):
     """Sympy Polys and roots from :func:`_solve_packed`'s data (``gens``: the generators
     if the caller has them)."""
-    from .symbols import coupling_symbol
+    from symcluster.symbols import coupling_symbol
     out = []
     for rep, names, mult, roots in packed:
         if gens is None or len(gens) != len(names) or any(g.name != n for g, n in zip(gens, names)):
@@ -369,7 +370,7 @@ def _check_fixed(model, fixed):
     if not isinstance(fixed, dict):
         raise ModelError(f"fixed={fixed!r} is not a dict; give e.g. fixed={{'V_1': 1, 'eps_1': '-1/2'}}")
     from fractions import Fraction
-    from .parsing import parse_number
+    from symcluster.parsing import parse_number
     out = {}
     for label, value in fixed.items():
         if label not in model.labels:
@@ -455,7 +456,7 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         exact algebra, the verification's steps) with its count.  Default (None):
         only when stderr is a terminal, once the run has lasted a few seconds;
         True: from the start, terminal or not; False: never; a
-        :class:`~symcluster.resources.Progress` of the caller's (which goes on
+        :class:`~symcluster.pipeline.resources.Progress` of the caller's (which goes on
         reporting the caller's own phases afterwards): that one.  It never
         changes the result.
     force : bool
@@ -572,7 +573,7 @@ def _drop_constant_shifts(plan):
 def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, timings, t0, t1,
             executor, progress=None, fixed=None):
     """Levels from the block results, then verification (through `executor` if given;
-    steps reported to `progress`, a :class:`~symcluster.resources.Progress`)."""
+    steps reported to `progress`, a :class:`~symcluster.pipeline.resources.Progress`)."""
     timings["algebra"] = time.perf_counter() - t1
     t_levels = time.perf_counter()
     levels = []

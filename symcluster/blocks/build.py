@@ -23,13 +23,13 @@ from math import lcm
 
 import sympy
 
-from .algebra.block import LinearBlock
-from .errors import VerificationError
-from .linalg import check_reduced, kernel_of, reduce_basis
-from .hilbert.action import HamiltonianAction
-from .hilbert.ladder import apply_eta_minus, apply_s_plus, per_state_memo
-from .symmetry.spin import eta_symmetry, shift_expr, spin_ladder_shift
-from .symmetry.termgraph import term_lattice_symmetry
+from symcluster.algebra.block import LinearBlock
+from symcluster.errors import VerificationError
+from symcluster.linalg import check_reduced, kernel_of, reduce_basis
+from symcluster.hilbert.action import HamiltonianAction
+from symcluster.hilbert.ladder import apply_eta_minus, apply_s_plus, per_state_memo
+from symcluster.symmetry.spin import eta_symmetry, shift_expr, spin_ladder_shift
+from symcluster.symmetry.termgraph import term_lattice_symmetry
 
 __all__ = ["BlockSpec", "SymmetryPlan", "plan_symmetries", "build_blocks", "sectors_to_solve"]
 
@@ -145,7 +145,7 @@ def sectors_to_solve(space, plan, electrons=None):
     are included.
     """
     if isinstance(space, int):
-        from .hilbert.space import LocalSpace
+        from symcluster.hilbert.space import LocalSpace
         space = LocalSpace("electrons", space)
     L = space.n_modes
     wanted = set(space.particle_numbers()) if electrons is None else set(electrons)

@@ -1,6 +1,6 @@
 """Checks of sectors too large for a dense float64 diagonalisation.
 
-Both read the plain sector matrix (:mod:`symcluster.checks.plain`), never the blocks:
+Both read the plain sector matrix (:mod:`symcluster.verify.plain`), never the blocks:
 
 * :func:`power_traces`: Tr H^m (m = 1 .. 4) of the sector at a rational point, exactly
   (integers); the levels must carry them, ``sum share * E^m`` (docs/verification.md);
@@ -15,7 +15,7 @@ from math import lcm
 import mpmath
 import numpy as np
 
-from ..errors import VerificationError
+from symcluster.errors import VerificationError
 
 __all__ = ["integer_matrix", "power_traces", "lowest_ritz_pairs", "check_large_sector"]
 
@@ -39,7 +39,7 @@ def integer_matrix(matrix, point_by_label):
     Examples
     --------
     >>> import sympy, symcluster as sc
-    >>> from symcluster.checks.plain import sector_matrix
+    >>> from symcluster.verify.plain import sector_matrix
     >>> h = sector_matrix(sc.heisenberg(sc.chain(2)), 1, 1)
     >>> r, c, v, s = integer_matrix(h, {"J": sympy.Rational(2, 3)})     # entries -1/4, -1/2
     >>> [int(x) for x in v], s
@@ -109,7 +109,7 @@ def power_traces(matrix, point_by_label, top=4):
     Examples
     --------
     >>> import sympy, symcluster as sc
-    >>> from symcluster.checks.plain import sector_matrix
+    >>> from symcluster.verify.plain import sector_matrix
     >>> h = sector_matrix(sc.hubbard(sc.ring(4)), 1, 0)      # eigenvalues -2t, 0, 0, 2t
     >>> power_traces(h, {"t": sympy.Rational(1, 2), "U": sympy.Integer(3)})
     [Fraction(0, 1), Fraction(2, 1), Fraction(0, 1), Fraction(2, 1)]
@@ -207,7 +207,7 @@ def lowest_ritz_pairs(matrix, point_by_label, count=4, steps=150, seed=0):
     Examples
     --------
     >>> import sympy, symcluster as sc
-    >>> from symcluster.checks.plain import sector_matrix
+    >>> from symcluster.verify.plain import sector_matrix
     >>> h = sector_matrix(sc.hubbard(sc.ring(4)), 1, 0)
     >>> [round(x, 12) for x, _ in lowest_ritz_pairs(h, {"t": 1, "U": 3}, count=3)]
     [-2.0, 0.0, 2.0]
@@ -257,7 +257,7 @@ def check_large_sector(matrix, levels, points, sector, digits, seed=0, steps=200
     Parameters
     ----------
     matrix : SectorMatrix
-        The sector's matrix from :mod:`symcluster.checks.plain`.
+        The sector's matrix from :mod:`symcluster.verify.plain`.
     levels : list of list of (value, share)
         Per point: each level of the sector with its value there (mpmath, at least
         ``digits`` + 5 digits) and its number of states in the sector.
@@ -287,7 +287,7 @@ def check_large_sector(matrix, levels, points, sector, digits, seed=0, steps=200
     Examples
     --------
     >>> import mpmath, sympy, symcluster as sc
-    >>> from symcluster.checks.plain import sector_matrix
+    >>> from symcluster.verify.plain import sector_matrix
     >>> h = sector_matrix(sc.hubbard(sc.ring(4)), 1, 0)      # eigenvalues -2t, 0, 0, 2t
     >>> pt = {"t": sympy.Rational(1, 2), "U": sympy.Integer(3)}
     >>> good = [(mpmath.mpf(-1), 1), (mpmath.mpf(0), 2), (mpmath.mpf(1), 1)]

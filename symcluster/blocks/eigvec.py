@@ -9,7 +9,7 @@ The Fock-space vector is sum_j c_j w_j; it is not normalised.
 
 import sympy
 
-from .algebra.block import ENERGY, to_sympy_matrix
+from symcluster.algebra.block import ENERGY, to_sympy_matrix
 
 __all__ = ["block_eigenvector", "MAX_EIGVEC_DIM"]
 

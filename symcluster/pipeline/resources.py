@@ -1,17 +1,15 @@
 """Cost estimates, the memory guard and terminal progress for long runs."""
 
-import concurrent.futures
 import sys
-import threading
 import time
 from math import comb, factorial
 
-from .errors import TooLargeError
-from .symmetry.groups import _MAX_ORDER as MAX_GROUP_ORDER
-from .tiers import FLOAT_DIM
+from symcluster.errors import TooLargeError
+from symcluster.symmetry.groups import _MAX_ORDER as MAX_GROUP_ORDER
+from symcluster.tiers import FLOAT_DIM
 
 __all__ = ["available_memory", "block_dimensions", "estimate_cost", "optimistic_cost",
-           "check_early", "check_size", "Progress", "submit"]
+           "check_early", "check_size", "Progress"]
 
 
 def available_memory():
@@ -40,7 +38,7 @@ _PER_WORKER = 100 * 2 ** 20  # a pool process: interpreter and imports (77 MB) p
 def _as_space(space):
     """A LocalSpace from a LocalSpace or a number of sites (spin-1/2 fermions)."""
     if isinstance(space, int):
-        from .hilbert.space import LocalSpace
+        from symcluster.hilbert.space import LocalSpace
         return LocalSpace("electrons", space)
     return space
 
@@ -321,24 +319,3 @@ class Progress:
 # executors
 # ----------------------------------------------------------------------------
 
-_ONE_AT_A_TIME = threading.Lock()
-
-
-def _one_at_a_time(fn, *args):
-    with _ONE_AT_A_TIME:
-        return fn(*args)
-
-
-def submit(executor, fn, *args):
-    """``executor.submit(fn, *args)``, made safe for thread pools.
-
-    python-flint's and mpmath's working precisions are process-wide settings, changed
-    and restored around every high-precision step; two threads interleaving those steps
-    would compute at each other's precision (seen: a non-finite Laguerre step).  Tasks
-    on a ``ThreadPoolExecutor`` therefore run one at a time (same results, no speed-up);
-    process pools and other executors that run tasks in separate processes are used as
-    they are.
-    """
-    if isinstance(executor, concurrent.futures.ThreadPoolExecutor):
-        return executor.submit(_one_at_a_time, fn, *args)
-    return executor.submit(fn, *args)

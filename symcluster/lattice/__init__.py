@@ -1,0 +1,1 @@
+"""Clusters: sites, labelled bonds, built-in shapes and TOML cluster files (``clusters``)."""
