@@ -1,4 +1,4 @@
-"""The verification's plain sector matrices (symcluster/checks/plain.py) against the
+"""The verification's plain sector matrices (symcluster/verify/plain.py) against the
 Kronecker-product Jordan-Wigner reference of tests/reference_fock.py."""
 
 from fractions import Fraction
