@@ -4,16 +4,18 @@ Public API (stable names)::
 
     import symcluster as sc
     spec = sc.solve(sc.hubbard(sc.ring(4)))
+    spec = sc.solve(sc.anderson(2), fixed={"eps_1": 0, "V_1": 1})   # any model family
     spec.levels                              # Level objects with energy, degeneracy, quantum_numbers
     spec.numeric({"t": 1, "U": 4}, digits=30)
 """
 
-from symcluster.lattice.clusters import (Cluster, chain, cluster, complete, cube, grid, ladder, load_cluster_file,
-                       parse_cluster_toml, ring, star, tetrahedron)
-from symcluster.errors import (ClusterError, InputError, ModelError, SymclusterError, TooLargeError,
-                     VerificationError)
-from symcluster.models import (Model, anderson, heisenberg, hubbard, kanamori, load_model_file, make_model,
-                     parse_model_toml, t_j, with_field)
+from symcluster.lattice.clusters import (Cluster, chain, cluster, complete, cube, grid, ladder,
+                                         load_cluster_file, parse_cluster_toml, ring, star,
+                                         tetrahedron)
+from symcluster.errors import (ClusterError, InputError, ModelError, SymclusterError,
+                               TooLargeError, VerificationError)
+from symcluster.models import (Model, anderson, heisenberg, hubbard, kanamori, load_model_file,
+                               make_model, parse_model_toml, t_j, with_field)
 from symcluster.spectrum import Level, Spectrum, VerificationReport
 from symcluster.pipeline.solve import solve
 
@@ -24,6 +26,7 @@ __all__ = [
     "parse_cluster_toml", "ring", "star", "tetrahedron", "Model", "hubbard", "solve",
     "Level", "Spectrum", "VerificationReport", "SymclusterError", "ClusterError", "ModelError",
     "InputError", "VerificationError", "TooLargeError", "load_model_file", "parse_model_toml",
+    "anderson", "kanamori", "heisenberg", "t_j", "with_field", "make_model",
 ]
 from symcluster.analysis import series, transitions  # noqa: E402  (depends on the classes above)
 

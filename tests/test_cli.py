@@ -13,7 +13,8 @@ import symcluster
 from symcluster.cli import main, parse_electrons, parse_point
 from symcluster.errors import InputError, VerificationError
 
-from test_export_text import two_site_spectrum
+from helpers_export import two_site_spectrum
+from helpers_cli import error_line
 
 
 @pytest.fixture
@@ -33,12 +34,7 @@ def fake_solve(monkeypatch):
 
 
 def _one_error_line(capsys):
-    err = capsys.readouterr().err
-    lines = err.strip().splitlines()
-    assert len(lines) == 1, err
-    assert lines[0].startswith("symcluster: error: ")
-    assert "Traceback" not in err
-    return lines[0]
+    return error_line(capsys, quiet_stdout=False)
 
 
 def test_levels_prints_table_and_passes_model_and_electrons(fake_solve, capsys):

@@ -11,6 +11,7 @@ import pytest
 
 import symcluster
 from symcluster.cli import main
+from helpers_cli import error_line
 
 HERE = os.path.dirname(os.path.abspath(__file__))
 ROOT = os.path.dirname(HERE)
@@ -19,11 +20,7 @@ HEAD = 'format = "symcluster-model"\nversion = 1\n'
 
 
 def _one_error_line(capsys):
-    err = capsys.readouterr().err
-    lines = err.strip().splitlines()
-    assert len(lines) == 1, err
-    assert lines[0].startswith("symcluster: error: ") and "Traceback" not in err
-    return lines[0]
+    return error_line(capsys, quiet_stdout=False)
 
 
 def _rows(out):
@@ -127,7 +124,7 @@ def test_analysis_subcommands_take_a_model(capsys):
      "a model file defines its own sites; drop the cluster (ring 4)"),
     (["levels", "--model", os.path.join(WORKED, "lieb_fragment.toml"), "--family", "t_j"],
      "give either --model FILE or --family NAME, not both"),
-    (["levels", "--model", "/dev/zero"], "is larger than 1000000 bytes"),
+    (["levels", "--model", "/dev/zero"], "is larger than 1,000,000 bytes"),
     (["levels", "chain", "2", "--field", "U"], "field label 'U' is already a coupling"),
     (["thermo", "ring", "4", "--family", "heisenberg", "--at", "J=1"],
      "thermo works with electron numbers, which a spin model does not have"),

@@ -8,14 +8,11 @@ import symcluster as sc
 from symcluster.analysis import series, thermo_table
 from symcluster.cli import main
 from symcluster.errors import ModelError
+from helpers_cli import error_line
 
 
 def _error_line(capsys):
-    captured = capsys.readouterr()
-    lines = captured.err.strip().splitlines()
-    assert len(lines) == 1 and lines[0].startswith("symcluster: error: "), captured.err
-    assert "Traceback" not in captured.err and captured.out == ""
-    return lines[0]
+    return error_line(capsys, quiet_stdout=True)
 
 
 @pytest.mark.parametrize("argv, words", [

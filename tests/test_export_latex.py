@@ -11,7 +11,7 @@ from symcluster.export.latex import latex_table, name_subexpressions, tex_escape
 from symcluster.models import hubbard
 from symcluster.spectrum import Level, Spectrum, VerificationReport
 
-from test_export_text import DELTA, E, R, U, t, two_site_spectrum
+from helpers_export import DELTA, E, R, U, t, two_site_spectrum
 
 
 def _table_rows(tex):

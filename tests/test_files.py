@@ -15,16 +15,13 @@ import pytest
 from symcluster.cli import main
 from symcluster.errors import InputError
 from symcluster.export import check_writable, write_texts_atomic
+from helpers_cli import error_line
 
 CLUSTER = 'format = "symcluster-cluster"\nsites = 2\nbonds = [[0, 1]]\n'
 
 
 def _error_line(capsys):
-    captured = capsys.readouterr()
-    lines = captured.err.strip().splitlines()
-    assert len(lines) == 1 and lines[0].startswith("symcluster: error: "), captured.err
-    assert "Traceback" not in captured.err and captured.out == ""
-    return lines[0]
+    return error_line(capsys, quiet_stdout=True)
 
 
 def _device(tmp_path, name, numbers):

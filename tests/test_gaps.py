@@ -6,7 +6,7 @@ import sympy
 
 from symcluster.analysis import charge_gap, pair_binding, spin_gap
 from symcluster.errors import ModelError
-from test_transitions import U, t, two_site_spectrum, spectrum_of, two_site_levels
+from helpers_two_site import U, t, two_site_spectrum, spectrum_of, two_site_levels
 
 
 def test_charge_gap_half_filling_closed_form():

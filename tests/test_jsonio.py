@@ -14,7 +14,7 @@ from symcluster.export.exprtree import MAX_DEPTH, from_tree, poly_from_tree, to_
 from symcluster.export.jsonio import (dumps_spectrum, loads_spectrum, read_json,
                                       spectrum_to_dict, write_json)
 
-from test_export_text import DELTA, E, R, StandInRoot, U, t, two_site_spectrum
+from helpers_export import DELTA, E, R, StandInRoot, U, t, two_site_spectrum
 
 tp = sympy.Symbol("tp", real=True)
 BAD = (sympy.zoo, sympy.nan, sympy.oo, -sympy.oo)

@@ -374,7 +374,7 @@ def test_a_shared_label_is_accepted_when_declared():
 def test_dev_zero_is_refused_by_size_without_reading_it_all():
     with pytest.raises(InputError) as info:
         load_model_file("/dev/zero")
-    assert f"larger than {MAX_BYTES} bytes" in str(info.value)
+    assert f"larger than {MAX_BYTES:,} bytes" in str(info.value)
 
 
 def test_a_file_just_over_the_limit_is_refused_and_one_at_the_limit_is_read(tmp_path):

@@ -6,7 +6,7 @@ import sympy
 
 from symcluster.analysis import double_occupancy, energy_derivative, kinetic_energy
 from symcluster.spectrum import Level
-from test_transitions import U, StandInRoot, fock_hamiltonian, t, two_site_levels
+from helpers_two_site import U, StandInRoot, fock_hamiltonian, t, two_site_levels
 
 
 def test_closed_form_derivative():

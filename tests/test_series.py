@@ -10,7 +10,7 @@ import sympy
 from symcluster.analysis import series, series_coefficients
 from symcluster.errors import ModelError
 from symcluster.spectrum import Level
-from test_transitions import E, U, StandInRoot, fock_hamiltonian, t, two_site_levels
+from helpers_two_site import E, U, StandInRoot, fock_hamiltonian, t, two_site_levels
 
 s = sympy.Symbol("s", positive=True)
 tp = sympy.Symbol("tp", positive=True)

@@ -7,7 +7,7 @@ import sympy
 from symcluster.analysis import high_temperature_series, partition_function, thermo_table
 from symcluster.analysis.analysis_latex import latex_thermo_table
 from symcluster.errors import ModelError
-from test_transitions import U, fock_hamiltonian, t, two_site_spectrum
+from helpers_two_site import U, fock_hamiltonian, t, two_site_spectrum
 
 beta, mu, h = sympy.symbols("beta mu h", real=True)
 

@@ -409,7 +409,7 @@ def test_isotypic_traces_match_dense_projectors(sector):
     # built from the bubble-sort permutation of tests/test_lattice.py and the Jordan-Wigner
     # sector matrices of tests/reference_fock.py, multiplied out with numpy
     import numpy as np
-    from test_lattice import ref_permute
+    from helpers_lattice import ref_permute
     from symcluster.blocks.build import plan_symmetries
     from symcluster.verify.plain import sector_matrix
     from symcluster.verify.core import _BlockImages, _isotypic_traces

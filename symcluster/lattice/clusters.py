@@ -14,7 +14,7 @@ from dataclasses import dataclass
 from symcluster.errors import ClusterError, InputError
 
 __all__ = [
-    "Cluster", "cluster", "chain", "ring", "grid", "complete", "tetrahedron",
+    "Cluster", "cluster", "two_colouring", "chain", "ring", "grid", "complete", "tetrahedron",
     "cube", "star", "ladder", "load_cluster_file", "parse_cluster_toml", "cluster_from_table",
     "BUILTIN_SHAPES",
 ]
@@ -136,23 +136,11 @@ class Cluster:
 
     def sublattices(self):
         """Return (A, B) site tuples if the bond graph is bipartite, else None."""
-        colour = {}
-        for start in range(self.n_sites):
-            if start in colour:
-                continue
-            colour[start] = 0
-            todo = [start]
-            while todo:
-                i = todo.pop()
-                for j in self.neighbours(i):
-                    if j not in colour:
-                        colour[j] = 1 - colour[i]
-                        todo.append(j)
-                    elif colour[j] == colour[i]:
-                        return None
-        a = tuple(i for i in range(self.n_sites) if colour[i] == 0)
-        b = tuple(i for i in range(self.n_sites) if colour[i] == 1)
-        return a, b
+        signs = two_colouring(self.n_sites, self.neighbours)
+        if signs is None:
+            return None
+        return (tuple(i for i in range(self.n_sites) if signs[i] > 0),
+                tuple(i for i in range(self.n_sites) if signs[i] < 0))
 
     def describe(self):
         labels = ", ".join(self.hopping_labels) or "none"
@@ -167,6 +155,36 @@ class Cluster:
 #: ``solve`` decides what actually runs.  The cap only keeps absurd sizes (a typo in
 #: a cluster file) from allocating memory before any check.
 MAX_SITES = 10_000
+
+
+def two_colouring(n, neighbours):
+    """Signs +-1 on nodes 0..n-1 that differ across every edge (+1 on the lowest node of
+    each connected component), or None if the graph is not bipartite.
+
+    ``neighbours(i)`` gives the nodes joined to node i.
+
+    Examples
+    --------
+    >>> two_colouring(4, lambda i: [(i - 1) % 4, (i + 1) % 4])
+    [1, -1, 1, -1]
+    >>> two_colouring(3, lambda i: [(i - 1) % 3, (i + 1) % 3]) is None
+    True
+    """
+    colour = {}
+    for start in range(n):
+        if start in colour:
+            continue
+        colour[start] = 1
+        todo = [start]
+        while todo:
+            i = todo.pop()
+            for j in neighbours(i):
+                if j not in colour:
+                    colour[j] = -colour[i]
+                    todo.append(j)
+                elif colour[j] == colour[i]:
+                    return None
+    return [colour[i] for i in range(n)]
 
 
 def cluster(n_sites, bonds, site_labels=None, name="custom"):

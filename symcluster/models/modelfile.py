@@ -44,11 +44,11 @@ import sympy
 from symcluster.lattice.clusters import BUILTIN_SHAPES, MAX_SITES, Cluster, cluster_from_table, grid
 from symcluster.errors import ClusterError, InputError, ModelError
 from symcluster.hilbert.space import LocalSpace
-from symcluster.parsing import parse_number
+from symcluster.parsing import read_input_file, parse_number
 from symcluster.models import families, terms as T
 from symcluster.models.model import make_model
 
-__all__ = ["load_model_file", "parse_model_toml", "read_limited", "MAX_BYTES", "FORMAT",
+__all__ = ["load_model_file", "parse_model_toml", "MAX_BYTES", "FORMAT",
            "TERM_KINDS", "FAMILIES"]
 
 #: The value of the ``format`` key.
@@ -94,48 +94,6 @@ _SPINS = {"up": 0, "down": 1, "dn": 1}
 _INT = re.compile(r"^[0-9]{1,6}$")
 
 
-def read_limited(path, what="model file", limit=MAX_BYTES):
-    """The text of a UTF-8 file of at most ``limit`` bytes (never reads more than limit + 1).
-
-    Parameters
-    ----------
-    path : str or os.PathLike
-    what : str
-        Names the file in messages.
-    limit : int
-
-    Returns
-    -------
-    str
-
-    Raises
-    ------
-    InputError
-        The file cannot be read, is longer than ``limit`` bytes or is not UTF-8.
-
-    Examples
-    --------
-    >>> read_limited("/dev/zero")
-    Traceback (most recent call last):
-    ...
-    symcluster.errors.InputError: model file '/dev/zero' is larger than 1000000 bytes; a model file is a few kilobytes: check the path
-    """
-    try:
-        with open(path, "rb") as fh:
-            data = fh.read(limit + 1)
-    except OSError as exc:
-        reason = exc.strerror or str(exc)
-        raise InputError(f"cannot read {what} {str(path)!r}: {reason}; check the path") from None
-    if len(data) > limit:
-        raise InputError(f"{what} {str(path)!r} is larger than {limit} bytes; a {what} is a few "
-                         "kilobytes: check the path")
-    try:
-        return data.decode("utf-8")
-    except UnicodeDecodeError as exc:
-        raise InputError(f"{what} {str(path)!r} is not UTF-8 text (byte {exc.start}); save it "
-                         "as UTF-8") from None
-
-
 def load_model_file(path):
     """Read a model file: the model and the fixed coupling values it gives.
 
@@ -174,7 +132,7 @@ def load_model_file(path):
     >>> model.labels, fixed
     (('J',), {})
     """
-    text = read_limited(path)
+    text = read_input_file(path, "model file", MAX_BYTES)
     stem = os.path.splitext(os.path.basename(str(path)))[0]
     return parse_model_toml(text, source=str(path), default_name=stem)
 

@@ -19,6 +19,7 @@ import sympy
 
 from symcluster.hilbert.fock import sector_states
 from symcluster.hilbert.action import HamiltonianAction
+from symcluster.lattice.clusters import two_colouring
 from symcluster.hilbert.ladder import apply_eta_plus, apply_s_plus, per_state_memo
 
 __all__ = ["has_spin_symmetry", "spin_ladder_shift", "eta_symmetry", "mode_sublattices"]
@@ -163,21 +164,7 @@ def mode_sublattices(model):
                 a, b = prod[0][0], prod[1][0]
                 nbrs[a].add(b)
                 nbrs[b].add(a)
-    colour = {}
-    for start in range(n):
-        if start in colour:
-            continue
-        colour[start] = 1
-        todo = [start]
-        while todo:
-            i = todo.pop()
-            for j in nbrs[i]:
-                if j not in colour:
-                    colour[j] = -colour[i]
-                    todo.append(j)
-                elif colour[j] == colour[i]:
-                    return None
-    return [colour[i] for i in range(n)]
+    return two_colouring(n, nbrs.__getitem__)
 
 
 def shift_expr(shift):

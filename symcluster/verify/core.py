@@ -32,7 +32,7 @@ import random
 import sys
 from fractions import Fraction
 from itertools import chain
-from math import comb, lcm
+from math import lcm
 
 import flint
 import mpmath
