@@ -242,7 +242,10 @@ def test_sigterm_at_random_moments_leaves_both_outputs_or_none(tmp_path):
         left = survivors(seen)
         kill_all(left)
         assert left == []
-        assert code in (0, 143)
+        # 143: stopped by the handler; -15: the signal came while the interpreter was still
+        # starting, before the handlers were installed, and the default action ended it (a
+        # shell reports both as exit status 143; nothing can have been written yet)
+        assert code in (0, 143, -signal.SIGTERM)
         done = _complete(work, reference)
         # stopped: nothing written; too late to stop (outputs in place): a complete run
         assert done == (code == 0)
