@@ -101,8 +101,10 @@ class _Parser(argparse.ArgumentParser):
 
 
 _NAME = re.compile(r"^[A-Za-z][A-Za-z0-9_]*$")
-def parse_point(text):
+def parse_point(text, option="--at"):
     """Parse ``t=1,U=4`` (commas or spaces between items) into ``{name: Rational}``.
+
+    ``option`` names the command-line option in messages.
 
     Examples
     --------
@@ -111,18 +113,19 @@ def parse_point(text):
     """
     items = [p for p in re.split(r"[,\s]+", text.strip()) if p]
     if not items:
-        raise InputError("--at is empty; give values such as --at t=1,U=4")
+        raise InputError(f"{option} is empty; give values such as {option} t=1,U=4")
     out = {}
     for item in items:
         name, eq, value = item.partition("=")
         name = name.strip()
         if not eq or not name or not value.strip():
-            raise InputError(f"--at item {item!r} is not of the form name=value; "
-                             f"write e.g. --at t=1,U=4")
+            raise InputError(f"{option} item {item!r} is not of the form name=value; "
+                             f"write e.g. {option} t=1,U=4")
         if not _NAME.match(name):
-            raise InputError(f"--at: {name!r} is not a coupling name; use names such as t, U, tp")
+            raise InputError(f"{option}: {name!r} is not a coupling name; use names such as t, "
+                             "U, tp")
         if name in out:
-            raise InputError(f"--at gives {name} twice; give each coupling once")
+            raise InputError(f"{option} gives {name} twice; give each coupling once")
         out[name] = parse_number(value, name)
     return out
 
@@ -259,6 +262,16 @@ def build_model(args):
         fixed = {}
     if field is not None:
         model = models.with_field(model, field)
+    hold = getattr(args, "hold", None)
+    if hold is not None:
+        for name, value in parse_point(hold, "--hold").items():
+            if name not in model.labels:
+                raise InputError(f"--hold: {name!r} is not a coupling of the model; its "
+                                 "couplings are " + ", ".join(model.labels))
+            if name in fixed:
+                raise InputError(f"--hold: {name} is fixed to {fixed[name]} by the model file "
+                                 "already; leave it out of --hold")
+            fixed[name] = value
     return model, fixed
 
 
@@ -281,6 +294,10 @@ def _add_model_options(parser, field_options):
                         help="model family: hubbard (default), heisenberg, t_j, "
                              "'anderson N' (N bath sites) or 'kanamori N' (N orbitals); "
                              "anderson and kanamori need no cluster")
+    parser.add_argument("--hold", metavar="NAME=VALUE,...",
+                        help="hold these couplings at exact values in the solve (e.g. --hold "
+                             "eps_1=-1/2,V_1=1): the energies stay exact in the other couplings, "
+                             "and every coupling held saves a variable of the exact algebra")
     parser.add_argument(*field_options, dest="field_label", metavar="LABEL",
                         help="add a Zeeman field -LABEL sum_i 2 S^z_i (coupling LABEL, e.g. h) "
                              "to the model")
@@ -359,8 +376,8 @@ def _check_point(point, model, fixed=None):
     fixed = fixed or {}
     for name in point:
         if name in fixed:
-            raise InputError(f"--at: {name} is fixed to {fixed[name]} by the model file; "
-                             "leave it out of --at")
+            raise InputError(f"--at: {name} is held at {fixed[name]} (--hold or the model "
+                             "file's [fixed]); leave it out of --at")
     known = [s.name for s in model.symbols if s.name not in fixed]
     for name in point:
         if name not in known:

@@ -150,8 +150,8 @@ def test_fixed_values_of_a_model_file_on_the_command_line(capsys, tmp_path):
     path = _write(tmp_path, "and.toml", HEAD + '[family]\nname = "anderson"\nn_bath = 1\n'
                   '[fixed]\nV_1 = 1\n')
     assert main(["levels", "--model", path, "--at", "eps_d=-1,U=2,eps_1=0,V_1=1"]) == 2
-    assert "--at: V_1 is fixed to 1 by the model file; leave it out of --at" in \
-        _one_error_line(capsys)
+    assert "--at: V_1 is held at 1 (--hold or the model file's [fixed]); leave it out of " \
+        "--at" in _one_error_line(capsys)
     code = main(["levels", "--model", path, "--at", "eps_d=-1,U=2,eps_1=0"])
     assert code == 0
     out = capsys.readouterr().out
@@ -187,3 +187,29 @@ def test_a_bad_model_file_in_a_real_process(tmp_path):
     assert lines[0].startswith("symcluster: error: ") and \
         "term 1 (exchange_q): kind = 'exchange_q' is not a term kind; choose one of" in lines[0]
     assert sorted(os.listdir(tmp_path)) == ["bad.toml"]
+
+
+def test_hold_keeps_couplings_at_exact_values(capsys):
+    # two-site Anderson model, one electron: the 2x2 matrix [[eps_d, V], [V, eps_1]] (its
+    # convention, +V hybridization) has eigenvalues (eps_d + eps_1)/2 -+ sqrt(((eps_d -
+    # eps_1)/2)^2 + V^2); at eps_d = -1, eps_1 = 0, V = 1: (-1 -+ sqrt(5))/2
+    assert main(["levels", "--family", "anderson", "1", "--hold", "eps_1=0,V_1=1",
+                 "--at", "eps_d=-1,U=2", "--electrons", "1"]) == 0
+    out = capsys.readouterr().out
+    assert "# fixed couplings: eps_1=0, V_1=1" in out
+    assert "-1.61803398" in out and "0.61803398" in out
+    # --at takes only the couplings left free
+    assert main(["levels", "--family", "anderson", "1", "--hold", "V_1=1",
+                 "--at", "eps_d=-1,U=2,eps_1=0,V_1=1"]) == 2
+    assert "--at: V_1 is held at 1 (--hold or the model file's [fixed])" in _one_error_line(capsys)
+
+
+@pytest.mark.parametrize("argv, words", [
+    (["levels", "--family", "anderson", "1", "--hold", "W=1"], "--hold: 'W' is not a coupling"),
+    (["levels", "--family", "anderson", "1", "--hold", "V_1"], "--hold item 'V_1' is not of the form"),
+    (["levels", "--family", "anderson", "1", "--hold", "V_1=0.1.2"], "is not a number"),
+    (["levels", "--family", "anderson", "1", "--hold", "V_1=1,V_1=2"], "--hold gives V_1 twice"),
+])
+def test_bad_hold_values_are_one_line_errors(argv, words, capsys):
+    assert main(argv) == 2
+    assert words in _one_error_line(capsys)
