@@ -274,7 +274,9 @@ def stop_on_signals():
     (:func:`outputs_commit`), the signals no longer stop the run, which then only
     prints what it wrote.  For the command line only; library code
     gets ``KeyboardInterrupt`` as usual.  Outside the main thread it does nothing.
-    The previous handlers are restored on leaving.
+    The previous handlers are restored on leaving, except after the outputs were put in
+    place: then the signals are ignored until the process exits, so that a stop arriving
+    while the interpreter shuts down cannot end with a signal status after a complete run.
 
     Examples
     --------
@@ -293,4 +295,7 @@ def stop_on_signals():
         yield
     finally:
         for s, h in old.items():
-            signal.signal(s, h if h is not None else signal.SIG_DFL)
+            if _STATE["committed"]:
+                signal.signal(s, signal.SIG_IGN)    # the run is complete: it only exits
+            else:
+                signal.signal(s, h if h is not None else signal.SIG_DFL)
