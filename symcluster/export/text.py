@@ -146,6 +146,8 @@ def spin_text(qn):
     """``(S column, 2S+1 column)`` strings for a level's quantum numbers."""
     if qn.get("S") is not None:
         s = sympy.Rational(qn["S"])
+        if qn.get("Sz") is not None:        # one member of a multiplet split by a field
+            return f"{_rat(s)} (Sz={_rat(qn['Sz'])})", "1"
         return _rat(s), str(int(2 * s + 1))
     if qn.get("Sz") is not None:
         return "Sz=" + _rat(qn["Sz"]), "-"
@@ -196,7 +198,10 @@ def format_table(spectrum, point=None, digits=12):
     order = sorted(range(len(spectrum.levels)),
                    key=lambda i: level_sort_key(spectrum.levels[i], values, i))
     show_eta, show_irrep = _columns(spectrum.levels)
-    head = ["N", "S", "2S+1"] + (["eta"] if show_eta else []) + (["irrep"] if show_irrep else [])
+    # a spin model's levels carry no N: no column for it
+    show_n = any("N" in lev.quantum_numbers for lev in spectrum.levels)
+    head = (["N"] if show_n else []) + ["S", "2S+1"] + (["eta"] if show_eta else []) + (
+        ["irrep"] if show_irrep else [])
     head += ["deg"] + (["value"] if values is not None else []) + ["energy"]
     rows = []
     poly_names = {}
@@ -204,7 +209,7 @@ def format_table(spectrum, point=None, digits=12):
         lev = spectrum.levels[i]
         qn = lev.quantum_numbers
         s, mult = spin_text(qn)
-        row = [str(qn.get("N", "-")), s, mult]
+        row = ([str(qn.get("N", "-"))] if show_n else []) + [s, mult]
         if show_eta:
             row.append(_rat(qn["eta"]) if qn.get("eta") is not None else "-")
         if show_irrep:
@@ -248,7 +253,7 @@ def format_table(spectrum, point=None, digits=12):
     lines.append("  ".join("-" * w for w in widths[:-1]) + "  " + "-" * max(6, widths[-1] // 2))
     last_n = None
     for i, row in zip(order, rows):
-        n = row[0]
+        n = row[0] if show_n else None
         if last_n is not None and n != last_n:
             lines.append("")
         last_n = n
