@@ -20,7 +20,7 @@ import sympy
 
 from symcluster.errors import InputError
 
-__all__ = ["NUMBER", "parse_number", "read_input_file"]
+__all__ = ["NUMBER", "parse_number", "read_input_file", "parse_toml"]
 
 #: The grammar as a regular expression (no anchors, for use inside larger patterns).
 NUMBER = r"(?:[+-]?(?:[0-9]+(?:\.[0-9]*)?|\.[0-9]+)(?:[eE][+-]?[0-9]{1,3})?|[+-]?[0-9]+/[0-9]+)"
@@ -114,3 +114,23 @@ def read_input_file(path, what, max_bytes):
     except UnicodeDecodeError as exc:
         raise InputError(f"{what} {shown!r} is not UTF-8 text (byte {exc.start}); save it "
                          f"as UTF-8") from None
+
+
+def parse_toml(text, source, doc):
+    """The TOML document ``text`` as a dict; an InputError naming ``source`` and the page
+    ``doc`` that describes the format otherwise (the one TOML reader of cluster and model
+    files).
+
+    Examples
+    --------
+    >>> parse_toml('format = "x"', "<string>", "docs/model-files.md")
+    {'format': 'x'}
+    """
+    try:
+        import tomllib
+    except ModuleNotFoundError:  # Python < 3.11
+        import tomli as tomllib
+    try:
+        return tomllib.loads(text)
+    except tomllib.TOMLDecodeError as exc:
+        raise InputError(f"{source}: not valid TOML ({exc}); see {doc}") from None

@@ -12,6 +12,7 @@ import unicodedata
 from dataclasses import dataclass
 
 from symcluster.errors import ClusterError, InputError
+from symcluster.parsing import parse_toml, read_input_file
 
 __all__ = [
     "Cluster", "cluster", "two_colouring", "chain", "ring", "grid", "complete", "tetrahedron",
@@ -359,14 +360,7 @@ BUILTIN_SHAPES = {
 
 def parse_cluster_toml(text, source="<string>"):
     """Cluster from the TOML cluster format (docs/cluster-files.md)."""
-    try:
-        import tomllib
-    except ModuleNotFoundError:  # Python < 3.11
-        import tomli as tomllib
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"{source}: not valid TOML ({exc}); see docs/cluster-files.md") from None
+    data = parse_toml(text, source, "docs/cluster-files.md")
     fmt = data.get("format")
     if fmt != "symcluster-cluster":
         raise InputError(
@@ -445,6 +439,5 @@ def load_cluster_file(path):
     >>> load_cluster_file(f).bonds
     ((0, 1, 't'),)
     """
-    from symcluster.parsing import read_input_file
     text = read_input_file(path, "cluster file", MAX_FILE_BYTES)
     return parse_cluster_toml(text, source=str(path))

@@ -44,7 +44,7 @@ import sympy
 from symcluster.lattice.clusters import BUILTIN_SHAPES, MAX_SITES, Cluster, cluster_from_table, grid
 from symcluster.errors import ClusterError, InputError, ModelError
 from symcluster.hilbert.space import LocalSpace
-from symcluster.parsing import read_input_file, parse_number
+from symcluster.parsing import parse_number, parse_toml, read_input_file
 from symcluster.models import families, terms as T
 from symcluster.models.model import make_model
 
@@ -168,14 +168,7 @@ def parse_model_toml(text, source="<string>", default_name="custom"):
     if len(text.encode("utf-8", "surrogatepass")) > MAX_BYTES:
         raise InputError(f"{source}: the model text is larger than {MAX_BYTES} bytes; a model "
                          "file is a few kilobytes")
-    try:
-        import tomllib
-    except ModuleNotFoundError:  # Python < 3.11
-        import tomli as tomllib
-    try:
-        data = tomllib.loads(text)
-    except tomllib.TOMLDecodeError as exc:
-        raise InputError(f"{source}: not valid TOML ({exc}); see docs/model-files.md") from None
+    data = parse_toml(text, source, "docs/model-files.md")
     return _Reader(source).read(data, default_name)
 
 
