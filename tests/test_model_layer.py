@@ -282,3 +282,27 @@ def test_thermodynamics_of_a_spin_model_and_of_a_field_split_spectrum():
     row = thermo_table(spec, {"t": 1, "U": 4, "h": "1/2"}, [1], mus=[2], interaction="U")[0]
     assert abs(float(row["density"]) - 2) < 1e-20
     assert float(row["magnetization"]) > 0
+
+
+def test_a_spectrum_with_fixed_couplings_writes_json_and_eigenvectors_without_the_constant():
+    # the fixed part of a block is an internal variable set to 1; nothing a user sees may
+    # carry it: eigenvectors (H v = E v checked here in exact arithmetic against the
+    # two-site matrices written in the test) and the JSON document
+    import json
+    import sympy
+    from symcluster.export import dumps_spectrum
+    spec = sc.solve(sc.anderson(1), fixed={"V_1": 1, "eps_1": 0})
+    eps_d = sympy.Symbol("eps_d", real=True)
+    one = [l for l in spec.levels if l.quantum_numbers.get("N") == 1]
+    for lev in one:
+        vec = lev.eigenvector()
+        assert vec is not None
+        assert all(not (sympy.sympify(c).free_symbols - {eps_d}) for c in vec.values())
+        # one up electron: states (up=1, dn=0) impurity, (up=2, dn=0) bath; H = [[eps_d, 1], [1, 0]]
+        a, b = vec.get((1, 0), 0), vec.get((2, 0), 0)
+        E = lev.energy
+        assert sympy.simplify(eps_d * a + b - E * a) == 0
+        assert sympy.simplify(a - E * b) == 0
+    doc = json.loads(dumps_spectrum(spec, point={"eps_d": -1, "U": 2}))
+    assert doc["fixed"] == {"V_1": "1", "eps_1": "0"}
+    assert "\"_1\"" not in json.dumps(doc)       # no symbol named _1 anywhere

@@ -10,6 +10,7 @@ The Fock-space vector is sum_j c_j w_j; it is not normalised.
 import sympy
 
 from symcluster.algebra.block import ENERGY, to_sympy_matrix
+from symcluster.symbols import CONSTANT, coupling_symbol
 
 __all__ = ["block_eigenvector", "MAX_EIGVEC_DIM"]
 
@@ -32,7 +33,8 @@ def block_eigenvector(block, vectors, poly, energy):
     n = block.dim
     if n > MAX_EIGVEC_DIM:
         return None
-    m = to_sympy_matrix(block) - ENERGY * sympy.eye(n)
+    # the constant part of a block with fixed couplings has the value 1 (symbols.CONSTANT)
+    m = to_sympy_matrix(block).subs(coupling_symbol(CONSTANT), 1) - ENERGY * sympy.eye(n)
     adj = m.adjugate() if n > 1 else sympy.Matrix([[1]])
     p_e = sympy.Poly(poly.as_expr(), ENERGY)
     column = None
