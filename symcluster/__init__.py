@@ -18,6 +18,7 @@ from symcluster.models import (Model, anderson, heisenberg, hubbard, kanamori, l
                                make_model, parse_model_toml, t_j, with_field)
 from symcluster.spectrum import Level, Spectrum, VerificationReport
 from symcluster.pipeline.solve import solve
+from symcluster.export.load import load
 
 __version__ = "0.1.0"
 
@@ -26,7 +27,7 @@ __all__ = [
     "parse_cluster_toml", "ring", "star", "tetrahedron", "Model", "hubbard", "solve",
     "Level", "Spectrum", "VerificationReport", "SymclusterError", "ClusterError", "ModelError",
     "InputError", "VerificationError", "TooLargeError", "load_model_file", "parse_model_toml",
-    "anderson", "kanamori", "heisenberg", "t_j", "with_field", "make_model",
+    "anderson", "kanamori", "heisenberg", "t_j", "with_field", "make_model", "load",
 ]
 from symcluster.analysis import series, transitions  # noqa: E402  (depends on the classes above)
 
