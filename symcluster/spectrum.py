@@ -200,6 +200,42 @@ class Level:
     def is_closed_form(self):
         return not hasattr(self.energy, "numeric")
 
+    @property
+    def expr(self):
+        """The energy as a sympy expression: the closed form, or an implicit root as a
+        :class:`~symcluster.numeric.rootexpr.LevelRoot` (substitutes, ``evalf``,
+        ``sympy.lambdify``, ``sympy.latex``).
+
+        Examples
+        --------
+        >>> import sympy, symcluster as sc
+        >>> E, U = sympy.symbols("E U", real=True)
+        >>> from symcluster.numeric.implicit import ImplicitRoot
+        >>> lev = Level(ImplicitRoot(sympy.Poly(E**5 - 5*E**3 + 4*E - U, E, U), 4), 1, {"N": 1})
+        >>> lev.subs({"U": 0}).evalf(10)
+        2.000000000
+        """
+        e = self.energy
+        return e.as_expr() if hasattr(e, "as_expr") and not isinstance(e, sympy.Basic) else e
+
+    def subs(self, values):
+        """The energy with couplings substituted; keys are names (``"U"``) or Symbols.
+
+        Names are matched to the level's real coupling symbols, so ``{"U": 4}`` works
+        where ``expr.subs(sympy.Symbol("U"), 4)`` would silently do nothing (the couplings
+        are real symbols).  Values are taken exactly (0.1 means 1/10).
+        """
+        expr = self.expr
+        by_name = {s.name: s for s in expr.free_symbols}
+        out = {}
+        for key, value in dict(values).items():
+            name = key.name if isinstance(key, sympy.Symbol) else str(key)
+            if name not in by_name:
+                continue
+            out[by_name[name]] = value if isinstance(value, sympy.Basic) else \
+                to_rational(name, value)
+        return expr.subs(out)
+
     def numeric(self, values, digits=30, symbols=None):
         check_digits(digits)
         syms = symbols if symbols is not None else _free_symbols(self)
@@ -254,6 +290,23 @@ class Spectrum:
     @property
     def n_states(self):
         return sum(l.degeneracy for l in self.levels)
+
+    def symbol(self, name):
+        """The sympy Symbol of the coupling ``name`` (a real symbol: ``sympy.Symbol("U")``
+        without ``real=True`` is a different symbol and would not substitute).
+
+        Examples
+        --------
+        >>> import symcluster as sc
+        >>> spec = sc.Spectrum(sc.hubbard(sc.chain(2)), [])
+        >>> spec.symbol("U").is_real
+        True
+        """
+        for s in self.model.symbols:
+            if s.name == name:
+                return s
+        raise ModelError(f"unknown coupling {name!r}; this model's couplings are "
+                         + ", ".join(s.name for s in self.model.symbols))
 
     def point(self, values):
         """Exact {Symbol: Rational} point from {name: number}."""

@@ -121,8 +121,8 @@ def spectrum_to_dict(spectrum, point=None, digits=30, eigenvectors=True):
             j = table.index(energy.poly)
             var = energy.poly.gens[0].name
             tree = {"root": {"ref": j, "var": var, "index": int(energy.index)}}
-            text = f"root {int(energy.index) + 1} of P{j + 1} = 0 (ascending in {var})"
-            tex = rf"\operatorname{{root}}_{{{int(energy.index) + 1}}}\left[P_{{{j + 1}}}\right]"
+            text = f"root {int(energy.index)} of P{j + 1}"
+            tex = rf"\text{{root }} {int(energy.index)} \text{{ of }} P_{{{j + 1}}}"
         else:
             tree, text, tex = to_tree(energy), energy_text(energy), energy_latex(energy)
         entry = {

@@ -7,9 +7,11 @@ Layout (documented in docs/outputs.md):
   column when no irrep is known), degeneracy ``g``, exact energy ``E`` and, with a
   point, the value of ``E`` there;
 * square roots (and ``arccos``/``arctan`` arguments) that occur in two or more levels
-  are named ``\\Delta`` (or ``\\Delta_1, \\Delta_2, ...``) and defined under the table;
-* implicit roots read "root k of P_j": the k-th real root, ascending, of ``P_j(E) = 0``,
-  with every polynomial printed once under the table;
+  are named ``R`` (or ``R_1, R_2, ...``; a neutral letter, since Delta reads as a gap)
+  and defined under the table;
+* implicit roots read "root k of P_j": real root number k of ``P_j(epsilon) = 0``,
+  counted from 0 (the lowest) upwards as everywhere in symcluster, with every
+  polynomial printed once under the table (epsilon is the energy variable);
 * the verification report and symmetry record are included as ``%`` comment lines.
 
 A fragment needs ``\\usepackage{amsmath,booktabs,longtable,array}``;
@@ -22,7 +24,8 @@ import mpmath
 import sympy
 
 from symcluster.export.exprtree import int_to_decimal, is_implicit_root
-from symcluster.export.text import exact_latex, level_sort_key, numeric_values, poly_text
+from symcluster.export.text import (display_energy, exact_latex, level_sort_key, numeric_values,
+                                   poly_text)
 
 __all__ = ["latex_table", "energy_latex", "tex_escape", "name_subexpressions", "wrap_tex_lines",
            "MAX_LINE", "LONG_POLY_CHARS"]
@@ -41,7 +44,7 @@ _MATH_CHARS = {"η": r"\eta", "Γ": r"\Gamma", "σ": r"\sigma", "↑": r"\uparro
                "↓": r"\downarrow", "π": r"\pi", "Δ": r"\Delta", "±": r"\pm", "∓": r"\mp",
                "−": "-", "θ": r"\theta", "φ": r"\phi", "×": r"\times"}
 _GREEK = {k: f"${v}$" for k, v in _MATH_CHARS.items()}
-_NAME_BASES = ("Delta", "Lambda", "Xi", "Omega", "Theta")
+_NAME_BASES = ("R", "W", "Q", "Z", "Y")
 _PACKAGES = r"\usepackage{amsmath,booktabs,longtable,array}"
 
 
@@ -86,9 +89,7 @@ def _poly_tex(poly):
 def energy_latex(energy):
     """LaTeX of one energy on its own (no shared names), as stored in JSON files."""
     if is_implicit_root(energy):
-        var = _tex(energy.poly.gens[0])
-        return (rf"\text{{root {int(energy.index) + 1} (ascending) of }} "
-                rf"{_poly_tex(energy.poly)} = 0 \text{{ in }} {var}")
+        return rf"\text{{root }} {int(energy.index)} \text{{ of }} {_poly_tex(energy.poly)} = 0"
     return _tex(energy)
 
 
@@ -163,10 +164,10 @@ def name_subexpressions(exprs, taken=()):
     >>> d = sympy.sqrt(U**2 + 16*t**2)
     >>> new, defs = name_subexpressions([U/2 - d/2, U/2 + d/2])
     >>> new, defs
-    ([-Delta/2 + U/2, Delta/2 + U/2], [(Delta, sqrt(U**2 + 16*t**2))])
+    ([-R/2 + U/2, R/2 + U/2], [(R, sqrt(U**2 + 16*t**2))])
     """
     taken = set(taken)
-    base = next((b for b in _NAME_BASES if not any(n.startswith(b) for n in taken)), "Delta_x")
+    base = next((b for b in _NAME_BASES if not any(n.startswith(b) for n in taken)), "R_x")
     # nested square roots: inner (smaller) ones first, so definitions can use their names
     bases = sorted(_repeated(exprs, _sqrt_bases), key=sympy.count_ops)
     sq_map = {b: sympy.Dummy(f"sq{k}") for k, b in enumerate(bases)}
@@ -198,7 +199,7 @@ def _poly_item(j, poly):
     which TeX breaks between terms (after + and -) across lines and pages, and the
     list gives continuation lines a hanging indent.
     """
-    var = _tex(poly.gens[0])
+    var = _tex(display_energy(poly))
     plain = _poly_tex(poly)
     if len(plain) <= LONG_POLY_CHARS:
         return [rf"\item $P_{{{j}}}({var}) = {plain}$"]
@@ -459,7 +460,7 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
             if e.poly not in polys:
                 polys.append(e.poly)
             j = polys.index(e.poly) + 1
-            cell[k] = rf"root {int(e.index) + 1} of $P_{{{j}}}$"
+            cell[k] = rf"root {int(e.index)} of $P_{{{j}}}$"
 
     qns = [l.quantum_numbers for l in levels]
     show_eta = any(q.get("eta") is not None for q in qns)
@@ -546,8 +547,9 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
         out.append(r"\noindent where " + items + ".")
     if polys:
         out.append("")
-        out.append(r"\noindent ``root $k$ of $P_j$'' is the $k$-th real root, counted "
-                   r"in ascending order from the lowest, of $P_j(E) = 0$, where")
+        out.append(r"\noindent ``root $k$ of $P_j$'' is real root number $k$ of "
+                   r"$P_j(\epsilon) = 0$, counted from $k = 0$ (the lowest) upwards; "
+                   r"$\epsilon$ is the energy and")
         out.append(r"\begin{itemize}")
         for j, p in enumerate(polys, 1):
             out += _poly_item(j, p)

@@ -3,7 +3,10 @@
 Rows are sorted by electron number N, then by the value at the evaluation
 point (when one is given), otherwise in the order the solver returned them.
 Energies are printed in sympy's one-line syntax; an implicit root reads
-``root k of P(E) = 0`` with k counted from 1 in ascending order.
+``root k of P(epsilon) = 0``: real root number k of the polynomial, counted from 0 (the
+lowest) in ascending order, as everywhere in symcluster (Python, JSON, LaTeX).  The
+energy variable of polynomials is printed as ``epsilon``: ``E`` would re-parse as
+Euler's number in sympy.
 """
 
 import re
@@ -86,10 +89,20 @@ def energy_text(energy):
     'U/2 - sqrt(U**2 + 16*t**2)/2'
     """
     if is_implicit_root(energy):
-        poly = energy.poly
-        return (f"root {int(energy.index) + 1} of "
-                f"{poly_text(poly)} = 0 (ascending in {poly.gens[0]})")
+        return f"root {int(energy.index)} of {poly_text(energy.poly)} = 0"
     return exact_sstr(energy)
+
+
+#: How the energy variable (the first generator, ``E`` inside symcluster) is printed.
+ENERGY_NAME = "epsilon"
+
+
+def display_energy(poly):
+    """The symbol the first generator of ``poly`` is printed as (``epsilon`` for ``E``)."""
+    g = poly.gens[0]
+    if g.name != "E" or any(x.name == ENERGY_NAME for x in poly.gens[1:]):
+        return g
+    return sympy.Symbol(ENERGY_NAME, **g.assumptions0)
 
 
 #: Polynomials with more terms than this are printed term by term from their coefficient
@@ -100,12 +113,11 @@ FAST_PRINT_TERMS = 50
 def poly_text(poly, latex=False):
     """One-line text (sympy syntax) or LaTeX of a Poly with rational coefficients.
 
-    Terms are in decreasing powers of the first generator, then lexicographically; small
-    polynomials (at most FAST_PRINT_TERMS terms) go through sympy's own printers.
+    Terms are in decreasing powers of the first generator (the energy, printed as
+    ``epsilon``: ``E`` would re-parse as Euler's number), then lexicographically.
     """
-    if len(poly.as_dict()) <= FAST_PRINT_TERMS:
-        return exact_latex(poly.as_expr()) if latex else exact_sstr(poly.as_expr())
-    names = [exact_latex(g) if latex else g.name for g in poly.gens]
+    var = display_energy(poly)
+    names = [exact_latex(g) if latex else g.name for g in (var,) + tuple(poly.gens[1:])]
     out = []
     for monom, coeff in sorted(poly.terms(), key=lambda mc: mc[0], reverse=True):
         c = sympy.Rational(coeff)
@@ -222,8 +234,7 @@ def format_table(spectrum, point=None, digits=12):
             # the polynomial once, below the table: high-degree factors are shared by
             # hundreds of levels and run to thousands of terms
             j = poly_names.setdefault(lev.energy.poly, len(poly_names) + 1)
-            row.append(f"root {int(lev.energy.index) + 1} of P{j} "
-                       f"(ascending in {lev.energy.poly.gens[0]})")
+            row.append(f"root {int(lev.energy.index)} of P{j}")
         else:
             row.append(energy_text(lev.energy))
         rows.append(row)
@@ -259,7 +270,8 @@ def format_table(spectrum, point=None, digits=12):
         last_n = n
         lines.append(fmt(row))
     if poly_names:
-        lines += ["", "# polynomials of the implicit roots (root k = k-th smallest real root):"]
+        lines += ["", "# root k of Pj: real root k of Pj(epsilon) = 0, counted from 0 (the lowest) "
+                  "upwards; epsilon is the energy"]
         lines += [f"P{j}: {poly_text(p)} = 0" for p, j in poly_names.items()]
     return "\n".join(lines) + "\n"
 

@@ -25,6 +25,7 @@ from sympy.polys.domains import ZZ
 from symcluster.algebra.closed import closed_forms
 from symcluster.algebra.factor import content_and_factors, to_integer_dict
 from symcluster.errors import ModelError, VerificationError
+from symcluster.numeric.rootexpr import level_root
 from symcluster.numeric.isolate import (homogeneous_ints, point_values, real_roots_at,
                                         roots_from_coeffs, univariate_ints)
 
@@ -94,7 +95,9 @@ class ImplicitRoot:
     >>> r.numeric({U: sympy.Integer(0)}, digits=15)
     mpf('2.0')
     >>> print(r.latex())
-    \\operatorname{root}_{5}\\left[E^{5} - 5 E^{3} + 4 E - U\\right]
+    \\text{root } 4 \\text{ of } \\epsilon^{5} - 5 \\epsilon^{3} + 4 \\epsilon - U = 0
+    >>> r.subs({"U": 0}).evalf(15)
+    2.00000000000000
     """
 
     __slots__ = ("poly", "index", "_terms", "_key")
@@ -210,12 +213,36 @@ class ImplicitRoot:
             return coeffs, den
         return univariate_ints(self._terms, self.degree, tuple(vals)), None
 
-    def latex(self, var="E"):
-        r"""LaTeX ``\operatorname{root}_{k}\left[P(E)\right]``: the k-th smallest real root of P(E) = 0.
+    def latex(self):
+        r"""LaTeX in symcluster's words: ``\text{root } k \text{ of } P(\epsilon) = 0``.
 
-        ``k = index + 1`` is 1-based in the printed form.
+        ``k = index``, counted from 0 (lowest root) as everywhere in symcluster; the
+        energy variable is printed as epsilon (E would read as Euler's number).
         """
-        return rf"\operatorname{{root}}_{{{self.index + 1}}}\left[{_latex_in_E(self.poly, var)}\right]"
+        return sympy.latex(self.as_expr())
+
+    def as_expr(self):
+        """This root as a sympy expression (:class:`~symcluster.numeric.rootexpr.LevelRoot`):
+        it substitutes, evaluates (``evalf``), lambdifies and prints in LaTeX."""
+        return level_root(self.poly, self.index)
+
+    def _sympy_(self):
+        return self.as_expr()
+
+    def _latex(self, printer):
+        return printer._print(self.as_expr())
+
+    def subs(self, *args, **kwargs):
+        """``as_expr().subs(...)``; a dict may name couplings by string (``{"U": 4}``)."""
+        if len(args) == 1 and isinstance(args[0], dict):
+            by_name = {s.name: s for s in self.symbols}
+            args = ({by_name.get(k, k) if isinstance(k, str) else k: v
+                     for k, v in args[0].items()},)
+        return self.as_expr().subs(*args, **kwargs)
+
+    def evalf(self, n=15, subs=None, **kwargs):
+        """``as_expr().evalf(...)`` (needs every coupling substituted first)."""
+        return self.as_expr().evalf(n, subs=subs, **kwargs)
 
     def __eq__(self, other):
         return isinstance(other, ImplicitRoot) and self._key == other._key
@@ -225,37 +252,6 @@ class ImplicitRoot:
 
     def __repr__(self):
         return f"ImplicitRoot({self.poly.as_expr()}, index={self.index})"
-
-
-def _latex_in_E(poly, var):
-    """Polynomial in descending powers of E, coefficients in the couplings."""
-    v = sympy.Symbol(var)
-    groups = {}
-    for mon, c in poly.as_dict().items():
-        groups.setdefault(mon[0], {})[mon[1:]] = c
-    parts = []
-    for k in sorted(groups, reverse=True):
-        if len(poly.gens) > 1:
-            coeff = sympy.Poly.from_dict(groups[k], poly.gens[1:], domain=poly.domain).as_expr()
-        else:
-            coeff = sympy.sympify(groups[k][()])
-        power = "" if k == 0 else (sympy.latex(v) if k == 1 else f"{sympy.latex(v)}^{{{k}}}")
-        if coeff.is_Add:
-            body = rf"\left({sympy.latex(coeff)}\right) {power}".rstrip()
-            sign = "+"
-        else:
-            neg = coeff.could_extract_minus_sign()
-            c = -coeff if neg else coeff
-            sign = "-" if neg else "+"
-            if c == 1 and power:
-                body = power
-            else:
-                body = f"{sympy.latex(c)} {power}".rstrip()
-        parts.append((sign, body))
-    out = ("- " if parts[0][0] == "-" else "") + parts[0][1]
-    for sign, body in parts[1:]:
-        out += f" {sign} {body}"
-    return out
 
 
 def roots_of_irreducible(f, max_closed_degree=4):
