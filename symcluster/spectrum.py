@@ -148,7 +148,7 @@ class VerificationReport:
         return {"digits": self.digits, "worst_deviation": self.worst, "checks": list(self.checks)}
 
 
-@dataclass
+@dataclass(repr=False)
 class Level:
     """One energy level.
 
@@ -180,6 +180,20 @@ class Level:
     eigenvectors: object = None
     block: str = ""
     source: object = field(default=None, repr=False, compare=False)
+
+    def __repr__(self):
+        from symcluster.display import level_repr
+        return level_repr(self)
+
+    def _repr_latex_(self):
+        from symcluster.display import level_latex
+        return level_latex(self)
+
+    def _repr_html_(self):
+        from symcluster.display import html_table, qn_text, tex
+        return html_table(["E", "g", "quantum numbers"],
+                          [[("math", tex(self.energy)), self.degeneracy,
+                            qn_text(self.quantum_numbers)]])
 
     def eigenvector(self):
         """Closed-form eigenvector of a small block, {(up, dn): coefficient}, or None.
@@ -258,7 +272,7 @@ def _free_symbols(level):
     return tuple(sorted(e.free_symbols, key=lambda s: s.name))
 
 
-@dataclass
+@dataclass(repr=False)
 class Spectrum:
     """All levels of a model, with what was checked and which symmetries were used.
 
@@ -281,6 +295,52 @@ class Spectrum:
     verification: VerificationReport = field(default_factory=VerificationReport)
     timings: dict = field(default_factory=dict)
     fixed: dict = field(default_factory=dict)
+
+    def _title(self):
+        model = self.model
+        what = model.describe().split(";")[0] if hasattr(model, "describe") else "spectrum"
+        fixed = ", ".join(f"{k}={v}" for k, v in self.fixed.items())
+        return (f"{what}: {len(self.levels)} levels, {self.n_states} states"
+                + (f"; fixed {fixed}" if fixed else ""))
+
+    def __repr__(self):
+        couplings = ", ".join(s.name for s in self.symbols) or "none"
+        checks = len(self.verification.checks)
+        return (f"<Spectrum of {self._title()}; couplings {couplings}; "
+                f"{checks} verification checks, worst deviation {self.verification.worst:.1e}>")
+
+    def _display_rows(self):
+        from symcluster.display import MAX_ROWS, tex
+        keys = []
+        for lev in self.levels:
+            for k in lev.quantum_numbers:
+                if k not in keys and k != "irrep_dim":
+                    keys.append(k)
+        rows = []
+        for lev in self.levels[:MAX_ROWS]:
+            q = lev.quantum_numbers
+            rows.append([str(q.get(k, "")) if not isinstance(q.get(k), tuple) else
+                         ", ".join(map(str, q[k])) for k in keys]
+                        + [lev.degeneracy, ("math", tex(lev.energy))])
+        return keys, rows
+
+    def _repr_html_(self):
+        from symcluster.display import html_table
+        keys, rows = self._display_rows()
+        return html_table(keys + ["g", "E"], rows, caption=self._title(),
+                          total=len(self.levels))
+
+    def _repr_latex_(self):
+        from symcluster.display import MAX_ROWS, qn_latex, tex
+        lines = [r"\begin{array}{rl}", r"g & E \\ \hline"]
+        for lev in self.levels[:MAX_ROWS]:
+            lines.append(f"{lev.degeneracy} & {tex(lev.energy)}"
+                         rf"\quad ({qn_latex(lev.quantum_numbers)}) \\")
+        if len(self.levels) > MAX_ROWS:
+            lines.append(rf"\multicolumn{{2}}{{l}}{{\dots\ {len(self.levels) - MAX_ROWS}"
+                         r"\text{ more levels}} \\")
+        lines.append(r"\end{array}")
+        return "$" + "\n".join(lines) + "$"
 
     @property
     def symbols(self):
@@ -321,6 +381,77 @@ class Spectrum:
                    for l in self.levels]
         out.sort(key=lambda p: p[0])
         return out
+
+    def energies(self, values):
+        """Every eigenvalue at many coupling points: float64 array (points, states).
+
+        Parameters
+        ----------
+        values : dict
+            ``{name: number or 1-D array}`` for every free coupling; arrays (all of one
+            length) give the points, numbers are held fixed.  Floats stand for the
+            decimals they are written as (0.1 is 1/10).
+
+        Returns
+        -------
+        numpy.ndarray
+            Shape ``(number of points, n_states)``: each row holds every eigenvalue,
+            repeated by its degeneracy, in ascending order.  Closed forms are evaluated on
+            whole arrays; implicit roots come from batched companion-matrix eigenvalues
+            polished by Newton steps, and where roots come close (or a closed form has no
+            finite float value) the value is recomputed with certified isolation
+            (:mod:`symcluster.numeric.grid`).
+
+        Examples
+        --------
+        >>> import numpy as np, symcluster as sc
+        >>> spec = sc.solve(sc.hubbard(sc.chain(2)))
+        >>> e = spec.energies({"t": 1, "U": np.array([0.0, 4.0])})
+        >>> e.shape
+        (2, 16)
+        >>> e[:, 0].round(10).tolist()      # lowest: -2t (N = 2, U = 0), -t (N = 1, U = 4)
+        [-2.0, -1.0]
+        """
+        import numpy as np
+        from symcluster.numeric.grid import GridEvaluator
+        syms = self.symbols
+        by_name = {s.name: s for s in syms}
+        given = {}
+        for key, value in dict(values).items():
+            name = key.name if isinstance(key, sympy.Symbol) else str(key)
+            if name not in by_name:
+                known = ", ".join(sorted(by_name)) or "(none)"
+                raise ModelError(f"unknown coupling {name!r}; this model's couplings are {known}")
+            given[name] = value
+        missing = [n for n in by_name if n not in given]
+        if missing:
+            raise ModelError("no value given for coupling(s) " + ", ".join(missing)
+                             + "; give every coupling a number or an array, e.g. "
+                             + " ".join(f"{n}=1" for n in by_name))
+        columns, exact, n = [], [], None
+        for s in syms:
+            v = given[s.name]
+            if np.ndim(v) == 0 and not isinstance(v, np.ndarray):
+                exact.append(to_rational(s.name, v))
+                columns.append(None)
+                continue
+            arr = np.asarray(v, dtype=float)
+            if arr.ndim != 1 or (n is not None and len(arr) != n) or not np.all(np.isfinite(arr)):
+                raise ModelError(f"values of {s.name} must be one finite number or a 1-D array "
+                                 f"of finite numbers of the same length as the others")
+            n = len(arr)
+            columns.append(arr)
+            exact.append(None)
+        n = 1 if n is None else n
+        columns = [np.full(n, float(e)) if c is None else c for c, e in zip(columns, exact)]
+        grid = self.__dict__.get("_grid")
+        if grid is None or grid.symbols != syms or len(grid.energies) != len(self.levels):
+            grid = GridEvaluator([l.energy for l in self.levels],
+                                 [l.polynomial for l in self.levels], syms)
+            self.__dict__["_grid"] = grid
+        vals = grid.values(columns, exact)
+        degs = np.array([l.degeneracy for l in self.levels], dtype=int)
+        return np.sort(np.repeat(vals, degs, axis=1), axis=1)
 
     def select(self, **qn):
         """Levels whose quantum numbers match every given key, e.g. select(N=2).

@@ -31,7 +31,7 @@ __all__ = ["GapResult", "lowest_level", "charge_gap", "spin_gap", "pair_binding"
 _TOL = 30  # digits within which two levels count as degenerate
 
 
-@dataclass
+@dataclass(repr=False)
 class GapResult:
     """An energy difference Σ c_i E(level_i).
 
@@ -58,6 +58,29 @@ class GapResult:
     value: object
     point: dict
     valid: str
+
+    def _point_text(self):
+        return ", ".join(f"{getattr(k, 'name', k)}={v}" for k, v in (self.point or {}).items())
+
+    def __repr__(self):
+        from symcluster.display import short
+        value = mpmath.nstr(self.value, 12) if self.value is not None else "?"
+        return (f"GapResult({self.name} = {short(sympy.sstr(self.expr))} = {value} at "
+                f"{self._point_text()})")
+
+    def _repr_latex_(self):
+        from symcluster.display import tex
+        value = mpmath.nstr(self.value, 12) if self.value is not None else "?"
+        defs = "".join(rf",\ {tex(s)} = {tex(l.energy)}" for s, l in self.symbols_for.items())
+        return (rf"$\text{{{self.name}}} = {tex(self.expr)} = {value}"
+                rf"\quad ({self._point_text()}){defs}$")
+
+    def _repr_html_(self):
+        from symcluster.display import html_table, tex
+        value = mpmath.nstr(self.value, 12) if self.value is not None else "?"
+        return html_table(["quantity", "exact", "value", "at", "valid"],
+                          [[self.name, ("math", tex(self.expr)), value, self._point_text(),
+                            self.valid]])
 
     def numeric(self, values=None, digits=30):
         """Value at another point (default: the point it was computed at)."""

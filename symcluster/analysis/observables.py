@@ -82,7 +82,7 @@ def level_value(level, point, digits):
         return level.numeric(point, digits=digits + 5)
 
 
-@dataclass
+@dataclass(repr=False)
 class LevelDerivative:
     """∂E/∂λ of one level, exact.
 
@@ -131,7 +131,17 @@ class LevelDerivative:
             return mpmath.mpf(sympy.Float(sympy.re(val), digits + 10)._mpf_)
 
     def latex(self):
-        return sympy.latex(self.expr)
+        return sympy.latex(self.expr, inv_trig_style="full")
+
+    def __repr__(self):
+        from symcluster.display import qn_text, short
+        return (f"LevelDerivative(dE/d{self.coupling} = {short(sympy.sstr(self.expr))}; "
+                f"level {qn_text(self.level.quantum_numbers)})")
+
+    def _repr_latex_(self):
+        where = (rf"\ \text{{at }} {sympy.latex(self.energy_symbol)} = E"
+                 if self.implicit else "")
+        return rf"$\frac{{\partial E}}{{\partial {sympy.latex(self.coupling)}}} = {self.latex()}{where}$"
 
 
 def energy_derivative(level, coupling):

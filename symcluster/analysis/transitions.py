@@ -40,7 +40,7 @@ _TOL = mpmath.mpf(10) ** -30
 _PROBE = 30     # crossings are confirmed at a decimal rational within 10**-_PROBE of the root
 
 
-@dataclass
+@dataclass(repr=False)
 class Transition:
     """A point where the ground state changes.
 
@@ -71,18 +71,43 @@ class Transition:
             return +_num(self.value, digits + 10)
 
     def __repr__(self):
+        from symcluster.display import qn_text, short
         qb, qa = self.below.quantum_numbers, self.above.quantum_numbers
-        return (f"Transition({self.coupling} = {self.value} ~ {mpmath.nstr(self.numeric(15), 15)}: "
-                f"{qb} -> {qa})")
+        return (f"Transition({self.coupling} = {short(sympy.sstr(self.value))} ~ "
+                f"{mpmath.nstr(self.numeric(15), 15)}: ground state ({qn_text(qb)}) -> "
+                f"({qn_text(qa)}))")
+
+    def _repr_latex_(self):
+        from symcluster.display import qn_latex, tex
+        return (rf"${tex(self.coupling)} = {tex(self.value)} \approx "
+                rf"{mpmath.nstr(self.numeric(15), 15)}:\ ({qn_latex(self.below.quantum_numbers)})"
+                rf" \to ({qn_latex(self.above.quantum_numbers)})$")
+
+    def _repr_html_(self):
+        from symcluster.display import html_table, qn_text, tex
+        return html_table([str(self.coupling), "value", "below", "above"],
+                          [[("math", tex(self.value)), mpmath.nstr(self.numeric(15), 15),
+                            qn_text(self.below.quantum_numbers),
+                            qn_text(self.above.quantum_numbers)]])
 
 
-@dataclass
+@dataclass(repr=False)
 class GroundPiece:
     """The ground set on the open interval (lower, upper) of the swept coupling."""
 
     lower: object
     upper: object
     levels: tuple
+
+    def __repr__(self):
+        from symcluster.display import qn_text
+        states = "; ".join(qn_text(l.quantum_numbers) for l in self.levels)
+        return f"GroundPiece(({self.lower}, {self.upper}): {states})"
+
+    def _repr_latex_(self):
+        from symcluster.display import qn_latex, tex
+        states = r";\ ".join(qn_latex(l.quantum_numbers) for l in self.levels)
+        return rf"$({tex(self.lower)}, {tex(self.upper)}):\ {states}$"
 
 
 def _num(value, digits):
