@@ -453,6 +453,43 @@ class Spectrum:
         degs = np.array([l.degeneracy for l in self.levels], dtype=int)
         return np.sort(np.repeat(vals, degs, axis=1), axis=1)
 
+    def to_dataframe(self, point=None, digits=15):
+        """The levels as a pandas DataFrame (pandas needed; imported here only).
+
+        Parameters
+        ----------
+        point : dict, optional
+            ``{name: number}`` for every coupling: adds ``value`` (float64) and
+            ``value_exact`` (a string of ``digits`` certified digits), rows sorted by it.
+        digits : int
+
+        Returns
+        -------
+        pandas.DataFrame
+            One row per level: its quantum numbers, ``degeneracy``, ``closed_form``,
+            ``energy_exact`` (sympy's one-line text) and, with a point, the values.
+
+        Examples
+        --------
+        >>> import symcluster as sc
+        >>> df = sc.solve(sc.hubbard(sc.chain(2))).to_dataframe({"t": 1, "U": 4})
+        >>> float(df.loc[0, "value"]), int(df.loc[0, "degeneracy"]), df.loc[0, "energy_exact"]
+        (-1.0, 2, '-t')
+        """
+        from symcluster.frames import level_records, pandas
+        pd = pandas()
+        check_digits(digits)
+        values = None
+        if point is not None:
+            pt = self.point(point)
+            with mpmath.workdps(digits + 5):
+                values = [+energy_numeric(l.energy, pt, digits + 5, l.polynomial)
+                          for l in self.levels]
+        df = pd.DataFrame.from_records(level_records(self.levels, values, digits))
+        if values is not None:
+            df = df.sort_values(["value"], kind="stable").reset_index(drop=True)
+        return df
+
     def select(self, **qn):
         """Levels whose quantum numbers match every given key, e.g. select(N=2).
 

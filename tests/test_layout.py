@@ -150,7 +150,7 @@ def test_numeric_layer_sits_between_algebra_and_spectrum():
 STAGES = [
     {"errors", "symbols", "parsing", "tiers", "interrupts", "workers", "linalg"},
     {"lattice"}, {"hilbert"}, {"models"}, {"symmetry"}, {"algebra"}, {"blocks"},
-    {"numeric"}, {"spectrum", "display"}, {"verify"}, {"pipeline"}, {"export", "analysis"},
+    {"numeric"}, {"spectrum", "display", "frames"}, {"verify"}, {"pipeline"}, {"export", "analysis"},
     {"cli", "__main__"},
 ]
 
