@@ -386,9 +386,9 @@ def run_analysis(spec, args, out=None, err=None):
                                 else str(r[c]) for c in cols) + "\n")
         frags.append(lx.latex_thermo_table(rows, digits=args.digits))
     elif kind == "plot":
-        from symcluster.analysis.plots import plot_levels
-        files = plot_levels(spec, args.output, args.coupling, rng, fixed, args.sector,
-                            args.color_by)
+        from symcluster.analysis.plots import plot_levels, write_plot
+        fig = plot_levels(spec, None, args.coupling, rng, fixed, args.sector, args.color_by)
+        files = write_plot(fig, args.output)
         for name in files:
             err.write(f"symcluster: wrote {name}\n")
     elif kind == "derivative":
