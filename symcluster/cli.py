@@ -13,6 +13,7 @@ standard error, so that standard output holds only the results.
 """
 
 import argparse
+import difflib
 import re
 import sys
 
@@ -319,12 +320,16 @@ def _make_parser():
     _add_model_options(lv, ("--field", "--with-field"))
     lv.add_argument("--electrons", metavar="LIST", default="all",
                     help="electron numbers to solve: 'all' (default), '2', '2,3' or '1-3'")
-    lv.add_argument("--at", metavar="NAME=VALUE,...",
-                    help="evaluate every level at this point, e.g. t=1,U=4 (the model's own "
-                         "couplings, e.g. J=1 for --family heisenberg; values: integers, "
-                         "decimals, 1e-3 or fractions 3/2; all couplings needed)")
+    lv.add_argument("--at", nargs="+", metavar="NAME=VALUE",
+                    help="evaluate every level at this point, e.g. --at t=1 U=4 or "
+                         "--at t=1,U=4 (the model's own couplings, e.g. J=1 for --family "
+                         "heisenberg; values: integers, decimals, 1e-3 or fractions 3/2; all "
+                         "couplings needed; default: no values, exact forms only)")
     lv.add_argument("--digits", type=_digits, default=12, metavar="D",
                     help="significant digits of numerical values (default 12)")
+    lv.add_argument("--verification", action="store_true",
+                    help="print every kind of verification check in the header (default: "
+                         "one short line)")
     lv.add_argument("--latex", metavar="FILE.tex", help="also write a LaTeX table")
     lv.add_argument("--standalone", action="store_true",
                     help="make the LaTeX file a complete document for pdflatex")
@@ -397,7 +402,8 @@ def _analysis_spectrum(args):
     (:func:`symcluster.analysis.commands.check_request`), the output paths
     included.
     """
-    from symcluster.analysis.commands import check_request
+    from symcluster.analysis.commands import check_request, normalise
+    normalise(args)                     # --electrons N as the sector, --over as the sweep
     model, fixed = build_model(args)
     if not model.space.has_charge:
         kind = getattr(args, "analysis", None)
@@ -438,7 +444,10 @@ def _run_levels(args, out, err):
         raise InputError("--standalone needs --latex FILE.tex; add it or drop --standalone")
     model, fixed = build_model(args)
     electrons = _electrons(args.electrons, model)
-    point = parse_point(args.at) if args.at is not None else None
+    at = args.at
+    if isinstance(at, (list, tuple)):
+        at = " ".join(at)
+    point = parse_point(at) if at is not None else None
     if point is not None:
         _check_point(point, model, fixed)
     _check_outputs([args.latex, args.json],
@@ -452,7 +461,9 @@ def _run_levels(args, out, err):
         # everything is produced in memory first; files are written only if all succeeded
         n_out = 1 + bool(args.latex) + bool(args.json)
         progress.phase("output, table", n_out, "outputs")
-        table = format_table(spectrum, point=point, digits=args.digits)
+        table = format_table(spectrum, point=point, digits=args.digits,
+                             verification="full" if getattr(args, "verification", False)
+                             else "short")
         sym = format_symmetries(spectrum) if args.show_symmetry else ""
         tex = js = None
         if args.latex:
@@ -554,16 +565,40 @@ def main(argv=None):
     return _main(list(argv))
 
 
+def _command_names(parser):
+    """The subcommands registered on the parser (other modules add their own)."""
+    for action in parser._actions:
+        if isinstance(action, argparse._SubParsersAction):
+            return set(action.choices)
+    return set()
+
+
+def _suggest(word, commands):
+    """'did you mean' for a first word that is neither a subcommand nor a shape."""
+    if word.startswith("-") or word.lower() in SHAPES or re.match(r"^[0-9]", word):
+        return None
+    close = difflib.get_close_matches(word, sorted(commands), n=1, cutoff=0.6)
+    if close:
+        return (f"unknown command {word!r}; did you mean '{close[0]}'? (commands: "
+                + ", ".join(sorted(commands)) + ")")
+    close = difflib.get_close_matches(word.lower(), list(SHAPES), n=1, cutoff=0.6)
+    if close:
+        return f"unknown shape {word!r}; did you mean '{close[0]}'? (see 'symcluster shapes')"
+    return None
+
+
 def _main(argv):
     out, err = sys.stdout, sys.stderr
-    commands = {"levels", "shapes", "demo", "ground-map", "gaps", "series", "thermo", "plot",
-                "derivative"}
-    if argv and argv[0] not in commands and argv[0] not in ("-h", "--help", "--version"):
-        argv.insert(0, "levels")
     try:
         if not argv:
             return _run_levels(_demo_args(), out, err)
         parser = _make_parser()
+        commands = _command_names(parser)
+        if argv[0] not in commands and argv[0] not in ("-h", "--help", "--version"):
+            hint = _suggest(argv[0], commands)
+            if hint:
+                raise _UsageError(hint)
+            argv.insert(0, "levels")
         args = parser.parse_args(_attach_negative_values(argv, _single_value_options(parser)))
         if args.command == "shapes":
             out.write(_shapes_text())

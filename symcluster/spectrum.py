@@ -144,6 +144,20 @@ class VerificationReport:
         parts = [f"{n}x {k}" for k, n in sorted(kinds.items())]
         return f"verified: {', '.join(parts)}; worst deviation {self.worst:.1e}"
 
+    def short(self):
+        """One short line: how many checks passed and the worst deviation.
+
+        Examples
+        --------
+        >>> r = VerificationReport()
+        >>> r.add("state count", "all", worst=0.0)
+        >>> r.short()
+        'verified: 1 check passed, worst deviation 0.0e+00'
+        """
+        n = len(self.checks)
+        return (f"verified: {n} check{'s' if n != 1 else ''} passed, worst deviation "
+                f"{self.worst:.1e}")
+
     def as_dict(self):
         return {"digits": self.digits, "worst_deviation": self.worst, "checks": list(self.checks)}
 

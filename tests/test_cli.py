@@ -292,7 +292,8 @@ def test_a_range_that_starts_with_a_minus_sign_is_a_value_not_an_option(capsys):
         out = capsys.readouterr().out
         assert code == 0
         lines = [ln for ln in out.splitlines() if ln.startswith("U = ")]
-        assert any(ln.startswith("U = 0  {") for ln in lines)   # an integer: no "~ 0.0"
+        assert any(ln.startswith("U = 0:  ground state") for ln in lines)   # no "~ 0.0"
+        assert not any("{" in ln for ln in lines)          # readable: no raw dict reprs
 
 
 def test_a_list_option_keeps_all_its_values_when_the_first_is_negative(capsys):

@@ -23,12 +23,15 @@ import re
 import sys
 
 import mpmath
+import sympy
 
 from symcluster.errors import InputError, ModelError
 from symcluster.parsing import NUMBER, parse_number
 from symcluster.analysis.sectors import format_numbers
 from symcluster.analysis.series import MAX_ORDER
 from symcluster.analysis.thermo import MAX_ROWS
+from symcluster.display import qn_text
+from symcluster.export.text import energy_text
 
 __all__ = ["add_commands", "run_analysis", "parse_assignment", "parse_range", "check_request",
            "MAX_VALUES"]
@@ -81,6 +84,59 @@ def parse_assignment(items):
     return out
 
 
+_SWEEP = re.compile(rf"^\s*({_NUM})\s*:\s*({_NUM})\s*:\s*([0-9]{{1,7}})\s*$")
+
+
+def expand_values(items, option):
+    """Values of a list option; an item ``lo:hi:count`` stands for ``count`` evenly spaced
+    exact values from lo to hi (both included).
+
+    Examples
+    --------
+    >>> [str(x) for x in expand_values(["0.1", "1:2:3"], "--temperatures")]
+    ['1/10', '1', '3/2', '2']
+    """
+    out = []
+    for item in items or ():
+        for part in (p for p in str(item).split(",") if p.strip()):
+            m = _SWEEP.match(part)
+            if m:
+                lo, hi = _number(m.group(1), option), _number(m.group(2), option)
+                count = int(m.group(3))
+                if count < 2 or count > MAX_VALUES:
+                    raise InputError(f"{option} {part}: count {count} is not from 2 to "
+                                     f"{MAX_VALUES}; write e.g. {option} 0.1:10:200")
+                out += [lo + (hi - lo) * k / (count - 1) for k in range(count)]
+            else:
+                out.append(_number(part, option))
+        if len(out) > MAX_VALUES:
+            raise InputError(f"{option} has more than {MAX_VALUES} values; give fewer")
+    return out
+
+
+def parse_over(text, option="--over"):
+    """``NAME:LO:HI`` or ``NAME:LO:HI:COUNT`` -> (name, (lo, hi), count or None).
+
+    Examples
+    --------
+    >>> parse_over("U:0:20:41")
+    ('U', (0, 20), 41)
+    """
+    parts = (text or "").split(":")
+    if len(parts) not in (3, 4) or not re.match(r"^[A-Za-z][A-Za-z0-9_]*$", parts[0].strip()):
+        raise InputError(f"{option} {text!r} is not of the form NAME:LO:HI[:COUNT]; write e.g. "
+                         f"{option} U:0:20:41")
+    lo, hi = parse_range(":".join(parts[1:3]))
+    count = None
+    if len(parts) == 4:
+        if not re.match(r"^[0-9]{1,5}$", parts[3].strip()) or not 2 <= int(parts[3]) <= \
+                MAX_VALUES:
+            raise InputError(f"{option} {text!r}: COUNT must be a whole number from 2 to "
+                             f"{MAX_VALUES}")
+        count = int(parts[3])
+    return parts[0].strip(), (lo, hi), count
+
+
 def parse_range(text):
     """'lo:hi' -> (Rational, Rational)."""
     m = _RANGE.match(text or "")
@@ -96,12 +152,19 @@ def _common(p, sweep=False, point=False, sector=True, latex=True):
                             "number solved)")
     if sweep:
         p.add_argument("--coupling", default="U", help="swept coupling (default U)")
-        p.add_argument("--range", default="0:10", help="lo:hi of the swept coupling")
-        p.add_argument("--fixed", nargs="*", default=["t=1"],
-                       help="values of the other couplings, name=number (default t=1)")
+        p.add_argument("--range", default="0:10",
+                       help="lo:hi of the swept coupling (default 0:10)")
+        p.add_argument("--over", default=None, metavar="NAME:LO:HI[:COUNT]",
+                       help="the sweep in one option, e.g. U:0:20:41 (sets --coupling and "
+                            "--range; COUNT points for plot; default: from those options)")
+        p.add_argument("--at", "--fixed", dest="fixed", nargs="*", default=["t=1"],
+                       metavar="NAME=VALUE",
+                       help="values of the other couplings, e.g. --at t=1 (default t=1; "
+                            "--fixed is the same option)")
     if point:
-        p.add_argument("--at", nargs="*", default=["t=1", "U=4"],
-                       help="values of every coupling, name=number (default t=1 U=4)")
+        p.add_argument("--at", nargs="*", default=["t=1", "U=4"], metavar="NAME=VALUE",
+                       help="values of every coupling, e.g. --at t=1 U=4 or t=1,U=4 "
+                            "(default t=1 U=4)")
     p.add_argument("--digits", type=digits_argument, default=30, metavar="D",
                    help="significant digits of numerical values, 1 to 1000 (default 30)")
     if latex:
@@ -115,41 +178,54 @@ def _add_ground_map(p):
 
 def _add_gaps(p):
     _common(p, point=True, sector=False)
-    p.add_argument("--sector", type=_SECTOR, required=True, metavar="N")
-    p.add_argument("--over", default=None, metavar="NAME:LO:HI",
-                   help="certify the expressions over a coupling range, e.g. U:0:20")
+    p.add_argument("--sector", type=_SECTOR, default=None, metavar="N",
+                   help="electron number N of the gaps (required; --electrons N says the "
+                        "same)")
+    p.add_argument("--over", default=None, metavar="NAME:LO:HI[:COUNT]",
+                   help="certify the expressions over a coupling range, e.g. U:0:20; with "
+                        "COUNT, also print the gaps at COUNT points, e.g. U:0:20:41 "
+                        "(default: at the --at point only)")
 
 
 def _add_series(p):
     _common(p, point=True)
     p.add_argument("--level", type=_whole_number(0, 10 ** 6), default=0,
                    help="index of the level in the sector, ascending at --at (default 0)")
-    p.add_argument("--coupling", default="U")
+    p.add_argument("--coupling", default="U",
+                   help="the coupling of the expansion (default U)")
     p.add_argument("--order", type=_whole_number(0, MAX_ORDER), default=5,
                    help=f"order of the series, 0 to {MAX_ORDER} (default 5)")
-    p.add_argument("--about", default="oo", help="oo (strong coupling) or a number")
+    p.add_argument("--about", default="oo",
+                   help="oo (strong coupling) or a number (default oo)")
 
 
 def _add_thermo(p):
     _common(p, point=True)
-    p.add_argument("--temperatures", nargs="+", default=["1/10", "1/2", "1", "2", "10"],
-                   help=f"temperatures T > 0, at most {MAX_VALUES}")
-    p.add_argument("--mu", nargs="+", default=["0"],
-                   help=f"chemical potentials (grand ensemble), at most {MAX_VALUES}")
-    p.add_argument("--field", default="0", help="Zeeman field h, H_Z = -h (N_up - N_dn)")
+    p.add_argument("--temperatures", "-T", nargs="+", default=["1/10", "1/2", "1", "2", "10"],
+                   metavar="T",
+                   help=f"temperatures T > 0, values or ranges LO:HI:COUNT (e.g. 0.1:10:200), "
+                        f"at most {MAX_VALUES} (default 1/10 1/2 1 2 10)")
+    p.add_argument("--mu", nargs="+", default=["0"], metavar="MU",
+                   help=f"chemical potentials (grand ensemble), values or LO:HI:COUNT, at "
+                        f"most {MAX_VALUES} (default 0)")
+    p.add_argument("--field", default="0",
+                   help="Zeeman field h, H_Z = -h (N_up - N_dn) (default 0)")
 
 
 def _add_plot(p):
     _common(p, sweep=True, latex=False)
     p.add_argument("--color-by", default="S", choices=QUANTUM_KEYS,
-                   help="quantum number for the colours")
-    p.add_argument("--output", default="levels", help="output stem (.png and .pdf)")
+                   help="quantum number for the colours (default S)")
+    p.add_argument("--output", default="levels",
+                   help="output stem: writes STEM.png and STEM.pdf (default levels)")
 
 
 def _add_derivative(p):
     _common(p, point=True)
-    p.add_argument("--level", type=_whole_number(0, 10 ** 6), default=0)
-    p.add_argument("--coupling", default="U")
+    p.add_argument("--level", type=_whole_number(0, 10 ** 6), default=0,
+                   help="index of the level in the sector, ascending at --at (default 0)")
+    p.add_argument("--coupling", default="U",
+                   help="the coupling to differentiate by (default U)")
 
 
 _COMMANDS = {
@@ -234,6 +310,7 @@ def check_request(args, model, electrons):
         state over all N need every N; the gaps at N need N-2 .. N+1), an unknown
         coupling, a malformed value or range, or a size over its limit.
     """
+    normalise(args)
     kind = args.analysis
     L = model.cluster.n_sites
     top = model.space.max_particles
@@ -242,6 +319,9 @@ def check_request(args, model, electrons):
     if n is not None and not 0 <= n <= top:
         raise InputError(f"--sector {n} is impossible on {L} site{'s' if L != 1 else ''}; "
                          f"choose an electron number from 0 to {top}")
+    if kind == "gaps" and n is None:
+        raise InputError("gaps needs an electron number; add --electrons N (or --sector N), "
+                         "e.g. --electrons 4")
     if kind == "gaps":
         needed = [m for m in range(n - 2, n + 2) if 0 <= m <= top]
         what = (f"the gaps at N={n} need N={format_numbers(needed)} (charge gap N-1 and N+1, "
@@ -285,32 +365,53 @@ def check_request(args, model, electrons):
     if kind == "series" and args.about not in ("oo", "inf"):
         _number(args.about, "--about")
     if kind == "gaps" and args.over:
-        name, rng = _parse_over(args.over)
+        name, rng, _count = parse_over(args.over)
         known(name, "--over")
         if not rng[0] < rng[1]:
             raise InputError(f"--over {args.over}: the range is empty; give NAME:LO:HI with "
                              f"LO < HI, e.g. U:0:20")
     if kind == "thermo":
-        for option, values in (("--temperatures", args.temperatures), ("--mu", args.mu)):
-            if len(values) > MAX_VALUES:
-                raise InputError(f"{option} has {len(values)} values; give at most {MAX_VALUES}")
-        if len(args.temperatures) * len(args.mu) > MAX_ROWS:
-            raise InputError(f"{len(args.temperatures)} temperatures x {len(args.mu)} values "
+        temps = expand_values(args.temperatures, "--temperatures")
+        mus = expand_values(args.mu, "--mu")
+        if len(temps) * len(mus) > MAX_ROWS:
+            raise InputError(f"{len(temps)} temperatures x {len(mus)} values "
                              f"of --mu make more than {MAX_ROWS} rows; give fewer values")
-        for x in args.temperatures:
-            if not _number(x, "temperature") > 0:
+        for x in temps:
+            if not x > 0:
                 raise InputError(f"temperature {x} is not positive; give temperatures T > 0 "
                                  f"(the ground state is the limit T -> 0: see 'levels')")
-        for x in args.mu:
-            _number(x, "chemical potential")
         _number(args.field, "field")
 
 
 def _parse_over(text):
-    name, sep, rest = (text or "").partition(":")
-    if not sep or not re.match(r"^[A-Za-z][A-Za-z0-9_]*$", name.strip()):
-        raise InputError(f"--over {text!r} is not of the form NAME:LO:HI; write e.g. U:0:20")
-    return name.strip(), parse_range(rest)
+    name, rng, _count = parse_over(text)
+    return name, rng
+
+
+def _short_energy(lev):
+    """The energy text, or for a long implicit root its index and degree only."""
+    text = energy_text(lev.energy)
+    if len(text) <= 160 or not hasattr(lev.energy, "degree"):
+        return text
+    return (f"root {int(lev.energy.index)} (counted from 0, the lowest) of a polynomial of "
+            f"degree {lev.energy.degree} in the energy (written out by 'levels' and --latex)")
+
+
+def normalise(args):
+    """One grammar: ``--electrons N`` (a single number) is the sector of an analysis,
+    ``--over NAME:LO:HI[:COUNT]`` sets the sweep of ground-map and plot.  Idempotent."""
+    if getattr(args, "sector", None) is None and re.match(r"^\s*[0-9]+\s*$",
+                                                          str(getattr(args, "electrons", ""))):
+        args.sector = int(args.electrons)
+        if args.analysis == "gaps":
+            args.electrons = f"{max(args.sector - 2, 0)}-{args.sector + 1}"
+    if args.analysis in ("ground-map", "plot") and getattr(args, "over", None):
+        name, (lo, hi), count = parse_over(args.over)
+        args.coupling, args.range = name, f"{lo}:{hi}"
+        if count is not None:
+            args.n_points = count
+        args.over = None
+    return args
 
 
 def _level_at(spec, args, pt):
@@ -338,6 +439,7 @@ def run_analysis(spec, args, out=None, err=None):
 
     out = out or sys.stdout
     err = err or sys.stderr
+    normalise(args)
     kind = args.analysis
     frags = []
     if kind in ("ground-map", "plot"):
@@ -350,8 +452,9 @@ def run_analysis(spec, args, out=None, err=None):
             # an integer needs no decimal; any other value gets one at the digits asked for
             approx = ("" if getattr(tr.value, "is_Integer", False)
                       else f"  ~ {mpmath.nstr(tr.numeric(args.digits), args.digits)}")
-            out.write(f"{args.coupling} = {tr.value}{approx}"
-                      f"  {tr.below.quantum_numbers} -> {tr.above.quantum_numbers}\n")
+            out.write(f"{args.coupling} = {tr.value}{approx}:  ground state "
+                      f"{qn_text(tr.below.quantum_numbers)} -> "
+                      f"{qn_text(tr.above.quantum_numbers)}\n")
         if not pts:
             out.write(f"no ground-state change for {args.coupling} in {rng[0]}..{rng[1]}\n")
         frags.append(lx.latex_transitions(pts, args.digits))
@@ -365,17 +468,29 @@ def run_analysis(spec, args, out=None, err=None):
                 out.write(f"{fn.__name__.replace('_', ' ')}: not available ({exc})\n")
         for g in res:
             out.write(f"{g.name}: {g.expr} = {mpmath.nstr(g.value, args.digits)} ({g.valid})\n")
+            for sym, lev in g.symbols_for.items():
+                out.write(f"  where {sym} = {_short_energy(lev)}  "
+                          f"(the level {qn_text(lev.quantum_numbers)})\n")
+        count = parse_over(args.over)[2] if args.over else None
+        if count and res:
+            name, (lo, hi), _ = parse_over(args.over)
+            out.write("\n" + "\t".join([name] + [g.name.replace(" ", "_") for g in res]) + "\n")
+            for k in range(count):
+                x = lo + (hi - lo) * sympy.Rational(k, count - 1)
+                p2 = {s.name: (x if s.name == name else v) for s, v in pt.items()}
+                out.write("\t".join([str(x)] + [mpmath.nstr(g.numeric(p2, args.digits),
+                                                            args.digits) for g in res]) + "\n")
         frags.append(lx.latex_gaps(res, args.digits))
     elif kind == "series":
         lev = _level_at(spec, args, pt)
         about = "oo" if args.about in ("oo", "inf") else _number(args.about, "--about")
         others = {s.name: v for s, v in pt.items() if s.name != args.coupling}
         expr = series(lev, args.coupling, args.order, about=about, at=others)
-        out.write(f"{lev.quantum_numbers}: E = {expr} + ...\n")
+        out.write(f"level {qn_text(lev.quantum_numbers)}: E = {expr} + ...\n")
         frags.append(lx.latex_series(expr))
     elif kind == "thermo":
-        temps = [_number(x, "temperature") for x in args.temperatures]
-        mus = [_number(x, "chemical potential") for x in args.mu]
+        temps = expand_values(args.temperatures, "--temperatures")
+        mus = expand_values(args.mu, "--mu")
         rows = thermo_table(spec, {s.name: v for s, v in pt.items()}, temps, args.sector, mus,
                             _number(args.field, "field"), args.digits)
         cols = ["T", "mu", "energy", "entropy", "specific_heat", "double_occupancy",
@@ -387,14 +502,15 @@ def run_analysis(spec, args, out=None, err=None):
         frags.append(lx.latex_thermo_table(rows, digits=args.digits))
     elif kind == "plot":
         from symcluster.analysis.plots import plot_levels, write_plot
-        fig = plot_levels(spec, None, args.coupling, rng, fixed, args.sector, args.color_by)
+        fig = plot_levels(spec, None, args.coupling, rng, fixed, args.sector, args.color_by,
+                          n_points=getattr(args, "n_points", 121))
         files = write_plot(fig, args.output)
         for name in files:
             err.write(f"symcluster: wrote {name}\n")
     elif kind == "derivative":
         lev = _level_at(spec, args, pt)
         d = energy_derivative(lev, args.coupling)
-        out.write(f"{lev.quantum_numbers}: dE/d{args.coupling} = {d.expr}"
+        out.write(f"level {qn_text(lev.quantum_numbers)}: dE/d{args.coupling} = {d.expr}"
                   f"{' (at E = the level)' if d.implicit else ''} = "
                   f"{mpmath.nstr(d.numeric(pt, args.digits), args.digits)}\n")
         frags.append(f"\\[ \\frac{{\\partial E}}{{\\partial {args.coupling}}} = {d.latex()} \\]\n")

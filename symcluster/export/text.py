@@ -187,7 +187,7 @@ def _columns(levels):
     return has("eta"), has("irrep")
 
 
-def format_table(spectrum, point=None, digits=12):
+def format_table(spectrum, point=None, digits=12, verification="full"):
     """A readable table of all levels.
 
     Parameters
@@ -197,6 +197,8 @@ def format_table(spectrum, point=None, digits=12):
         ``{name: number}`` for every coupling; adds a column with each level's
         value there (``digits`` significant digits) and sorts by it within each N.
     digits : int
+    verification : {"full", "short"}
+        The verification header: every kind of check (full) or one short line.
 
     Returns
     -------
@@ -256,7 +258,8 @@ def format_table(spectrum, point=None, digits=12):
     fixed = getattr(spectrum, "fixed", None)
     if fixed:
         lines.append("# fixed couplings: " + ", ".join(f"{k}={_rat(v)}" for k, v in fixed.items()))
-    lines += [f"# {spectrum.verification.summary()}",
+    report = spectrum.verification
+    lines += [f"# {report.summary() if verification == 'full' else report.short()}",
              f"# {len(spectrum.levels)} levels, {spectrum.n_states} states"]
     if pt is not None:
         lines.append("# values at " + ", ".join(f"{s.name}={_rat(v)}" for s, v in pt.items()))
