@@ -10,8 +10,11 @@ P(E; couplings).  Values at a point come from :mod:`symcluster.numeric`
 (:func:`~symcluster.numeric.evaluate.energy_numeric`, re-exported here).
 """
 
+from __future__ import annotations
+
 import math
 import numbers
+from typing import TYPE_CHECKING, Iterable, Mapping, Optional, Sequence
 from dataclasses import dataclass, field
 from fractions import Fraction
 
@@ -21,11 +24,15 @@ import sympy
 from symcluster.errors import ModelError
 from symcluster.numeric.evaluate import energy_numeric
 
+if TYPE_CHECKING:                       # annotations only; neither is imported at run time
+    import numpy
+    import pandas
+
 __all__ = ["Level", "Spectrum", "VerificationReport", "coerce_point", "energy_numeric",
            "to_rational", "exact_rational", "check_digits"]
 
 
-def to_rational(name, value):
+def to_rational(name: str, value: object) -> sympy.Expr:
     """One coupling value as an exact sympy number (the rules of docs/quickstart.md).
 
     Integers, Fractions, sympy Rationals and strings such as "3/2" or "-2.5" are exact; a
@@ -66,7 +73,7 @@ def to_rational(name, value):
 MAX_DIGITS = 10000
 
 
-def exact_rational(name, value):
+def exact_rational(name: str, value: object) -> sympy.Rational:
     """:func:`to_rational`, refusing values that are not rational (sqrt(2), sympy Floats)."""
     r = to_rational(name, value)
     if not isinstance(r, sympy.Rational):
@@ -75,7 +82,7 @@ def exact_rational(name, value):
     return r
 
 
-def check_digits(digits, minimum=1):
+def check_digits(digits: int, minimum: int = 1) -> int:
     """Validate a requested number of significant digits; returns it."""
     if isinstance(digits, bool) or not isinstance(digits, int):
         raise ModelError(f"digits={digits!r} is not an integer; give e.g. digits=30")
@@ -84,7 +91,7 @@ def check_digits(digits, minimum=1):
     return digits
 
 
-def coerce_point(symbols, values):
+def coerce_point(symbols: Sequence[sympy.Symbol], values: Mapping) -> dict:
     """Map {name or Symbol: number} onto {Symbol: exact sympy number}.
 
     Every symbol in ``symbols`` must receive a value; unknown names are an error.
@@ -126,7 +133,8 @@ class VerificationReport:
     checks: list = field(default_factory=list)
     digits: int = 30
 
-    def add(self, check, scope, points=(), worst=0.0, **extra):
+    def add(self, check: str, scope: str, points: Iterable[Mapping] = (), worst: float = 0.0,
+            **extra) -> None:
         entry = {"check": check, "scope": scope,
                  "points": [{k: _exact_str(v) for k, v in p.items()} for p in points],
                  "worst": float(worst)}
@@ -134,17 +142,17 @@ class VerificationReport:
         self.checks.append(entry)
 
     @property
-    def worst(self):
+    def worst(self) -> float:
         return max((c["worst"] for c in self.checks), default=0.0)
 
-    def summary(self):
+    def summary(self) -> str:
         kinds = {}
         for c in self.checks:
             kinds[c["check"]] = kinds.get(c["check"], 0) + 1
         parts = [f"{n}x {k}" for k, n in sorted(kinds.items())]
         return f"verified: {', '.join(parts)}; worst deviation {self.worst:.1e}"
 
-    def short(self):
+    def short(self) -> str:
         """One short line: how many checks passed and the worst deviation.
 
         Examples
@@ -158,7 +166,7 @@ class VerificationReport:
         return (f"verified: {n} check{'s' if n != 1 else ''} passed, worst deviation "
                 f"{self.worst:.1e}")
 
-    def as_dict(self):
+    def as_dict(self) -> dict:
         return {"digits": self.digits, "worst_deviation": self.worst, "checks": list(self.checks)}
 
 
@@ -195,11 +203,11 @@ class Level:
     block: str = ""
     source: object = field(default=None, repr=False, compare=False)
 
-    def __repr__(self):
+    def __repr__(self) -> str:
         from symcluster.display import level_repr
         return level_repr(self)
 
-    def _repr_latex_(self):
+    def _repr_latex_(self) -> str:
         from symcluster.display import level_latex
         return level_latex(self)
 
@@ -209,7 +217,7 @@ class Level:
                           [[("math", tex(self.energy)), self.degeneracy,
                             qn_text(self.quantum_numbers)]])
 
-    def eigenvector(self):
+    def eigenvector(self) -> Optional[dict]:
         """Closed-form eigenvector of a small block, {(up, dn): coefficient}, or None.
 
         The state is the representative of the level's multiplet: Sz = S,
@@ -225,11 +233,11 @@ class Level:
         return self.eigenvectors[0] if self.eigenvectors else None
 
     @property
-    def is_closed_form(self):
+    def is_closed_form(self) -> bool:
         return not hasattr(self.energy, "numeric")
 
     @property
-    def expr(self):
+    def expr(self) -> sympy.Expr:
         """The energy as a sympy expression: the closed form, or an implicit root as a
         :class:`~symcluster.numeric.rootexpr.LevelRoot` (substitutes, ``evalf``,
         ``sympy.lambdify``, ``sympy.latex``).
@@ -246,7 +254,7 @@ class Level:
         e = self.energy
         return e.as_expr() if hasattr(e, "as_expr") and not isinstance(e, sympy.Basic) else e
 
-    def subs(self, values):
+    def subs(self, values: Mapping) -> sympy.Expr:
         """The energy with couplings substituted; keys are names (``"U"``) or Symbols.
 
         Names are matched to the level's real coupling symbols, so ``{"U": 4}`` works
@@ -264,7 +272,8 @@ class Level:
                 to_rational(name, value)
         return expr.subs(out)
 
-    def numeric(self, values, digits=30, symbols=None):
+    def numeric(self, values: Mapping, digits: int = 30,
+                symbols: Optional[Sequence[sympy.Symbol]] = None) -> mpmath.mpf:
         check_digits(digits)
         syms = symbols if symbols is not None else _free_symbols(self)
         point = coerce_point(syms, values) if not _is_exact_point(values) else values
@@ -357,15 +366,15 @@ class Spectrum:
         return "$" + "\n".join(lines) + "$"
 
     @property
-    def symbols(self):
+    def symbols(self) -> tuple:
         """The free couplings (the model's, less those held at fixed values)."""
         return tuple(s for s in self.model.symbols if s.name not in self.fixed)
 
     @property
-    def n_states(self):
+    def n_states(self) -> int:
         return sum(l.degeneracy for l in self.levels)
 
-    def symbol(self, name):
+    def symbol(self, name: str) -> sympy.Symbol:
         """The sympy Symbol of the coupling ``name`` (a real symbol: ``sympy.Symbol("U")``
         without ``real=True`` is a different symbol and would not substitute).
 
@@ -382,11 +391,11 @@ class Spectrum:
         raise ModelError(f"unknown coupling {name!r}; this model's couplings are "
                          + ", ".join(s.name for s in self.model.symbols))
 
-    def point(self, values):
+    def point(self, values: Mapping) -> dict:
         """Exact {Symbol: Rational} point from {name: number}."""
         return coerce_point(self.symbols, values)
 
-    def numeric(self, values, digits=30):
+    def numeric(self, values: Mapping, digits: int = 30) -> list:
         """Every level's value with its degeneracy, ascending: list of (mpmath.mpf, int)."""
         check_digits(digits)
         pt = self.point(values)
@@ -396,7 +405,7 @@ class Spectrum:
         out.sort(key=lambda p: p[0])
         return out
 
-    def energies(self, values):
+    def energies(self, values: Mapping) -> "numpy.ndarray":
         """Every eigenvalue at many coupling points: float64 array (points, states).
 
         Parameters
@@ -467,7 +476,8 @@ class Spectrum:
         degs = np.array([l.degeneracy for l in self.levels], dtype=int)
         return np.sort(np.repeat(vals, degs, axis=1), axis=1)
 
-    def to_dataframe(self, point=None, digits=15):
+    def to_dataframe(self, point: Optional[Mapping] = None,
+                     digits: int = 15) -> "pandas.DataFrame":
         """The levels as a pandas DataFrame (pandas needed; imported here only).
 
         Parameters
@@ -504,7 +514,7 @@ class Spectrum:
             df = df.sort_values(["value"], kind="stable").reset_index(drop=True)
         return df
 
-    def select(self, **qn):
+    def select(self, **qn) -> list:
         """Levels whose quantum numbers match every given key, e.g. select(N=2).
 
         Raises

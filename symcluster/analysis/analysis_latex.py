@@ -107,7 +107,9 @@ def latex_thermo_table(rows, columns=("T", "mu", "energy", "entropy", "specific_
 
 def latex_document(*fragments, comment=None):
     """A complete pdflatex document containing the fragments."""
-    head = "".join(f"% {line}\n" for line in (comment or "").splitlines())
+    from symcluster.version import version_line
+    head = f"% written by {version_line()}\n"
+    head += "".join(f"% {line}\n" for line in (comment or "").splitlines())
     return (head + "\\documentclass{article}\n\\usepackage{amsmath}\n\\usepackage{booktabs}\n"
             "\\usepackage[margin=2cm]{geometry}\n\\begin{document}\n"
             + "\n".join(fragments) + "\n\\end{document}\n")

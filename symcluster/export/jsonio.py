@@ -17,6 +17,7 @@ import mpmath
 import sympy
 
 from symcluster.errors import InputError
+from symcluster.version import __version__
 from symcluster.export.files import check_writable, write_text_atomic, write_texts_atomic
 from symcluster.export.exprtree import (from_tree, int_to_decimal, is_implicit_root, parse_pi_multiple,
                        poly_from_tree, poly_to_tree, root_of_poly, to_tree)
@@ -147,6 +148,7 @@ def spectrum_to_dict(spectrum, point=None, digits=30, eigenvectors=True):
     return {
         "format": FORMAT,
         "version": VERSION,
+        "symcluster_version": __version__,
         "model": _model_dict(spectrum.model),
         "fixed": {k: str(v) for k, v in (getattr(spectrum, "fixed", None) or {}).items()},
         "point": None if pt is None else {s.name: _rat_str(v) for s, v in pt.items()},

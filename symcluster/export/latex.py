@@ -24,6 +24,7 @@ import mpmath
 import sympy
 
 from symcluster.export.exprtree import int_to_decimal, is_implicit_root
+from symcluster.version import version_line
 from symcluster.export.text import (display_energy, exact_latex, level_sort_key, numeric_values,
                                    poly_text)
 
@@ -506,7 +507,7 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
         rows.append(" & ".join(row) + r" \\")
 
     out = []
-    out.append("% symcluster energy table; in a document of your own this needs")
+    out.append(f"% {version_line()} energy table; in a document of your own this needs")
     out.append("% " + _PACKAGES)
     out += _comment("model: " + spectrum.model.describe())
     if getattr(spectrum, "fixed", None):

@@ -19,6 +19,7 @@ from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
 from symcluster.export.exprtree import int_to_decimal, is_implicit_root
+from symcluster.version import version_line
 
 _EPS = re.compile(r"^eps(?=[_0-9]|$)")
 
@@ -254,7 +255,7 @@ def format_table(spectrum, point=None, digits=12, verification="full"):
                 out.append(cell.ljust(widths[k]))
         return "  ".join(out).rstrip()
 
-    lines = [f"# {spectrum.model.describe()}"]
+    lines = [f"# {version_line()}: {spectrum.model.describe()}"]
     fixed = getattr(spectrum, "fixed", None)
     if fixed:
         lines.append("# fixed couplings: " + ", ".join(f"{k}={_rat(v)}" for k, v in fixed.items()))

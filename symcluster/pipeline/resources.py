@@ -13,7 +13,14 @@ __all__ = ["available_memory", "block_dimensions", "estimate_cost", "optimistic_
 
 
 def available_memory():
-    """Bytes of memory available to this process (MemAvailable), or None if unknown."""
+    """Bytes of memory available to this process, or None if the system does not say.
+
+    Linux: MemAvailable of /proc/meminfo (free memory plus what the kernel can reclaim).
+    Other systems: psutil's ``virtual_memory().available`` where psutil is installed
+    (macOS, Windows), else the free physical pages from ``os.sysconf`` (POSIX systems that
+    name ``SC_AVPHYS_PAGES``).  None only where none of these answers (the memory guard
+    cannot check then).
+    """
     try:
         # bytes, not text: no codec to look up (a first solve paid 0.5 ms importing one)
         with open("/proc/meminfo", "rb") as fh:
@@ -21,6 +28,23 @@ def available_memory():
                 if line.startswith(b"MemAvailable:"):
                     return int(line.split()[1]) * 1024
     except OSError:
+        pass
+    return _portable_available()
+
+
+def _portable_available():
+    try:
+        import psutil
+        return int(psutil.virtual_memory().available)
+    except Exception:       # not installed, or no answer on this system
+        pass
+    import os
+    try:
+        pages = os.sysconf("SC_AVPHYS_PAGES")
+        size = os.sysconf("SC_PAGE_SIZE")
+        if pages > 0 and size > 0:
+            return int(pages) * int(size)
+    except (ValueError, OSError, AttributeError):
         pass
     return None
 

@@ -423,8 +423,10 @@ class _CountedList(list):
         self._step()
 
 
-def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True, digits=30,
-          seed=None, executor=None, progress=None, force=False, fixed=None):
+def solve(model: "Model", electrons: "Iterable[int] | int | None" = None, verify: bool = True,
+          lattice: bool = True, spin: bool = True, eta: bool = True, digits: int = 30,
+          seed: "int | None" = None, executor: object = None, progress: object = None,
+          force: bool = False, fixed: "Mapping | None" = None) -> "Spectrum":
     """Exact, verified spectrum of a model.
 
     Parameters
