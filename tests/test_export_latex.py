@@ -110,7 +110,8 @@ def test_values_use_latex_exponents():
     levels = [Level(t * R(1, 10**8), 1, {"N": 1, "S": R(1, 2)})]
     spec = Spectrum(hubbard(chain(2)), levels, [], VerificationReport(), {})
     row = _table_rows(latex_table(spec, point={"t": 3, "U": 1}, digits=5))[0]
-    assert r"$3.0\times 10^{-8}$" in row
+    # a dcolumn cell: math mode without dollars, aligned on the decimal point
+    assert row.rstrip(" \\").endswith(r"& 3.0\times 10^{-8}")
 
 
 def _long_spectrum():
@@ -132,7 +133,9 @@ def test_compiles_with_pdflatex(tmp_path, standalone):
     assert len(spec.levels) > 100
     tex = latex_table(spec, point={"t": 1, "U": 4}, standalone=standalone)
     if not standalone:
-        tex = ("\\documentclass{article}\n\\usepackage{amsmath,booktabs,longtable,array}\n"
+        # the packages the fragment's first comment lines ask for
+        packages = next(l[2:] for l in tex.splitlines() if l.startswith("% \\usepackage"))
+        tex = ("\\documentclass{article}\n" + packages + "\n"
                "\\begin{document}\n" + tex + "\\end{document}\n")
     (tmp_path / "t.tex").write_text(tex)
     run = subprocess.run(["pdflatex", "-interaction=nonstopmode", "-halt-on-error", "t.tex"],

@@ -46,7 +46,7 @@ _MATH_CHARS = {"η": r"\eta", "Γ": r"\Gamma", "σ": r"\sigma", "↑": r"\uparro
                "−": "-", "θ": r"\theta", "φ": r"\phi", "×": r"\times"}
 _GREEK = {k: f"${v}$" for k, v in _MATH_CHARS.items()}
 _NAME_BASES = ("R", "W", "Q", "Z", "Y")
-_PACKAGES = r"\usepackage{amsmath,booktabs,longtable,array}"
+_PACKAGES = r"\usepackage{amsmath,booktabs,longtable,array,dcolumn}"
 
 
 def tex_escape(text):
@@ -358,7 +358,8 @@ def _number_tex(value, digits):
     with mpmath.workdps(digits):
         text = mpmath.nstr(value, digits)
     mant, _, exp = text.partition("e")
-    return f"${mant}" + (rf"\times 10^{{{int(exp)}}}$" if exp else "$")
+    # a D column (dcolumn): aligned on the decimal point, math mode (a true minus sign)
+    return mant + (rf"\times 10^{{{int(exp)}}}" if exp else "")
 
 
 #: kind -> (sign, operator with %a, %b for the modes and %s, %t for spins; spin-summed?)
@@ -475,8 +476,8 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
     cols += ["r", r">{\raggedright\arraybackslash}p{0.45\linewidth}"]
     head += [r"$g$", r"$E$"]
     if values is not None:
-        cols.append("r")
-        head.append(r"value")
+        cols.append(r"D{.}{.}{-1}")
+        head.append(r"\multicolumn{1}{c}{value}")
 
     rows = []
     last_n = None
