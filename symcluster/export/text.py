@@ -255,7 +255,7 @@ def format_table(spectrum, point=None, digits=12, verification="full"):
                 out.append(cell.ljust(widths[k]))
         return "  ".join(out).rstrip()
 
-    lines = [f"# {version_line()}: {spectrum.model.describe()}"]
+    lines = [f"# {spectrum.model.describe()}", f"# written by {version_line()}"]
     fixed = getattr(spectrum, "fixed", None)
     if fixed:
         lines.append("# fixed couplings: " + ", ".join(f"{k}={_rat(v)}" for k, v in fixed.items()))
