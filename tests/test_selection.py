@@ -240,3 +240,48 @@ def test_selected_dense_tier_rejects_a_moved_level():
     _shift_level(lev, sympy.Rational(1, 1000))
     with pytest.raises(VerificationError, match="selected"):
         verify_spectrum(spec, digits=30, seed=2, lattice=_lattice(spec), selection=spec.sectors)
+
+
+@pytest.mark.parametrize("text, words", [
+    ("N=4,spin=0", "key 'spin' is unknown"),
+    ("N=4,S", "is not KEY=VALUE"),
+    ("N=4;;N=3", "an empty group"),
+    ("N=four", "not an electron number"),
+    ("N=4,S=1/3", "impossible"),
+    ("N=4,N=3", "given twice"),
+    ("N=9", "impossible on 4 sites"),
+    ("N=4,k=1/3", "not a momentum"),
+    ("N=4,S=__import__('os')", "not a number"),
+])
+def test_command_line_bad_sectors_exit_2_with_one_line(tmp_path, capsys, text, words):
+    from symcluster.cli import main
+    from helpers_cli import error_line
+    out = tmp_path / "x.json"
+    assert main(["levels", "ring", "4", "--sectors", text, "--json", str(out)]) == 2
+    line = error_line(capsys, quiet_stdout=True)
+    assert words in line
+    assert not out.exists()                 # nothing written
+
+
+def test_command_line_sectors_with_electrons_is_refused(capsys):
+    from symcluster.cli import main
+    from helpers_cli import error_line
+    assert main(["levels", "ring", "4", "--sectors", "N=4", "--electrons", "4"]) == 2
+    assert "--sectors and --electrons" in error_line(capsys, quiet_stdout=True)
+
+
+def test_command_line_sectors_solves_and_records_the_selection(tmp_path, capsys):
+    import json
+    from symcluster.cli import main
+    out = tmp_path / "x.json"
+    assert main(["levels", "ring", "4", "--sectors", "N=3,S=1/2,k=1;N=4,S=0,k=0",
+                 "--at", "t=1,U=37/10", "--json", str(out)]) == 0
+    text = capsys.readouterr().out
+    assert "# selected sectors only: N=3,S=1/2,k=1;N=4,S=0,k=0" in text
+    doc = json.loads(out.read_text())
+    assert doc["sectors"] == "N=3,S=1/2,k=1;N=4,S=0,k=0"
+    got = sorted(float(lev["values"]["12"]) for lev in doc["levels"]
+                 if lev["quantum_numbers"]["N"] == 3
+                 for _ in range(lev["degeneracy"] // 2))
+    assert max(abs(a - b) for a, b in zip(got, _selected_reference(4, 3, 0.5, 1.0))) < 1e-9
+    assert len(got) == len(_selected_reference(4, 3, 0.5, 1.0))

@@ -92,8 +92,8 @@ def plain_group_action(space, sector, perms):
     --------
     >>> import symcluster as sc
     >>> pos, sg = plain_group_action(sc.hubbard(sc.ring(3)).space, (2, 0), [(1, 2, 0)])
-    >>> pos.tolist(), sg.tolist()     # c+_0 c+_1 -> c+_1 c+_2; c+_0 c+_2 -> c+_1 c+_0
-    ([[2, 0, 1]], [[1.0, -1.0, 1.0]])
+    >>> pos.tolist(), sg.tolist()     # c+_0 c+_2 -> c+_1 c+_0 = -c+_0 c+_1, c+_1 c+_2 -> c+_2 c+_0
+    ([[2, 0, 1]], [[1.0, -1.0, -1.0]])
     """
     occ = sector_occupations(space, *sector)
     m = space.n_modes
