@@ -51,7 +51,7 @@ from symcluster.verify.modular import _charpoly_mod, _label_matrices, _poly_mod
 from symcluster.verify.plain import _keys, sector_matrices, sector_matrix, sector_occupations
 from symcluster.verify.sectors import _factor_groups, _sector_shares
 
-__all__ = ["SectorProjector", "selected_classes", "plain_group_action",
+__all__ = ["SectorProjector", "sector_projector", "selected_classes", "plain_group_action",
            "check_selected_sectors"]
 
 
@@ -300,6 +300,26 @@ class SectorProjector:
         return out
 
 
+def sector_projector(space, sector, selection, lattice=None, eta_signs=None):
+    """The :class:`SectorProjector` of one sector for a (normalised) selection.
+
+    Examples
+    --------
+    >>> import symcluster as sc
+    >>> from symcluster.blocks.selection import normalise_selection
+    >>> space = sc.hubbard(sc.ring(4)).space
+    >>> sector_projector(space, (2, 2), normalise_selection([{"N": 4, "S": 0}])).exact_trace()
+    20
+    """
+    n = sector[0] + sector[1]
+    proj = SectorProjector(space, sector, [], lattice, eta_signs)
+    irreps = lattice.irreps if lattice is not None else []
+    proj.classes = selected_classes(selection, n if space.has_charge else None,
+                                    sector[0] - sector[1], proj.spins, proj.etas, irreps)
+    proj.trivial = all(c == (None, None, None) for c in proj.classes)
+    return proj
+
+
 def _dense(matrix, by_label):
     rows, cols, vals = matrix.numeric(by_label)
     h = np.zeros((matrix.dim, matrix.dim))
@@ -375,7 +395,6 @@ def check_selected_sectors(spectrum, selection, values, points, primes, forms, l
         if eta_signs is None:
             _fail("the levels carry eta but the cluster's bond graph has no two-colouring "
                   "of its modes (internal error)")
-    irreps = lattice.irreps if lattice is not None else []
     out = {"sectors": 0, "dense": 0, "lanczos": 0, "counted": 0, "worst": 0.0,
            "lanczos_residual": 0.0}
     todo = sorted(s for s in by_sector if not (spin_labels and s[0] < s[1]))
@@ -386,10 +405,7 @@ def check_selected_sectors(spectrum, selection, values, points, primes, forms, l
             progress.step()
         members = by_sector[sector]
         n = sector[0] + sector[1]
-        proj = SectorProjector(space, sector, [], lattice, eta_signs)
-        proj.classes = selected_classes(selection, n if space.has_charge else None,
-                                        sector[0] - sector[1], proj.spins, proj.etas, irreps)
-        proj.trivial = all(c == (None, None, None) for c in proj.classes)
+        proj = sector_projector(space, sector, selection, lattice, eta_signs)
         if not proj.classes:
             _fail(f"sector {sector} holds levels that the selection does not name")
         got = sum(s for _, s in members)
