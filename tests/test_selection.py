@@ -285,3 +285,29 @@ def test_command_line_sectors_solves_and_records_the_selection(tmp_path, capsys)
                  for _ in range(lev["degeneracy"] // 2))
     assert max(abs(a - b) for a, b in zip(got, _selected_reference(4, 3, 0.5, 1.0))) < 1e-9
     assert len(got) == len(_selected_reference(4, 3, 0.5, 1.0))
+
+
+@pytest.mark.parametrize("model, sel, full_options", [
+    (sc.heisenberg(sc.ring(6)), {"S": 0, "k": 0}, {}),
+    (sc.hubbard(sc.ring(4)), {"N": 3, "Sz": "-1/2", "k": "1/2"}, {"electrons": 3}),
+])
+def test_selection_on_spin_models_and_without_spin_symmetry(model, sel, full_options):
+    # the selection equals the matching levels of the full solve (whose levels the suite
+    # checks against independent references); the verification's projectors act on the
+    # spin space and on Sz-labelled levels too
+    spin = "Sz" not in sel
+    part = sc.solve(model, sectors=[sel], spin=spin, seed=3)
+    full = sc.solve(model, spin=spin, seed=3, **full_options)
+    point = {s.name: v for s, v in zip(full.symbols, (1, sympy.Rational(37, 10)))}
+    keys = [k for k in sel if k != "k"]
+
+    def wanted(l):
+        qn = l.quantum_numbers
+        ks = qn["k"] if isinstance(qn["k"], tuple) else (qn["k"],)
+        return all(qn[k] == sympy.Rational(sel[k]) for k in keys) and any(
+            x == sympy.Rational(sel["k"]) * sympy.pi for x in ks)
+
+    def values(levels):
+        return sorted(mpmath.nstr(l.numeric(point, digits=25), 18) for l in levels
+                      for _ in range(l.degeneracy))
+    assert part.levels and values(part.levels) == values([l for l in full.levels if wanted(l)])

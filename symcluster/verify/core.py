@@ -353,6 +353,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     space = model.space
     L = space.n_modes
     n_fixed = None if space.has_charge else space.n_modes
+    selection_lattice = lattice     # the selection's projectors act on any local space
     # the lattice-label check reads sectors as products of up and down spin blocks
     if space.kind != "electrons" or space.projected:
         lattice = None
@@ -483,8 +484,7 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     if selection is not None:
         from symcluster.verify.selected import check_selected_sectors
         got = check_selected_sectors(spectrum, selection, values, points, primes, forms,
-                                     lattice if space.kind == "electrons" else None,
-                                     float_dim, seed, progress)
+                                     selection_lattice, float_dim, seed, progress)
         report.add("selected sectors: states of the selected levels = trace of the plain "
                    "projector onto the selected spins and irreps (characters, exact)",
                    "sectors holding selected levels, no eta selected", worst=0.0,
