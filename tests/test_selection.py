@@ -217,9 +217,23 @@ def _shift_level(lev, delta):
     lev.polynomial = poly
 
 
-def test_projected_lanczos_rejects_a_moved_lowest_level():
-    # mutation test of the large-sector tier: the lowest selected level moved by t/1000
+def test_exact_selected_traces_reject_a_moved_level():
+    # mutation test of the exact trace check (Tr P H at each point, from characters and the
+    # plain matrices): the lowest selected level moved by t/1000
     spec = sc.solve(sc.hubbard(sc.ring(6)), sectors=[{"N": 6, "S": 0, "k": 0}], seed=5)
+    low = min(spec.levels, key=lambda l: l.numeric(POINT))
+    _shift_level(low, sympy.Rational(1, 1000))
+    with pytest.raises(VerificationError, match="exact trace of H"):
+        _large_check(spec)
+
+
+def test_projected_lanczos_rejects_a_moved_lowest_level():
+    # mutation test of the large-sector tier alone: with eta selected there is no exact
+    # count or trace (docs/verification.md), so only the projected Lanczos iteration (the
+    # (3, 3) sector's 400 states above the lowered float_dim) can see the moved level
+    spec = sc.solve(sc.hubbard(sc.ring(6)), sectors=[{"N": 6, "S": 0, "eta": 0, "k": 0}],
+                    seed=5)
+    _large_check(spec)
     low = min(spec.levels, key=lambda l: l.numeric(POINT))
     _shift_level(low, sympy.Rational(1, 1000))
     with pytest.raises(VerificationError, match="Lanczos"):

@@ -484,11 +484,15 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     if selection is not None:
         from symcluster.verify.selected import check_selected_sectors
         got = check_selected_sectors(spectrum, selection, values, points, primes, forms,
-                                     selection_lattice, float_dim, seed, progress)
+                                     selection_lattice, float_dim, seed, progress, digits)
         report.add("selected sectors: states of the selected levels = trace of the plain "
                    "projector onto the selected spins and irreps (characters, exact)",
                    "sectors holding selected levels, no eta selected", worst=0.0,
                    sectors=got["counted"], states=total)
+        report.add("selected sectors: sum of share*E^m of the selected levels = exact Tr P H^m "
+                   "(m = 1, 2; characters and the plain sector matrices, in integers)",
+                   "sectors holding selected levels, no eta selected", points, 0.0,
+                   sectors=got["traced"])
         report.add("selected sectors: float64 eigenvalues of the plain sector matrix on the "
                    "selected subspace (projector trace per eigenspace); exact divisibility "
                    "of det(x - H_sector) by the selected levels' polynomials (modulo a "

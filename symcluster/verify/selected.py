@@ -265,6 +265,43 @@ class SectorProjector:
             rest = rest - self._one(cls, rest)
         return x - rest
 
+    def exact_power_traces(self, model, point_by_label):
+        """Exact ``[Tr P, Tr P H, Tr P H^2]`` (Fractions) at a rational point, or None where
+        the count is not known exactly (see :meth:`exact_trace`).
+
+        ``Tr P X = sum over selected spins s of sum_g w(g) [Tr U(g) X on S^z = s minus on
+        S^z = s + 1]`` for X = 1, H, H^2 (X commutes with spin and with every U(g)); the
+        traces come from the plain sector matrices in integers (:func:`_group_traces`).
+        """
+        from fractions import Fraction
+        if any(e is not None for _, e, _ in self.classes) or len(self.classes) != 1:
+            return None
+        s_set, _, g_set = self.classes[0]
+        spins = self.spins if s_set is None else s_set
+        if self.lattice is not None and g_set is not None:
+            perms = list(self.lattice.group.elements)
+            irreps, order = self.lattice.irreps, self.lattice.group.order
+            w = [sum(Fraction(irreps[j].character[g] * irreps[j].dim, order) for j in g_set)
+                 for g in range(len(perms))]
+        else:
+            perms, w = [tuple(range(self.space.n_modes))], [Fraction(1)]
+        n = self.sector[0] + self.sector[1]
+        cache = {}
+
+        def traced(u, d):
+            if (u, d) not in cache:
+                per_g, scale = _group_traces(model, (u, d), perms, point_by_label)
+                cache[u, d] = [sum((wg * t[m] for wg, t in zip(w, per_g)), Fraction(0))
+                               / scale ** m for m in range(3)]
+            return cache[u, d]
+        total = [Fraction(0)] * 3
+        for s in spins:
+            two = int(2 * s)
+            u, d = (n + two) // 2, (n - two) // 2
+            a, b = traced(u, d), traced(u + 1, d - 1)
+            total = [x + y - z for x, y, z in zip(total, a, b)]
+        return total
+
     def exact_trace(self):
         """The number of selected states (an int), or None where it is not known
         exactly (a selected eta).  By characters: ``sum_g w(g) Tr U(g)`` over the sector
@@ -298,6 +335,50 @@ class SectorProjector:
             _fail(f"sector {self.sector}: the characters give {total} selected states, "
                   "not an integer")
         return out
+
+
+def _group_traces(model, sector, perms, point_by_label):
+    """Exact ``[Tr U(g), Tr U(g) K, Tr U(g) K^2]`` per element g on one sector, and the
+    scale s with H = K / s at the point (K an integer matrix from the plain route).
+
+    ``U(g)|j> = sign_j |pos_j>``, so ``Tr U(g) A = sum_j sign_j A[j, pos_j]``, and for the
+    symmetric K, ``(K^2)[j, pos_j] = sum_l K[j, l] K[pos_j, l]``: every entry K[j, l]
+    meets the entry at (pos_j, l), looked up among the sorted positions of K.
+    """
+    from symcluster.verify.large import integer_matrix
+    from fractions import Fraction
+    space = model.space
+    u, d = sector
+    if not (0 <= u <= space.n_modes and 0 <= d <= space.n_modes) or not space.sector_dim(u, d):
+        return [[0, 0, 0] for _ in perms], 1
+    matrix = sector_matrix(model, u, d)
+    dim = matrix.dim
+    rows, cols, vals, scale = integer_matrix(matrix, {k: Fraction(v) for k, v in
+                                                      point_by_label.items()})
+    keys = rows * dim + cols                      # ascending (integer_matrix sorts them)
+    pos, sign = plain_group_action(space, sector, perms)
+    out = []
+    for g in range(len(perms)):
+        sg = sign[g].astype(np.int64)
+        p = pos[g]
+        t0 = int(sg[p == np.arange(dim)].sum())
+        t1 = _lookup_sum(keys, vals, np.arange(dim) * dim + p, sg)
+        # entries (j, l): partner (pos_j, l)
+        t2 = _lookup_sum(keys, vals, p[rows] * dim + cols, sg[rows] * 1, weights=vals)
+        out.append([t0, t1, t2])
+    return out, scale
+
+
+def _lookup_sum(keys, vals, want, signs, weights=None):
+    """sum_i signs_i * weights_i * K[want_i] (K given by its sorted keys and values; 0 where
+    absent), exactly (Python integers)."""
+    if not len(keys):
+        return 0
+    at = np.minimum(np.searchsorted(keys, want), len(keys) - 1)
+    hit = keys[at] == want
+    got = vals[at[hit]]
+    term = got * signs[hit] if weights is None else got * weights[hit] * signs[hit]
+    return int(np.sum(term.astype(object))) if len(term) else 0
 
 
 def sector_projector(space, sector, selection, lattice=None, eta_signs=None):
@@ -347,8 +428,29 @@ def _selected_eigenvalues(h, proj, sector):
     return out, scale
 
 
+def _check_traces(traces, members, vals, point_by_label, sector, digits, pt):
+    """The selected levels carry the exact Tr P H and Tr P H^2 of their subspace (values at
+    digits + 5 digits; tolerance 10^-digits of max(sum share |E|^m, count * s^m), s the
+    largest |coupling|, as for the large sectors)."""
+    import mpmath
+    from fractions import Fraction
+    scale = max((abs(Fraction(v)) for v in point_by_label.values()), default=Fraction(1))
+    count = sum(share for _, share in members)
+    with mpmath.workdps(digits + 10):
+        for m in (1, 2):
+            got = mpmath.fsum(share * vals[li] ** m for li, share in members)
+            norm = max(mpmath.fsum(share * abs(vals[li]) ** m for li, share in members),
+                       max(count, 1) * mpmath.mpf(scale.numerator) ** m / scale.denominator ** m)
+            want = mpmath.mpf(traces[m].numerator) / traces[m].denominator
+            dev = abs(got - want) / norm
+            if dev > mpmath.mpf(10) ** (-digits):
+                _fail(f"sector {sector} at {pt}: the selected levels' sum of share*E^{m} "
+                      f"differs from the exact trace of H^{m} on the selected subspace by "
+                      f"{mpmath.nstr(dev, 3)} (relative)")
+
+
 def check_selected_sectors(spectrum, selection, values, points, primes, forms, lattice,
-                           float_dim, seed, progress=None):
+                           float_dim, seed, progress=None, digits=30):
     """Check the levels of a sector selection against the plain sector matrices.
 
     Parameters
@@ -395,7 +497,7 @@ def check_selected_sectors(spectrum, selection, values, points, primes, forms, l
         if eta_signs is None:
             _fail("the levels carry eta but the cluster's bond graph has no two-colouring "
                   "of its modes (internal error)")
-    out = {"sectors": 0, "dense": 0, "lanczos": 0, "counted": 0, "worst": 0.0,
+    out = {"sectors": 0, "dense": 0, "lanczos": 0, "counted": 0, "traced": 0, "worst": 0.0,
            "lanczos_residual": 0.0}
     todo = sorted(s for s in by_sector if not (spin_labels and s[0] < s[1]))
     if progress is not None:
@@ -415,9 +517,14 @@ def check_selected_sectors(spectrum, selection, values, points, primes, forms, l
             if exact != got:
                 _fail(f"sector {sector}: the selected levels hold {got} states, but the "
                       f"selected subspace of the sector has {exact}")
+        by_label = [{s.name: v for s, v in pt.items()} for pt in points]
+        if exact is not None:
+            out["traced"] += 1
+            for pi, lab in enumerate(by_label):
+                _check_traces(proj.exact_power_traces(model, lab), members, values[pi],
+                              lab, sector, digits, points[pi])
         matrix = sector_matrix(model, *sector)
         dim = matrix.dim
-        by_label = [{s.name: v for s, v in pt.items()} for pt in points]
         level_vals = sorted(float(values[0][li]) for li, share in members for _ in range(share))
         out["sectors"] += 1
         if dim <= min(float_dim, SELECTED_DENSE_DIM):
