@@ -201,7 +201,14 @@ def parse_sectors(text, option="--sectors"):
 
 
 def momenta_of(k):
-    """A level's momentum label (sympy expression or tuple of them) as Fractions of pi."""
+    """A level's momentum label (sympy expression or tuple of them) as Fractions of pi.
+
+    Examples
+    --------
+    >>> import sympy
+    >>> momenta_of((-sympy.pi / 2, sympy.pi / 2)), momenta_of(sympy.Integer(0)), momenta_of(None)
+    ((Fraction(-1, 2), Fraction(1, 2)), (Fraction(0, 1),), ())
+    """
     if k is None:
         return ()
     ks = k if isinstance(k, tuple) else (k,)
@@ -240,6 +247,16 @@ def block_levels(plan, n_sites, sector, irrep, has_charge=True):
     The same labels as the solve writes: ``N`` of each eta member, ``S`` or ``Sz``
     (and the S^z members in a field), ``eta``, the lattice ``irrep`` of each member
     (moved by the sublattice character for odd eta steps) and its momentum ``k``.
+
+    Examples
+    --------
+    >>> import symcluster as sc
+    >>> from symcluster.blocks.build import plan_symmetries
+    >>> plan = plan_symmetries(sc.hubbard(sc.chain(2)), lattice=False)
+    >>> [qn["N"] for qn in block_levels(plan, 2, (1, 1), None)]    # eta = 0: N = 2 only
+    [2]
+    >>> [(qn["N"], qn["eta"]) for qn in block_levels(plan, 2, (0, 0), None)]
+    [(0, 1), (2, 1), (4, 1)]
     """
     from symcluster.blocks.build import eta_member_irrep
     n_up, n_dn = sector
@@ -270,7 +287,17 @@ def block_levels(plan, n_sites, sector, irrep, has_charge=True):
 
 
 def block_needed(selection, plan, n_sites, sector, irrep, has_charge=True):
-    """True if a block (sector, lattice irrep or None) gives at least one selected level."""
+    """True if a block (sector, lattice irrep or None) gives at least one selected level.
+
+    Examples
+    --------
+    >>> import symcluster as sc
+    >>> from symcluster.blocks.build import plan_symmetries
+    >>> plan = plan_symmetries(sc.hubbard(sc.chain(2)), lattice=False)
+    >>> sel = normalise_selection([{"N": 4}])
+    >>> block_needed(sel, plan, 2, (0, 0), None), block_needed(sel, plan, 2, (1, 1), None)
+    (True, False)
+    """
     return any(level_matches(selection, qn)
                for qn in block_levels(plan, n_sites, sector, irrep, has_charge))
 
@@ -289,6 +316,17 @@ def check_selection(selection, space, plan):
     ------
     InputError
         One line naming the key or value and what the model's levels carry.
+
+    Examples
+    --------
+    >>> import symcluster as sc
+    >>> from symcluster.blocks.build import plan_symmetries
+    >>> model = sc.hubbard(sc.chain(2))
+    >>> plan = plan_symmetries(model, spin=False)
+    >>> check_selection(normalise_selection([{"N": 2, "S": 0}]), model.space, plan)
+    Traceback (most recent call last):
+    ...
+    symcluster.errors.InputError: sector N=2,S=0: these levels carry no S (spin SU(2) was not found or is switched off); select by Sz instead
     """
     sectors = [s for s in space.sectors() if space.sector_dim(*s) > 0]
     irreps = plan.lattice.irreps if plan.lattice is not None else []

@@ -125,7 +125,16 @@ def plain_group_action(space, sector, perms):
 
 def selected_classes(selection, n, two_sz, spins, etas, irreps):
     """For one sector: per selection dict that can hold states of N = n, the selected
-    spins, etas and irreps (None = every one): a list of (spins, etas, irreps)."""
+    spins, etas and irreps (None = every one): a list of (spins, etas, irreps).
+
+    Examples
+    --------
+    >>> import sympy
+    >>> from symcluster.blocks.selection import normalise_selection
+    >>> sel = normalise_selection([{"N": 4, "S": 0}, {"N": 3}])
+    >>> selected_classes(sel, 4, 0, [0, 1, 2], [0, 1, 2], [])
+    [([0], None, None)]
+    """
     from symcluster.blocks.selection import momenta_of
     out = []
     for sel in selection:
@@ -476,8 +485,18 @@ def check_selected_sectors(spectrum, selection, values, points, primes, forms, l
     -------
     dict
         ``sectors``, ``dense``, ``lanczos``, ``counted`` (sectors whose count was
-        checked by characters), ``worst`` (the largest relative deviation) and
-        ``lanczos_residual``.
+        checked by characters), ``traced`` (those whose exact traces were checked),
+        ``worst`` (the largest relative deviation) and ``lanczos_residual``.
+
+    Examples
+    --------
+    It runs inside :func:`symcluster.verify.core.verify_spectrum` for every solve with
+    ``sectors=``:
+
+    >>> import symcluster as sc
+    >>> spec = sc.solve(sc.hubbard(sc.ring(4)), sectors=[{"N": 4, "S": 0}], seed=1)
+    >>> [c["sectors"] for c in spec.verification.checks if "selected sectors" in c["check"]]
+    [1, 1, 1]
     """
     model = spectrum.model
     space = model.space
