@@ -325,3 +325,21 @@ def test_selection_on_spin_models_and_without_spin_symmetry(model, sel, full_opt
         return sorted(mpmath.nstr(l.numeric(point, digits=25), 18) for l in levels
                       for _ in range(l.degeneracy))
     assert part.levels and values(part.levels) == values([l for l in full.levels if wanted(l)])
+
+
+def test_dense_selected_eigenvalues_keep_close_distinct_eigenvalues_apart():
+    # found by worked/ring_ground_sector.py at U/t = 0.02: two distinct eigenvalues 5e-9
+    # apart (relative), one selected, must not be merged into their mean
+    import numpy as np
+    from symcluster.verify.selected import selected_eigenvalues
+    rng = np.random.default_rng(1)
+    q, _ = np.linalg.qr(rng.standard_normal((6, 6)))
+    vals = np.array([-1.0, 0.0, 5e-9, 5e-9, 0.5, 1.0])       # 5e-9 twice: one eigenspace
+    h = q @ np.diag(vals) @ q.T
+    pick = q[:, [2, 4]]                                     # one of the pair, and 0.5
+    ev, scale = selected_eigenvalues(h, lambda x: pick @ (pick.T @ x))
+    assert scale == 1.0 and len(ev) == 2
+    assert abs(ev[0] - 5e-9) < 1e-14 and abs(ev[1] - 0.5) < 1e-14
+    pick = q[:, [1]]                                        # 0, next to the pair at 5e-9
+    ev, _ = selected_eigenvalues(h, lambda x: pick @ (pick.T @ x))
+    assert len(ev) == 1 and abs(ev[0]) < 1e-14
