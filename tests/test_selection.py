@@ -343,3 +343,20 @@ def test_dense_selected_eigenvalues_keep_close_distinct_eigenvalues_apart():
     pick = q[:, [1]]                                        # 0, next to the pair at 5e-9
     ev, _ = selected_eigenvalues(h, lambda x: pick @ (pick.T @ x))
     assert len(ev) == 1 and abs(ev[0]) < 1e-14
+
+
+def test_selection_in_a_field():
+    # a uniform field splits the multiplets (levels carry S and Sz); the S^z sectors do not
+    # share energies, so the exact traces take no differences of them.  The selection
+    # equals the matching levels of the full solve.
+    model = sc.with_field(sc.hubbard(sc.ring(4)))
+    part = sc.solve(model, sectors=[{"N": 3, "S": "1/2", "Sz": "-1/2"}], seed=2)
+    full = sc.solve(model, electrons=3, seed=2)
+    point = {"t": 1, "U": sympy.Rational(37, 10), "h": sympy.Rational(2, 7)}
+
+    def values(levels):
+        return sorted(mpmath.nstr(l.numeric(point, digits=25), 18) for l in levels
+                      for _ in range(l.degeneracy))
+    want = [l for l in full.levels if l.quantum_numbers["S"] == sympy.Rational(1, 2)
+            and l.quantum_numbers["Sz"] == sympy.Rational(-1, 2)]
+    assert part.levels and values(part.levels) == values(want)
