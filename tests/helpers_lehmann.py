@@ -177,3 +177,30 @@ class LehmannReference:
                            np.exp(-(beta - tau) * np.abs(om)) / (1 + np.exp(-beta * np.abs(om))))
             out.append(-(w * val).sum())
         return np.array(out)
+
+
+def correlation_reference(ref, N=None, T=None, mu=None, level_energy=None):
+    """<n_i n_j>, <S_i.S_j>, <Sz_i Sz_j>, <n_i up n_i dn>, <Delta_i+ Delta_j> from dense
+    operators (Delta_i = c_i dn c_i up), in the ensemble of ``ref.probabilities``."""
+    f = ref.f
+    M = f.M
+    if level_energy is not None:
+        p = ((np.abs(ref.E - level_energy) < 1e-9) & (ref.ns == N)).astype(float)
+        p /= p.sum()
+    else:
+        p = ref.probabilities(N, T, ref.default_mu(N) if mu is None and N is not None else mu)
+    rho = (ref.V * p[None, :]) @ ref.V.T
+
+    def ev(op):
+        return float(np.trace(rho @ op))
+    n = [f.n(m, 0) + f.n(m, 1) for m in range(M)]
+    sz = [(f.n(m, 0) - f.n(m, 1)) / 2 for m in range(M)]
+    sp = [f.cd(m, 0) @ f.c(m, 1) for m in range(M)]
+    delta = [f.c(m, 1) @ f.c(m, 0) for m in range(M)]
+    out = {"density": [[ev(n[i] @ n[j]) for j in range(M)] for i in range(M)],
+           "sz": [[ev(sz[i] @ sz[j]) for j in range(M)] for i in range(M)],
+           "spin": [[ev(sz[i] @ sz[j] + (sp[i] @ sp[j].T + sp[i].T @ sp[j]) / 2)
+                     for j in range(M)] for i in range(M)],
+           "double_occupancy": [ev(f.n(m, 0) @ f.n(m, 1)) for m in range(M)],
+           "pair": [[ev(delta[i].T @ delta[j]) for j in range(M)] for i in range(M)]}
+    return out

@@ -129,12 +129,10 @@ class GreensFunction:
             raise ModelError(f"n_max={n_max!r} must be an integer 1..1000000")
         with mpmath.workdps(self.digits + 10):
             b = self._check_beta(beta)
-            out = []
-            for n in range(n_max):
-                z = mpmath.mpc(0, (2 * n + 1) * mpmath.pi / b)
-                out.append(+sum((w / (z - om) for om, w in self.poles), mpmath.mpc(0)))
+            out = _matsubara_sums([om for om, _ in self.poles], [[w for _, w in self.poles]],
+                                  b, n_max, self.digits)[0]
             self._check_tail(out[-1], (2 * n_max - 1) * mpmath.pi / b)
-            return [+v for v in out]
+            return out
 
     def _check_tail(self, value, wn):
         m0, m1 = self.moments["m0"], self.moments["m1"]
@@ -303,11 +301,50 @@ class GreensMatrix:
                               self.description)
 
     def matsubara(self, beta, n_max):
-        """All G_ij(i omega_n) at once: list over n of M x M nested lists of mpc."""
-        gs = {(i, j): self.element(i, j) for i in range(self.n_modes) for j in range(i, self.n_modes)}
-        vals = {key: g.matsubara(beta, n_max) for key, g in gs.items()}
-        return [[[vals[(min(i, j), max(i, j))][n] for j in range(self.n_modes)]
-                 for i in range(self.n_modes)] for n in range(n_max)]
+        """All G_ij(i omega_n) at once: list over n of M x M nested lists of mpc (each
+        element's tail checked as in :meth:`GreensFunction.matsubara`)."""
+        M = self.n_modes
+        pairs = [(i, j) for i in range(M) for j in range(i, M)]
+        elements = {key: self.element(*key) for key in pairs}
+        with mpmath.workdps(self.digits + 10):
+            b = elements[pairs[0]]._check_beta(beta)
+            cols = [[W[i][j] for W in self.weights] for i, j in pairs]
+            sums = _matsubara_sums(self.omegas, cols, b, n_max, self.digits)
+            last = (2 * n_max - 1) * mpmath.pi / b
+            for key, vals in zip(pairs, sums):
+                elements[key]._check_tail(vals[-1], last)
+        vals = dict(zip(pairs, sums))
+        return [[[vals[(min(i, j), max(i, j))][n] for j in range(M)] for i in range(M)]
+                for n in range(n_max)]
+
+
+def _matsubara_sums(omegas, columns, beta, n_max, digits):
+    """sum_p columns[c][p] / (i w_n - omega_p) for every column c and n < n_max, in ball
+    arithmetic (two real matrix products); returns [c][n] -> mpc."""
+    P = len(omegas)
+    with arb_precision(digits + 10):
+        from symcluster.response.eigen import to_arb
+        b = to_arb(beta)
+        step = 2 * flint.arb.pi() / b
+        om = [to_arb(x) for x in omegas]
+        om2 = [x * x for x in om]
+        kre = flint.arb_mat(n_max, max(P, 1))
+        kim = flint.arb_mat(n_max, max(P, 1))
+        for n in range(n_max):
+            wn = step * (n + flint.arb(1) / 2)
+            wn2 = wn * wn
+            for p in range(P):
+                inv = 1 / (om2[p] + wn2)
+                kre[n, p] = -om[p] * inv
+                kim[n, p] = -wn * inv
+        W = flint.arb_mat(max(P, 1), len(columns))
+        for c, col in enumerate(columns):
+            for p in range(P):
+                W[p, c] = to_arb(col[p])
+        re = (kre * W).tolist()
+        im = (kim * W).tolist()
+        return [[mpmath.mpc(to_mpf(re[n][c]), to_mpf(im[n][c])) for n in range(n_max)]
+                for c in range(len(columns))]
 
 
 def translation_shift(model):
