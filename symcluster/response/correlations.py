@@ -57,8 +57,8 @@ class Correlations:
         Examples
         --------
         >>> import symcluster as sc
-        >>> c = correlations(sc.solve(sc.hubbard(sc.ring(4))), {"t": 1, "U": 0}, N=4, digits=20)
-        >>> mpmath.nstr(c.structure_factor(0), 10)     # total spin zero: S(0) = S_tot^2 / L
+        >>> c = correlations(sc.solve(sc.hubbard(sc.ring(4))), {"t": 1, "U": 2}, N=4, digits=20)
+        >>> mpmath.nstr(c.structure_factor(0), 10)     # singlet ground state: S(0) = S_tot^2 / L
         '0.0'
         """
         if self.positions is None:
