@@ -102,8 +102,7 @@ def level_ensemble(system, level):
             continue
         if not any(lev is level for lev, _, _ in levels):
             continue
-        eig = system.sector(*sec)
-        for sp in eig.spaces:
+        for sp in system.spaces(*sec):
             if any(lev is level for lev in sp.levels):
                 if len(sp.levels) > 1:
                     raise ModelError("this level is degenerate with another level at the point; "
@@ -189,8 +188,11 @@ def _measure(system, ens):
     n1 = n2 = s1 = s2 = zero
     err = mpmath.mpf(ens.dropped) * 16
     with arb_precision(system.work + 10), mpmath.workdps(system.work + 10):
+        by_sector = {}
         for mem in ens.members:
-            eig = system.sector(*mem.sector)
+            by_sector.setdefault(mem.sector, []).append(mem.space)
+        for mem in ens.members:
+            eig = system.vectors(*mem.sector, by_sector[mem.sector])
             p = to_arb(mpmath.mpf(mem.prob))
             rows = eig.rows
             states = eig.states

@@ -144,8 +144,8 @@ class Eigenspace:
     dim: int
     columns: list
     levels: list
-    eps: float = 0.0
-    eta: float = 0.0
+    eps: object = None       # set when the eigenspace is refined and certified
+    eta: object = None
 
 
 @dataclass
@@ -216,6 +216,8 @@ class PointSystem:
         self._action = HamiltonianAction(model)
         self._level_values = {}
         self._sectors = {}
+        self._partial = {}
+        self._prepared = {}
 
     # ----- levels ---------------------------------------------------------------------
     def _values_of_n(self, n):
@@ -252,19 +254,39 @@ class PointSystem:
                              f"electron numbers, or include N={n} in electrons=")
         return out
 
-    def energy(self, space):
-        return space.value
+    def worst_eps(self):
+        """The largest projector bound of the eigenspaces certified so far."""
+        return max((sp.eps for prep in self._prepared.values() for sp in prep["spaces"]
+                    if sp.eps is not None), default=0.0)
 
     # ----- sectors ----------------------------------------------------------------------
     def has_sector(self, n_up, n_dn):
         return self.space.sector_dim(n_up, n_dn) > 0
 
     def sector(self, n_up, n_dn):
-        """The :class:`SectorEigen` of sector (n_up, n_dn), computed once."""
+        """The :class:`SectorEigen` of sector (n_up, n_dn), every eigenspace refined and
+        certified; computed once."""
         key = (n_up, n_dn)
         if key not in self._sectors:
-            self._sectors[key] = self._solve_sector(n_up, n_dn)
+            self._sectors[key] = self._refine_sector(key, None)
         return self._sectors[key]
+
+    def spaces(self, n_up, n_dn):
+        """The eigenspaces of a sector (values, dimensions, columns), before refinement."""
+        return self._prepare(n_up, n_dn)["spaces"]
+
+    def vectors(self, n_up, n_dn, spaces):
+        """A :class:`SectorEigen` whose columns of ``spaces`` are refined and certified
+        (the whole sector if it was computed already; else only those columns, the others
+        staying float64 approximations that the caller must not use)."""
+        key = (n_up, n_dn)
+        if key in self._sectors:
+            return self._sectors[key]
+        want = frozenset(id(sp) for sp in spaces)
+        part = self._partial.get(key)
+        if part is None or not want <= part[0]:
+            self._partial[key] = (want, self._refine_sector(key, spaces))
+        return self._partial[key][1]
 
     def exact_matrix(self, states, index):
         """H of a sector at the point: ``{(row, col): Fraction}``."""
@@ -278,7 +300,11 @@ class PointSystem:
                 entries[(row, col)] = entries.get((row, col), 0) + Fraction(c) * vals[lab]
         return {k: v for k, v in entries.items() if v}
 
-    def _solve_sector(self, n_up, n_dn):
+    def _prepare(self, n_up, n_dn):
+        """Sector states, exact matrix, float eigenvectors and the matched eigenspaces."""
+        key = (n_up, n_dn)
+        if key in self._prepared:
+            return self._prepared[key]
         states = self.space.sector_states(n_up, n_dn)
         index = {s: i for i, s in enumerate(states)}
         n = len(states)
@@ -288,12 +314,21 @@ class PointSystem:
         for (i, j), v in exact.items():
             dense[i, j] = float(v)
         fvals, fvecs = np.linalg.eigh(dense)
-        spaces = self._match(levels, fvals, (n_up, n_dn))
+        spaces = self._match(levels, fvals, key)
+        out = self._prepared[key] = {"states": states, "index": index, "exact": exact,
+                                     "fvecs": fvecs, "spaces": spaces}
+        return out
+
+    def _refine_sector(self, key, only):
+        """Refine every column (``only`` None) or the columns of the eigenspaces ``only``."""
+        prep = self._prepare(*key)
+        states, index, exact, spaces = prep["states"], prep["index"], prep["exact"], prep["spaces"]
+        n = len(states)
         with arb_precision(self.work + 10), mpmath.workdps(self.work + 10):
             H = flint.arb_mat(n, n)
             for (i, j), v in exact.items():
                 H[i, j] = flint.arb(flint.fmpq(v.numerator, v.denominator))
-            X = flint.arb_mat(fvecs.tolist())
+            X = flint.arb_mat(prep["fvecs"].tolist())
             col_value = [None] * n
             group = [0] * n
             for g, members in enumerate(self._groups(spaces)):
@@ -303,19 +338,28 @@ class PointSystem:
             for sp in spaces:
                 for c in sp.columns:
                     col_value[c] = to_arb(sp.value)
+            targets = spaces if only is None else list(only)
+            if only is not None:
+                # a cluster of close eigenspaces is refined (and rotated) as a whole
+                ids = {group[c] for sp in only for c in sp.columns}
+                targets = [sp for sp in spaces if group[sp.columns[0]] in ids]
+            cols = sorted(c for sp in targets for c in sp.columns)
             target = mpmath.mpf(10) ** (-(self.digits + 8))
             for it in range(1, MAX_ITERATIONS + 1):
-                X = _refine(H, X, col_value, group).mid()
-                X = self._rotate_groups(H, X, spaces)
+                if only is None:
+                    X = _refine(H, X, col_value, group).mid()
+                else:
+                    X = _refine_columns(H, X, col_value, group, cols).mid()
+                X = self._rotate_groups(H, X, targets)
                 rows = X.tolist()
-                worst = self._certify(H, X, rows, spaces)
+                worst = self._certify(H, X, rows, spaces, targets)
                 if worst <= target:
                     break
             else:
                 raise VerificationError(
-                    f"eigenvectors of sector N_up={n_up}, N_dn={n_dn} could not be certified "
+                    f"eigenvectors of sector N_up={key[0]}, N_dn={key[1]} could not be certified "
                     f"to {self.digits} digits (bound {worst:.1e}); report this model and point")
-        return SectorEigen((n_up, n_dn), states, index, X, spaces, H, it, worst, rows)
+        return SectorEigen(key, states, index, X, spaces, H, it, worst, rows)
 
     def _match(self, levels, fvals, sector):
         """Eigenspaces: exact levels merged where equal at the point, matched to columns."""
@@ -354,7 +398,8 @@ class PointSystem:
         return groups
 
     def _rotate_groups(self, H, X, spaces):
-        """Rayleigh-Ritz inside each group of close eigenspaces (high-precision eigsy)."""
+        """Rayleigh-Ritz inside each group of close eigenspaces among ``spaces``
+        (high-precision eigsy)."""
         groups = [g for g in self._groups(spaces) if len(g) > 1]
         if not groups:
             return X
@@ -377,16 +422,24 @@ class PointSystem:
                     rows[i][c] = Y[i, b]
         return flint.arb_mat(rows)
 
-    def _certify(self, H, X, rows, spaces):
-        """Set eps and eta of every eigenspace (module docstring); the largest eps."""
+    def _certify(self, H, X, rows, spaces, targets=None):
+        """Set eps and eta of the eigenspaces ``targets`` (default all; module docstring);
+        the largest eps times dimension."""
         n = len(rows)
-        HX = H * X
-        hx = HX.tolist()
+        targets = spaces if targets is None else targets
+        cols = sorted(c for sp in targets for c in sp.columns)
+        pos = {c: k for k, c in enumerate(cols)}
+        Xc = flint.arb_mat([[r[c] for c in cols] for r in rows])
+        hx_c = (H * Xc).tolist()
+        hx = [{c: hrow[pos[c]] for c in cols} for hrow in hx_c]
         worst = mpmath.mpf(0)
         values = [sp.value for sp in spaces]
         # the energies are known to 10**-(work) relative to the scale
         rho = mpmath.mpf(10) ** (-self.work) * (float(self.scale) + 1)
+        target_ids = {id(sp) for sp in targets}
         for k, sp in enumerate(spaces):
+            if id(sp) not in target_ids:
+                continue
             gaps = [abs(values[k] - values[m]) for m in (k - 1, k + 1) if 0 <= m < len(spaces)]
             delta = (min(gaps) if gaps else mpmath.inf) - 2 * rho
             if delta <= 0:
@@ -415,6 +468,32 @@ class PointSystem:
             sp.eps, sp.eta = float(eps) if eps != mpmath.inf else float("inf"), float(eta)
             worst = max(worst, eps * sp.dim)
         return worst
+
+
+def _refine_columns(H, X, col_value, group, cols):
+    """The Ogita-Aishima step for the columns ``cols`` only (the other columns are the
+    float64 approximations and stay as they are): X_c += X F[:, c]."""
+    n = X.nrows()
+    Xt = X.transpose()
+    Xc = flint.arb_mat([[r[c] for c in cols] for r in X.tolist()])
+    r = (Xt * Xc).tolist()
+    s = (Xt * (H * Xc)).tolist()
+    F = flint.arb_mat(n, len(cols))
+    for i in range(n):
+        ei, gi = col_value[i], group[i]
+        for k, j in enumerate(cols):
+            rij = -r[i][k] + (1 if i == j else 0)
+            if group[j] == gi:
+                F[i, k] = rij / 2
+            else:
+                ej = col_value[j]
+                F[i, k] = (s[i][k] + ej * rij) / (ej - ei)
+    new = (Xc + X * F).tolist()
+    rows = X.tolist()
+    for i in range(n):
+        for k, j in enumerate(cols):
+            rows[i][j] = new[i][k]
+    return flint.arb_mat(rows)
 
 
 def _refine(H, X, col_value, group):

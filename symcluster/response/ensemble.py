@@ -175,8 +175,7 @@ def make_ensemble(system, N=None, temperature=None, mu=None):
         for c in chosen:
             by_sector.setdefault(c[0], []).append(c)
         for sec, group in by_sector.items():
-            eig = system.sector(*sec)
-            for sp in eig.spaces:
+            for sp in system.spaces(*sec):
                 probs = {raw[id(c)] for c in group if any(l is c[3] for l in sp.levels)}
                 if not probs:
                     continue

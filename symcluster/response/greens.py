@@ -488,7 +488,7 @@ def _lehmann(system, ens, s):
         for mem in ens.members:
             by_sector.setdefault(mem.sector, []).append(mem)
         for sec, mems in by_sector.items():
-            eig = system.sector(*sec)
+            eig = system.vectors(*sec, [m.space for m in mems])
             cols = [c for m in mems for c in m.space.columns]
             prob = {}
             for m in mems:
@@ -571,8 +571,7 @@ def _lehmann(system, ens, s):
         rad = max(upper(x.rad()) for mat in (m0, m1, nn) for row in mat for x in row)
     cert = {"weight_error": mpmath.mpf(werr) + mpmath.mpf(rad),
             "pole_error": mpmath.mpf(10) ** (-system.work) * (float(system.scale) + 1),
-            "eigenvector_error": max((sp.eps for sec in system._sectors.values()
-                                      for sp in sec.spaces), default=0.0),
+            "eigenvector_error": system.worst_eps(),
             "ensemble": ens.describe(),
             "checks": []}
     gm = GreensMatrix(omegas, exact, weights, ens.beta, ens.mu, system.digits, m0m, m1m, nm,
