@@ -97,16 +97,37 @@ def kanamori_dimer_h(t, U, J):
     return f, h
 
 
-class LehmannReference:
-    """Eigenstates of a dense H by particle number, and Green's functions from them."""
+def t_j_h(bonds, n_sites, t, J):
+    """t-J model -t P (c+_i c_j + h.c.) P + J sum_b (S_i.S_j - n_i n_j / 4) and the mask of
+    the allowed states (no double occupancy); P c P is c restricted to those states."""
+    f = Fermions(n_sites)
+    h = np.zeros((f.dim, f.dim))
+    for i, j in bonds:
+        h -= t * f.hop(i, j)
+        sz = [(f.n(m, 0) - f.n(m, 1)) / 2 for m in (i, j)]
+        sp = [f.cd(m, 0) @ f.c(m, 1) for m in (i, j)]
+        n = [f.n(m, 0) + f.n(m, 1) for m in (i, j)]
+        h += J * (sz[0] @ sz[1] + (sp[0] @ sp[1].T + sp[0].T @ sp[1]) / 2 - n[0] @ n[1] / 4)
+    double = sum(f.n(m, 0) @ f.n(m, 1) for m in range(n_sites))
+    allowed = np.diag(double) < 0.5
+    return f, h, allowed
 
-    def __init__(self, fermions, h):
+
+class LehmannReference:
+    """Eigenstates of a dense H by particle number, and Green's functions from them.
+
+    ``allowed`` (optional) restricts the states to a mask of the Fock basis; the ladder
+    operators are then the projected P c P (their eigenbasis matrices vanish outside)."""
+
+    def __init__(self, fermions, h, allowed=None):
         self.f = fermions
         self.h = h
         ns = np.rint(np.diag(fermions.number)).astype(int)
+        if allowed is None:
+            allowed = np.ones(len(ns), dtype=bool)
         self.vals, self.vecs, self.ns = [], [], []
-        for n in sorted(set(ns)):
-            idx = np.nonzero(ns == n)[0]
+        for n in sorted(set(ns[allowed])):
+            idx = np.nonzero((ns == n) & allowed)[0]
             e, v = np.linalg.eigh(h[np.ix_(idx, idx)])
             full = np.zeros((fermions.dim, len(idx)))
             full[idx, :] = v
@@ -133,7 +154,7 @@ class LehmannReference:
         return p / p.sum()
 
     def default_mu(self, N):
-        top = 2 * self.f.M
+        top = max(self.ns)
         if N in (0, top):
             return 0.0
         return (self.ground(N + 1) - self.ground(N - 1)) / 2

