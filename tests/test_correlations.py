@@ -4,7 +4,6 @@ dense-operator reference of tests/helpers_lehmann.py and textbook facts."""
 from fractions import Fraction
 
 import mpmath
-import numpy as np
 import pytest
 
 import symcluster as sc

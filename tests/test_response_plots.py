@@ -1,7 +1,5 @@
 """Plots of response functions (symcluster.response.plots): what is drawn is the data."""
 
-from fractions import Fraction
-
 import matplotlib
 import pytest
 
