@@ -298,3 +298,22 @@ def test_bad_inputs_are_one_line_errors():
     g = greens_function(spec, {"t": 1, "U": 1}, N=2, temperature=1)
     with pytest.raises(ModelError, match="beta=2 differs"):
         g.matsubara(2, 3)
+
+
+def test_levels_closer_than_float64_resolves_are_separated_and_certified():
+    # U = 1e-12 on ring(4): levels that differ by O(U) and O(U^2) sit in one sector; the
+    # eigenvectors must still be certified (the working precision follows the smallest gap)
+    # and agree with the independent reference, which sees them as degenerate (G is
+    # continuous in U, so float64 suffices there)
+    spec = sc.solve(sc.hubbard(sc.ring(4)))
+    U = Fraction(1, 10 ** 12)
+    ref = LehmannReference(*hubbard_h([(0, 1), (1, 2), (2, 3), (3, 0)], 4, 1.0, float(U)))
+    for ens, ref_ens, beta in ((dict(N=4, temperature=1), dict(N=4, T=1.0), 1),
+                               (dict(N=3), dict(N=3), Fraction(5, 2))):
+        gm = greens_matrix(spec, {"t": 1, "U": U}, digits=30, **ens)
+        assert gm.certificate["weight_error"] < 1e-32
+        vals = gm.matsubara(beta, 4)
+        for i, j in ((0, 0), (0, 1), (0, 2)):
+            expect = ref.matsubara(i, j, 0, float(beta), 4, **ref_ens)
+            for n in range(4):
+                assert _close(vals[n][i][j], expect[n], 1e-10)

@@ -315,16 +315,35 @@ class PointSystem:
             dense[i, j] = float(v)
         fvals, fvecs = np.linalg.eigh(dense)
         spaces = self._match(levels, fvals, key)
+        work = self._sector_work(spaces)
         out = self._prepared[key] = {"states": states, "index": index, "exact": exact,
-                                     "fvecs": fvecs, "spaces": spaces}
+                                     "fvecs": fvecs, "spaces": spaces, "work": work}
         return out
+
+    def _sector_work(self, spaces):
+        """Working digits for a sector: ``work``, plus the decades of its smallest relative
+        gap between distinct levels when that is below 1e-8 (the certificate divides by the
+        gap, so the energies must be known that much better); the values of the sector's
+        eigenspaces are recomputed at that precision."""
+        with mpmath.workdps(self.work):
+            gaps = [spaces[k + 1].value - spaces[k].value for k in range(len(spaces) - 1)]
+            g = min(gaps, default=mpmath.mpf(1)) / (float(self.scale) + 1)
+            if g >= mpmath.mpf(10) ** -8:
+                return self.work
+            work = self.work + int(-mpmath.log10(g)) + 4
+        with mpmath.workdps(work):
+            for sp in spaces:
+                lev = sp.levels[0]
+                sp.value = +energy_numeric(lev.energy, self.point, work, lev.polynomial)
+        return work
 
     def _refine_sector(self, key, only):
         """Refine every column (``only`` None) or the columns of the eigenspaces ``only``."""
         prep = self._prepare(*key)
         states, index, exact, spaces = prep["states"], prep["index"], prep["exact"], prep["spaces"]
+        work = prep["work"]
         n = len(states)
-        with arb_precision(self.work + 10), mpmath.workdps(self.work + 10):
+        with arb_precision(work + 10), mpmath.workdps(work + 10):
             H = flint.arb_mat(n, n)
             for (i, j), v in exact.items():
                 H[i, j] = flint.arb(flint.fmpq(v.numerator, v.denominator))
@@ -352,13 +371,13 @@ class PointSystem:
                     X = _refine_columns(H, X, col_value, group, cols).mid()
                 X = self._rotate_groups(H, X, targets)
                 rows = X.tolist()
-                worst = self._certify(H, X, rows, spaces, targets)
+                worst = self._certify(H, X, rows, spaces, targets, work)
                 if worst <= target:
                     break
             else:
                 raise VerificationError(
                     f"eigenvectors of sector N_up={key[0]}, N_dn={key[1]} could not be certified "
-                    f"to {self.digits} digits (bound {worst:.1e}); report this model and point")
+                    f"to {self.digits} digits (bound {float(worst):.1e}); report this model and point")
         return SectorEigen(key, states, index, X, spaces, H, it, worst, rows)
 
     def _match(self, levels, fvals, sector):
@@ -422,7 +441,7 @@ class PointSystem:
                     rows[i][c] = Y[i, b]
         return flint.arb_mat(rows)
 
-    def _certify(self, H, X, rows, spaces, targets=None):
+    def _certify(self, H, X, rows, spaces, targets=None, work=None):
         """Set eps and eta of the eigenspaces ``targets`` (default all; module docstring);
         the largest eps times dimension."""
         n = len(rows)
@@ -435,7 +454,7 @@ class PointSystem:
         worst = mpmath.mpf(0)
         values = [sp.value for sp in spaces]
         # the energies are known to 10**-(work) relative to the scale
-        rho = mpmath.mpf(10) ** (-self.work) * (float(self.scale) + 1)
+        rho = mpmath.mpf(10) ** (-(work or self.work)) * (float(self.scale) + 1)
         target_ids = {id(sp) for sp in targets}
         for k, sp in enumerate(spaces):
             if id(sp) not in target_ids:
