@@ -317,3 +317,42 @@ def test_levels_closer_than_float64_resolves_are_separated_and_certified():
             expect = ref.matsubara(i, j, 0, float(beta), 4, **ref_ens)
             for n in range(4):
                 assert _close(vals[n][i][j], expect[n], 1e-10)
+
+
+def test_eigenvectors_of_any_level_at_a_point():
+    # the unique half-filled ground state of ring(4) (Lieb 1989: S = 0) against the
+    # independent reference's eigenvector; the reference's basis vector of spin-orbitals
+    # k = mode + spin * M (Jordan-Wigner, mode 0 leftmost) is prod_{k ascending} c+_k |0>,
+    # the ordering of docs/conventions.md, so the two bases agree without signs
+    from symcluster.response.eigen import PointSystem
+    spec = sc.solve(sc.hubbard(sc.ring(4)))
+    point = {"t": 1, "U": 3}
+    ps = PointSystem(spec, point, digits=30)
+    ground = min(spec.select(N=4), key=lambda l: l.numeric(point))
+    vecs = ps.level_vectors(ground)
+    assert list(vecs) == [(2, 2)] and len(vecs[(2, 2)]) == 1
+    ref = LehmannReference(*hubbard_h([(0, 1), (1, 2), (2, 3), (3, 0)], 4, 1.0, 3.0))
+    k = int(np.argmin(np.where(ref.ns == 4, ref.E, np.inf)))
+    v_ref = ref.V[:, k]
+    M = 4
+    overlap = 0.0
+    for (up, dn), x in vecs[(2, 2)][0].items():
+        idx = 0
+        for m in range(M):
+            if up >> m & 1:
+                idx |= 1 << (2 * M - 1 - m)
+            if dn >> m & 1:
+                idx |= 1 << (2 * M - 1 - (m + M))
+        overlap += float(x) * v_ref[idx]
+    assert abs(abs(overlap) - 1) < 1e-12
+    # a multiplet (the two-site triplet): orthonormal vectors in every S^z sector it reaches
+    dimer = sc.solve(sc.hubbard(sc.chain(2)))
+    triplet = [l for l in dimer.select(N=2) if l.quantum_numbers["S"] == 1][0]
+    vecs = PointSystem(dimer, point, digits=30).level_vectors(triplet)
+    assert sorted(vecs) == [(0, 2), (1, 1), (2, 0)]
+    with mpmath.workdps(40):
+        for sector, vs in vecs.items():
+            for a in vs:
+                for b in vs:
+                    dot = sum(x * b.get(s, 0) for s, x in a.items())
+                    assert abs(dot - (1 if a is b else 0)) < mpmath.mpf(10) ** -30

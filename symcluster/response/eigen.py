@@ -78,9 +78,12 @@ def to_arb(x):
 
 
 def to_mpf(a):
-    """The midpoint of a python-flint ball as an mpmath number (exact conversion)."""
+    """The midpoint of a python-flint ball as an mpmath number (exact conversion, whatever
+    mpmath's working precision)."""
     man, exp = a.mid().man_exp()
-    return mpmath.ldexp(mpmath.mpf(int(man)), int(exp))
+    man = int(man)
+    with mpmath.workprec(max(64, man.bit_length() + 8)):
+        return mpmath.ldexp(mpmath.mpf(man), int(exp))
 
 
 def upper(a):
@@ -252,6 +255,60 @@ class PointSystem:
             raise ModelError(f"the spectrum does not hold every level with N={n} (sector "
                              f"N_up={n_up}, N_dn={n_dn} has {dim} states); solve with all "
                              f"electron numbers, or include N={n} in electrons=")
+        return out
+
+    def level_vectors(self, level):
+        """Orthonormal eigenvectors of one level at the point, certified.
+
+        Returns
+        -------
+        dict
+            ``{(N_up, N_dn): [ {(up, dn): mpmath.mpf}, ... ]}``: an orthonormal basis of the
+            level's states in each sector where it has states (all its multiplet members),
+            in the fermion ordering of docs/conventions.md; each vector's projector is
+            within ``eps`` (see :class:`Eigenspace`) of the exact one.
+
+        Raises
+        ------
+        ModelError
+            The level is degenerate at the point with another level of the same sector
+            (their states cannot be told apart there), or not one of the spectrum's levels.
+
+        Examples
+        --------
+        >>> import symcluster as sc
+        >>> spec = sc.solve(sc.hubbard(sc.chain(2)))
+        >>> ps = PointSystem(spec, {"t": 1, "U": 0}, digits=20)
+        >>> singlet = [l for l in spec.select(N=2) if l.numeric({"t": 1, "U": 0}) < -1][0]
+        >>> vecs = ps.level_vectors(singlet)
+        >>> sorted(vecs), len(vecs[(1, 1)])
+        ([(1, 1)], 1)
+        >>> sorted(mpmath.nstr(abs(x), 6) for x in vecs[(1, 1)][0].values())   # all four 1/2
+        ['0.5', '0.5', '0.5', '0.5']
+        """
+        n = level.quantum_numbers.get("N")
+        out = {}
+        for sec in self.space.sectors([n] if n is not None else None):
+            if not any(lev is level for lev, _, _ in self.sector_levels(*sec)):
+                continue
+            for sp in self.spaces(*sec):
+                if not any(lev is level for lev in sp.levels):
+                    continue
+                if len(sp.levels) > 1:
+                    raise ModelError("this level is degenerate with another level of its "
+                                     "sector at the point; evaluate at a nearby point")
+                eig = self.vectors(*sec, [sp])
+                vecs = []
+                for c in sp.columns:
+                    vec = {}
+                    for st, row in zip(eig.states, eig.rows):
+                        x = to_mpf(row[c])
+                        if x:
+                            vec[st] = x
+                    vecs.append(vec)
+                out[sec] = vecs
+        if not out:
+            raise ModelError("the level is not one of this spectrum's levels")
         return out
 
     def worst_eps(self):
