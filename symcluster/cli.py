@@ -360,6 +360,8 @@ def _make_parser():
                             help="do not use the cluster's lattice symmetry")
     from symcluster.analysis.commands import add_commands
     add_commands(sub, parents=[model_opts], build_spectrum=_analysis_spectrum)
+    from symcluster.response.commands import add_commands as add_response_commands
+    add_response_commands(sub, [model_opts], build_model, _solve, parse_point)
     sub.add_parser("shapes", help="list the built-in cluster shapes",
                    description="List the built-in cluster shapes and their sizes.")
     sub.add_parser("demo", help="the demo run (same as no arguments)",
@@ -573,7 +575,7 @@ def main(argv=None):
 def _main(argv):
     out, err = sys.stdout, sys.stderr
     commands = {"levels", "shapes", "demo", "ground-map", "gaps", "series", "thermo", "plot",
-                "derivative"}
+                "derivative", "reference", "compare"}
     if argv and argv[0] not in commands and argv[0] not in ("-h", "--help", "--version"):
         argv.insert(0, "levels")
     try:
