@@ -259,6 +259,9 @@ def format_table(spectrum, point=None, digits=12, verification="full"):
     fixed = getattr(spectrum, "fixed", None)
     if fixed:
         lines.append("# fixed couplings: " + ", ".join(f"{k}={_rat(v)}" for k, v in fixed.items()))
+    if getattr(spectrum, "sectors", None) is not None:
+        from symcluster.blocks.selection import describe_selection
+        lines.append("# selected sectors only: " + describe_selection(spectrum.sectors))
     report = spectrum.verification
     lines += [f"# {report.summary() if verification == 'full' else report.short()}",
              f"# {len(spectrum.levels)} levels, {spectrum.n_states} states"]
