@@ -93,7 +93,7 @@ def test_every_option_has_help_and_shows_its_default():
     for name, action in _actions(_make_parser()):
         if not action.help:
             missing.append(name)
-        elif action.default not in (None, False, [], argparse.SUPPRESS) and \
+        elif action.default not in (None, False, [], "", argparse.SUPPRESS) and \
                 "default" not in action.help:
             hidden.append(name)
     assert not missing, f"options without help: {missing}"

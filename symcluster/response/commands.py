@@ -91,7 +91,8 @@ def add_commands(subparsers, parents, build_model, solve, parse_point):
                    help="thermodynamic table: start:stop:count or a list a,b,c")
     p.add_argument("--element", metavar="I,J", default="0,0",
                    help="modes of G_ij (mode = site x orbitals + orbital; default 0,0)")
-    p.add_argument("--spin", default="up", choices=["up", "down"])
+    p.add_argument("--spin", default="up", choices=["up", "down"],
+                   help="spin of the Green's function element (default up)")
     p.add_argument("--matsubara", type=int, default=64, metavar="COUNT",
                    help="number of Matsubara frequencies (default 64)")
     p.add_argument("--tau", type=int, default=33, metavar="COUNT",
