@@ -16,6 +16,7 @@ from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
 from symcluster.export.exprtree import int_to_decimal, is_implicit_root
+from symcluster.version import __version__
 
 _EPS = re.compile(r"^eps(?=[_0-9]|$)")
 
@@ -241,7 +242,7 @@ def format_table(spectrum, point=None, digits=12):
                 out.append(cell.ljust(widths[k]))
         return "  ".join(out).rstrip()
 
-    lines = [f"# {spectrum.model.describe()}"]
+    lines = [f"# symcluster {__version__}: {spectrum.model.describe()}"]
     fixed = getattr(spectrum, "fixed", None)
     if fixed:
         lines.append("# fixed couplings: " + ", ".join(f"{k}={_rat(v)}" for k, v in fixed.items()))
