@@ -163,7 +163,8 @@ class Level:
         Always ``"N"``; ``"S"`` (sympy Rational) where spin is conserved, else
         ``"Sz"``; ``"eta"`` where eta-pseudospin applies; ``"irrep"`` (label),
         ``"irrep_dim"`` and, on clusters with translations, ``"k"`` (momentum
-        as a multiple of pi) where the lattice symmetry was used.
+        as a multiple of pi) where the lattice symmetry was used; ``"mulliken"``
+        (e.g. ``"B1"``, ``"T2g"``) where the lattice group is a known point group.
     polynomial : sympy.Poly or None
         Irreducible polynomial in ``E`` (first generator) and the couplings
         that the energy is a root of.

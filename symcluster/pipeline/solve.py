@@ -608,6 +608,9 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
                     irr = moved[key] if key in moved else moved.setdefault(
                         key, eta_member_irrep(plan, spec.irrep, k))
                     qn["irrep"] = irr.label if irr is not None else qn["irrep"] + "*"
+                    qn.pop("mulliken", None)
+                    if getattr(irr, "mulliken", None):
+                        qn["mulliken"] = irr.mulliken
                     if irr is not None and getattr(irr, "momentum", None) is not None:
                         qn["k"] = irr.momentum
                 poly = shifter(fac, k)
