@@ -10,6 +10,7 @@ those of :data:`symcluster.export.texnum.TABLE_PACKAGES`.
 
 import sympy
 
+from symcluster.export.latex import name_subexpressions
 from symcluster.export.texnum import (TABLE_PACKAGES, number_cell, number_columns,
                                       mulliken_tex)
 from symcluster.version import __version__
@@ -29,6 +30,11 @@ _WIDTH_EM = 52
 def _tex(expr):
     """LaTeX of an exact expression, inverse functions written arccos, arcsin, arctan."""
     return sympy.latex(expr, inv_trig_style="full")
+
+
+def _tex_breakable(expr):
+    """LaTeX that TeX can break across lines: long fractions as ``\\frac{4}{3} X``."""
+    return sympy.latex(expr, inv_trig_style="full", long_frac_ratio=2)
 
 
 def _text(value):
@@ -64,7 +70,7 @@ def _digits_per_line(n_numbers, other_em, digits):
     return max(3, min(int(digits), int(free / 0.56)))
 
 
-def _table(cols, head, rows, caption, long=False):
+def _table(cols, head, rows, caption, long=False, after=""):
     """A booktabs table; ``long``: a longtable whose header repeats on every page."""
     body = "\n".join(rows)
     if long:
@@ -74,7 +80,7 @@ def _table(cols, head, rows, caption, long=False):
                 + body + "\n\\end{longtable}\n\\endgroup\n")
     return ("\\begin{table}[ht]\n\\centering\n\\small\n"
             f"\\begin{{tabular}}{{{cols}}}\n\\toprule\n{head} \\\\\n\\midrule\n"
-            + body + "\n\\bottomrule\n\\end{tabular}\n"
+            + body + "\n\\bottomrule\n\\end{tabular}\n" + after +
             f"\\caption{{{caption}}}\n\\end{{table}}\n")
 
 
@@ -120,16 +126,45 @@ def latex_gaps(results, digits=30, caption=None):
     >>> "Gaps" in latex_gaps([])
     True
     """
-    per_line = _digits_per_line(1, 32, digits)
+    per_line = _digits_per_line(1, 38, digits)
+    taken = {x.name for g in results for x in sympy.sympify(g.expr).free_symbols}
+    exprs, defs = name_subexpressions([sympy.sympify(g.expr) for g in results], taken,
+                                      min_count=1)
     rows = []
-    for g in results:
-        rows.append(f"{_text(g.name)} & ${_tex(g.expr)}$ & "
+    for g, expr in zip(results, exprs):
+        rows.append(f"{_text(g.name)} & ${_tex_breakable(expr)}$ & "
                     f"{number_cell(g.numeric(digits=digits), digits)} & {_text(g.valid)} \\\\")
     cap = caption or "Gaps and binding energies"
-    cols = (r">{\raggedright\arraybackslash}p{7em}>{\raggedright\arraybackslash}p{14em}"
+    cols = (r">{\raggedright\arraybackslash}p{7em}>{\raggedright\arraybackslash}p{20em}"
             + number_columns(per_line) + r">{\raggedright\arraybackslash}p{8em}")
     head = r"quantity & exact & \multicolumn{2}{c}{value} & valid for"
-    return _table(cols, head, rows, cap)
+    where = ""
+    if defs:
+        where = ("\\par\\medskip{\\raggedright where "
+                 + ", ".join(f"${_tex(n)} = {_tex_breakable(v)}$" for n, v in defs)
+                 + ".\\par}\n")
+    return _table(cols, head, rows, cap, after=where)
+
+
+def _terminating(value):
+    """``whole & fraction`` of an exact rational with a finite decimal expansion, else None."""
+    if isinstance(value, (float, bool)) or hasattr(value, "_mpf_"):
+        return None
+    try:
+        r = sympy.Rational(value)
+    except (TypeError, ValueError):
+        return None
+    q, twos, fives = int(r.q), 0, 0
+    while q % 2 == 0:
+        q, twos = q // 2, twos + 1
+    while q % 5 == 0:
+        q, fives = q // 5, fives + 1
+    if q != 1:
+        return None
+    places = max(twos, fives, 1)
+    scaled = abs(int(r * 10 ** places))
+    whole, frac = divmod(scaled, 10 ** places)
+    return ("-" if r < 0 else "") + f"{whole} & {frac:0{places}d}"
 
 
 _HEAD = {"T": "$T$", "mu": r"$\mu$", "lnZ": r"$\ln Z$", "energy": r"$\langle H\rangle$",
@@ -157,7 +192,10 @@ def latex_thermo_table(rows, columns=("T", "mu", "energy", "entropy", "specific_
         cells = []
         for c in columns:
             v = r[c]
-            if isinstance(v, (int, float)) or hasattr(v, "_mpf_"):
+            exact = _terminating(v)
+            if exact is not None:
+                cells.append(exact)
+            elif isinstance(v, float) or hasattr(v, "_mpf_"):
                 cells.append(number_cell(v, digits))
             else:
                 cells.append(r"\multicolumn{2}{c}{$" + _tex(sympy.sympify(v)) + "$}")

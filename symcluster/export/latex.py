@@ -134,8 +134,8 @@ def _rewrite(expr, sqrt_map, arg_map):
     return expr.func(*[_rewrite(a, sqrt_map, arg_map) for a in expr.args])
 
 
-def _repeated(exprs, collect):
-    """Subterms found by ``collect`` in >= 2 of ``exprs``, in order of first appearance."""
+def _repeated(exprs, collect, min_count=2):
+    """Subterms found by ``collect`` in >= min_count of ``exprs``, in order of first appearance."""
     count, order = {}, []
     for e in exprs:
         found = set()
@@ -144,10 +144,10 @@ def _repeated(exprs, collect):
             if f not in count:
                 order.append(f)
             count[f] = count.get(f, 0) + 1
-    return [f for f in order if count[f] >= 2]
+    return [f for f in order if count[f] >= min_count]
 
 
-def name_subexpressions(exprs, taken=()):
+def name_subexpressions(exprs, taken=(), min_count=2):
     """Name square roots and inverse-trig arguments shared by two or more expressions.
 
     Parameters
@@ -155,6 +155,9 @@ def name_subexpressions(exprs, taken=()):
     exprs : list of sympy.Expr
     taken : iterable of str
         Symbol names already in use (the couplings); the name base avoids them.
+    min_count : int
+        Name a subexpression found in at least this many expressions (1: every one,
+        so that no unbreakable root or fraction stays inside a narrow table cell).
 
     Returns
     -------
@@ -173,11 +176,11 @@ def name_subexpressions(exprs, taken=()):
     taken = set(taken)
     base = next((b for b in _NAME_BASES if not any(n.startswith(b) for n in taken)), "w_x")
     # nested square roots: inner (smaller) ones first, so definitions can use their names
-    bases = sorted(_repeated(exprs, _sqrt_bases), key=sympy.count_ops)
+    bases = sorted(_repeated(exprs, _sqrt_bases, min_count), key=sympy.count_ops)
     sq_map = {b: sympy.Dummy(f"sq{k}") for k, b in enumerate(bases)}
     exprs1 = [_rewrite(e, sq_map, {}) for e in exprs]
     dummies = set(sq_map.values())
-    args = _repeated(exprs1, lambda e, f: _func_args(e, f, dummies))
+    args = _repeated(exprs1, lambda e, f: _func_args(e, f, dummies), min_count)
     arg_map = {a: sympy.Dummy(f"ar{k}") for k, a in enumerate(args)}
     exprs2 = [_rewrite(e, {}, arg_map) for e in exprs1]
     defs = []
