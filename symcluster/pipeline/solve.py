@@ -4,6 +4,7 @@ import concurrent.futures
 import os
 import random
 import time
+from collections.abc import Iterable, Mapping
 
 import sympy
 
@@ -423,8 +424,11 @@ class _CountedList(list):
         self._step()
 
 
-def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True, digits=30,
-          seed=None, executor=None, progress=None, force=False, fixed=None):
+def solve(model: Model, electrons: int | Iterable[int] | None = None, verify: bool = True,
+          lattice: bool = True, spin: bool = True, eta: bool = True, digits: int = 30,
+          seed: int | None = None, executor: concurrent.futures.Executor | str | None = None,
+          progress: bool | Progress | None = None, force: bool = False,
+          fixed: Mapping[str, object] | None = None) -> Spectrum:
     """Exact, verified spectrum of a model.
 
     Parameters
