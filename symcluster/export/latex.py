@@ -3,11 +3,13 @@
 Layout (documented in docs/outputs.md):
 
 * columns ``N``, ``S``, ``eta`` (only if some level has an η-pseudospin), a term symbol
-  ``{}^{2S+1}Γ`` (multiplicity as a superscript on the lattice irrep Γ; a plain ``2S+1``
-  column when no irrep is known), degeneracy ``g``, exact energy ``E`` and, with a
-  point, the value of ``E`` there;
+  ``{}^{2S+1}Γ`` (multiplicity as a superscript on the lattice irrep Γ, a Mulliken symbol
+  where the lattice group is a known point group; a plain ``2S+1`` column when no irrep
+  is known), the momentum ``k`` beside Mulliken symbols, degeneracy ``g``, exact energy
+  ``E`` and, with a point, the value of ``E`` there in two columns aligned on the decimal
+  point (:mod:`symcluster.export.texnum`);
 * square roots (and ``arccos``/``arctan`` arguments) that occur in two or more levels
-  are named ``\\Delta`` (or ``\\Delta_1, \\Delta_2, ...``) and defined under the table;
+  are named ``w`` (or ``w_1, w_2, ...``) and defined under the table;
 * implicit roots read "root k of P_j": the k-th real root, ascending, of ``P_j(E) = 0``,
   with every polynomial printed once under the table;
 * the verification report and symmetry record are included as ``%`` comment lines.

@@ -242,12 +242,13 @@ def format_table(spectrum, point=None, digits=12):
                 out.append(cell.ljust(widths[k]))
         return "  ".join(out).rstrip()
 
-    lines = [f"# symcluster {__version__}: {spectrum.model.describe()}"]
+    lines = [f"# {spectrum.model.describe()}"]
     fixed = getattr(spectrum, "fixed", None)
     if fixed:
         lines.append("# fixed couplings: " + ", ".join(f"{k}={_rat(v)}" for k, v in fixed.items()))
     lines += [f"# {spectrum.verification.summary()}",
-             f"# {len(spectrum.levels)} levels, {spectrum.n_states} states"]
+             f"# {len(spectrum.levels)} levels, {spectrum.n_states} states; "
+             f"symcluster {__version__}"]
     if pt is not None:
         lines.append("# values at " + ", ".join(f"{s.name}={_rat(v)}" for s, v in pt.items()))
     lines.append(fmt(head))
