@@ -151,6 +151,7 @@ STAGES = [
     {"errors", "symbols", "parsing", "tiers", "interrupts", "workers", "linalg", "version"},
     {"lattice"}, {"hilbert"}, {"models"}, {"symmetry"}, {"algebra"}, {"blocks"},
     {"numeric"}, {"spectrum"}, {"verify"}, {"pipeline"}, {"export", "analysis"},
+    {"response"},
     {"cli", "__main__"},
 ]
 

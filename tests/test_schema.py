@@ -45,6 +45,8 @@ def documents():
         "heisenberg ring (no N)": _doc(sc.heisenberg(sc.ring(4))),
         "anderson with fixed bath": _doc(sc.anderson(1), fixed={"V_1": 1, "eps_1": 0}),
         "field-split dimer": _doc(sc.with_field(sc.hubbard(sc.chain(2)))),
+        "ring4 sector selection": _doc(sc.hubbard(sc.ring(4)),
+                                       sectors=[{"N": 2, "S": 0}, {"N": 3, "k": 1}]),
     }
 
 
@@ -65,6 +67,7 @@ def _breakers():
     return {
         "wrong format": lambda d: d.update(format="other"),
         "version 3": lambda d: d.update(version=3),
+        "sectors a list": lambda d: d.update(sectors=[{"N": 2}]),
         "missing levels": lambda d: d.pop("levels"),
         "unknown top-level key": lambda d: d.update(extra=1),
         "degeneracy 0": lambda d: level0(d).update(degeneracy=0),
