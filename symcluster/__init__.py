@@ -20,7 +20,7 @@ from symcluster.spectrum import Level, Spectrum, VerificationReport
 from symcluster.pipeline.solve import solve
 from symcluster.export.load import load
 
-from symcluster.version import __version__  # noqa: E402  (the one place it is written)
+from symcluster.version import __version__
 
 __all__ = [
     "Cluster", "chain", "cluster", "complete", "cube", "grid", "ladder", "load_cluster_file",

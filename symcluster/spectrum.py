@@ -14,7 +14,8 @@ from __future__ import annotations
 
 import math
 import numbers
-from typing import TYPE_CHECKING, Iterable, Mapping, Optional, Sequence
+from collections.abc import Iterable, Mapping, Sequence
+from typing import Any, Optional
 from dataclasses import dataclass, field
 from fractions import Fraction
 
@@ -24,9 +25,7 @@ import sympy
 from symcluster.errors import ModelError
 from symcluster.numeric.evaluate import energy_numeric
 
-if TYPE_CHECKING:                       # annotations only; neither is imported at run time
-    import numpy
-    import pandas
+import numpy
 
 __all__ = ["Level", "Spectrum", "VerificationReport", "coerce_point", "energy_numeric",
            "to_rational", "exact_rational", "check_digits"]
@@ -185,7 +184,8 @@ class Level:
         Always ``"N"``; ``"S"`` (sympy Rational) where spin is conserved, else
         ``"Sz"``; ``"eta"`` where eta-pseudospin applies; ``"irrep"`` (label),
         ``"irrep_dim"`` and, on clusters with translations, ``"k"`` (momentum
-        as a multiple of pi) where the lattice symmetry was used.
+        as a multiple of pi) where the lattice symmetry was used; ``"mulliken"``
+        (e.g. ``"B1"``, ``"T2g"``) where the lattice group is a known point group.
     polynomial : sympy.Poly or None
         Irreducible polynomial in ``E`` (first generator) and the couplings
         that the energy is a root of.
@@ -325,7 +325,7 @@ class Spectrum:
     sectors: object = None
 
     @property
-    def is_selection(self):
+    def is_selection(self) -> bool:
         """True if the spectrum holds only selected sectors (``solve(..., sectors=...)``)."""
         return self.sectors is not None
 
@@ -405,7 +405,7 @@ class Spectrum:
         """Exact {Symbol: Rational} point from {name: number}."""
         return coerce_point(self.symbols, values)
 
-    def numeric(self, values: Mapping, digits: int = 30) -> list:
+    def numeric(self, values: Mapping, digits: int = 30) -> list[tuple[mpmath.mpf, int]]:
         """Every level's value with its degeneracy, ascending: list of (mpmath.mpf, int)."""
         check_digits(digits)
         pt = self.point(values)
@@ -415,7 +415,7 @@ class Spectrum:
         out.sort(key=lambda p: p[0])
         return out
 
-    def energies(self, values: Mapping) -> "numpy.ndarray":
+    def energies(self, values: Mapping) -> numpy.ndarray:
         """Every eigenvalue at many coupling points: float64 array (points, states).
 
         Parameters
@@ -487,7 +487,7 @@ class Spectrum:
         return np.sort(np.repeat(vals, degs, axis=1), axis=1)
 
     def to_dataframe(self, point: Optional[Mapping] = None,
-                     digits: int = 15) -> "pandas.DataFrame":
+                     digits: int = 15) -> Any:
         """The levels as a pandas DataFrame (pandas needed; imported here only).
 
         Parameters
@@ -524,7 +524,7 @@ class Spectrum:
             df = df.sort_values(["value"], kind="stable").reset_index(drop=True)
         return df
 
-    def select(self, **qn) -> list:
+    def select(self, **qn: object) -> list[Level]:
         """Levels whose quantum numbers match every given key, e.g. select(N=2).
 
         Raises

@@ -23,6 +23,7 @@ from symcluster.export.exprtree import (from_tree, int_to_decimal, is_implicit_r
                        poly_from_tree, poly_to_tree, root_of_poly, to_tree)
 from symcluster.export.text import energy_text, level_sort_key, numeric_values, poly_text
 from symcluster.export.latex import _poly_tex, energy_latex
+from symcluster.version import __version__
 
 __all__ = ["FORMAT", "VERSION", "spectrum_to_dict", "dumps_spectrum", "write_json",
            "read_json", "loads_spectrum", "decode_spectrum_dict", "write_text_atomic",

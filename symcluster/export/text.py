@@ -19,7 +19,7 @@ from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
 from symcluster.export.exprtree import int_to_decimal, is_implicit_root
-from symcluster.version import version_line
+from symcluster.version import __version__
 
 _EPS = re.compile(r"^eps(?=[_0-9]|$)")
 
@@ -255,7 +255,7 @@ def format_table(spectrum, point=None, digits=12, verification="full"):
                 out.append(cell.ljust(widths[k]))
         return "  ".join(out).rstrip()
 
-    lines = [f"# {spectrum.model.describe()}", f"# written by {version_line()}"]
+    lines = [f"# {spectrum.model.describe()}"]
     fixed = getattr(spectrum, "fixed", None)
     if fixed:
         lines.append("# fixed couplings: " + ", ".join(f"{k}={_rat(v)}" for k, v in fixed.items()))
@@ -264,7 +264,8 @@ def format_table(spectrum, point=None, digits=12, verification="full"):
         lines.append("# selected sectors only: " + describe_selection(spectrum.sectors))
     report = spectrum.verification
     lines += [f"# {report.summary() if verification == 'full' else report.short()}",
-             f"# {len(spectrum.levels)} levels, {spectrum.n_states} states"]
+             f"# {len(spectrum.levels)} levels, {spectrum.n_states} states; "
+             f"symcluster {__version__}"]
     if pt is not None:
         lines.append("# values at " + ", ".join(f"{s.name}={_rat(v)}" for s, v in pt.items()))
     lines.append(fmt(head))

@@ -5,6 +5,7 @@ import time
 from math import comb, factorial
 
 from symcluster.errors import TooLargeError
+from symcluster.pipeline.memory import memory_reading
 from symcluster.symmetry.groups import _MAX_ORDER as MAX_GROUP_ORDER
 from symcluster.tiers import FLOAT_DIM, SELECTED_DENSE_DIM
 
@@ -13,40 +14,19 @@ __all__ = ["available_memory", "block_dimensions", "estimate_cost", "optimistic_
 
 
 def available_memory():
-    """Bytes of memory available to this process, or None if the system does not say.
+    """Bytes of memory available to this process, or None if unknown.
 
-    Linux: MemAvailable of /proc/meminfo (free memory plus what the kernel can reclaim).
-    Other systems: psutil's ``virtual_memory().available`` where psutil is installed
-    (macOS, Windows), else the free physical pages from ``os.sysconf`` (POSIX systems that
-    name ``SC_AVPHYS_PAGES``).  None only where none of these answers (the memory guard
-    cannot check then).
+    Linux: ``MemAvailable`` of ``/proc/meminfo``; other systems: see
+    :func:`symcluster.pipeline.memory.memory_reading`, which also names the source.
+    When nothing can be read the guard refuses nothing (there is no figure to compare).
+
+    Examples
+    --------
+    >>> have = available_memory()
+    >>> have is None or have > 0
+    True
     """
-    try:
-        # bytes, not text: no codec to look up (a first solve paid 0.5 ms importing one)
-        with open("/proc/meminfo", "rb") as fh:
-            for line in fh:
-                if line.startswith(b"MemAvailable:"):
-                    return int(line.split()[1]) * 1024
-    except OSError:
-        pass
-    return _portable_available()
-
-
-def _portable_available():
-    try:
-        import psutil
-        return int(psutil.virtual_memory().available)
-    except Exception:       # not installed, or no answer on this system
-        pass
-    import os
-    try:
-        pages = os.sysconf("SC_AVPHYS_PAGES")
-        size = os.sysconf("SC_PAGE_SIZE")
-        if pages > 0 and size > 0:
-            return int(pages) * int(size)
-    except (ValueError, OSError, AttributeError):
-        pass
-    return None
+    return memory_reading()[0]
 
 
 # Memory model, fitted to the peaks measured by tests/bench/run_bench.py on 6- and
