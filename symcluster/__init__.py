@@ -31,3 +31,6 @@ __all__ = [
 from symcluster.analysis import series, transitions  # noqa: E402  (depends on the classes above)
 
 __all__ += ["series", "transitions"]
+from symcluster.catalogue import catalogue_tasks, run_catalogue  # noqa: E402
+
+__all__ += ["run_catalogue", "catalogue_tasks"]

@@ -354,6 +354,8 @@ def _make_parser():
                             help="do not use the cluster's lattice symmetry")
     from symcluster.analysis.commands import add_commands
     add_commands(sub, parents=[model_opts], build_spectrum=_analysis_spectrum)
+    from symcluster.catalogue.command import add_command as add_catalogue
+    add_catalogue(sub)
     sub.add_parser("shapes", help="list the built-in cluster shapes",
                    description="List the built-in cluster shapes and their sizes.")
     sub.add_parser("demo", help="the demo run (same as no arguments)",
@@ -557,7 +559,7 @@ def main(argv=None):
 def _main(argv):
     out, err = sys.stdout, sys.stderr
     commands = {"levels", "shapes", "demo", "ground-map", "gaps", "series", "thermo", "plot",
-                "derivative"}
+                "derivative", "catalogue"}
     if argv and argv[0] not in commands and argv[0] not in ("-h", "--help", "--version"):
         argv.insert(0, "levels")
     try:
