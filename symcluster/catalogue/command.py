@@ -9,6 +9,7 @@ command again to resume).
 """
 
 import argparse
+import os
 import re
 import sys
 
@@ -106,7 +107,10 @@ def run_command(args, out=None, err=None):
         if args.scheduler is not None or args.dask_local is not None:
             from symcluster.catalogue.engines import dask_executor
             from symcluster.catalogue.spec import load_spec
+            from symcluster.catalogue.store import check_database_path
             load_spec(args.spec)            # a bad spec: one line before any cluster starts
+            check_database_path(args.db or os.path.splitext(args.spec)[0] + ".db",
+                                inputs=[args.spec])
             with dask_executor(address=args.scheduler, n_workers=args.dask_local or 2) as ex:
                 run = run_catalogue(args.spec, db=args.db, executor=ex)
         else:
@@ -122,12 +126,10 @@ def run_command(args, out=None, err=None):
 
 
 def _name(path):
-    import os
     return os.path.basename(os.fspath(path))
 
 
 def _status(args, out):
-    import os
     from symcluster.catalogue.spec import load_spec, task_key
     from symcluster.catalogue.store import rows
     tasks = load_spec(args.spec)["tasks"]

@@ -21,7 +21,7 @@ __all__ = ["dask_executor"]
 
 
 @contextlib.contextmanager
-def dask_executor(address=None, n_workers=2, processes=True, timeout=60):
+def dask_executor(address=None, n_workers=2, processes=True, timeout=30):
     """A Dask executor for :func:`~symcluster.catalogue.run_catalogue`, closed on leaving.
 
     Parameters

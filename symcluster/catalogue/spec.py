@@ -14,6 +14,7 @@ The format is written out in docs/catalogues.md.  In short::
     list = [["chain", 2], ["grid", 2, 3]]      # shapes with their sizes
     files = ["dimer.toml"]                     # cluster files, beside the spec
     atlas = 4                                  # every connected graph with <= 4 sites
+                                               # (atlas = [2, 4]: with 2 to 4 sites)
     [[clusters.product]]                       # shapes x sizes
     shapes = ["ring", "chain"]
     sizes = [3, 4, 5]
@@ -117,8 +118,8 @@ def _shape_cluster(words, source):
         _fail(source, f"{words!r}: {exc}")
 
 
-def _atlas_clusters(max_sites, source):
-    """Every connected graph with 1 .. max_sites sites, in the atlas's order."""
+def _atlas_clusters(min_sites, max_sites, source):
+    """Every connected graph with min_sites .. max_sites sites, in the atlas's order."""
     try:
         import networkx as nx
         from networkx.generators.atlas import graph_atlas_g
@@ -128,7 +129,7 @@ def _atlas_clusters(max_sites, source):
     out = []
     for index, g in enumerate(graph_atlas_g()):
         n = g.number_of_nodes()
-        if n == 0 or n > max_sites or not nx.is_connected(g):
+        if not min_sites <= n <= max_sites or not nx.is_connected(g):
             continue
         bonds = sorted((min(i, j), max(i, j)) for i, j in g.edges())
         out.append(make_cluster(n, bonds, name=f"atlas G{index}"))
@@ -161,8 +162,11 @@ def _clusters(table, source, folder):
     for name in files:
         out.append(load_cluster_file(os.path.join(folder, name)))
     if "atlas" in table:
-        out += _atlas_clusters(_whole(table["atlas"], "clusters.atlas", source, 1,
-                                      MAX_ATLAS_SITES), source)
+        atlas = table["atlas"]
+        low, high = atlas if isinstance(atlas, list) and len(atlas) == 2 else (1, atlas)
+        low = _whole(low, "clusters.atlas (smallest size)", source, 1, MAX_ATLAS_SITES)
+        high = _whole(high, "clusters.atlas (largest size)", source, low, MAX_ATLAS_SITES)
+        out += _atlas_clusters(low, high, source)
     return out
 
 
