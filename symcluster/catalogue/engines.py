@@ -48,7 +48,7 @@ def dask_executor(address=None, n_workers=2, processes=True, timeout=30):
 
     Examples
     --------
-    >>> with dask_executor(n_workers=1, processes=False) as ex:     # doctest: +SKIP
+    >>> with dask_executor(n_workers=1, processes=False) as ex:
     ...     ex.submit(abs, -2).result()
     2
     """
