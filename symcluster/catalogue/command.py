@@ -56,7 +56,17 @@ def _whole(lo, hi):
 
 def add_command(subparsers):
     """Add ``catalogue`` to the command line's subparsers (``func`` set to
-    :func:`run_command`)."""
+    :func:`run_command`); returns its parser.
+
+    Examples
+    --------
+    >>> parser = argparse.ArgumentParser(prog="symcluster")
+    >>> add_command(parser.add_subparsers(dest="command"))    # doctest: +ELLIPSIS
+    ArgumentParser(prog='symcluster catalogue', ...)
+    >>> args = parser.parse_args(["catalogue", "graphs.toml", "--workers", "2"])
+    >>> args.spec, args.workers, args.func is run_command
+    ('graphs.toml', 2, True)
+    """
     p = subparsers.add_parser("catalogue", help="run a catalogue of solves from a TOML spec",
                               description=_HELP, epilog=_EXAMPLES,
                               formatter_class=argparse.RawDescriptionHelpFormatter)

@@ -63,6 +63,13 @@ class CatalogueRun:
     ran: int
 
     def summary(self):
+        """One line: the counts and the database.
+
+        Examples
+        --------
+        >>> CatalogueRun("c.db", 1, 3, 2, 0, 1, 2).summary()
+        '3 tasks: 2 done, 0 failed, 1 pending (2 run now); database c.db'
+        """
         return (f"{self.tasks} tasks: {self.done} done, {self.failed} failed, "
                 f"{self.pending} pending ({self.ran} run now); database {self.database}")
 
@@ -250,16 +257,15 @@ def run_catalogue(spec, db=None, executor=None, workers=None, retry_failed=False
         try:
             add_tasks(conn, tasks, keys)
             todo = pending_keys(conn, keys, retry_failed)
-            own = None
-            if executor is None and todo:
-                n = workers or os.cpu_count() or 1
-                executor = own = process_pool(n)
-            run_id = start_run(conn, _describe(executor, n if own else 0), loaded["name"])
+            n = workers or os.cpu_count() or 1
+            mine = executor is None and bool(todo)
+            run_id = start_run(conn, _describe(executor, n if mine else 0), loaded["name"])
             ran = [0]
             outcome, stopped = "error", None
+            own = executor = process_pool(n) if mine else executor
             try:
                 _loop(conn, run_id, dict(zip(keys, tasks)), todo, executor, extra, stop,
-                      progress, len(keys), ran, workers or os.cpu_count() or 1)
+                      progress, len(keys), ran, _window(executor))
                 outcome = "complete"
             except Stopped as exc:
                 outcome = f"stopped by {signal.Signals(exc.signum).name}"
@@ -285,12 +291,22 @@ def run_catalogue(spec, db=None, executor=None, workers=None, retry_failed=False
     return result
 
 
-def _loop(conn, run_id, by_key, todo, executor, extra, stop, progress, total, ran, width):
+#: tasks in flight on an executor of unknown size (a Dask cluster): enough for a large
+#: cluster, few enough that a stop cancels them at once
+IN_FLIGHT = 1024
+
+
+def _window(executor):
+    """How many tasks to keep submitted: four per worker of a pool, else IN_FLIGHT."""
+    size = getattr(executor, "_max_workers", None)      # concurrent.futures pools
+    return 4 * size if isinstance(size, int) and size > 0 else IN_FLIGHT
+
+
+def _loop(conn, run_id, by_key, todo, executor, extra, stop, progress, total, ran, window):
     prog = Progress(enabled=progress)
     prog.phase("catalogue", total, "tasks", done=total - len(todo))
     queue = deque(todo)
     inflight = {}
-    window = max(4, 4 * width)
     try:
         while queue or inflight:
             while queue and len(inflight) < window and stop.signum is None:

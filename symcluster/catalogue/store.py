@@ -166,7 +166,29 @@ def _model_text(task):
 
 
 def add_tasks(conn, tasks, keys):
-    """Insert the tasks not in the database yet (one transaction); returns how many were new."""
+    """Insert the tasks not in the database yet (one transaction); returns how many were new.
+
+    Examples
+    --------
+    The life of a row, with the other functions of this module:
+
+    >>> import os, tempfile
+    >>> from symcluster.catalogue.spec import catalogue_tasks, task_key
+    >>> tasks = catalogue_tasks({"format": "symcluster-catalogue",
+    ...                          "clusters": {"list": [["chain", 2]]}, "fillings": [0, 1]})
+    >>> keys = [task_key(t) for t in tasks]
+    >>> conn = open_database(os.path.join(tempfile.mkdtemp(), "c.db"))
+    >>> add_tasks(conn, tasks, keys), add_tasks(conn, tasks, keys)     # no duplicates
+    (2, 0)
+    >>> run = start_run(conn, "by hand", "example")
+    >>> outcome = {"status": "failed", "result": None, "reports": None, "verification": None,
+    ...            "worst_deviation": None, "error": "example", "seconds": 0.0, "worker": "-"}
+    >>> record_result(conn, keys[0], outcome, run)
+    >>> finish_run(conn, run, "complete")
+    >>> counts(conn), pending_keys(conn, keys) == keys[1:]
+    ({'pending': 1, 'done': 0, 'failed': 1}, True)
+    >>> conn.close()
+    """
     before = conn.total_changes
     conn.execute("BEGIN IMMEDIATE")
     try:
@@ -187,7 +209,10 @@ def add_tasks(conn, tasks, keys):
 
 
 def pending_keys(conn, keys, retry_failed=False):
-    """Those of ``keys`` whose task still has to run, in the given order."""
+    """Those of ``keys`` whose task still has to run, in the given order.
+
+    See :func:`add_tasks` for an example.
+    """
     wanted = ("pending", "failed") if retry_failed else ("pending",)
     status = dict(conn.execute("SELECT key, status FROM tasks").fetchall())
     return [k for k in keys if status.get(k) in wanted]
@@ -195,7 +220,10 @@ def pending_keys(conn, keys, retry_failed=False):
 
 def record_result(conn, key, outcome, run_id):
     """Write one finished task (its own transaction).  ``outcome`` is the dict a worker
-    returned (:func:`symcluster.catalogue.runner.run_task`)."""
+    returned (:func:`symcluster.catalogue.runner.run_task`).
+
+    See :func:`add_tasks` for an example.
+    """
     conn.execute("BEGIN IMMEDIATE")
     try:
         conn.execute(
@@ -227,6 +255,8 @@ def start_run(conn, executor, spec_name):
 
     A run still marked ``running`` whose process is gone (killed outright) is marked
     ``ended without a record`` first.
+
+    See :func:`add_tasks` for an example.
     """
     host = socket.gethostname()
     conn.execute("BEGIN IMMEDIATE")
@@ -250,7 +280,10 @@ def start_run(conn, executor, spec_name):
 
 
 def finish_run(conn, run_id, outcome):
-    """Close the run's record with ``outcome`` (one transaction)."""
+    """Close the run's record with ``outcome`` (one transaction).
+
+    See :func:`add_tasks` for an example.
+    """
     conn.execute("BEGIN IMMEDIATE")
     try:
         conn.execute("UPDATE runs SET finished = ?, outcome = ? WHERE run_id = ?",
@@ -262,7 +295,10 @@ def finish_run(conn, run_id, outcome):
 
 
 def counts(conn, keys=None):
-    """``{"pending": n, "done": n, "failed": n}`` over all tasks (or those of ``keys``)."""
+    """``{"pending": n, "done": n, "failed": n}`` over all tasks (or those of ``keys``).
+
+    See :func:`add_tasks` for an example.
+    """
     out = {"pending": 0, "done": 0, "failed": 0}
     if keys is None:
         for status, n in conn.execute("SELECT status, COUNT(*) FROM tasks GROUP BY status"):
