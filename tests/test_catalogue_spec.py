@@ -91,7 +91,17 @@ def test_a_spec_file_names_cluster_files_beside_it(tmp_path):
     assert task["cluster"]["bonds"] == [[0, 1, "t"], [0, 2, "tp"], [1, 2, "t"]]
 
 
+def test_report_options_travel_with_the_task_and_change_its_key():
+    plain = catalogue_tasks(_spec(clusters={"list": [["chain", 2]]}, fillings=[2]))[0]
+    opts = {"levels": {"coupling": "U", "interval": ["0", "10"], "closed": [True, False]}}
+    (task,) = catalogue_tasks(_spec(clusters={"list": [["chain", 2]]}, fillings=[2],
+                                    report_options=opts))
+    assert task["report_options"] == opts and task_key(task) != task_key(plain)
+
+
 @pytest.mark.parametrize("spec, words", [
+    ({**BASE, "clusters": {"atlas": 2}, "report_options": {"ground": {"a": 1}}}, "not in reports"),
+    ({**BASE, "clusters": {"atlas": 2}, "report_options": {"levels": {"a": 0.5}}}, "report_options.levels.a"),
     ({"format": "other"}, "format"),
     ({**BASE, "version": 2}, "version"),
     ({**BASE, "clusters": {"list": [["hexagon", 6]]}}, "unknown shape"),

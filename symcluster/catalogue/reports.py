@@ -5,7 +5,10 @@ A report is a function ``fn(spec, task) -> dict``: ``spec`` the verified
 ``point``, ``digits``, ``electrons``, ...).  The dict must be JSON data (strings,
 integers, booleans, None, lists, dicts; exact and numerical values as strings), so that
 the same task gives the same text on every worker.  A report runs in the worker, right
-after the solve, and its dict is stored in the task's row under the report's name.
+after the solve, and its dict is stored in the task's row under the report's name.  A
+report's own settings come from the spec's ``[report_options.NAME]`` table, in
+``task.get("report_options", {}).get(NAME, {})`` (plain strings, integers, booleans and
+lists; the report checks them and raises an ``InputError`` naming the key).
 
 :data:`REPORTS` lists the built-in reports; a spec names reports from it.  Further
 reports are plugged in by adding an entry here (``Report(fn, needs_point, doc)``) or,

@@ -8,6 +8,7 @@ The format is written out in docs/catalogues.md.  In short::
     fillings = "all"                    # "all", "half", or electron numbers [1, 2]
     reports = ["levels", "ground", "gaps"]
     digits = 15                         # digits of the values at the point
+    report_options.NAME = { ... }       # plain values handed to report NAME
     point = { t = 1, U = "4" }          # where the reports evaluate levels
 
     [clusters]
@@ -61,7 +62,7 @@ OWN_SITE_FAMILIES = ("anderson", "kanamori")
 
 _DOC = "docs/catalogues.md"
 _TOP_KEYS = ("format", "version", "name", "fillings", "reports", "digits", "point",
-             "eigenvectors", "clusters", "models")
+             "eigenvectors", "clusters", "models", "report_options")
 _CLUSTER_KEYS = ("list", "files", "atlas", "product")
 _MODEL_KEYS = ("family", "size", "field", "hold", "file")
 
@@ -201,6 +202,32 @@ def _model_entry(entry, source, folder):
     return {"family": family, "size": size, "field": field, "hold": hold}
 
 
+def _plain_value(value, where, source):
+    if isinstance(value, bool) or type(value) is int or isinstance(value, str):
+        return value
+    if isinstance(value, list):
+        return [_plain_value(v, where, source) for v in value]
+    _fail(source, f"{where} = {value!r}: give strings, integers, booleans or lists of them "
+                  "(numbers as strings such as \"1/2\")")
+
+
+def _report_options(table, reports, source):
+    """``[report_options.NAME]`` tables: plain values handed to report NAME (in its task)."""
+    if not isinstance(table, dict):
+        _fail(source, "report_options must be a table of tables such as "
+                      "[report_options.towers]")
+    out = {}
+    for name, opts in sorted(table.items()):
+        if name not in reports:
+            _fail(source, f"report_options.{name}: {name!r} is not in reports; add it to "
+                          "reports or drop its options")
+        if not isinstance(opts, dict):
+            _fail(source, f"report_options.{name} must be a table")
+        out[name] = {k: _plain_value(v, f"report_options.{name}.{k}", source)
+                     for k, v in sorted(opts.items())}
+    return out
+
+
 def _fillings(value, source):
     if value in ("all", "half"):
         return value
@@ -278,6 +305,7 @@ def load_spec(spec, source=None, reports=None):
     if needs_point and point is None:
         _fail(source, f"report {needs_point[0]!r} evaluates levels at a point; add e.g. "
                       "point = { t = 1, U = \"4\" }")
+    options = _report_options(data.get("report_options", {}), reports, source)
     digits = _whole(data.get("digits", 15), "digits", source, 1, 1000)
     eigenvectors = data.get("eigenvectors", False)
     if not isinstance(eigenvectors, bool):
@@ -293,6 +321,8 @@ def load_spec(spec, source=None, reports=None):
                       f"(see {_DOC}), or use only families that build their own sites")
     common = {"point": point, "digits": digits, "reports": list(reports),
               "eigenvectors": eigenvectors}
+    if options:
+        common["report_options"] = options
     tasks = _expand(clusters, models, fillings, common, source)
     if not tasks:
         _fail(source, "the spec expands to no task; check fillings against the clusters' sizes")
@@ -367,7 +397,8 @@ def catalogue_tasks(spec):
     ``[i, j, label]``, ``site_labels``; None for a model that builds its own sites),
     ``model`` (``family``, ``size``, ``field``, ``hold``; or ``file`` and
     ``file_text``), ``electrons`` (None for a spin model), ``point``, ``digits``,
-    ``reports``, ``eigenvectors``.
+    ``reports``, ``eigenvectors``, and ``report_options`` (``{report: {key: value}}``)
+    where the spec gives any.
 
     Examples
     --------
