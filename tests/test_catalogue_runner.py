@@ -153,3 +153,15 @@ def test_bad_database_paths_write_nothing(tmp_path):
             run_catalogue(spec, db=path, progress=False)
     assert other.read_text() == "my notes\n"
     assert sorted(p.name for p in tmp_path.iterdir()) == ["notes.txt"]
+
+
+def test_results_false_keeps_reports_and_verification_only(tmp_path):
+    db = tmp_path / "c.db"
+    spec = {**BASE, "clusters": {"list": [["chain", 2]]}, "fillings": [2], "results": False,
+            "reports": ["ground"], "point": {"t": 1, "U": 4}}
+    _run(spec, db)
+    (row,) = rows(db)
+    assert row["result"] is None and row["status"] == "done"
+    assert row["verification"].startswith("verified:")
+    assert float(json.loads(row["reports"])["ground"]["energy"]) == pytest.approx(
+        2 - 8 ** 0.5, abs=1e-14)                    # (U - sqrt(U^2 + 16 t^2))/2 at t=1, U=4

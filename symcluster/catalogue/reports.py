@@ -47,6 +47,16 @@ def _qn_text(level, key):
     return None if v is None else str(v)
 
 
+def _exact_text(level):
+    """A closed form as text; an implicit root by its index and its polynomial's degree
+    (the polynomial itself, thousands of terms, is in the row's result document)."""
+    if level.is_closed_form:
+        return energy_text(level.energy)
+    poly = level.energy.poly
+    return (f"root {int(level.energy.index) + 1} of an irreducible polynomial of degree "
+            f"{poly.degree(poly.gens[0])} in {poly.gens[0]} (in the result's polynomials)")
+
+
 def levels_report(spec, task):
     """Counts of a solved task: levels, states, closed-form and implicit levels, and the
     largest degree in E of a level polynomial.
@@ -73,8 +83,9 @@ def _ground(spec, task):
 
 
 def ground_report(spec, task):
-    """The lowest level(s) of the task at its point: value, exact expression, spins and
-    degeneracy (levels within 10**-30 of each other count as one ground set).
+    """The lowest level(s) of the task at its point: value, exact expression (a closed
+    form; an implicit root by its index and degree), spins and degeneracy (levels within
+    10**-30 of each other count as one ground set).
 
     Examples
     --------
@@ -85,9 +96,9 @@ def ground_report(spec, task):
     ('-0.828427', 'U/2 - sqrt(U**2 + 16*t**2)/2', ['0'], 1)
     """
     levels, e0 = _ground(spec, task)
+    exact = [_exact_text(lev) for lev in levels]
     return {"energy": _value(e0, task["digits"]),
-            "exact": [energy_text(lev.energy) for lev in levels][0] if len(levels) == 1
-            else [energy_text(lev.energy) for lev in levels],
+            "exact": exact[0] if len(exact) == 1 else exact,
             "S": sorted({s for s in (_qn_text(lev, "S") for lev in levels) if s is not None}),
             "degeneracy": sum(int(lev.degeneracy) for lev in levels),
             "levels": len(levels)}

@@ -129,14 +129,15 @@ def _run_task(task, extra):
         seed = int(task_key(task)[:8], 16)
         spec = solve(model, electrons=task["electrons"], executor="serial", seed=seed,
                      fixed=fixed or None, progress=False)
-        doc = spectrum_to_dict(spec, point=task["point"], digits=task["digits"],
-                               eigenvectors=task["eigenvectors"])
-        doc.pop("timings", None)            # differs from run to run: not a result
+        result = None
+        if task.get("results", True):
+            doc = spectrum_to_dict(spec, point=task["point"], digits=task["digits"],
+                                   eigenvectors=task["eigenvectors"])
+            doc.pop("timings", None)            # differs from run to run: not a result
+            result = json.dumps(doc, sort_keys=True, separators=(",", ":"), allow_nan=False)
         table = {**REPORTS, **extra}
         reports = {name: table[name].fn(spec, task) for name in task["reports"]}
-        out.update(status="done",
-                   result=json.dumps(doc, sort_keys=True, separators=(",", ":"),
-                                     allow_nan=False),
+        out.update(status="done", result=result,
                    reports=json.dumps(reports, sort_keys=True, separators=(",", ":"),
                                       allow_nan=False),
                    verification=spec.verification.summary(),

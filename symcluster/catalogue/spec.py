@@ -9,6 +9,7 @@ The format is written out in docs/catalogues.md.  In short::
     reports = ["levels", "ground", "gaps"]
     digits = 15                         # digits of the values at the point
     report_options.NAME = { ... }       # plain values handed to report NAME
+    results = true                      # false: store reports and verification only
     point = { t = 1, U = "4" }          # where the reports evaluate levels
 
     [clusters]
@@ -62,7 +63,7 @@ OWN_SITE_FAMILIES = ("anderson", "kanamori")
 
 _DOC = "docs/catalogues.md"
 _TOP_KEYS = ("format", "version", "name", "fillings", "reports", "digits", "point",
-             "eigenvectors", "clusters", "models", "report_options")
+             "eigenvectors", "clusters", "models", "report_options", "results")
 _CLUSTER_KEYS = ("list", "files", "atlas", "product")
 _MODEL_KEYS = ("family", "size", "field", "hold", "file")
 
@@ -310,6 +311,10 @@ def load_spec(spec, source=None, reports=None):
     eigenvectors = data.get("eigenvectors", False)
     if not isinstance(eigenvectors, bool):
         _fail(source, "eigenvectors must be true or false")
+    results = data.get("results", True)
+    if not isinstance(results, bool):
+        _fail(source, "results must be true (store each spectrum's JSON) or false (only the "
+                      "reports and the verification)")
     fillings = _fillings(data.get("fillings", "all"), source)
     clusters = _clusters(data.get("clusters", {}), source, folder)
     models = data.get("models", [{"family": "hubbard"}])
@@ -323,6 +328,8 @@ def load_spec(spec, source=None, reports=None):
               "eigenvectors": eigenvectors}
     if options:
         common["report_options"] = options
+    if not results:                         # only when false: the default keys stay
+        common["results"] = False
     tasks = _expand(clusters, models, fillings, common, source)
     if not tasks:
         _fail(source, "the spec expands to no task; check fillings against the clusters' sizes")
@@ -397,8 +404,8 @@ def catalogue_tasks(spec):
     ``[i, j, label]``, ``site_labels``; None for a model that builds its own sites),
     ``model`` (``family``, ``size``, ``field``, ``hold``; or ``file`` and
     ``file_text``), ``electrons`` (None for a spin model), ``point``, ``digits``,
-    ``reports``, ``eigenvectors``, and ``report_options`` (``{report: {key: value}}``)
-    where the spec gives any.
+    ``reports``, ``eigenvectors``, ``report_options`` (``{report: {key: value}}``)
+    where the spec gives any, and ``results`` (False) where the spec says so.
 
     Examples
     --------
