@@ -316,11 +316,14 @@ def _loop(conn, run_id, by_key, todo, executor, extra, stop, progress, total, ra
             done, _ = concurrent.futures.wait(list(inflight), timeout=0.2,
                                               return_when=concurrent.futures.FIRST_COMPLETED)
             for fut in done:
-                _store(conn, run_id, inflight.pop(fut), fut, ran)
+                key = inflight.pop(fut)
+                if stop.signum is not None and not _arrived(fut):
+                    continue        # a worker stopped by the same Ctrl-C: the task stays pending
+                _store(conn, run_id, key, fut, ran)
                 prog.step()
             if stop.signum is not None:
                 for fut in list(inflight):           # arrived meanwhile: keep them
-                    if fut.done():
+                    if _arrived(fut):
                         _store(conn, run_id, inflight.pop(fut), fut, ran)
                 for fut in inflight:
                     fut.cancel()
@@ -328,6 +331,11 @@ def _loop(conn, run_id, by_key, todo, executor, extra, stop, progress, total, ra
             prog.tick()
     finally:
         prog.close()
+
+
+def _arrived(fut):
+    """The future holds a worker's outcome (not cancelled, no exception of the executor)."""
+    return fut.done() and not fut.cancelled() and fut.exception() is None
 
 
 def _store(conn, run_id, key, fut, ran):

@@ -51,8 +51,11 @@ def main(argv=None):
     p.add_argument("--workers", type=int, default=2)
     p.add_argument("--no-dask", action="store_true")
     p.add_argument("--keep", action="store_true")
+    p.add_argument("--folder", help="use (and keep) the databases in this folder: a run "
+                                    "stopped before resumes there")
     args = p.parse_args(argv)
-    folder = tempfile.mkdtemp(prefix="catalogue-bench-")
+    folder = args.folder or tempfile.mkdtemp(prefix="catalogue-bench-")
+    args.keep = args.keep or bool(args.folder)
     s = spec(args.max_sites)
     tasks = catalogue_tasks(s)
     print(f"{len(tasks)} tasks; databases in {folder}", file=sys.stderr, flush=True)
@@ -67,12 +70,16 @@ def main(argv=None):
             up = time.perf_counter() - t0
             results.append((f"Dask LocalCluster (start {up:.1f} s)",
                             *_run("dask", s, dask_db, executor=ex)))
-    print(f"| executor ({args.workers} workers) | tasks | done | failed | wall s | tasks/s "
-          f"| load before | load after |")
+    print(f"| executor ({args.workers} workers) | tasks | run now | failed | wall s "
+          f"| tasks/s | load before | load after |")
     print("| --- | --- | --- | --- | --- | --- | --- | --- |")
     for label, run, wall, l0, l1 in results:
-        print(f"| {label} | {run.tasks} | {run.done} | {run.failed} | {wall:.1f} "
-              f"| {run.tasks / wall:.2f} | {l0} | {l1} |")
+        print(f"| {label} | {run.tasks} | {run.ran} | {run.failed} | {wall:.1f} "
+              f"| {run.ran / wall:.2f} | {l0} | {l1} |")
+    runs = __import__("sqlite3").connect(local_db).execute(
+        "SELECT run_id, started, finished, outcome, tasks_run FROM runs").fetchall()
+    print("\nruns of the local database: " + "; ".join(
+        f"{r[0]}: {r[1]} to {r[2]}, {r[3]}, {r[4]} tasks" for r in runs))
     local = rows(local_db)
     if not args.no_dask:
         same = local == rows(dask_db)
