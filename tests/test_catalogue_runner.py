@@ -143,6 +143,13 @@ def test_the_content_of_rows_does_not_depend_on_the_executor(tmp_path):
     assert a == b and len(a) == 7 and set(a[0]) == set(CONTENT_COLUMNS)
 
 
+def test_the_callers_executor_stays_open(tmp_path):
+    spec = {**BASE, "clusters": {"list": [["chain", 2]]}, "fillings": [1]}
+    with concurrent.futures.ThreadPoolExecutor(1) as pool:
+        run_catalogue(spec, db=tmp_path / "c.db", executor=pool, progress=False)
+        assert pool.submit(abs, -3).result() == 3
+
+
 def test_bad_database_paths_write_nothing(tmp_path):
     spec = {**BASE, "clusters": {"list": [["chain", 2]]}}
     other = tmp_path / "notes.txt"

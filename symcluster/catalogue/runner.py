@@ -263,7 +263,8 @@ def run_catalogue(spec, db=None, executor=None, workers=None, retry_failed=False
             run_id = start_run(conn, _describe(executor, n if mine else 0), loaded["name"])
             ran = [0]
             outcome, stopped = "error", None
-            own = executor = process_pool(n) if mine else executor
+            own = process_pool(n) if mine else None     # the caller's executor stays open
+            executor = own if own is not None else executor
             try:
                 _loop(conn, run_id, dict(zip(keys, tasks)), todo, executor, extra, stop,
                       progress, len(keys), ran, _window(executor))
