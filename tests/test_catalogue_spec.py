@@ -127,3 +127,12 @@ def test_bad_specs_are_refused_in_one_line(spec, words):
         load_spec(spec)
     msg = str(info.value)
     assert words in msg and "\n" not in msg
+
+
+def test_the_worked_catalogue_spec_expands():
+    import os
+    path = os.path.join(os.path.dirname(__file__), "..", "worked", "catalogues",
+                        "small_graphs.toml")
+    tasks = load_spec(path)["tasks"]
+    # 10 connected graphs with 1..4 sites (OEIS A001349) at 2L + 1 fillings, ring(5) at 11
+    assert len(tasks) == (1 * 3 + 1 * 5 + 2 * 7 + 6 * 9) + 11

@@ -22,7 +22,7 @@ and their reports, each stored in an SQLite database the moment it finishes.
 SPEC.toml lists the clusters (shapes with sizes, shapes x sizes, cluster files,
 or every connected graph up to n sites), the models, the fillings, the reports
 and the point where reports evaluate levels; docs/catalogues.md has the format
-and worked/catalogue_small_graphs.toml an example.
+and worked/catalogues/small_graphs.toml an example.
 
 Running the same command again resumes: finished tasks are not redone, and a
 changed spec only adds its new tasks.  SIGINT or SIGTERM (Ctrl-C) stops the run
@@ -38,7 +38,7 @@ exit codes: 0 all done, 1 some tasks failed (see their rows), 2 bad input,
 
 _EXAMPLES = """\
 examples:
-  symcluster catalogue worked/catalogue_small_graphs.toml
+  symcluster catalogue worked/catalogues/small_graphs.toml
   symcluster catalogue graphs.toml --db graphs.db --workers 2
   symcluster catalogue graphs.toml --scheduler tcp://10.0.0.5:8786
   symcluster catalogue graphs.toml --status
