@@ -31,6 +31,33 @@ __all__ = [
 from symcluster.analysis import series, transitions  # noqa: E402  (depends on the classes above)
 
 __all__ += ["series", "transitions"]
-from symcluster.catalogue import catalogue_tasks, run_catalogue  # noqa: E402
+
+
+def run_catalogue(spec, db=None, **kwargs):
+    """:func:`symcluster.catalogue.run_catalogue` (imported on first use: ``import
+    symcluster`` stays as light as it was).
+
+    Examples
+    --------
+    >>> import symcluster as sc
+    >>> run_catalogue is not None and sc.catalogue_tasks is not None
+    True
+    """
+    from symcluster.catalogue import run_catalogue as run
+    return run(spec, db=db, **kwargs)
+
+
+def catalogue_tasks(spec):
+    """:func:`symcluster.catalogue.catalogue_tasks` (imported on first use).
+
+    Examples
+    --------
+    >>> len(catalogue_tasks({"format": "symcluster-catalogue",
+    ...                      "clusters": {"list": [["chain", 2]]}}))
+    5
+    """
+    from symcluster.catalogue import catalogue_tasks as tasks
+    return tasks(spec)
+
 
 __all__ += ["run_catalogue", "catalogue_tasks"]
