@@ -151,7 +151,8 @@ STAGES = [
     {"errors", "symbols", "parsing", "tiers", "interrupts", "workers", "linalg"},
     {"lattice"}, {"hilbert"}, {"models"}, {"symmetry"}, {"algebra"}, {"blocks"},
     {"numeric"}, {"spectrum"}, {"verify"}, {"pipeline"}, {"export", "analysis"},
-    {"catalogue"}, {"cli", "__main__"},
+    {"response"}, {"catalogue"},
+    {"cli", "__main__"},
 ]
 
 
