@@ -35,3 +35,33 @@ __all__ += ["series", "transitions"]
 from symcluster.response.greens import greens_function, greens_matrix  # noqa: E402
 
 __all__ += ["greens_function", "greens_matrix"]
+
+
+def run_catalogue(spec, db=None, **kwargs):
+    """:func:`symcluster.catalogue.run_catalogue` (imported on first use: ``import
+    symcluster`` stays as light as it was).
+
+    Examples
+    --------
+    >>> import symcluster as sc
+    >>> run_catalogue is not None and sc.catalogue_tasks is not None
+    True
+    """
+    from symcluster.catalogue import run_catalogue as run
+    return run(spec, db=db, **kwargs)
+
+
+def catalogue_tasks(spec):
+    """:func:`symcluster.catalogue.catalogue_tasks` (imported on first use).
+
+    Examples
+    --------
+    >>> len(catalogue_tasks({"format": "symcluster-catalogue",
+    ...                      "clusters": {"list": [["chain", 2]]}}))
+    5
+    """
+    from symcluster.catalogue import catalogue_tasks as tasks
+    return tasks(spec)
+
+
+__all__ += ["run_catalogue", "catalogue_tasks"]

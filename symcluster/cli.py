@@ -367,6 +367,8 @@ def _make_parser():
     add_commands(sub, parents=[model_opts], build_spectrum=_analysis_spectrum)
     from symcluster.response.commands import add_commands as add_response_commands
     add_response_commands(sub, [model_opts], build_model, _solve, parse_point)
+    from symcluster.catalogue.command import add_command as add_catalogue
+    add_catalogue(sub)
     sub.add_parser("shapes", help="list the built-in cluster shapes",
                    description="List the built-in cluster shapes and their sizes.")
     sub.add_parser("demo", help="the demo run (same as no arguments)",
