@@ -31,3 +31,6 @@ __all__ = [
 from symcluster.analysis import series, transitions  # noqa: E402  (depends on the classes above)
 
 __all__ += ["series", "transitions"]
+from symcluster.theorems import tower_rows, towers  # noqa: E402
+
+__all__ += ["towers", "tower_rows"]

@@ -151,7 +151,7 @@ STAGES = [
     {"errors", "symbols", "parsing", "tiers", "interrupts", "workers", "linalg"},
     {"lattice"}, {"hilbert"}, {"models"}, {"symmetry"}, {"algebra"}, {"blocks"},
     {"numeric"}, {"spectrum"}, {"verify"}, {"pipeline"}, {"export", "analysis"},
-    {"cli", "__main__"},
+    {"theorems"}, {"cli", "__main__"},
 ]
 
 
