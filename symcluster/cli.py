@@ -354,6 +354,8 @@ def _make_parser():
                             help="do not use the cluster's lattice symmetry")
     from symcluster.analysis.commands import add_commands
     add_commands(sub, parents=[model_opts], build_spectrum=_analysis_spectrum)
+    from symcluster.theorems.commands import add_commands as add_theorem_commands
+    add_theorem_commands(sub, parents=[model_opts], build_spectrum=_theorem_spectrum)
     sub.add_parser("shapes", help="list the built-in cluster shapes",
                    description="List the built-in cluster shapes and their sizes.")
     sub.add_parser("demo", help="the demo run (same as no arguments)",
@@ -408,6 +410,13 @@ def _analysis_spectrum(args):
             raise InputError("--sector: a spin model has no electron number; leave --sector out")
     electrons = _electrons(args.electrons, model)
     check_request(args, model, electrons)
+    return _solve(model, electrons, fixed=fixed, lattice=not getattr(args, "no_lattice", False))
+
+
+def _theorem_spectrum(args):
+    """Solve the model of the towers / theorems subcommands (docs/towers.md)."""
+    model, fixed = build_model(args)
+    electrons = _electrons(args.electrons, model)
     return _solve(model, electrons, fixed=fixed, lattice=not getattr(args, "no_lattice", False))
 
 
@@ -557,7 +566,7 @@ def main(argv=None):
 def _main(argv):
     out, err = sys.stdout, sys.stderr
     commands = {"levels", "shapes", "demo", "ground-map", "gaps", "series", "thermo", "plot",
-                "derivative"}
+                "derivative", "towers", "theorems"}
     if argv and argv[0] not in commands and argv[0] not in ("-h", "--help", "--version"):
         argv.insert(0, "levels")
     try:
