@@ -110,7 +110,7 @@ class Curves:
                     self.factors.append(f)
                 ids.append(self._ids[key])
             self.of_poly.append(ids)
-        self._low, self._res = {}, {}
+        self._low, self._res, self._polys = {}, {}, {}
 
     # -- univariate questions -------------------------------------------------------------
     def at(self, fid, m):
@@ -144,7 +144,13 @@ class Curves:
         return best
 
     def resultant(self, i, j):
-        """Res_E(factor i, factor j) as an integer polynomial in x."""
+        """Res_E(factor i, factor j) as an integer polynomial in x (cached)."""
+        key = ("res", min(i, j), max(i, j))
+        if key not in self._polys:
+            self._polys[key] = self._resultant(key[1], key[2])
+        return self._polys[key]
+
+    def _resultant(self, i, j):
         r = self.factors[i].resultant(self.factors[j], "E")
         coeffs = [0] * (max((e for (_, e) in r.to_dict()), default=0) + 1)
         for (_, e), c in r.to_dict().items():
@@ -152,7 +158,12 @@ class Curves:
         return flint.fmpz_poly(coeffs)
 
     def discriminant(self, i):
-        """Disc_E(factor i) as an integer polynomial in x."""
+        """Disc_E(factor i) as an integer polynomial in x (cached)."""
+        if ("disc", i) not in self._polys:
+            self._polys[("disc", i)] = self._discriminant(i)
+        return self._polys[("disc", i)]
+
+    def _discriminant(self, i):
         f = self.factors[i]
         if f.degrees()[0] < 2:
             return flint.fmpz_poly([1])
