@@ -143,6 +143,7 @@ class RealAlg:
 
     def __init__(self, poly, lo, hi):
         self.poly, self.lo, self.hi = normalise(poly), Fraction(lo), Fraction(hi)
+        self._key = tuple(int(c) for c in self.poly.coeffs())
         if self.poly.degree() == 1:
             c0, c1 = (int(c) for c in self.poly.coeffs())
             self.lo = self.hi = Fraction(-c0, c1)
@@ -158,8 +159,8 @@ class RealAlg:
         return self.lo == self.hi
 
     def key(self):
-        """(coefficients of the polynomial, a root-separating interval) for equal roots."""
-        return tuple(int(c) for c in self.poly.coeffs())
+        """The coefficients of the (normalised) polynomial."""
+        return self._key
 
     def refine(self, steps=1):
         """Halve the isolating interval ``steps`` times (exact signs)."""
@@ -305,14 +306,49 @@ def lowest_root(f):
         if g.degree() == 1:
             r = RealAlg(g, 0, 0)
         else:
-            B = cauchy_bound(g)
-            found = _isolate(g, -B, B, first_only=True)
-            if not found:
+            found = _lowest_by_balls(g)
+            if found is None:
+                B = cauchy_bound(g)
+                found = _isolate(g, -B, B, first_only=True)
+                found = found[0] if found else None
+            if found is None:
                 continue
-            r = RealAlg(g, *found[0])
+            r = RealAlg(g, *found)
         if best is None or r.cmp(best) < 0:
             best = r
     return best
+
+
+#: Irreducible polynomials up to this degree have their lowest root isolated by
+#: python-flint's ``complex_roots`` (rigorous isolating balls; real roots come with an
+#: imaginary part exactly zero), which is much faster there than the bisection above.
+BALL_MAX_DEGREE = 48
+
+
+def _dyadic(x):
+    man, exp = x.man_exp()
+    man, exp = int(man), int(exp)
+    return Fraction(man * 2 ** exp) if exp >= 0 else Fraction(man, 2 ** -exp)
+
+
+def _lowest_by_balls(g):
+    """(lo, hi) isolating the lowest real root of the irreducible g from flint's isolating
+    balls, confirmed by an exact sign change; None to use the bisection instead (or when g
+    has no real root, which the bisection then confirms)."""
+    if g.degree() > BALL_MAX_DEGREE:
+        return None
+    reals = [z.real for z, _m in g.complex_roots() if z.imag == 0]
+    if not reals:
+        return None
+    r = min(reals, key=lambda b: _dyadic(b.mid()))
+    mid, rad = _dyadic(r.mid()), _dyadic(r.rad())
+    lo, hi = mid - rad, mid + rad
+    if lo == hi:
+        lo, hi = lo - Fraction(1, 2 ** 60), hi + Fraction(1, 2 ** 60)
+    s_lo, s_hi = _sign(g, lo), _sign(g, hi)
+    if s_lo == 0 or s_hi == 0 or s_lo == s_hi:
+        return None
+    return lo, hi
 
 
 def rational_between(x, y):
