@@ -304,7 +304,6 @@ def _flat_band_ferro(s):
 
 def _shift_check(s, pairs, what):
     """Exact: the level polynomials of sector N, shifted in E, are those of sector N'."""
-    E = sympy.Symbol("E")
     bad = []
     for n, n2, shift, keys in pairs:
         def table(lv, sh):
@@ -339,7 +338,6 @@ def _yang(s):
         bad = []
         for n, n2, _sh, keys in pairs:
             # the levels with eta >= |N + 2 - L|/2 have a partner at N + 2, energy + U
-            E = None
             lv = [l for l in s.spec.select(N=n)
                   if 2 * l.quantum_numbers.get("eta", -1) >= abs(n + 2 - s.L)]
             up = {}

@@ -49,7 +49,23 @@ def _range(text):
 
 
 def add_commands(subparsers, parents=(), build_spectrum=None):
-    """Add ``towers`` and ``theorems`` to an argparse subparsers object."""
+    """Add ``towers`` and ``theorems`` to an argparse subparsers object.
+
+    Parameters
+    ----------
+    subparsers : argparse._SubParsersAction
+    parents : sequence of argparse.ArgumentParser
+        Parsers holding the model options of the main command line.
+    build_spectrum : callable(args) -> Spectrum
+
+    Examples
+    --------
+    >>> import argparse
+    >>> p = argparse.ArgumentParser()
+    >>> add_commands(p.add_subparsers(dest="command"))
+    >>> p.parse_args(["towers", "--sector", "3"]).kind
+    'spin'
+    """
     from symcluster.analysis.commands import digits_argument
     for name, helptext, desc in (("towers", "certified spin / eta towers along a coupling",
                                   _TOWERS_HELP),

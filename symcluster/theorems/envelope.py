@@ -81,6 +81,14 @@ class Curves:
         polynomial with the fixed couplings substituted.
     lower, upper : Fraction or None
         The ends of the swept interval (None: -inf / +inf).
+
+    Examples
+    --------
+    >>> c = Curves([{(1, 0): 1, (0, 0): 2}, {(1, 0): 1, (0, 1): -1}], Fraction(-5), Fraction(5))
+    >>> [p[2] for p in c.envelope([0, 1])]        # E = -2, then E = x below x = -2
+    [1, 0]
+    >>> c.meetings(0, 1)[0].exact()
+    -2
     """
 
     def __init__(self, polys, lower, upper):

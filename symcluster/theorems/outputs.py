@@ -99,12 +99,29 @@ def theorems_latex(results):
 
 
 def towers_json(report):
-    """JSON text of a TowerReport (``TowerReport.as_dict``)."""
+    """JSON text of a TowerReport (``TowerReport.as_dict``).
+
+    Examples
+    --------
+    >>> import json, symcluster as sc
+    >>> spec = sc.solve(sc.hubbard(sc.chain(2)), fixed={"t": 1})
+    >>> json.loads(towers_json(sc.towers(spec, 2, "U", (0, 1), {"t": 1})))["holds"]
+    True
+    """
     return json.dumps(report.as_dict(), indent=1, ensure_ascii=False) + "\n"
 
 
 def theorems_json(results):
-    """JSON text of a theorem report."""
+    """JSON text of a theorem report.
+
+    Examples
+    --------
+    >>> import json, symcluster as sc
+    >>> spec = sc.solve(sc.hubbard(sc.chain(2)), fixed={"t": 1})
+    >>> rep = sc.theorem_report(spec, fixed={"t": 1}, theorems=["yang-eta"])
+    >>> json.loads(theorems_json(rep))["theorems"][0]["conclusion"]
+    'verified'
+    """
     return json.dumps({"format": "symcluster-theorems", "version": 1,
                        "theorems": [r.as_dict() for r in results]},
                       indent=1, ensure_ascii=False) + "\n"

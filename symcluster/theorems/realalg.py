@@ -35,7 +35,13 @@ __all__ = ["RealAlg", "roots_in", "lowest_root", "cauchy_bound", "normalise", "v
 
 
 def normalise(f):
-    """The primitive integer polynomial with positive leading coefficient proportional to f."""
+    """The primitive integer polynomial with positive leading coefficient proportional to f.
+
+    Examples
+    --------
+    >>> normalise(flint.fmpz_poly([4, 0, -2]))
+    x^2 + (-2)
+    """
     c = f.content()
     if c != 0 and c != 1:
         f = flint.fmpz_poly([int(a) // int(c) for a in f.coeffs()])
@@ -45,7 +51,13 @@ def normalise(f):
 
 
 def value_at(f, x):
-    """Exact value of the integer polynomial f at the rational x (a Fraction)."""
+    """Exact value of the integer polynomial f at the rational x (a Fraction).
+
+    Examples
+    --------
+    >>> value_at(flint.fmpz_poly([-2, 0, 1]), Fraction(3, 2))
+    Fraction(1, 4)
+    """
     v = flint.fmpq_poly(f)(flint.fmpq(x.numerator, x.denominator))
     return Fraction(int(v.p), int(v.q))
 
@@ -56,7 +68,13 @@ def _sign(f, x):
 
 
 def cauchy_bound(f):
-    """A rational B with every root of f in (-B, B) (Cauchy's bound, plus one)."""
+    """A rational B with every root of f in (-B, B) (Cauchy's bound, plus one).
+
+    Examples
+    --------
+    >>> cauchy_bound(flint.fmpz_poly([-48, -16, 1]))
+    Fraction(49, 1)
+    """
     cs = [int(c) for c in f.coeffs()]
     lead = abs(cs[-1])
     return Fraction(max(abs(c) for c in cs[:-1]) if len(cs) > 1 else 0, lead) + 1
@@ -272,7 +290,13 @@ class RealAlg:
 
 def roots_in(f, lo, hi):
     """The real roots of the nonzero integer polynomial f in the open interval (lo, hi), as
-    ascending RealAlg (each distinct root once).  ``lo``/``hi`` may be None for -inf/+inf."""
+    ascending RealAlg (each distinct root once).  ``lo``/``hi`` may be None for -inf/+inf.
+
+    Examples
+    --------
+    >>> [r.exact() for r in roots_in(flint.fmpz_poly([2, 0, -3, 0, 1]), 0, None)]
+    [1, sqrt(2)]
+    """
     out = []
     for g in _squarefree_factors(f):
         B = cauchy_bound(g)
@@ -300,7 +324,15 @@ class _SortKey:
 
 
 def lowest_root(f):
-    """The smallest real root of the nonzero integer polynomial f (RealAlg), or None."""
+    """The smallest real root of the nonzero integer polynomial f (RealAlg), or None.
+
+    Examples
+    --------
+    >>> lowest_root(flint.fmpz_poly([2, 0, -3, 0, 1])).exact()
+    -sqrt(2)
+    >>> lowest_root(flint.fmpz_poly([1, 0, 1])) is None
+    True
+    """
     best = None
     for g in _squarefree_factors(f):
         if g.degree() == 1:
@@ -352,7 +384,13 @@ def _lowest_by_balls(g):
 
 
 def rational_between(x, y):
-    """A simple rational strictly between two RealAlg (or None for -inf / +inf) with x < y."""
+    """A simple rational strictly between two RealAlg (or None for -inf / +inf) with x < y.
+
+    Examples
+    --------
+    >>> rational_between(RealAlg.rational(0), RealAlg(flint.fmpz_poly([-2, 0, 1]), 1, 2))
+    Fraction(1, 1)
+    """
     if x is None and y is None:
         return Fraction(0)
     if x is None:
@@ -366,7 +404,7 @@ def rational_between(x, y):
     for k in range(0, 400):          # the shortest decimal strictly inside (lo, hi)
         scale = 10 ** k
         q = Fraction(_floor(lo * scale) + 1, scale)
-        if q < hi:
+        if q < hi or (q == hi and not y.is_rational):     # y > y.lo when y is irrational
             return q
     return (lo + hi) / 2
 
