@@ -36,6 +36,12 @@ class LinearBlock:
         monic factor of an integer one, so its coefficients are integers (Gauss's lemma)
         even when the entries are fractions; the fast characteristic-polynomial path
         uses this to lift the block itself instead of its integer multiple.
+    centre : (tuple of int, dict) or None
+        Optional ``(f, C)``: a matrix ``C`` (sparse, like a term) that commutes with
+        every term and a monic integer polynomial ``f`` (ascending coefficients) with
+        distinct roots and ``f(C) = 0``.  The fast path then splits the block into the
+        eigenspaces of ``C`` modulo suitable primes (a Galois-merged block of conjugate
+        irreps, see :mod:`symcluster.blocks.centre`); both properties are checked there.
 
     Examples
     --------
@@ -47,6 +53,7 @@ class LinearBlock:
     dim: int
     terms: dict = field(default_factory=dict)
     integral: bool = False
+    centre: object = None
 
     def __post_init__(self):
         if not isinstance(self.dim, int) or self.dim < 0:

@@ -39,6 +39,7 @@ from sympy.polys.matrices import DomainMatrix
 
 from symcluster.algebra.block import ENERGY, LinearBlock, coupling_symbol
 from symcluster.algebra.polydict import poly_from_dict
+from symcluster.algebra.split import ConjugateSplit
 from symcluster.errors import ModelError, VerificationError
 
 try:  # pragma: no cover - exercised implicitly
@@ -405,14 +406,18 @@ def _charpoly_flint(block, names):
         free = [nm for nm in present if nm != fixed]
         even = [parity[nm] for nm in free]
         bounds = [ranks[nm] // 2 if e else ranks[nm] for nm, e in zip(free, even)]
-    if not free:
+    split = None
+    if block.centre is not None:
+        split = ConjugateSplit(n, block.centre, [fm[nm] for nm in present])
+    if not free and split is None:
         # det(x - D c A) = D^n det(x/D - c A): scale back exactly
         cp = [int(c) for c in fm[fixed].charpoly().coeffs()]
         table = {(a,): Fraction(c, D ** (n - a)) for a, c in enumerate(cp) if c}
     else:
         hbits = _height_bits(n, [iterms[nm] for nm in present])
         lift_d = D if block.integral else 1   # else lift the integer multiple D*H
-        table = _multimodular(n, lift_d, fm[fixed], [fm[nm] for nm in free], bounds, even, hbits, rng)
+        table = _multimodular(n, lift_d, fm[fixed], [fm[nm] for nm in free], bounds, even, hbits,
+                              rng, split)
         if table is None:
             # an assumption failed (a block flagged integral that is not, or a wrong
             # evenness guess): redo without either, where the coefficient bound is rigorous
@@ -420,7 +425,7 @@ def _charpoly_flint(block, names):
             bounds = [ranks[nm] for nm in free]
             lift_d = 1
             table = _multimodular(n, 1, fm[fixed], [fm[nm] for nm in free], bounds, even,
-                                  hbits, rng)
+                                  hbits, rng, split)
         if lift_d != D:
             table = {key: Fraction(c, D ** (n - key[0])) for key, c in table.items()}
     # table: (a, beta_1..beta_m) -> coefficient of x^a prod u_i^beta_i in det(x - H(fixed=1, u))
@@ -556,7 +561,7 @@ def _apply_lines(vals, points, axis, kind, even, full, p, width):
                 vals[q] = [int(x) for x in res[i][g * width:(g + 1) * width]]
 
 
-def _one_prime(n, D, B0, Bs, bounds, even, p, points):
+def _one_prime(n, D, B0, Bs, bounds, even, p, points, split=None):
     """Coefficients (over `points`, then x power) of the interpolant mod p.
 
     `points` is the lower set of exponent vectors (:func:`lower_set`); the polynomial
@@ -567,19 +572,39 @@ def _one_prime(n, D, B0, Bs, bounds, even, p, points):
     The matrices are ``B/D`` modulo p, so the result is the characteristic polynomial of
     the block itself, whose coefficients are integers (Gauss's lemma: it is a monic factor
     of the integer characteristic polynomial of the Fock-space Hamiltonian).
+    With a :class:`~symcluster.algebra.split.ConjugateSplit`, each sample is the product of
+    the characteristic polynomials of the conjugate parts; None when ``p`` does not suit
+    the split (the caller takes another prime).
     """
     dinv = pow(D, -1, p)
     B0p = flint.nmod_mat(B0, p) * dinv if D != 1 else flint.nmod_mat(B0, p)
     Bps = [flint.nmod_mat(B, p) * dinv if D != 1 else flint.nmod_mat(B, p) for B in Bs]
+    parts = None
+    if split is not None:
+        parts = split.parts(p, [B0p] + Bps)
+        if parts is None:
+            return None
     vals = {}
     for beta in points:
-        M = B0p
-        for u, Bp in zip(beta, Bps):
-            if u:
-                M = M + Bp * u
-        cs = [int(c) for c in M.charpoly().coeffs()]
+        if parts is None:
+            M = B0p
+            for u, Bp in zip(beta, Bps):
+                if u:
+                    M = M + Bp * u
+            cp = M.charpoly()
+        else:
+            cp = flint.nmod_poly([1], p)
+            for k in range(split.degree):
+                M = parts[0][k]
+                for u, Pk in zip(beta, parts[1:]):
+                    if u:
+                        M = M + Pk[k] * u
+                cp = cp * M.charpoly()
+        cs = [int(c) for c in cp.coeffs()]
         cs += [0] * (n + 1 - len(cs))
         vals[beta] = cs
+    if not bounds:              # no free coupling: one sample, nothing to interpolate
+        return vals[()]
     # all divided differences before any conversion; the last axis does both at once
     full = [_axis_matrices(d + 1, e, p) for d, e in zip(bounds, even)]
     last = len(full) - 1
@@ -594,17 +619,28 @@ def _one_prime(n, D, B0, Bs, bounds, even, p, points):
     return flat
 
 
-def _multimodular(n, D, B0, Bs, bounds, even, hbits, rng):
-    """CRT-lift the interpolated coefficients; see the module docstring for the stop rule."""
+def _multimodular(n, D, B0, Bs, bounds, even, hbits, rng, split=None):
+    """CRT-lift the interpolated coefficients; see the module docstring for the stop rule.
+
+    With a `split` (:class:`~symcluster.algebra.split.ConjugateSplit`), primes that do not
+    suit it are skipped.
+    """
     points = lower_set(bounds, even, n)
     keys = [beta + (a,) for beta in points for a in range(n + 1)]
     acc = None
     modulus = 1
     k = 0
+    skipped = 0
     while True:
         p = _prime(k)
         k += 1
-        res = _one_prime(n, D, B0, Bs, bounds, even, p, points)
+        res = _one_prime(n, D, B0, Bs, bounds, even, p, points, split)
+        if res is None:
+            skipped += 1
+            if skipped > 200:
+                raise VerificationError(f"no prime among {k} suits the split of a {n}-dimensional "
+                                        "block; report this block")
+            continue
         if acc is None:
             acc = [r if r <= p // 2 else r - p for r in res]
             modulus = p

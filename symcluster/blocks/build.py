@@ -24,6 +24,7 @@ from math import lcm
 import sympy
 
 from symcluster.algebra.block import LinearBlock
+from symcluster.blocks.centre import SPLIT_MIN_DIM, central_operator
 from symcluster.errors import VerificationError
 from symcluster.linalg import check_reduced, kernel_of, reduce_basis
 from symcluster.hilbert.action import HamiltonianAction
@@ -386,6 +387,8 @@ def build_blocks(model, plan, electrons=None, report=None):
                     labels["k"] = irrep.momentum
                 dim, copies = irrep.dim, getattr(irrep, "copies", 1)
             blk = _matrix_of_h(h, vecs, piv, coeff_memo=coeff_memo)
+            if irrep is not None and irrep.orbit_size > 1 and blk.dim >= SPLIT_MIN_DIM:
+                blk.centre = central_operator(plan.lattice, irrep, vecs, piv)
             spec = BlockSpec((n_up, n_dn), labels, spin_mult * dim, copies, blk,
                              vecs, piv, members, spin_members, stages)
             spec.irrep = irrep
