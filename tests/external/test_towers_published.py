@@ -102,10 +102,18 @@ def test_attractive_spin_towers_every_filling(name):
     ref = reference(cluster)
     rng = random.Random(20)
     held = {}
-    for n in range(2 * cluster.n_sites + 1):
+    L = cluster.n_sites
+    # every cluster here is bipartite: the particle-hole map (H. Shiba 1972, from memory)
+    # shifts the whole sector 2L - N by U (L - N) with S kept, so its towers are those of N;
+    # the map is checked exactly on the level polynomials first
+    (ph,) = sc.theorem_report(spec, "U", (-20, 0), {"t": 1}, theorems=["particle-hole"])
+    assert ph.conclusion == "verified", ph.evidence
+    for n in range(L + 1):
         rep = sc.towers(spec, n, "U", (-20, 0), {"t": 1}, closed=(True, False))
-        held[n] = rep.holds
+        held[n] = held[2 * L - n] = rep.holds
         pts = [-20] + [sympy.Rational(rng.randint(-2000, -1), 100) for _ in range(3)]
         _agrees(rep, ref, n, pts)
+        if n < L:
+            _agrees(rep, ref, 2 * L - n, pts)       # the mirror sector, at the reference
     assert all(held.values()), f"{name}: the tower fails at N = " + \
         ", ".join(str(n) for n, h in held.items() if not h)
