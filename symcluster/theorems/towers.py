@@ -137,6 +137,10 @@ class TowerReport:
         For every consecutive pair, the interval split into runs of one verdict.
     crossings : list of dict
         Points where E_min of a pair are equal: ``{"value", "next_value", "at"}`` (exact).
+    asymptotics : list of dict
+        With an unbounded upper end: ``{"value", "next_value", "difference"}``, the
+        strong-coupling series of E_min(next) - E_min(value) through order 1/x**2 (exact
+        coefficients; symcluster.analysis.series), on the last piece.
     """
 
     kind: str
@@ -149,6 +153,7 @@ class TowerReport:
     verdicts: list
     crossings: list
     envelopes: dict = field(repr=False, default_factory=dict)
+    asymptotics: list = field(default_factory=list)
 
     @property
     def violations(self):
@@ -178,6 +183,8 @@ class TowerReport:
                 "crossings": [{"value": str(c["value"]), "next_value": str(c["next_value"]),
                                "at": str(c["at"]), "numeric": mpmath.nstr(c["numeric"], 15)}
                               for c in self.crossings],
+                "asymptotics": [{"value": str(a["value"]), "next_value": str(a["next_value"]),
+                                 "difference": str(a["difference"])} for a in self.asymptotics],
                 "envelopes": {str(k): [{"interval": p.interval.as_dict(),
                                         "level": _level_text(p.level)} for p in pieces]
                               for k, pieces in self.envelopes.items()}}
@@ -439,11 +446,32 @@ def towers(spec, n_electrons, coupling="U", interval=(0, 10), fixed=None, kind="
                                         ctx.representative(fid, by_value[v], m),
                                         ctx.sympy_factor(fid)))
         envelopes[v] = pieces
+    asymptotics = []
+    if hi is None:
+        asymptotics = _asymptotics(verdicts, x, values)
     whole = Interval(sympy.oo * (-1) if lo is None else sympy.Rational(lo.numerator, lo.denominator),
                      sympy.oo if hi is None else sympy.Rational(hi.numerator, hi.denominator),
                      closed[0], closed[1])
     return TowerReport(kind, n_electrons, x, whole, dict(values), vals, first, verdicts,
-                       crossings, envelopes)
+                       crossings, envelopes, asymptotics)
+
+
+def _asymptotics(verdicts, x, values):
+    """E_min(S') - E_min(S) as the swept coupling -> +oo, from the exact strong-coupling
+    series of the two levels of the last piece (symcluster.analysis.series)."""
+    from symcluster.analysis.series import series
+    from symcluster.errors import SymclusterError
+    out = []
+    for v in verdicts:
+        if v.interval.upper != sympy.oo or v.lower_level is None:
+            continue
+        try:
+            d = sympy.expand(series(v.upper_level, x.name, 2, fixed=values)
+                             - series(v.lower_level, x.name, 2, fixed=values))
+        except SymclusterError as exc:
+            d = f"no series: {exc}"
+        out.append({"value": v.value, "next_value": v.next_value, "difference": d})
+    return out
 
 
 def tower_rows(spec, coupling="U", interval=(0, 10), fixed=None, kinds=("spin", "eta"),

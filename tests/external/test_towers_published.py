@@ -117,3 +117,17 @@ def test_attractive_spin_towers_every_filling(name):
             _agrees(rep, ref, 2 * L - n, pts)       # the mirror sector, at the reference
     assert all(held.values()), f"{name}: the tower fails at N = " + \
         ", ".join(str(n) for n, h in held.items() if not h)
+
+
+def test_strong_coupling_gaps_of_the_half_filled_ring_are_heisenberg():
+    # half filling at large U: H_eff = J sum (S_i.S_j - 1/4), J = 4t^2/U (P. W. Anderson,
+    # Phys. Rev. 115, 2 (1959), from memory); the 4-site Heisenberg ring J sum S_i.S_{i+1} has
+    # E_min = -2J, -J, +J for S = 0, 1, 2 (textbook exercise, common practice), so
+    # E_min(1) - E_min(0) -> J and E_min(2) - E_min(1) -> 2J at leading order in 1/U
+    _cluster, spec = solved("ring(4)")
+    rep = sc.towers(spec, 4, "U", (1, "oo"), {"t": 1})
+    assert rep.holds
+    U = sympy.Symbol("U", real=True)
+    got = {(a["value"], a["next_value"]): a["difference"] for a in rep.asymptotics}
+    assert sympy.simplify(got[(0, 1)] - 4 / U) == 0
+    assert sympy.simplify(got[(1, 2)] - 8 / U) == 0
