@@ -385,8 +385,7 @@ def _touching(curves, c, g, h):
     if len(G) <= 1:
         return False                            # no common root at all
     for prec in (128, 512, 2048, 8192):
-        while c.hi - c.lo > Fraction(1, 2 ** (prec // 2)):
-            c.refine(16)
+        c.tighten(prec // 2)
         try:
             bg, bh, bG = _balls(pg, c, prec), _balls(ph, c, prec), _balls(G, c, prec)
         except ValueError:

@@ -195,6 +195,38 @@ class RealAlg:
                 self.hi = m
         return self
 
+    def tighten(self, bits):
+        """Narrow the isolating interval to width <= 2**-bits around the root: Newton's
+        iteration in mpmath gives a candidate, two exact signs certify it (the new interval
+        lies inside the old one and f changes sign across it); plain bisection otherwise."""
+        width = Fraction(1, 2 ** bits)
+        if self.is_rational or self.hi - self.lo <= width:
+            return self
+        cs = [int(c) for c in reversed(self.poly.coeffs())]
+        with mpmath.workprec(bits + 64):
+            m = (self.lo + self.hi) / 2
+            x = mpmath.mpf(m.numerator) / m.denominator
+            for _ in range(200):
+                fx, dfx = mpmath.polyval(cs, x, derivative=True)
+                if dfx == 0:
+                    break
+                step = fx / dfx
+                x -= step
+                if abs(step) < mpmath.ldexp(1, -(bits + 8)):
+                    break
+            man, exp = mpmath.frexp(x)
+            q = Fraction(int(mpmath.ldexp(man, bits + 64)), 2 ** (bits + 64)) * \
+                (Fraction(2) ** int(exp))
+        lo, hi = q - width / 2, q + width / 2
+        if self.lo <= lo and hi <= self.hi:
+            s_lo, s_hi = _sign(self.poly, lo), _sign(self.poly, hi)
+            if s_lo and s_hi and s_lo != s_hi:
+                self.lo, self.hi = lo, hi
+                return self
+        while self.hi - self.lo > width:
+            self.refine(8)
+        return self
+
     def _cmp_rational(self, q):
         if self.is_rational:
             return (self.lo > q) - (self.lo < q)
