@@ -308,10 +308,11 @@ class _Context:
         return self._rep[key]
 
     def sympy_factor(self, fid):
-        E = sympy.Symbol("E")
-        return sympy.Poly(sum(int(c) * E ** i * self.x ** j
-                              for (i, j), c in self.curves.factors[fid].to_dict().items()),
-                          E, self.x)
+        if ("poly", fid) not in self._rep:
+            self._rep[("poly", fid)] = sympy.Poly.from_dict(
+                {k: int(c) for k, c in self.curves.factors[fid].to_dict().items()},
+                sympy.Symbol("E"), self.x)
+        return self._rep[("poly", fid)]
 
 
 def _interval(lo, hi, lc, hc):
