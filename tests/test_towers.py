@@ -39,10 +39,17 @@ def test_a_tiny_exact_change_of_one_level_moves_the_crossing():
     assert sympy.simplify(c0 - (8 + 4 * sympy.sqrt(7))) == 0
     d = sympy.N(c1 - c0, 30)
     assert 0 < d < 1e-3
-    # the new point is exact: the S = 1/2 minimum there is -2 + eps (the quartic of the
-    # k = ±π/2 block, written out from the reference's numbers would be circular, so check
-    # with the reference numerically at 25 digits is in the external test; here: exactness)
     assert not isinstance(c1, sympy.Float)
+    # the independent reference: at the new point the lowest S = 1/2 level is the moved
+    # level -2 + eps.  S = 1/2 levels: the Sz = 1/2 sector's eigenvalues without those of the
+    # Sz = 3/2 sector (each S = 3/2 multiplet has one member in each; common practice)
+    import numpy as np
+    from helpers_towers import reference
+    ref, pt = reference(sc.ring(4)), {"t": 1, "U": float(sympy.N(c1, 20))}
+    half = list(ref.eigenvalues(pt, n_up=2, n_dn=1))
+    for e in ref.eigenvalues(pt, n_up=3, n_dn=0):
+        half.pop(int(np.argmin([abs(h - e) for h in half])))
+    assert abs(min(half) - (-2 + 1e-6)) < 1e-10
 
 
 def test_a_tiny_exact_change_of_one_level_changes_the_verdict():
