@@ -125,3 +125,11 @@ def test_bad_input_is_one_clear_error(kwargs, text):
     args.update(kwargs)
     with pytest.raises(ModelError, match=text.replace("(", r"\(").replace(")", r"\)")):
         sc.towers(**args)
+
+
+def test_per_irrep_towers_use_only_that_irrep():
+    rep = sc.towers(ring4(), 3, "U", (0, 10), {"t": 1}, irrep="k=π,−")
+    for v in rep.values:
+        assert all(p.level.quantum_numbers["irrep"] == "k=π,−" for p in rep.envelope(v))
+    with pytest.raises(ModelError, match="no levels in the lattice irrep 'k=9'"):
+        sc.towers(ring4(), 3, "U", (0, 10), {"t": 1}, irrep="k=9")
