@@ -31,6 +31,9 @@ __all__ = [
 from symcluster.analysis import series, transitions  # noqa: E402  (depends on the classes above)
 
 __all__ += ["series", "transitions"]
+from symcluster.response.greens import greens_function, greens_matrix  # noqa: E402
+
+__all__ += ["greens_function", "greens_matrix"]
 from symcluster.theorems import tower_rows, towers  # noqa: E402
 
 __all__ += ["towers", "tower_rows"]

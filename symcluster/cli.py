@@ -72,6 +72,7 @@ examples:
   symcluster levels chain 2 --at t=1,U=4
   symcluster levels ring 4 --electrons 4 --at t=1,U=8 --digits 20
   symcluster levels grid 2 2 --electrons 2,3 --latex grid.tex --standalone
+  symcluster levels ring 6 --sectors 'N=6,S=0;N=5,S=1/2,k=0' --at t=1,U=4
   symcluster levels --cluster-file dimer.toml --json dimer.json
   symcluster levels ring 6 --family heisenberg --at J=1
   symcluster levels --family anderson 1 --at eps_d=-2,U=4,eps_1=0,V_1=1
@@ -319,6 +320,11 @@ def _make_parser():
     _add_model_options(lv, ("--field", "--with-field"))
     lv.add_argument("--electrons", metavar="LIST", default="all",
                     help="electron numbers to solve: 'all' (default), '2', '2,3' or '1-3'")
+    lv.add_argument("--sectors", metavar="SPEC",
+                    help="solve only these sectors: groups of KEY=VALUE joined by ',', groups "
+                         "joined by ';', keys N, S (Sz without spin symmetry), eta, k (a "
+                         "multiple of pi), e.g. 'N=10,S=0;N=9,S=1/2,k=0' (docs/sectors.md); "
+                         "not with --electrons")
     lv.add_argument("--at", metavar="NAME=VALUE,...",
                     help="evaluate every level at this point, e.g. t=1,U=4 (the model's own "
                          "couplings, e.g. J=1 for --family heisenberg; values: integers, "
@@ -354,6 +360,8 @@ def _make_parser():
                             help="do not use the cluster's lattice symmetry")
     from symcluster.analysis.commands import add_commands
     add_commands(sub, parents=[model_opts], build_spectrum=_analysis_spectrum)
+    from symcluster.response.commands import add_commands as add_response_commands
+    add_response_commands(sub, [model_opts], build_model, _solve, parse_point)
     from symcluster.theorems.commands import add_commands as add_theorem_commands
     add_theorem_commands(sub, parents=[model_opts], build_spectrum=_theorem_spectrum)
     sub.add_parser("shapes", help="list the built-in cluster shapes",
@@ -420,7 +428,8 @@ def _theorem_spectrum(args):
     return _solve(model, electrons, fixed=fixed, lattice=not getattr(args, "no_lattice", False))
 
 
-def _solve(model, electrons, force=False, serial=False, fixed=None, lattice=True, progress=None):
+def _solve(model, electrons, force=False, serial=False, fixed=None, lattice=True, progress=None,
+           sectors=None):
     import symcluster
     solve = getattr(symcluster, "solve", None)
     if solve is None:
@@ -437,6 +446,8 @@ def _solve(model, electrons, force=False, serial=False, fixed=None, lattice=True
         kwargs["executor"] = "serial"
     if not lattice:
         kwargs["lattice"] = False
+    if sectors is not None:
+        kwargs["sectors"] = sectors
     return solve(model, electrons=electrons, **kwargs)
 
 
@@ -447,6 +458,13 @@ def _run_levels(args, out, err):
         raise InputError("--standalone needs --latex FILE.tex; add it or drop --standalone")
     model, fixed = build_model(args)
     electrons = _electrons(args.electrons, model)
+    sectors = None
+    if getattr(args, "sectors", None) is not None:
+        from symcluster.blocks.selection import parse_sectors
+        if args.electrons != "all":
+            raise InputError("--sectors and --electrons together: name N inside --sectors "
+                             "(e.g. --sectors 'N=4,S=0') and drop --electrons")
+        sectors = parse_sectors(args.sectors)
     point = parse_point(args.at) if args.at is not None else None
     if point is not None:
         _check_point(point, model, fixed)
@@ -457,7 +475,7 @@ def _run_levels(args, out, err):
     try:
         spectrum = _solve(model, electrons, getattr(args, "force", False),
                           getattr(args, "serial", False), fixed,
-                          not getattr(args, "no_lattice", False), progress)
+                          not getattr(args, "no_lattice", False), progress, sectors)
         # everything is produced in memory first; files are written only if all succeeded
         n_out = 1 + bool(args.latex) + bool(args.json)
         progress.phase("output, table", n_out, "outputs")
@@ -566,7 +584,7 @@ def main(argv=None):
 def _main(argv):
     out, err = sys.stdout, sys.stderr
     commands = {"levels", "shapes", "demo", "ground-map", "gaps", "series", "thermo", "plot",
-                "derivative", "towers", "theorems"}
+                "derivative", "reference", "compare", "towers", "theorems"}
     if argv and argv[0] not in commands and argv[0] not in ("-h", "--help", "--version"):
         argv.insert(0, "levels")
     try:

@@ -237,6 +237,10 @@ class Spectrum:
     fixed : dict
         ``{label: sympy.Rational}`` of couplings held at fixed values in the solve; the
         energies depend on the other couplings only.
+    sectors : list of dict or None
+        The sector selection of the solve (``solve(model, sectors=...)``): the spectrum
+        holds exactly the levels whose quantum numbers match one of these dicts.  None
+        when no selection was made (every level of the solved electron numbers).
     """
 
     model: object
@@ -245,6 +249,12 @@ class Spectrum:
     verification: VerificationReport = field(default_factory=VerificationReport)
     timings: dict = field(default_factory=dict)
     fixed: dict = field(default_factory=dict)
+    sectors: object = None
+
+    @property
+    def is_selection(self):
+        """True if the spectrum holds only selected sectors (``solve(..., sectors=...)``)."""
+        return self.sectors is not None
 
     @property
     def symbols(self):

@@ -11,3 +11,6 @@ MP_DIM = 4
 EXACT_DIM = 500
 #: Up to this dimension: float64 eigenvalues of the dense sector matrix; above, none.
 FLOAT_DIM = 6000
+#: Sector selections: up to this dimension the dense float64 eigenvectors (the projector's
+#: trace on each eigenspace); above, the projected Lanczos iteration.
+SELECTED_DENSE_DIM = 2000

@@ -151,7 +151,9 @@ STAGES = [
     {"errors", "symbols", "parsing", "tiers", "interrupts", "workers", "linalg"},
     {"lattice"}, {"hilbert"}, {"models"}, {"symmetry"}, {"algebra"}, {"blocks"},
     {"numeric"}, {"spectrum"}, {"verify"}, {"pipeline"}, {"export", "analysis"},
-    {"theorems"}, {"cli", "__main__"},
+    {"response"},
+    {"theorems"},
+    {"cli", "__main__"},
 ]
 
 

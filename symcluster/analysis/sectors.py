@@ -143,6 +143,10 @@ def require_electrons(spec, needed, what, fix=None):
     if not missing:
         return
     have = f"only N={format_numbers(held)}" if held else "no complete sector"
+    if fix is None and getattr(spec, "sectors", None) is not None:
+        from symcluster.blocks.selection import describe_selection
+        fix = (f"the spectrum holds only the selected sectors {describe_selection(spec.sectors)}; "
+               f"solve without sectors= (or with electrons={sorted(set(held) | set(needed))})")
     if fix is None:
         fix = (f"solve them too: solve(model, electrons={sorted(set(held) | set(needed))}), or "
                f"leave out electrons= to solve all")

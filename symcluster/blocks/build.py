@@ -308,10 +308,13 @@ def _irrep_times_char(lattice, irrep, char):
     return None
 
 
-def build_blocks(model, plan, electrons=None, report=None):
+def build_blocks(model, plan, electrons=None, report=None, keep=None):
     """All reduced blocks for the wanted electron numbers.
 
     Returns a list of BlockSpec; appends per-sector reduction sizes to ``report``.
+    ``keep`` (optional, a function of the sector (N_up, N_dn) and the lattice irrep, or
+    None without a lattice group) says which blocks to build (sector selection); the
+    others are never built, and a sector with no block kept is skipped whole.
     """
     space = model.space
     L = space.n_modes
@@ -329,11 +332,18 @@ def build_blocks(model, plan, electrons=None, report=None):
         eta_minus = per_state_memo(lambda s: apply_eta_minus(signs, *s))
     blocks = []
     for n_up, n_dn in sectors_to_solve(space, plan, electrons):
+        only = None
+        if keep is not None:
+            irreps = plan.lattice.irreps if plan.lattice is not None else [None]
+            only = [i for i, r in enumerate(irreps) if keep((n_up, n_dn), r)]
+            if not only:
+                continue
         states = space.sector_states(n_up, n_dn)
         n = n_up + n_dn
         if plan.lattice is not None:
             parts = []
-            for irrep, vecs in zip(plan.lattice.irreps, plan.lattice.adapted_bases(states)):
+            for irrep, vecs in zip(plan.lattice.irreps,
+                                   plan.lattice.adapted_bases(states, only=only)):
                 if vecs:
                     piv = [next(iter(v)) for v in vecs]
                     if not check_reduced(vecs, piv):

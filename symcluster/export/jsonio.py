@@ -149,6 +149,7 @@ def spectrum_to_dict(spectrum, point=None, digits=30, eigenvectors=True):
         "version": VERSION,
         "model": _model_dict(spectrum.model),
         "fixed": {k: str(v) for k, v in (getattr(spectrum, "fixed", None) or {}).items()},
+        "sectors": _sectors_text(spectrum),
         "point": None if pt is None else {s.name: _rat_str(v) for s, v in pt.items()},
         "digits": int(digits),
         "n_states": int(spectrum.n_states),
@@ -158,6 +159,16 @@ def spectrum_to_dict(spectrum, point=None, digits=30, eigenvectors=True):
         "verification": _plain(spectrum.verification.as_dict()),
         "timings": _plain(spectrum.timings),
     }
+
+
+def _sectors_text(spectrum):
+    """The sector selection of the solve in the command line's grammar, or None (every
+    level of the solved electron numbers)."""
+    sel = getattr(spectrum, "sectors", None)
+    if sel is None:
+        return None
+    from symcluster.blocks.selection import describe_selection
+    return describe_selection(sel)
 
 
 class _PolynomialTable:

@@ -510,6 +510,9 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
     out += _comment("model: " + spectrum.model.describe())
     if getattr(spectrum, "fixed", None):
         out += _comment("fixed couplings: " + ", ".join(f"{k}={v}" for k, v in spectrum.fixed.items()))
+    if getattr(spectrum, "sectors", None) is not None:
+        from symcluster.blocks.selection import describe_selection
+        out += _comment("selected sectors only: " + describe_selection(spectrum.sectors))
     rep = spectrum.verification
     out += _comment(rep.summary())
     out += _comment(f"verification digits: {rep.as_dict().get('digits')}")

@@ -245,6 +245,9 @@ def format_table(spectrum, point=None, digits=12):
     fixed = getattr(spectrum, "fixed", None)
     if fixed:
         lines.append("# fixed couplings: " + ", ".join(f"{k}={_rat(v)}" for k, v in fixed.items()))
+    if getattr(spectrum, "sectors", None) is not None:
+        from symcluster.blocks.selection import describe_selection
+        lines.append("# selected sectors only: " + describe_selection(spectrum.sectors))
     lines += [f"# {spectrum.verification.summary()}",
              f"# {len(spectrum.levels)} levels, {spectrum.n_states} states"]
     if pt is not None:

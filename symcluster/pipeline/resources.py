@@ -6,7 +6,7 @@ from math import comb, factorial
 
 from symcluster.errors import TooLargeError
 from symcluster.symmetry.groups import _MAX_ORDER as MAX_GROUP_ORDER
-from symcluster.tiers import FLOAT_DIM
+from symcluster.tiers import FLOAT_DIM, SELECTED_DENSE_DIM
 
 __all__ = ["available_memory", "block_dimensions", "estimate_cost", "optimistic_cost",
            "check_early", "check_size", "Progress"]
@@ -33,6 +33,9 @@ _PER_STATE = 600            # sparse integer vectors of the solved sectors' stat
 _DENSE_COPIES = 2.5         # float64 sector matrix plus the eigensolver's workspace
 _PER_TERM_BIT = 8           # stored level polynomials: per term, per unit of degree
 _PER_WORKER = 100 * 2 ** 20  # a pool process: interpreter and imports (77 MB) plus its block
+# a sector selection's dense check keeps the matrix, its eigenvectors, their projection and
+# the eigensolver's workspace (counted, not fitted: no selection was measured for the fit)
+_SELECTED_DENSE_COPIES = 4.5
 
 
 def _as_space(space):
@@ -47,7 +50,7 @@ def _sector_dim(space, n_up, n_dn):
     return _as_space(space).sector_dim(n_up, n_dn)
 
 
-def block_dimensions(n_sites, sectors, plan=None):
+def block_dimensions(n_sites, sectors, plan=None, keep=None):
     """Expected block dimensions of a solve, from state counting alone (no blocks built).
 
     In a sector (N_up, N_dn) of dimension D, spin SU(2) keeps the states with S = Sz
@@ -61,11 +64,21 @@ def block_dimensions(n_sites, sectors, plan=None):
     n_sites : int
     sectors : list of (int, int)
     plan : SymmetryPlan or None
+    keep : callable, optional
+        ``keep((N_up, N_dn), irrep)`` (irrep None without a lattice group): the blocks a
+        sector selection builds; the others are not counted.
 
     Returns
     -------
     list of float
         One entry per expected block (approximate dimensions).
+
+    Examples
+    --------
+    >>> block_dimensions(4, [(2, 2)])                  # no symmetry: the whole sector
+    [36.0]
+    >>> block_dimensions(4, [(2, 2)], keep=lambda sector, irrep: False)
+    []
     """
     n_sites = _as_space(n_sites)
     spin = bool(plan is not None and plan.spin)
@@ -77,14 +90,15 @@ def block_dimensions(n_sites, sectors, plan=None):
 
     if lattice is not None:
         order = len(lattice.group.elements)
-        shares = [irr.dim * (irr.orbit_size or 1) / order for irr in lattice.irreps]
+        shares = [(irr, irr.dim * (irr.orbit_size or 1) / order) for irr in lattice.irreps]
     else:
-        shares = [1.0]
+        shares = [(None, 1.0)]
     out = []
     for u, d in sectors:
         dim = reduced(u, d) - (reduced(u - 1, d - 1) if eta else 0)
         if dim > 0:
-            out.extend(max(1.0, dim * share) for share in shares)
+            out.extend(max(1.0, dim * share) for irr, share in shares
+                       if keep is None or keep((u, d), irr))
     return out
 
 
@@ -93,7 +107,7 @@ def _spin_highest(n_sites, n_up, n_dn):
     return _sector_dim(n_sites, n_up, n_dn) - _sector_dim(n_sites, n_up + 1, n_dn - 1)
 
 
-def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0):
+def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0, keep=None):
     """Rough peak memory (bytes) of a solve over ``sectors`` [(N_up, N_dn), ...].
 
     The terms, fitted to measured peaks (docs/performance.md): a fixed part; the
@@ -115,18 +129,26 @@ def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0):
         Number of couplings minus one.
     workers : int
         Number of pool processes on this machine (each holds its own interpreter).
+    keep : callable, optional
+        The blocks a sector selection builds (see :func:`block_dimensions`); a sector
+        none of whose blocks is kept is not counted at all.
 
     Returns
     -------
     int
     """
     n_sites = _as_space(n_sites)
+    if keep is not None:
+        sectors = [s for s in sectors if block_dimensions(n_sites, [s], plan, keep)]
     dims = [_sector_dim(n_sites, u, d) for u, d in sectors]
     k = max(1, n_free)
     per_term = _PER_TERM_BIT * (1 if k == 1 else 3)
-    polys = sum(m ** (k + 2) for m in block_dimensions(n_sites, sectors, plan)) / factorial(k + 1)
-    checked = max((d for d in dims if d <= FLOAT_DIM), default=0)   # larger: no float64 check
-    dense = _DENSE_COPIES * 8 * checked ** 2
+    polys = sum(m ** (k + 2) for m in block_dimensions(n_sites, sectors, plan, keep)) \
+        / factorial(k + 1)
+    # larger: no dense float64 check
+    checked = max((d for d in dims if d <= (FLOAT_DIM if keep is None else SELECTED_DENSE_DIM)),
+                  default=0)
+    dense = (_DENSE_COPIES if keep is None else _SELECTED_DENSE_COPIES) * 8 * checked ** 2
     return int(_FIXED + _PER_STATE * (sum(dims) + _detection_states(n_sites)) + dense
                + per_term * polys + _PER_WORKER * max(0, workers))
 
@@ -190,12 +212,13 @@ def check_early(n_sites, electrons=None, n_free=1, force=False, max_order=MAX_GR
     return need
 
 
-def check_size(n_sites, sectors, plan=None, n_free=1, force=False, workers=0):
-    """Raise TooLargeError if a run would clearly exceed the available memory."""
-    need = estimate_cost(n_sites, sectors, plan, n_free, workers)
+def check_size(n_sites, sectors, plan=None, n_free=1, force=False, workers=0, keep=None):
+    """Raise TooLargeError if a run would clearly exceed the available memory (``keep``:
+    the blocks of a sector selection, see :func:`block_dimensions`)."""
+    need = estimate_cost(n_sites, sectors, plan, n_free, workers, keep)
     have = available_memory()
     if have is not None and need > 0.8 * have and not force:
-        largest = max(block_dimensions(n_sites, sectors, plan), default=0)
+        largest = max(block_dimensions(n_sites, sectors, plan, keep), default=0)
         raise TooLargeError(
             f"this run needs an estimated {need / 2 ** 30:.1f} GiB (blocks of up to about "
             f"{largest:.0f} states) but only {have / 2 ** 30:.1f} GiB is available; solve "

@@ -14,6 +14,8 @@ from symcluster.algebra.polydict import integer_dict, poly_from_dict
 from symcluster.symmetry.spin import shift_expr
 from symcluster.blocks.build import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
                      sectors_to_solve)
+from symcluster.blocks.selection import (block_needed, check_selection, level_matches,
+                                         normalise_selection)
 from symcluster.pipeline.resources import Progress, block_dimensions, check_early, check_size
 from symcluster.workers import submit
 from symcluster.errors import ModelError, VerificationError
@@ -424,7 +426,7 @@ class _CountedList(list):
 
 
 def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True, digits=30,
-          seed=None, executor=None, progress=None, force=False, fixed=None):
+          seed=None, executor=None, progress=None, force=False, fixed=None, sectors=None):
     """Exact, verified spectrum of a model.
 
     Parameters
@@ -466,6 +468,14 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
         sympy Rationals or number texts such as ``"-1/2"``).  The energies are then exact
         expressions in the other couplings only; every fixed coupling saves a variable
         of the exact algebra.  Recorded in ``Spectrum.fixed``.
+    sectors : list of dict, optional
+        Solve only the levels whose quantum numbers match every key of at least one
+        dict, e.g. ``[{"N": 10, "S": 0}, {"N": 9, "S": "1/2", "k": "0"}]``.  Keys: the
+        names the levels carry, ``N``, ``S`` (with spin SU(2)) or ``Sz`` (without),
+        ``eta``, ``k`` (a multiple of pi) and ``irrep`` (the lattice label).  Blocks
+        that give no selected level are never built.  The result records the
+        selection in ``Spectrum.sectors``, and analyses that need sectors it does
+        not hold refuse it (docs/sectors.md).  Not together with ``electrons=``.
 
     Returns
     -------
@@ -475,6 +485,19 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     ------
     VerificationError
         If any level fails a check; nothing is returned then.
+    InputError
+        An unknown key or an impossible value in ``sectors``.
+
+    Examples
+    --------
+    >>> import symcluster as sc
+    >>> spec = sc.solve(sc.hubbard(sc.ring(4)), sectors=[{"N": 4, "S": 0, "k": 0}], seed=1)
+    >>> spec.sectors
+    [{'N': 4, 'S': 0, 'k': Fraction(0, 1)}]
+    >>> sorted({str(l.quantum_numbers["irrep"]) for l in spec.levels})
+    ['k=0,+', 'k=0,−']
+    >>> spec.n_states
+    6
     """
     if not isinstance(model, Model):
         raise ModelError(f"solve() needs a Model such as hubbard(ring(4)), got {type(model).__name__}")
@@ -486,6 +509,11 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     if seed is not None and (isinstance(seed, bool) or not isinstance(seed, int)):
         raise ModelError(f"seed={seed!r} is not an integer; give e.g. seed=1 or leave it out")
     wanted = _check_electrons(model, electrons)
+    selection = None
+    if sectors is not None:
+        if electrons is not None:
+            raise ModelError("give either electrons= or sectors= (a sector dict may name N)")
+        selection = normalise_selection(sectors)
     fixed = _check_fixed(model, fixed)
     if progress is not None and not isinstance(progress, (bool, Progress)):
         raise ModelError(f"progress={progress!r}: give True, False or leave it out")
@@ -494,32 +522,43 @@ def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True,
     prog = progress if isinstance(progress, Progress) else Progress(enabled=progress)
     try:
         return _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, force,
-                      timings, t0, fixed)
+                      timings, t0, fixed, selection)
     finally:
         if prog is not progress:
             prog.close()
 
 
 def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, force, timings, t0,
-           fixed):
+           fixed, selection=None):
     """:func:`solve` after its arguments were checked."""
     original, model = model, _with_constant(model, fixed)
     # before the detection, whose cost also grows with the cluster (commutators on every
     # state with at most two electrons, the automorphism search)
     space = model.space
     n_free = len(model.labels) - (0 if CONSTANT in model.labels else 1)
-    check_early(space, wanted, n_free, force)
+    # a selection: only the detection is counted early (a lower bound of any selection)
+    check_early(space, [] if selection is not None else wanted, n_free, force)
     prog.phase("symmetry detection")
     plan = plan_symmetries(model, lattice=lattice, spin=spin, eta=eta)
     if fixed:
         _drop_constant_shifts(plan)
+    keep = None
+    if selection is not None:
+        check_selection(selection, space, plan)
+
+        def keep(sector, irrep):
+            return block_needed(selection, plan, space.n_modes, sector, irrep,
+                                space.has_charge)
     sectors = sectors_to_solve(space, plan, wanted)
+    if keep is not None:
+        sectors = [s for s in sectors if block_dimensions(space, [s], plan, keep)]
     estimate = check_size(space, sectors, plan, n_free, force,
-                          _expected_workers(executor, block_dimensions(space, sectors, plan)))
+                          _expected_workers(executor, block_dimensions(space, sectors, plan, keep)),
+                          keep)
     timings["memory_estimate_bytes"] = estimate
     prog.phase("blocks", len(sectors), "sectors")
     sizes = _CountedList(prog.step)
-    blocks = build_blocks(model, plan, wanted, report=sizes)
+    blocks = build_blocks(model, plan, wanted, report=sizes, keep=keep)
     timings["blocks"] = time.perf_counter() - t0
     names = model.labels
     t1 = time.perf_counter()
@@ -549,7 +588,7 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
         raise
     try:
         spectrum = _finish(original, plan, blocks, results, twins, sizes, wanted, digits, seed,
-                           timings, t0, t1, executor, prog, fixed)
+                           timings, t0, t1, executor, prog, fixed, selection)
     except BaseException:
         if own_pool is not None:
             stop_pool(own_pool)
@@ -571,7 +610,7 @@ def _drop_constant_shifts(plan):
 
 
 def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, timings, t0, t1,
-            executor, progress=None, fixed=None):
+            executor, progress=None, fixed=None, selection=None):
     """Levels from the block results, then verification (through `executor` if given;
     steps reported to `progress`, a :class:`~symcluster.pipeline.resources.Progress`)."""
     timings["algebra"] = time.perf_counter() - t1
@@ -619,6 +658,8 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
                         poly_j = spin_shifter(poly, j)
                     else:
                         qn_j, poly_j = qn, poly
+                    if selection is not None and not level_matches(selection, qn_j):
+                        continue
                     for r in roots:
                         energy = r
                         if k:
@@ -639,7 +680,7 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     levels.sort(key=_level_order)
     timings["levels"] = time.perf_counter() - t_levels
     report = VerificationReport(digits=digits)
-    spectrum = Spectrum(model, levels, [], report, timings, dict(fixed or {}))
+    spectrum = Spectrum(model, levels, [], report, timings, dict(fixed or {}), selection)
     used = plan.names()
     if twins:
         used.append(f"sublattice gauge t -> -t ({len(twins)} odd-N blocks derived from their twins)")
@@ -655,7 +696,7 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     proven = (("spin",) if plan.spin and not plan.spin_split else ()) + (
         ("eta",) if plan.eta else ())
     verify_spectrum(spectrum, wanted, digits=digits, seed=seed, proven=proven, executor=executor,
-                    lattice=plan.lattice, progress=progress)
+                    lattice=plan.lattice, progress=progress, selection=selection)
     timings["verify"] = time.perf_counter() - t2
     timings["total"] = time.perf_counter() - t0
     return spectrum

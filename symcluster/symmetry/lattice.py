@@ -418,16 +418,26 @@ class LatticeSymmetry:
         """See :func:`state_orbits` (images of spin blocks are kept between calls)."""
         return state_orbits(states, self.group, self._mask_images)
 
-    def adapted_bases(self, states, orbits=None):
+    def adapted_bases(self, states, orbits=None, only=None):
         """:func:`adapted_bases` for all of ``self.irreps``, in order.
 
-        The projectors and the images of spin blocks are kept between calls.
+        The projectors and the images of spin blocks are kept between calls.  ``only``
+        (optional) lists the indices of the irreps wanted; the others get no basis
+        (an empty list) and cost nothing.
         """
         if orbits is None:
             orbits = self.state_orbits(states)
         if self._projectors is None:
             self._projectors = [_projector(self.group, r) for r in self.irreps]
-        return adapted_bases(states, self.group, self.irreps, orbits, self._projectors)
+        if only is None:
+            return adapted_bases(states, self.group, self.irreps, orbits, self._projectors)
+        only = sorted(set(only))
+        got = adapted_bases(states, self.group, [self.irreps[i] for i in only], orbits,
+                            [self._projectors[i] for i in only]) if only else []
+        out = [[] for _ in self.irreps]
+        for i, b in zip(only, got):
+            out[i] = b
+        return out
 
     def __repr__(self):
         return f"LatticeSymmetry(order={self.group.order}, irreps={[r.label for r in self.irreps]})"

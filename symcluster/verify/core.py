@@ -48,7 +48,7 @@ from symcluster.numeric.residuals import (exact_backward_error, float_newton_rad
                                 newton_radius, root_deviation)
 from symcluster.workers import submit
 from symcluster.symbols import CONSTANT, coupling_symbol
-from symcluster.tiers import EXACT_DIM, FLOAT_DIM, MP_DIM
+from symcluster.tiers import EXACT_DIM, FLOAT_DIM, MP_DIM, SELECTED_DENSE_DIM
 from symcluster.verify.failure import _fail  # noqa: F401
 from symcluster.verify.forms import (FormCache, _Form, _at_fixed, _clean, _padd, _pmul, _power_sums,  # noqa: F401
                                      _rational_terms, _top_key, coeffs_at)
@@ -311,7 +311,8 @@ def _values_at_usable_point(spectrum, symbols, points, pi, seed, digits, evaluat
 
 
 def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, proven=(),
-                    executor=None, lattice=None, float_dim=FLOAT_DIM, progress=None):
+                    executor=None, lattice=None, float_dim=FLOAT_DIM, progress=None,
+                    selection=None):
     """Run every check on ``spectrum``; fill its verification report; raise on failure.
 
     Every sector matrix is built from the model's terms by the plain route of
@@ -340,12 +341,19 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     the lattice-label check, are those of (N_dn, N_up).  The report counts such sectors
     as ``spin_flip_images`` in both checks (beside ``sectors`` for the labels, those
     checked) and names the rule in their scopes.
+
+    ``selection`` (a normalised sector selection, see
+    :mod:`symcluster.blocks.selection`) replaces the checks that need whole sectors (the
+    counts, sum rules and eigenvalues of each sector) by those of
+    :func:`~symcluster.verify.selected.check_selected_sectors`: the selected levels
+    against the selected subspace of each plain sector matrix.
     """
     model = spectrum.model
     report = spectrum.verification
     space = model.space
     L = space.n_modes
     n_fixed = None if space.has_charge else space.n_modes
+    selection_lattice = lattice     # the selection's projectors act on any local space
     # the lattice-label check reads sectors as products of up and down spin blocks
     if space.kind != "electrons" or space.projected:
         lattice = None
@@ -362,13 +370,14 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     forms = FormCache()     # integer forms of the level polynomials, for this call only
     wanted = set(space.particle_numbers()) if electrons is None else set(electrons)
 
-    # 1. state counting
+    # 1. state counting (a selection: per sector, below)
     total = sum(l.degeneracy for l in spectrum.levels)
-    expected = sum(space.states_with_n(n) for n in wanted)
-    if total != expected:
-        _fail(f"degeneracies add up to {total}, expected {expected} states")
-    report.add("state count", f"N in {sorted(wanted)}" if space.has_charge else "all states",
-               worst=0.0, states=total)
+    if selection is None:
+        expected = sum(space.states_with_n(n) for n in wanted)
+        if total != expected:
+            _fail(f"degeneracies add up to {total}, expected {expected} states")
+        report.add("state count", f"N in {sorted(wanted)}" if space.has_charge else "all states",
+                   worst=0.0, states=total)
     n_labelled = check_state_labels(spectrum.levels, n_fixed)
     report.add("N and Sz labels match the basis states of the level's block (S: the highest "
                "weight Sz = S)", "levels from blocks of dimension <= 4", worst=0.0,
@@ -471,6 +480,33 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     report.add("closed forms of one factor are distinct roots of it (pairwise disjoint disks "
                "of radius 2n|P(x)|/|P'(x)| about the values)",
                "factors of degree >= 2 with closed forms", points, 0.0)
+
+    if selection is not None:
+        from symcluster.verify.selected import check_selected_sectors
+        got = check_selected_sectors(spectrum, selection, values, points, primes, forms,
+                                     selection_lattice, float_dim, seed, progress, digits)
+        report.add("selected sectors: states of the selected levels = trace of the plain "
+                   "projector onto the selected spins and irreps (characters, exact)",
+                   "sectors holding selected levels, no eta selected", worst=0.0,
+                   sectors=got["counted"], states=total)
+        report.add("selected sectors: sum of share*E^m of the selected levels = exact Tr P H^m "
+                   "(m = 1, 2; characters and the plain sector matrices, in integers)",
+                   "sectors holding selected levels, no eta selected", points, 0.0,
+                   sectors=got["traced"])
+        report.add("selected sectors: float64 eigenvalues of the plain sector matrix on the "
+                   "selected subspace (projector trace per eigenspace); exact divisibility "
+                   "of det(x - H_sector) by the selected levels' polynomials (modulo a "
+                   "random 62-bit prime per point) up to dim " + str(EXACT_DIM),
+                   f"sectors with dim <= {min(float_dim, SELECTED_DENSE_DIM)}", points[:1],
+                   got["worst"] if got["dense"]
+                   else 0.0, sectors=got["dense"], primes=primes)
+        if got["lanczos"]:
+            report.add("selected sectors: lowest Lanczos eigenvalues (float64) of the plain "
+                       "sector matrix on the selected subspace",
+                       f"sectors with dim > {min(float_dim, SELECTED_DENSE_DIM)}",
+                       points[:1], got["worst"], sectors=got["lanczos"],
+                       lanczos_residual=got["lanczos_residual"])
+        return report
 
     # 3. per sector: counting, sum rules, eigenvalues
     by_sector = {}

@@ -165,3 +165,51 @@ def test_shiba_pincus_dimer_grand_potential():
                + z**2 * (3 + mpmath.exp(-B * UU) + 2 * mpmath.exp(-B * UU / 2) * mpmath.cosh(B * D))
                + 4 * z**3 * mpmath.exp(-B * UU) * mpmath.cosh(B * T) + z**4 * mpmath.exp(-2 * B * UU))
         assert abs(xi - exp) < mpmath.mpf(10) ** -30 * exp
+
+
+@pytest.mark.parametrize("L", [6, pytest.param(8, marks=pytest.mark.slow)])
+def test_bethe_ansatz_ground_sector_by_selection_to_30_digits(L):
+    # only the Bethe state's sector is solved: sectors=[{"N": L, "S": 0, "k": P/pi}] (the
+    # singlet of Lieb 1989, theorem (b), at the total momentum P of the Lieb-Wu state); its
+    # lowest level at t = 1, U = 4 equals E = -2t sum cos k_j (E. H. Lieb, F. Y. Wu, PRL 20,
+    # 1445 (1968), from memory) to 30 digits
+    with mpmath.workdps(50):
+        e_ba, momentum = _bethe_ground_state(L, 4)
+        k = sympy.Rational(momentum) % 2
+        k = k - 2 if k > 1 else k
+        spec = sc.solve(sc.hubbard(sc.ring(L)), sectors=[{"N": L, "S": 0, "k": k}], seed=1)
+        assert spec.sectors is not None
+        assert all(l.quantum_numbers["S"] == 0 for l in spec.levels)
+        e0, level = _lowest_level(spec, {"t": 1, "U": 4}, digits=40)
+        assert abs(e0 - e_ba) < mpmath.mpf(10) ** -30, f"solver {e0}, Bethe ansatz {e_ba}"
+        ks = level.quantum_numbers["k"]
+        assert any(_same_momentum(x, momentum) for x in (ks if isinstance(ks, tuple) else (ks,)))
+
+
+@pytest.mark.slow
+def test_projected_lanczos_on_the_10_ring_half_filled_sector_reaches_the_bethe_energy():
+    # the verification tier of sector selections beyond dense reach (symcluster/verify/
+    # selected.py): Lanczos on the plain (5, 5) sector of the 10-ring (63,504 states), every
+    # vector projected on S = 0, k = 0; its lowest Ritz value is the Lieb-Wu ground state
+    # energy (E. H. Lieb, F. Y. Wu, PRL 20, 1445 (1968), from memory) at t = 1, U = 4 to
+    # float64 accuracy.  About 30 s.
+    from symcluster.blocks.build import plan_symmetries
+    from symcluster.blocks.selection import normalise_selection
+    from symcluster.lattice.clusters import two_colouring
+    from symcluster.verify.large import lowest_ritz_pairs
+    from symcluster.verify.plain import sector_matrix
+    from symcluster.verify.selected import sector_projector
+    with mpmath.workdps(40):
+        e_ba, momentum = _bethe_ground_state(10, 4)
+    assert momentum % 2 == 0
+    model = sc.hubbard(sc.ring(10))
+    lattice = plan_symmetries(model).lattice
+    cl = model.cluster
+    proj = sector_projector(model.space, (5, 5), normalise_selection([{"N": 10, "S": 0, "k": 0}]),
+                            lattice, two_colouring(cl.n_sites, cl.neighbours))
+    matrix = sector_matrix(model, 5, 5)
+    assert matrix.dim == 63504
+    (theta, res), *_ = lowest_ritz_pairs(matrix, {"t": sympy.Integer(1), "U": sympy.Integer(4)},
+                                         count=2, steps=300, seed=1, project=proj)
+    assert res < 1e-8
+    assert abs(theta - float(e_ba)) < 1e-10
