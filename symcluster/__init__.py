@@ -19,7 +19,7 @@ from symcluster.models import (Model, anderson, heisenberg, hubbard, kanamori, l
 from symcluster.spectrum import Level, Spectrum, VerificationReport
 from symcluster.pipeline.solve import solve
 
-__version__ = "0.1.0"
+from symcluster.version import __version__
 
 __all__ = [
     "Cluster", "chain", "cluster", "complete", "cube", "grid", "ladder", "load_cluster_file",

@@ -12,6 +12,7 @@ P(E; couplings).  Values at a point come from :mod:`symcluster.numeric`
 
 import math
 import numbers
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass, field
 from fractions import Fraction
 
@@ -163,7 +164,8 @@ class Level:
         Always ``"N"``; ``"S"`` (sympy Rational) where spin is conserved, else
         ``"Sz"``; ``"eta"`` where eta-pseudospin applies; ``"irrep"`` (label),
         ``"irrep_dim"`` and, on clusters with translations, ``"k"`` (momentum
-        as a multiple of pi) where the lattice symmetry was used.
+        as a multiple of pi) where the lattice symmetry was used; ``"mulliken"``
+        (e.g. ``"B1"``, ``"T2g"``) where the lattice group is a known point group.
     polynomial : sympy.Poly or None
         Irreducible polynomial in ``E`` (first generator) and the couplings
         that the energy is a root of.
@@ -181,7 +183,7 @@ class Level:
     block: str = ""
     source: object = field(default=None, repr=False, compare=False)
 
-    def eigenvector(self):
+    def eigenvector(self) -> dict | None:
         """Closed-form eigenvector of a small block, {(up, dn): coefficient}, or None.
 
         The state is the representative of the level's multiplet: Sz = S,
@@ -197,10 +199,11 @@ class Level:
         return self.eigenvectors[0] if self.eigenvectors else None
 
     @property
-    def is_closed_form(self):
+    def is_closed_form(self) -> bool:
         return not hasattr(self.energy, "numeric")
 
-    def numeric(self, values, digits=30, symbols=None):
+    def numeric(self, values: Mapping, digits: int = 30,
+                symbols: Sequence[sympy.Symbol] | None = None) -> mpmath.mpf:
         check_digits(digits)
         syms = symbols if symbols is not None else _free_symbols(self)
         point = coerce_point(syms, values) if not _is_exact_point(values) else values
@@ -252,24 +255,24 @@ class Spectrum:
     sectors: object = None
 
     @property
-    def is_selection(self):
+    def is_selection(self) -> bool:
         """True if the spectrum holds only selected sectors (``solve(..., sectors=...)``)."""
         return self.sectors is not None
 
     @property
-    def symbols(self):
+    def symbols(self) -> tuple:
         """The free couplings (the model's, less those held at fixed values)."""
         return tuple(s for s in self.model.symbols if s.name not in self.fixed)
 
     @property
-    def n_states(self):
+    def n_states(self) -> int:
         return sum(l.degeneracy for l in self.levels)
 
-    def point(self, values):
+    def point(self, values: Mapping) -> dict:
         """Exact {Symbol: Rational} point from {name: number}."""
         return coerce_point(self.symbols, values)
 
-    def numeric(self, values, digits=30):
+    def numeric(self, values: Mapping, digits: int = 30) -> list[tuple[mpmath.mpf, int]]:
         """Every level's value with its degeneracy, ascending: list of (mpmath.mpf, int)."""
         check_digits(digits)
         pt = self.point(values)
@@ -279,7 +282,7 @@ class Spectrum:
         out.sort(key=lambda p: p[0])
         return out
 
-    def select(self, **qn):
+    def select(self, **qn: object) -> list["Level"]:
         """Levels whose quantum numbers match every given key, e.g. select(N=2).
 
         Raises

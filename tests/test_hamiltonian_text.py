@@ -50,5 +50,5 @@ def test_a_coefficient_of_several_couplings_is_parenthesised_and_cancelling_term
 def test_latex_hamiltonian_of_a_heisenberg_ring_and_the_geometry_line():
     spec = sc.solve(sc.heisenberg(sc.ring(4)), executor="serial")
     tex = " ".join(latex_table(spec, point={"J": 1}).split())
-    assert (r"\noindent ring(4): 4 sites, 4 bonds; $H = J \sum_{(a,b) \in "
-            r"\{(0,1),(0,3),(1,2),(2,3)\}} \mathbf{S}_{a} \cdot \mathbf{S}_{b}$.") in tex
+    assert (r"\noindent ring(4): 4 sites, 4 bonds; {\raggedright $H = J \sum_{(a,b) \in "
+            r"\{(0,1),(0,3),(1,2),(2,3)\}} \mathbf{S}_{a} \cdot \mathbf{S}_{b}$.\par}") in tex

@@ -148,7 +148,7 @@ def test_numeric_layer_sits_between_algebra_and_spectrum():
 #: The stages of the package, lowest first (docs/architecture.md has the same table): a
 #: module may import modules of its own folder and of any lower stage, never a higher one.
 STAGES = [
-    {"errors", "symbols", "parsing", "tiers", "interrupts", "workers", "linalg"},
+    {"errors", "symbols", "parsing", "tiers", "interrupts", "workers", "linalg", "version"},
     {"lattice"}, {"hilbert"}, {"models"}, {"symmetry"}, {"algebra"}, {"blocks"},
     {"numeric"}, {"spectrum"}, {"verify"}, {"pipeline"}, {"export", "analysis"},
     {"response"},

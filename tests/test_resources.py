@@ -323,3 +323,52 @@ def test_progress_must_be_a_flag_or_a_progress_line():
     text = tty.getvalue()
     assert "verification, sectors" in text
     assert text.index("verification, sectors") < text.index("output, table: 0/1 outputs")
+
+
+# --- portable reading of the available memory (common practice, no source: each OS's
+# documented interface; Linux MemAvailable, POSIX sysconf pages, Windows GlobalMemoryStatusEx)
+
+def _no_sysconf(name):
+    raise ValueError(name)
+
+
+def test_memory_falls_back_to_sysconf_pages_without_proc_meminfo(monkeypatch, tmp_path):
+    from symcluster.pipeline import memory
+    monkeypatch.setattr(memory, "MEMINFO", str(tmp_path / "absent"))
+    pages = {"SC_AVPHYS_PAGES": 1000, "SC_PAGE_SIZE": 4096, "SC_PHYS_PAGES": 5000}
+    monkeypatch.setattr(memory.os, "sysconf", lambda name: pages[name])
+    assert memory.memory_reading() == (1000 * 4096, "sysconf")
+    assert resources.available_memory() == 1000 * 4096
+
+
+def test_memory_reads_a_meminfo_file_in_kib(monkeypatch, tmp_path):
+    from symcluster.pipeline import memory
+    f = tmp_path / "meminfo"
+    f.write_text("MemTotal:  100 kB\nMemFree:  7 kB\nMemAvailable:   12345 kB\n")
+    monkeypatch.setattr(memory, "MEMINFO", str(f))
+    assert memory.memory_reading() == (12345 * 1024, "meminfo")
+
+
+def test_memory_only_total_physical_is_used_as_the_bound(monkeypatch, tmp_path):
+    from symcluster.pipeline import memory
+    monkeypatch.setattr(memory, "MEMINFO", str(tmp_path / "absent"))
+    pages = {"SC_PAGE_SIZE": 4096, "SC_PHYS_PAGES": 5000}
+    monkeypatch.setattr(memory.os, "sysconf",
+                        lambda name: pages[name] if name in pages else _no_sysconf(name))
+    monkeypatch.setattr(memory.sys, "platform", "darwin")
+    assert memory.memory_reading() == (5000 * 4096, "physical")
+
+
+def test_memory_unknown_means_the_guard_refuses_nothing(monkeypatch, tmp_path):
+    from symcluster.pipeline import memory
+    monkeypatch.setattr(memory, "MEMINFO", str(tmp_path / "absent"))
+    monkeypatch.setattr(memory.os, "sysconf", _no_sysconf)
+    monkeypatch.setattr(memory.sys, "platform", "unknown-os")
+    assert memory.memory_reading() == (None, "unknown")
+    assert resources.available_memory() is None
+    # with 10,000 bytes known the same estimate is refused; unknown: it is returned
+    need = resources.check_size(8, [(4, 4)])
+    assert need > 10_000
+    monkeypatch.setattr(resources, "available_memory", lambda: 10_000)
+    with pytest.raises(sc.TooLargeError):
+        resources.check_size(8, [(4, 4)])

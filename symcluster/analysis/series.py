@@ -22,11 +22,13 @@ The coefficients are found one at a time (Newton-polygon steps of slope one):
 The result is checked against the level's numeric value before it is returned.
 """
 
+from collections.abc import Mapping
+
 import mpmath
 import sympy
 
 from symcluster.errors import ModelError, VerificationError
-from symcluster.spectrum import to_rational
+from symcluster.spectrum import Level, to_rational
 from symcluster.analysis.observables import find_symbol, level_polynomial, level_symbols, level_value
 
 __all__ = ["series", "series_coefficients", "MAX_ORDER"]
@@ -195,7 +197,9 @@ def _series_eval(qs, v, j):
     return acc[j]
 
 
-def series(level, coupling="U", order=7, about=sympy.oo, at=None, fixed=None):
+def series(level: Level, coupling: str | sympy.Symbol = "U", order: int = 7,
+           about: object = sympy.oo, at: Mapping[str, object] | None = None,
+           fixed: Mapping[str, object] | None = None) -> sympy.Expr:
     """Exact series of a level in one coupling, without an O() term.
 
     Parameters

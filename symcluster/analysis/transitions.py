@@ -22,6 +22,7 @@ whose energies equal the minimum there (e.g. several lattice irreps with the
 same polynomial and root).  A transition is a point where that set changes.
 """
 
+from collections.abc import Mapping, Sequence
 from dataclasses import dataclass
 
 import flint
@@ -29,7 +30,7 @@ import mpmath
 import sympy
 
 from symcluster.errors import ModelError, VerificationError
-from symcluster.spectrum import exact_rational
+from symcluster.spectrum import Level, Spectrum, exact_rational
 from symcluster.analysis.observables import find_symbol, level_polynomial, level_symbols, level_value
 from symcluster.analysis.sectors import require_electrons
 
@@ -411,7 +412,9 @@ def _exact_end(v):
     return v.exact() if isinstance(v, _AlgRoot) else v
 
 
-def transitions(spec, n_electrons=None, coupling="U", interval=(0, 10), fixed=None, levels=None):
+def transitions(spec: Spectrum, n_electrons: int | None = None, coupling: str | sympy.Symbol = "U",
+                interval: tuple = (0, 10), fixed: Mapping[str, object] | None = None,
+                levels: Sequence[Level] | None = None) -> list[Transition]:
     """Exact points where the ground state of a sector changes, ascending.
 
     Parameters are those of :func:`ground_states`.

@@ -393,6 +393,8 @@ def build_blocks(model, plan, electrons=None, report=None, keep=None):
             if irrep is not None:
                 labels["irrep"] = irrep.label
                 labels["irrep_dim"] = irrep.dim
+                if getattr(irrep, "mulliken", None):
+                    labels["mulliken"] = irrep.mulliken
                 if getattr(irrep, "momentum", None) is not None:
                     labels["k"] = irrep.momentum
                 dim, copies = irrep.dim, getattr(irrep, "copies", 1)

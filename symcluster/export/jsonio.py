@@ -22,6 +22,7 @@ from symcluster.export.exprtree import (from_tree, int_to_decimal, is_implicit_r
                        poly_from_tree, poly_to_tree, root_of_poly, to_tree)
 from symcluster.export.text import energy_text, level_sort_key, numeric_values, poly_text
 from symcluster.export.latex import _poly_tex, energy_latex
+from symcluster.version import __version__
 
 __all__ = ["FORMAT", "VERSION", "spectrum_to_dict", "dumps_spectrum", "write_json",
            "read_json", "loads_spectrum", "decode_spectrum_dict", "write_text_atomic",
@@ -147,6 +148,7 @@ def spectrum_to_dict(spectrum, point=None, digits=30, eigenvectors=True):
     return {
         "format": FORMAT,
         "version": VERSION,
+        "symcluster_version": __version__,
         "model": _model_dict(spectrum.model),
         "fixed": {k: str(v) for k, v in (getattr(spectrum, "fixed", None) or {}).items()},
         "sectors": _sectors_text(spectrum),

@@ -3,11 +3,13 @@
 Layout (documented in docs/outputs.md):
 
 * columns ``N``, ``S``, ``eta`` (only if some level has an η-pseudospin), a term symbol
-  ``{}^{2S+1}Γ`` (multiplicity as a superscript on the lattice irrep Γ; a plain ``2S+1``
-  column when no irrep is known), degeneracy ``g``, exact energy ``E`` and, with a
-  point, the value of ``E`` there;
+  ``{}^{2S+1}Γ`` (multiplicity as a superscript on the lattice irrep Γ, a Mulliken symbol
+  where the lattice group is a known point group; a plain ``2S+1`` column when no irrep
+  is known), the momentum ``k`` beside Mulliken symbols, degeneracy ``g``, exact energy
+  ``E`` and, with a point, the value of ``E`` there in two columns aligned on the decimal
+  point (:mod:`symcluster.export.texnum`);
 * square roots (and ``arccos``/``arctan`` arguments) that occur in two or more levels
-  are named ``\\Delta`` (or ``\\Delta_1, \\Delta_2, ...``) and defined under the table;
+  are named ``w`` (or ``w_1, w_2, ...``) and defined under the table;
 * implicit roots read "root k of P_j": the k-th real root, ascending, of ``P_j(E) = 0``,
   with every polynomial printed once under the table;
 * the verification report and symmetry record are included as ``%`` comment lines.
@@ -22,7 +24,10 @@ import mpmath
 import sympy
 
 from symcluster.export.exprtree import int_to_decimal, is_implicit_root
+from symcluster.version import __version__
 from symcluster.export.text import exact_latex, level_sort_key, numeric_values, poly_text
+from symcluster.export.texnum import (TABLE_PACKAGES, number_columns, momentum_tex, mulliken_tex,
+                                      number_cell, number_width_em)
 
 __all__ = ["latex_table", "energy_latex", "tex_escape", "name_subexpressions", "wrap_tex_lines",
            "MAX_LINE", "LONG_POLY_CHARS"]
@@ -41,8 +46,10 @@ _MATH_CHARS = {"η": r"\eta", "Γ": r"\Gamma", "σ": r"\sigma", "↑": r"\uparro
                "↓": r"\downarrow", "π": r"\pi", "Δ": r"\Delta", "±": r"\pm", "∓": r"\mp",
                "−": "-", "θ": r"\theta", "φ": r"\phi", "×": r"\times"}
 _GREEK = {k: f"${v}$" for k, v in _MATH_CHARS.items()}
-_NAME_BASES = ("Delta", "Lambda", "Xi", "Omega", "Theta")
-_PACKAGES = r"\usepackage{amsmath,booktabs,longtable,array}"
+#: names of shared subexpressions: w (then q, z, ...) when no coupling name starts with it;
+#: a neutral letter, since Delta reads as a gap in this field
+_NAME_BASES = ("w", "q", "z", "Lambda", "Xi", "Omega", "Theta")
+_PACKAGES = TABLE_PACKAGES
 
 
 def tex_escape(text):
@@ -129,8 +136,8 @@ def _rewrite(expr, sqrt_map, arg_map):
     return expr.func(*[_rewrite(a, sqrt_map, arg_map) for a in expr.args])
 
 
-def _repeated(exprs, collect):
-    """Subterms found by ``collect`` in >= 2 of ``exprs``, in order of first appearance."""
+def _repeated(exprs, collect, min_count=2):
+    """Subterms found by ``collect`` in >= min_count of ``exprs``, in order of first appearance."""
     count, order = {}, []
     for e in exprs:
         found = set()
@@ -139,10 +146,10 @@ def _repeated(exprs, collect):
             if f not in count:
                 order.append(f)
             count[f] = count.get(f, 0) + 1
-    return [f for f in order if count[f] >= 2]
+    return [f for f in order if count[f] >= min_count]
 
 
-def name_subexpressions(exprs, taken=()):
+def name_subexpressions(exprs, taken=(), min_count=2):
     """Name square roots and inverse-trig arguments shared by two or more expressions.
 
     Parameters
@@ -150,6 +157,9 @@ def name_subexpressions(exprs, taken=()):
     exprs : list of sympy.Expr
     taken : iterable of str
         Symbol names already in use (the couplings); the name base avoids them.
+    min_count : int
+        Name a subexpression found in at least this many expressions (1: every one,
+        so that no unbreakable root or fraction stays inside a narrow table cell).
 
     Returns
     -------
@@ -163,16 +173,16 @@ def name_subexpressions(exprs, taken=()):
     >>> d = sympy.sqrt(U**2 + 16*t**2)
     >>> new, defs = name_subexpressions([U/2 - d/2, U/2 + d/2])
     >>> new, defs
-    ([-Delta/2 + U/2, Delta/2 + U/2], [(Delta, sqrt(U**2 + 16*t**2))])
+    ([U/2 - w/2, U/2 + w/2], [(w, sqrt(U**2 + 16*t**2))])
     """
     taken = set(taken)
-    base = next((b for b in _NAME_BASES if not any(n.startswith(b) for n in taken)), "Delta_x")
+    base = next((b for b in _NAME_BASES if not any(n.startswith(b) for n in taken)), "w_x")
     # nested square roots: inner (smaller) ones first, so definitions can use their names
-    bases = sorted(_repeated(exprs, _sqrt_bases), key=sympy.count_ops)
+    bases = sorted(_repeated(exprs, _sqrt_bases, min_count), key=sympy.count_ops)
     sq_map = {b: sympy.Dummy(f"sq{k}") for k, b in enumerate(bases)}
     exprs1 = [_rewrite(e, sq_map, {}) for e in exprs]
     dummies = set(sq_map.values())
-    args = _repeated(exprs1, lambda e, f: _func_args(e, f, dummies))
+    args = _repeated(exprs1, lambda e, f: _func_args(e, f, dummies), min_count)
     arg_map = {a: sympy.Dummy(f"ar{k}") for k, a in enumerate(args)}
     exprs2 = [_rewrite(e, {}, arg_map) for e in exprs1]
     defs = []
@@ -352,11 +362,28 @@ def _irrep_tex(label):
     return r"\text{" + tex_escape(label) + "}"
 
 
-def _number_tex(value, digits):
-    with mpmath.workdps(digits):
-        text = mpmath.nstr(value, digits)
-    mant, _, exp = text.partition("e")
-    return f"${mant}" + (rf"\times 10^{{{int(exp)}}}$" if exp else "$")
+_GAMMA = re.compile(r"^Γ([0-9]+) \(([0-9]+)\)$")
+
+
+def _label_tex(q):
+    """The irrep in the term symbol: Mulliken symbol, else the momentum label, else Γ_n."""
+    if q.get("mulliken"):
+        return mulliken_tex(q["mulliken"])
+    label = str(q["irrep"])
+    m = _GAMMA.match(label)
+    if m:
+        return r"\Gamma_{" + m.group(1) + "}"
+    if label.startswith("k=") and q.get("k") is not None:
+        rest = label[2:].split(",")
+        parity = [r for r in rest if r in ("+", "−")]
+        extra = [r for r in rest if r and r[0] not in "0123456789-±π+−"]
+        inner = "k = " + momentum_tex(q["k"])
+        if parity:
+            inner += r",\, " + ("+" if parity[0] == "+" else "-")
+        if extra:
+            inner += r",\, " + _irrep_tex(",".join(extra))
+        return r"\left(" + inner + r"\right)"
+    return _irrep_tex(label)
 
 
 #: kind -> (sign, operator with %a, %b for the modes and %s, %t for spins; spin-summed?)
@@ -464,17 +491,31 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
     qns = [l.quantum_numbers for l in levels]
     show_eta = any(q.get("eta") is not None for q in qns)
     show_irrep = any(q.get("irrep") is not None for q in qns)
-    cols, head = ["r", "c"], [r"$N$", r"$S$"]
+    # momenta get a column of their own when the term symbol shows Mulliken symbols
+    show_k = any(q.get("k") is not None and q.get("mulliken") for q in qns)
+    cols, head, used_em = ["r", "c"], [r"$N$", r"$S$"], 4.5
     if show_eta:
         cols.append("c")
         head.append(r"$\eta$")
-    cols.append("c")
+        used_em += 2.5
+    cols.append("l")
     head.append(r"${}^{2S+1}\Gamma$" if show_irrep else r"$2S+1$")
-    cols += ["r", r">{\raggedright\arraybackslash}p{0.45\linewidth}"]
+    mulliken = all(q.get("mulliken") for q in qns if q.get("irrep") is not None)
+    used_em += 4 if (mulliken or not show_irrep) else 9
+    if show_k:
+        cols.append("c")
+        head.append(r"$k$")
+        used_em += 4
+    used_em += 2 + 1.2 * (len(cols) + 2)   # g, column gaps
+    if values is not None:
+        used_em += number_width_em(digits)
+    e_width = (r"\dimexpr\linewidth-" + f"{used_em:.1f}" + r"em\relax"
+               if used_em <= 30 else "12em")
+    cols += ["r", r">{\raggedright\arraybackslash}p{" + e_width + "}"]
     head += [r"$g$", r"$E$"]
     if values is not None:
-        cols.append("r")
-        head.append(r"value")
+        cols.append(number_columns(digits))
+        head.append(r"\multicolumn{2}{c}{value}")
 
     rows = []
     last_n = None
@@ -495,17 +536,19 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
             row.append("$" + _rat(q["eta"]) + "$" if q.get("eta") is not None else "--")
         irrep = q.get("irrep")
         if show_irrep:
-            gamma = _irrep_tex(str(irrep)) if irrep is not None else r"\text{--}"
+            gamma = _label_tex(q) if irrep is not None else r"\text{--}"
             row.append("${}^{" + mult + "}" + gamma + "$" if mult else "$" + gamma + "$")
         else:
             row.append(f"${mult}$" if mult else "--")
+        if show_k:
+            row.append("$" + momentum_tex(q["k"]) + "$" if q.get("k") is not None else "--")
         row += [f"${int(lev.degeneracy)}$", cell[k]]
         if values is not None:
-            row.append(_number_tex(values[i], digits))
+            row.append(number_cell(values[i], digits))
         rows.append(" & ".join(row) + r" \\")
 
     out = []
-    out.append("% symcluster energy table; in a document of your own this needs")
+    out.append(f"% symcluster {__version__} energy table; in a document of your own this needs")
     out.append("% " + _PACKAGES)
     out += _comment("model: " + spectrum.model.describe())
     if getattr(spectrum, "fixed", None):
@@ -521,7 +564,7 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
     for r in spectrum.symmetries or []:
         out += _comment("symmetry " + ", ".join(f"{k}={v}" for k, v in r.items()))
     out.append(r"\noindent " + tex_escape(spectrum.model.geometry_text()) + ";")
-    out.append(r"$" + _hamiltonian_tex(spectrum.model) + r"$.")
+    out.append(r"{\raggedright $" + _hamiltonian_tex(spectrum.model) + r"$.\par}")
     out.append(f"{len(levels)} levels, {spectrum.n_states} states. "
                r"$g$: degeneracy (all states of the level).")
     if pt is not None:
@@ -546,7 +589,7 @@ def latex_table(spectrum, point=None, digits=10, standalone=False):
     if defs:
         items = ", ".join(f"${_tex(s)} = {_tex(d)}$" for s, d in defs)
         out.append("")
-        out.append(r"\noindent where " + items + ".")
+        out.append(r"{\raggedright\noindent where " + items + r".\par}")
     if polys:
         out.append("")
         out.append(r"\noindent ``root $k$ of $P_j$'' is the $k$-th real root, counted "

@@ -16,6 +16,7 @@ from sympy.printing.latex import LatexPrinter
 from sympy.printing.str import StrPrinter
 
 from symcluster.export.exprtree import int_to_decimal, is_implicit_root
+from symcluster.version import __version__
 
 _EPS = re.compile(r"^eps(?=[_0-9]|$)")
 
@@ -249,7 +250,8 @@ def format_table(spectrum, point=None, digits=12):
         from symcluster.blocks.selection import describe_selection
         lines.append("# selected sectors only: " + describe_selection(spectrum.sectors))
     lines += [f"# {spectrum.verification.summary()}",
-             f"# {len(spectrum.levels)} levels, {spectrum.n_states} states"]
+             f"# {len(spectrum.levels)} levels, {spectrum.n_states} states; "
+             f"symcluster {__version__}"]
     if pt is not None:
         lines.append("# values at " + ", ".join(f"{s.name}={_rat(v)}" for s, v in pt.items()))
     lines.append(fmt(head))

@@ -7,6 +7,8 @@ in docs/cluster-files.md.
 
 import keyword
 import operator
+import os
+from collections.abc import Iterable, Sequence
 import re
 import unicodedata
 from dataclasses import dataclass
@@ -188,7 +190,8 @@ def two_colouring(n, neighbours):
     return [colour[i] for i in range(n)]
 
 
-def cluster(n_sites, bonds, site_labels=None, name="custom"):
+def cluster(n_sites: int, bonds: Iterable[tuple], site_labels: Sequence[str | None] | None = None,
+            name: str = "custom") -> Cluster:
     """Validated cluster from a bond list.
 
     Parameters
@@ -283,13 +286,13 @@ def _need_int(value, what, minimum):
         raise ClusterError(f"{what} must be an integer >= {minimum}, got {value!r}")
 
 
-def chain(n, t="t"):
+def chain(n: int, t: str = "t") -> Cluster:
     """Open chain of ``n`` sites, bonds (i, i+1)."""
     _need_int(n, "chain length", 1)
     return cluster(n, [(i, i + 1, t) for i in range(n - 1)], name=f"chain({n})")
 
 
-def ring(n, t="t"):
+def ring(n: int, t: str = "t") -> Cluster:
     """Periodic ring of ``n >= 3`` sites.
 
     A 2-site "ring" would count the same bond twice; it is refused (use
@@ -299,7 +302,7 @@ def ring(n, t="t"):
     return cluster(n, [(i, (i + 1) % n, t) for i in range(n)], name=f"ring({n})")
 
 
-def grid(nx, ny, periodic=False, t="t"):
+def grid(nx: int, ny: int, periodic: bool = False, t: str = "t") -> Cluster:
     """Rectangular nx × ny grid; site index x + nx*y.
 
     With ``periodic=True`` both directions wrap; a direction of length <= 2
@@ -319,32 +322,32 @@ def grid(nx, ny, periodic=False, t="t"):
     return cluster(nx * ny, bonds, name=f"grid({nx},{ny},{kind})")
 
 
-def ladder(n, t="t"):
+def ladder(n: int, t: str = "t") -> Cluster:
     """Open 2 × n ladder (the 2 × n grid)."""
     c = grid(n, 2, periodic=False, t=t)
     return Cluster(c.n_sites, c.bonds, c.site_labels, f"ladder(2x{n})")
 
 
-def complete(n, t="t"):
+def complete(n: int, t: str = "t") -> Cluster:
     """Complete graph on ``n`` sites (every pair bonded)."""
     _need_int(n, "number of sites", 2)
     return cluster(n, [(i, j, t) for i in range(n) for j in range(i + 1, n)],
                    name=f"complete({n})")
 
 
-def tetrahedron(t="t"):
+def tetrahedron(t: str = "t") -> Cluster:
     """Four sites, all six bonds (the complete graph K4)."""
     c = complete(4, t)
     return Cluster(c.n_sites, c.bonds, c.site_labels, "tetrahedron")
 
 
-def cube(t="t"):
+def cube(t: str = "t") -> Cluster:
     """Eight corners of a cube (sites = 3-bit numbers, bonds between numbers one bit apart)."""
     bonds = [(i, i ^ (1 << b), t) for i in range(8) for b in range(3) if i < i ^ (1 << b)]
     return cluster(8, bonds, name="cube")
 
 
-def star(n_leaves, t="t"):
+def star(n_leaves: int, t: str = "t") -> Cluster:
     """A centre (site 0) bonded to ``n_leaves`` leaves (sites 1..n_leaves)."""
     _need_int(n_leaves, "number of leaves", 1)
     return cluster(n_leaves + 1, [(0, k, t) for k in range(1, n_leaves + 1)],
@@ -358,7 +361,7 @@ BUILTIN_SHAPES = {
 }
 
 
-def parse_cluster_toml(text, source="<string>"):
+def parse_cluster_toml(text: str, source: str = "<string>") -> Cluster:
     """Cluster from the TOML cluster format (docs/cluster-files.md)."""
     data = parse_toml(text, source, "docs/cluster-files.md")
     fmt = data.get("format")
@@ -425,7 +428,7 @@ def cluster_from_table(data, source="<string>", extra_keys=()):
 MAX_FILE_BYTES = 1_000_000
 
 
-def load_cluster_file(path):
+def load_cluster_file(path: str | os.PathLike) -> Cluster:
     """Read a TOML cluster file; errors name the file and the problem.
 
     At most :data:`MAX_FILE_BYTES` bytes are read; a larger file (or a device

@@ -6,6 +6,7 @@ names and signatures are stable.  Sign conventions are those of the term builder
 """
 
 from fractions import Fraction
+from collections.abc import Iterable
 
 from symcluster.lattice.clusters import Cluster, cluster as make_cluster
 from symcluster.errors import ModelError
@@ -38,7 +39,7 @@ def _onsite_terms(cl):
     return out
 
 
-def hubbard(cluster, U="U", V=None):
+def hubbard(cluster: Cluster, U: str = "U", V: str | None = None) -> Model:
     """Hubbard model: hopping on every bond, U on every site (and V on every bond).
 
     ``H = -sum_b t_b sum_s (c+_is c_js + h.c.) + U sum_i n_i,up n_i,dn + sum_i eps_i n_i
@@ -79,7 +80,7 @@ def hubbard(cluster, U="U", V=None):
     return make_model(cluster, terms, name="hubbard")
 
 
-def anderson(n_bath, eps_d="eps_d", U="U"):
+def anderson(n_bath: int, eps_d: str = "eps_d", U: str = "U") -> Model:
     """Single-impurity Anderson model with ``n_bath`` bath sites.
 
     ``H = eps_d n_0 + U n_0,up n_0,dn + sum_k eps_k n_k + sum_k V_k sum_s (c+_0s c_ks + h.c.)``
@@ -111,7 +112,7 @@ def anderson(n_bath, eps_d="eps_d", U="U"):
     return make_model(cl, terms, name="anderson")
 
 
-def kanamori(n_orbitals, U="U", J="J", U_prime=None):
+def kanamori(n_orbitals: int, U: str = "U", J: str = "J", U_prime: str | None = None) -> Model:
     """One atom with ``n_orbitals`` degenerate orbitals and the Kanamori interaction.
 
     ``H = U sum_a n_a,up n_a,dn + U' sum_(a!=b) n_a,up n_b,dn + (U' - J) sum_(a<b),s n_a,s n_b,s
@@ -193,7 +194,7 @@ def _exchange_label(label):
     return "J" if label == "t" else f"J_{label}"
 
 
-def heisenberg(cluster):
+def heisenberg(cluster: Cluster) -> Model:
     """Spin-1/2 Heisenberg model: ``H = sum_b J_b S_i . S_j`` on every bond.
 
     The shapes' default bond label ``t`` becomes ``J``; other labels are kept.  J > 0 is
@@ -219,7 +220,7 @@ def heisenberg(cluster):
     return make_model(cluster, terms, LocalSpace("spins", cluster.n_sites), name="heisenberg")
 
 
-def t_j(cluster):
+def t_j(cluster: Cluster) -> Model:
     """t-J model: ``-t sum_b P (c+_is c_js + h.c.) P + J sum_b (S_i . S_j - n_i n_j / 4)``.
 
     No double occupancy (the projector P); the exchange acts on the same bonds as the
@@ -248,7 +249,7 @@ def t_j(cluster):
     return make_model(cluster, terms, space, name="t-J")
 
 
-def with_field(model, h="h", sites=None):
+def with_field(model: Model, h: str = "h", sites: Iterable[int] | None = None) -> Model:
     """The model plus a Zeeman field along z: ``-h sum_i 2 S^z_i`` (or on some sites only).
 
     Parameters

@@ -7,6 +7,7 @@ build it.  Every coupling is ``sympy.Symbol(label, real=True)``; the Hamiltonian
 """
 
 from dataclasses import dataclass
+from collections.abc import Iterable
 from fractions import Fraction
 
 from symcluster.lattice.clusters import Cluster
@@ -271,7 +272,8 @@ def _check_fits_space(term, prod, space):
                 "modes, which a space without double occupancy does not have; remove it")
 
 
-def make_model(cluster, terms, space=None, name="custom"):
+def make_model(cluster: Cluster, terms: Iterable[Term], space: LocalSpace | None = None,
+               name: str = "custom") -> "Model":
     """A validated :class:`Model` from a cluster, terms and a local space.
 
     Parameters

@@ -47,6 +47,7 @@ from symcluster.hilbert.space import LocalSpace
 from symcluster.parsing import parse_number, parse_toml, read_input_file
 from symcluster.models import families, terms as T
 from symcluster.models.model import make_model
+from symcluster.models.model import Model
 
 __all__ = ["load_model_file", "parse_model_toml", "MAX_BYTES", "FORMAT",
            "TERM_KINDS", "FAMILIES"]
@@ -94,7 +95,7 @@ _SPINS = {"up": 0, "down": 1, "dn": 1}
 _INT = re.compile(r"^[0-9]{1,6}$")
 
 
-def load_model_file(path):
+def load_model_file(path: str | os.PathLike) -> Model:
     """Read a model file: the model and the fixed coupling values it gives.
 
     Parameters
@@ -137,7 +138,7 @@ def load_model_file(path):
     return parse_model_toml(text, source=str(path), default_name=stem)
 
 
-def parse_model_toml(text, source="<string>", default_name="custom"):
+def parse_model_toml(text: str, source: str = "<string>", default_name: str = "custom") -> Model:
     """Model and fixed values from the text of a model file (docs/model-files.md).
 
     Parameters

@@ -4,6 +4,7 @@ import concurrent.futures
 import os
 import random
 import time
+from collections.abc import Iterable, Mapping, Sequence
 
 import sympy
 
@@ -425,8 +426,12 @@ class _CountedList(list):
         self._step()
 
 
-def solve(model, electrons=None, verify=True, lattice=True, spin=True, eta=True, digits=30,
-          seed=None, executor=None, progress=None, force=False, fixed=None, sectors=None):
+def solve(model: Model, electrons: int | Iterable[int] | None = None, verify: bool = True,
+          lattice: bool = True, spin: bool = True, eta: bool = True, digits: int = 30,
+          seed: int | None = None, executor: concurrent.futures.Executor | str | None = None,
+          progress: bool | Progress | None = None, force: bool = False,
+          fixed: Mapping[str, object] | None = None,
+          sectors: Sequence[Mapping[str, object]] | None = None) -> Spectrum:
     """Exact, verified spectrum of a model.
 
     Parameters
@@ -647,6 +652,9 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
                     irr = moved[key] if key in moved else moved.setdefault(
                         key, eta_member_irrep(plan, spec.irrep, k))
                     qn["irrep"] = irr.label if irr is not None else qn["irrep"] + "*"
+                    qn.pop("mulliken", None)
+                    if getattr(irr, "mulliken", None):
+                        qn["mulliken"] = irr.mulliken
                     if irr is not None and getattr(irr, "momentum", None) is not None:
                         qn["k"] = irr.momentum
                 poly = shifter(fac, k)

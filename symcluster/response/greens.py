@@ -30,6 +30,7 @@ References
 G. D. Mahan, Many-Particle Physics, ch. 3 (Lehmann representation) [from memory].
 """
 
+from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 import flint
@@ -39,6 +40,7 @@ from symcluster.errors import ModelError, VerificationError
 from symcluster.response.eigen import PointSystem, arb_precision, to_mpf
 from symcluster.response.ensemble import exact_number, make_ensemble
 from symcluster.response.lehmann import lehmann_sums
+from symcluster.spectrum import Spectrum
 
 __all__ = ["greens_function", "greens_matrix", "GreensFunction", "GreensMatrix", "spin_index",
            "mode_index", "translation_shift"]
@@ -363,8 +365,9 @@ def translation_shift(model):
     return list(range(L))
 
 
-def greens_matrix(spectrum, point, spin="up", N=None, temperature=None, mu=None, digits=30,
-                  system=None):
+def greens_matrix(spectrum: Spectrum, point: Mapping[str, object], spin: str = "up",
+                  N: int | None = None, temperature: object = None, mu: object = None,
+                  digits: int = 30, system: object = None) -> GreensMatrix:
     """G_ij of one spin for every pair of modes (see :func:`greens_function`).
 
     Returns
@@ -394,8 +397,9 @@ def greens_matrix(spectrum, point, spin="up", N=None, temperature=None, mu=None,
     return gm
 
 
-def greens_function(spectrum, point, i=0, j=0, spin="up", N=None, temperature=None, mu=None,
-                    digits=30):
+def greens_function(spectrum: Spectrum, point: Mapping[str, object], i: int = 0, j: int = 0,
+                    spin: str = "up", N: int | None = None, temperature: object = None,
+                    mu: object = None, digits: int = 30) -> GreensFunction:
     """The certified Lehmann Green's function G_ij of a solved model at a point.
 
     Parameters

@@ -37,6 +37,7 @@ import sympy
 
 from symcluster.errors import InputError, VerificationError
 from symcluster.symmetry.groups import PermutationGroup, automorphisms
+from symcluster.symmetry.mulliken import point_group_names
 
 __all__ = [
     "permute_state", "RationalIrrep", "LatticeSymmetry", "lattice_symmetry",
@@ -174,6 +175,9 @@ class RationalIrrep:
     momentum : sympy.Expr or tuple of sympy.Expr or None
         Crystal momentum (multiple of pi in (-pi, pi]) when the group has
         translations; a tuple when the orbit holds several momenta.
+    mulliken : str or None
+        Mulliken symbol (``"A1"``, ``"T2g"``, ``"E1/E2"`` for a Galois orbit) when the
+        lattice group is a recognised point group (:mod:`symcluster.symmetry.mulliken`).
     """
 
     def __init__(self, label, dim, orbit_size, members, character, class_character,
@@ -181,6 +185,7 @@ class RationalIrrep:
         self.label, self.dim, self.orbit_size, self.members = label, dim, orbit_size, members
         self.character, self.class_character = character, class_character
         self.reducer, self.copies, self.momentum = reducer, copies, momentum
+        self.mulliken = None       # Mulliken symbol, set where the group is a point group
 
     def __repr__(self):
         return (f"RationalIrrep({self.label!r}, dim={self.dim}, orbit_size={self.orbit_size}, "
@@ -401,6 +406,10 @@ class LatticeSymmetry:
                 labels[o], self.table.irreps[members[0]].dim, s,
                 tuple(self.table.irreps[i].name for i in members), psis[o],
                 tuple(self.table.orbit_sum(o)), (sub, lam), c, momenta[o]))
+        # Mulliken symbols where the group is a known point group (symmetry/mulliken.py)
+        self.point_group, names = point_group_names(group, self.irreps)
+        for irr, name in zip(self.irreps, names or [None] * len(self.irreps)):
+            irr.mulliken = name
         if self.translation is not None:       # smallest |k| first; ties keep table order
             kmin = [min(abs(r) for r in rs) for rs in fractions]
             order = sorted(range(len(self.irreps)), key=kmin.__getitem__)
