@@ -11,6 +11,7 @@ wherever P_ij != 0 connects every site (A. Mielke, J. Phys. A 24, 3311 (1991); f
 import sympy
 
 from symcluster.errors import ClusterError
+from symcluster.lattice.clusters import Cluster
 
 __all__ = ["single_particle_levels", "flat_band", "is_path", "is_biconnected"]
 
@@ -26,7 +27,7 @@ def _adjacency(cluster):
     return A
 
 
-def single_particle_levels(cluster, t=1):
+def single_particle_levels(cluster: Cluster, t: object = 1) -> list:
     """Exact levels of h = -t A, ascending: list of (energy, degeneracy).
 
     Examples
@@ -41,7 +42,7 @@ def single_particle_levels(cluster, t=1):
                   key=lambda p: sympy.N(p[0], 50))
 
 
-def flat_band(cluster, t=1):
+def flat_band(cluster: Cluster, t: object = 1) -> dict:
     """The lowest single-particle level of h = -t A: energy, degeneracy, exact projector and
     whether the projector is irreducible.
 

@@ -6,13 +6,13 @@ Sublattices come from ``Cluster.sublattices()``; single-particle levels and flat
 """
 
 from symcluster.errors import ClusterError
-from symcluster.lattice.clusters import _need_int, cluster, tetrahedron
+from symcluster.lattice.clusters import Cluster, _need_int, cluster, tetrahedron
 
 __all__ = ["lieb", "line_graph", "octahedron", "kagome_bowtie", "kagome_strip",
            "decorated_chain", "THEOREM_SHAPES"]
 
 
-def lieb(nx, ny, t="t"):
+def lieb(nx: int, ny: int, t: str = "t") -> Cluster:
     """A fragment of nx x ny cells of the Lieb lattice (corners and edge midpoints).
 
     The sites are the points (i, j), 0 <= i <= 2 nx, 0 <= j <= 2 ny, not both odd, joined
@@ -42,7 +42,7 @@ def lieb(nx, ny, t="t"):
     return cluster(len(pts), bonds, name=f"lieb({nx},{ny})")
 
 
-def line_graph(root, t="t", name=None):
+def line_graph(root: Cluster, t: str = "t", name: str | None = None) -> Cluster:
     """The line graph of a cluster: one site per bond, joined when the bonds share a site.
 
     Examples
@@ -59,7 +59,7 @@ def line_graph(root, t="t", name=None):
     return cluster(len(bonds), out, name=name or f"line({root.name})")
 
 
-def octahedron(t="t"):
+def octahedron(t: str = "t") -> Cluster:
     """The octahedron, the line graph of the tetrahedron (6 sites, 12 bonds).
 
     Examples
@@ -70,7 +70,7 @@ def octahedron(t="t"):
     return line_graph(tetrahedron(), t, name="octahedron")
 
 
-def kagome_bowtie(t="t"):
+def kagome_bowtie(t: str = "t") -> Cluster:
     """Two corner-sharing triangles (5 sites), the smallest kagome fragment with a shared
     corner: the line graph of two joined three-leaf stars.
 
@@ -83,7 +83,7 @@ def kagome_bowtie(t="t"):
     return line_graph(root, t, name="kagome_bowtie")
 
 
-def kagome_strip(n, t="t"):
+def kagome_strip(n: int, t: str = "t") -> Cluster:
     """``n`` triangles in a row, each sharing a corner with the next (2n + 1 sites).
 
     Examples
@@ -99,7 +99,7 @@ def kagome_strip(n, t="t"):
     return cluster(2 * n + 1, bonds, name=f"kagome_strip({n})")
 
 
-def decorated_chain(n, kind="diamond", t="t"):
+def decorated_chain(n: int, kind: str = "diamond", t: str = "t") -> Cluster:
     """A chain of ``n`` backbone sites with decorations.
 
     ``kind="diamond"``: consecutive backbone sites joined through two intermediate sites

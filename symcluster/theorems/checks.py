@@ -14,6 +14,7 @@ from fractions import Fraction
 import sympy
 
 from symcluster.errors import ModelError, SymclusterError
+from symcluster.spectrum import Spectrum
 from symcluster.lattice.flatband import flat_band, is_biconnected, is_path
 from symcluster.theorems.towers import _Context, _end, _prepare
 from symcluster.theorems.envelope import INF
@@ -386,7 +387,8 @@ THEOREMS = {"lieb-spin": _lieb_repulsive, "lieb-attractive": _lieb_attractive,
             "yang-eta": _yang, "particle-hole": _particle_hole}
 
 
-def theorem_report(spec, coupling="U", interval=(0, 50), fixed=None, theorems=None):
+def theorem_report(spec: Spectrum, coupling: str = "U", interval: tuple = (0, 50),
+                   fixed: dict | None = None, theorems: list | None = None) -> list:
     """Check the hypotheses and the conclusion of each rigorous theorem on a spectrum.
 
     Parameters

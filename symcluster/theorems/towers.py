@@ -24,7 +24,7 @@ import mpmath
 import sympy
 
 from symcluster.errors import ModelError
-from symcluster.spectrum import exact_rational
+from symcluster.spectrum import Spectrum, exact_rational
 from symcluster.theorems.envelope import Curves, INF, NEG_INF
 
 __all__ = ["Interval", "EnvelopePiece", "TowerVerdict", "TowerReport", "towers", "tower_rows",
@@ -374,8 +374,9 @@ def _runs(ctx, elements, v, w, idx_v, idx_w, closed):
     return out
 
 
-def towers(spec, n_electrons, coupling="U", interval=(0, 10), fixed=None, kind="spin",
-           irrep=None, start=None, closed=(True, True)):
+def towers(spec: Spectrum, n_electrons: int, coupling: str = "U", interval: tuple = (0, 10),
+           fixed: dict | None = None, kind: str = "spin", irrep: str | None = None,
+           start: object = None, closed: tuple = (True, True)) -> "TowerReport":
     """Certified spin (or η) tower ordering of one electron number along one coupling.
 
     Parameters
@@ -475,8 +476,10 @@ def _asymptotics(verdicts, x, values):
     return out
 
 
-def tower_rows(spec, coupling="U", interval=(0, 10), fixed=None, kinds=("spin", "eta"),
-               n_electrons=None, closed=(True, True), label=""):
+def tower_rows(spec: Spectrum, coupling: str = "U", interval: tuple = (0, 10),
+               fixed: dict | None = None, kinds: tuple = ("spin", "eta"),
+               n_electrons: list | None = None, closed: tuple = (True, True),
+               label: str = "") -> list:
     """One plain row per (N, kind) with the tower verdict: the catalogue's unit of work.
 
     Parameters
