@@ -65,3 +65,13 @@ def catalogue_tasks(spec):
 
 
 __all__ += ["run_catalogue", "catalogue_tasks"]
+from symcluster.theorems import tower_rows, towers  # noqa: E402
+
+__all__ += ["towers", "tower_rows"]
+from symcluster.lattice.shapes import (decorated_chain, kagome_bowtie, kagome_strip,  # noqa: E402
+                                       lieb, line_graph, octahedron)
+from symcluster.lattice.flatband import flat_band, single_particle_levels  # noqa: E402
+from symcluster.theorems.checks import theorem_report  # noqa: E402
+
+__all__ += ["theorem_report", "lieb", "line_graph", "octahedron", "kagome_bowtie",
+            "kagome_strip", "decorated_chain", "flat_band", "single_particle_levels"]

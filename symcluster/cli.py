@@ -369,6 +369,8 @@ def _make_parser():
     add_response_commands(sub, [model_opts], build_model, _solve, parse_point)
     from symcluster.catalogue.command import add_command as add_catalogue
     add_catalogue(sub)
+    from symcluster.theorems.commands import add_commands as add_theorem_commands
+    add_theorem_commands(sub, parents=[model_opts], build_spectrum=_theorem_spectrum)
     sub.add_parser("shapes", help="list the built-in cluster shapes",
                    description="List the built-in cluster shapes and their sizes.")
     sub.add_parser("demo", help="the demo run (same as no arguments)",
@@ -424,6 +426,13 @@ def _analysis_spectrum(args):
             raise InputError("--sector: a spin model has no electron number; leave --sector out")
     electrons = _electrons(args.electrons, model)
     check_request(args, model, electrons)
+    return _solve(model, electrons, fixed=fixed, lattice=not getattr(args, "no_lattice", False))
+
+
+def _theorem_spectrum(args):
+    """Solve the model of the towers / theorems subcommands (docs/towers.md)."""
+    model, fixed = build_model(args)
+    electrons = _electrons(args.electrons, model)
     return _solve(model, electrons, fixed=fixed, lattice=not getattr(args, "no_lattice", False))
 
 

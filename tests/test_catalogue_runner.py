@@ -19,6 +19,7 @@ import json
 import mpmath
 import numpy as np
 import pytest
+import sympy
 
 import symcluster as sc
 from symcluster.catalogue import CONTENT_COLUMNS, Report, rows, run_catalogue
@@ -172,3 +173,26 @@ def test_results_false_keeps_reports_and_verification_only(tmp_path):
     assert row["verification"].startswith("verified:")
     assert float(json.loads(row["reports"])["ground"]["energy"]) == pytest.approx(
         2 - 8 ** 0.5, abs=1e-14)                    # (U - sqrt(U^2 + 16 t^2))/2 at t=1, U=4
+
+
+def test_tower_verdicts_as_a_catalogue_report(tmp_path):
+    """The 4-site ring with 3 electrons loses its spin-tower ordering at U = 8 + 4 sqrt(7):
+    there the S = 3/2 level (-2t for every U) meets the lowest S = 1/2 level (the k = ±π/2
+    root E = -2t of U^2 - 16 U - 48 = 0, derived in tests/test_towers.py; the
+    ferromagnetic instability of this ring is from memory, Nagaoka-type).  Below it the
+    ordering holds; the two-site ring holds on the whole attractive interval."""
+    db = tmp_path / "towers.db"
+    spec = {**BASE, "clusters": {"list": [["ring", 4]]}, "fillings": [3],
+            "reports": ["towers"],
+            "report_options": {"towers": {"interval": ["0", "100"], "closed": [True, True]}}}
+    run = _run(spec, db)
+    assert (run.done, run.failed) == (1, 0)
+    (report,) = _reports(db).values()
+    (row,) = report["towers"]["rows"]
+    assert row["n_electrons"] == 3 and row["kind"] == "spin" and row["holds"] is False
+    # exact: the crossing is printed as a surd (parsed here by sympy, test side only)
+    (crossing,) = row["crossings"]
+    assert sympy.simplify(sympy.sympify(crossing) - (8 + 4 * sympy.sqrt(7))) == 0
+    (bad,) = row["violations"]
+    assert sympy.simplify(sympy.sympify(bad["interval"]["lower"]) - (8 + 4 * sympy.sqrt(7))) == 0
+    assert (bad["value"], bad["next_value"]) == ("1/2", "3/2")

@@ -151,7 +151,7 @@ STAGES = [
     {"errors", "symbols", "parsing", "tiers", "interrupts", "workers", "linalg", "version"},
     {"lattice"}, {"hilbert"}, {"models"}, {"symmetry"}, {"algebra"}, {"blocks"},
     {"numeric"}, {"spectrum", "display", "frames"}, {"verify"}, {"pipeline"}, {"export", "analysis"},
-    {"response"}, {"catalogue"},
+    {"response"}, {"theorems"}, {"catalogue"},
     {"cli", "__main__"},
 ]
 

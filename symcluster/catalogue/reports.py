@@ -24,7 +24,8 @@ import mpmath
 from symcluster.analysis.gaps import lowest_level
 from symcluster.export.text import energy_text
 
-__all__ = ["Report", "REPORTS", "levels_report", "ground_report", "gaps_report"]
+__all__ = ["Report", "REPORTS", "levels_report", "ground_report", "gaps_report",
+           "towers_report"]
 
 
 @dataclass(frozen=True)
@@ -147,9 +148,40 @@ def gaps_report(spec, task):
     return {"excitation": excitation, "spin": spin}
 
 
+def towers_report(spec, task):
+    """Certified tower verdicts of the task's electron number along one coupling.
+
+    Settings come from the spec's ``[report_options.towers]`` table (all optional):
+    ``coupling`` (default ``"U"``), ``interval`` (two ends, exact numbers as strings or
+    ``"oo"``/``"-oo"``; default ``["-20", "0"]``), ``closed`` (default ``[true, false]``),
+    ``kinds`` (default ``["spin"]``) and ``fixed`` (a table; default ``{t = 1}``).  The rows
+    are those of :func:`symcluster.theorems.tower_rows` (docs/towers.md).
+
+    Examples
+    --------
+    >>> import symcluster as sc
+    >>> spec = sc.solve(sc.hubbard(sc.chain(2)), fixed={"t": 1}, executor="serial", seed=1)
+    >>> r = towers_report(spec, {"electrons": 2, "report_options": {"towers": {}}})
+    >>> [(row["kind"], row["holds"]) for row in r["rows"]]
+    [('spin', True)]
+    """
+    from symcluster.theorems import tower_rows
+    opts = dict((task.get("report_options") or {}).get("towers") or {})
+    fixed = opts.get("fixed")
+    if fixed is None:
+        fixed = {"t": 1} if "t" not in getattr(spec, "fixed", {}) else {}
+    rows = tower_rows(spec, coupling=opts.get("coupling", "U"),
+                      interval=tuple(opts.get("interval", ["-20", "0"])),
+                      fixed=fixed, kinds=tuple(opts.get("kinds", ["spin"])),
+                      n_electrons=None if task.get("electrons") is None else [task["electrons"]],
+                      closed=tuple(opts.get("closed", [True, False])))
+    return {"rows": rows}
+
+
 #: The built-in reports, by the name a spec uses.
 REPORTS = {
     "levels": Report(levels_report, False, "numbers of levels and states, largest degree"),
     "ground": Report(ground_report, True, "ground energy, its exact form, spin, degeneracy"),
     "gaps": Report(gaps_report, True, "excitation and spin gaps inside the filling"),
+    "towers": Report(towers_report, False, "certified spin/eta tower verdicts along a coupling"),
 }
