@@ -37,7 +37,7 @@ from symcluster.response.greens import greens_function, greens_matrix  # noqa: E
 __all__ += ["greens_function", "greens_matrix"]
 
 
-def run_catalogue(spec, db=None, **kwargs):
+def run_catalogue(spec: str | dict, db: str | None = None, **kwargs: object) -> object:
     """:func:`symcluster.catalogue.run_catalogue` (imported on first use: ``import
     symcluster`` stays as light as it was).
 
@@ -51,7 +51,7 @@ def run_catalogue(spec, db=None, **kwargs):
     return run(spec, db=db, **kwargs)
 
 
-def catalogue_tasks(spec):
+def catalogue_tasks(spec: str | dict) -> list:
     """:func:`symcluster.catalogue.catalogue_tasks` (imported on first use).
 
     Examples

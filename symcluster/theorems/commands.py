@@ -76,7 +76,7 @@ def add_commands(subparsers, parents=(), build_spectrum=None):
                                   formatter_class=argparse.RawDescriptionHelpFormatter)
         p.add_argument("--coupling", default="U", help="swept coupling (default U)")
         p.add_argument("--range", default="0:10",
-                       help="lo:hi of the swept coupling (oo / -oo for unbounded)")
+                       help="lo:hi of the swept coupling (oo / -oo for unbounded; default 0:10)")
         p.add_argument("--fixed", nargs="*", default=["t=1"],
                        help="values of the other couplings, name=number (default t=1)")
         p.add_argument("--digits", type=digits_argument, default=15, metavar="D",
