@@ -285,59 +285,49 @@ def _aberth_dd(roots, hi, lo, steps):
     return roots, last, dps
 
 
+def _residuals(roots, hi, lo):
+    """``(p, plo, p')`` at every root: ``p + plo`` the polynomial's value (Horner, in
+    double-double when ``lo`` is given, else float64 with ``plo = 0``), ``p'`` its
+    derivative in float64."""
+    d1 = hi.shape[1]
+    p = np.zeros_like(roots)
+    if lo is None:
+        for j in range(d1):
+            p = p * roots + hi[:, j:j + 1]
+        plo = 0.0
+    else:
+        plo = np.zeros_like(roots)
+        for j in range(d1):
+            p, plo = _dd_mul_float(p, plo, roots)
+            p, plo = _dd_add(p, plo, hi[:, j:j + 1], lo[:, j:j + 1])
+    dp = np.zeros_like(roots)
+    q = np.zeros_like(roots)
+    for j in range(d1):
+        dp = dp * roots + q
+        q = q * roots + hi[:, j:j + 1]
+    return p, plo, dp
+
+
 def _newton_dd(roots, hi, lo, steps=2):
     """Newton steps on chosen roots (no repulsion), residual in double-double."""
-    d1 = hi.shape[1]
     step = np.zeros_like(roots)
     dp = np.ones_like(roots)
     for _ in range(steps):
-        if lo is None:
-            p = np.zeros_like(roots)
-            for j in range(d1):
-                p = p * roots + hi[:, j:j + 1]
-            plo = 0.0
-        else:
-            p = np.zeros_like(roots)
-            plo = np.zeros_like(roots)
-            for j in range(d1):
-                p, plo = _dd_mul_float(p, plo, roots)
-                p, plo = _dd_add(p, plo, hi[:, j:j + 1], lo[:, j:j + 1])
-        dp = np.zeros_like(roots)
-        q = np.zeros_like(roots)
-        for j in range(d1):
-            dp = dp * roots + q
-            q = q * roots + hi[:, j:j + 1]
+        p, plo, dp = _residuals(roots, hi, lo)
         step = np.divide(p + plo, dp, out=np.zeros_like(roots), where=dp != 0)
         roots = roots - step
     return roots, step, dp
 
 
 def _aberth_once(roots, hi, lo):
-    d1 = hi.shape[1]
-    off = ~np.eye(d1 - 1, dtype=bool)
-    if True:
-        if lo is None:
-            p = np.zeros_like(roots)
-            for j in range(d1):
-                p = p * roots + hi[:, j:j + 1]
-            plo = 0.0
-        else:
-            p = np.zeros_like(roots)
-            plo = np.zeros_like(roots)
-            for j in range(d1):
-                p, plo = _dd_mul_float(p, plo, roots)
-                p, plo = _dd_add(p, plo, hi[:, j:j + 1], lo[:, j:j + 1])
-        dp = np.zeros_like(roots)
-        q = np.zeros_like(roots)
-        for j in range(d1):
-            dp = dp * roots + q
-            q = q * roots + hi[:, j:j + 1]
-        w = np.divide(p + plo, dp, out=np.zeros_like(roots), where=dp != 0)
-        diff = roots[:, :, None] - roots[:, None, :]
-        inv = np.divide(1.0, diff, out=np.zeros_like(diff), where=off & (diff != 0))
-        denom = 1.0 - w * inv.sum(axis=-1)
-        step = np.divide(w, denom, out=w.copy(), where=denom != 0)
-        roots = roots - step
+    off = ~np.eye(hi.shape[1] - 1, dtype=bool)
+    p, plo, dp = _residuals(roots, hi, lo)
+    w = np.divide(p + plo, dp, out=np.zeros_like(roots), where=dp != 0)
+    diff = roots[:, :, None] - roots[:, None, :]
+    inv = np.divide(1.0, diff, out=np.zeros_like(diff), where=off & (diff != 0))
+    denom = 1.0 - w * inv.sum(axis=-1)
+    step = np.divide(w, denom, out=w.copy(), where=denom != 0)
+    roots = roots - step
     return roots, step, dp
 
 
