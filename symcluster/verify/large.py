@@ -17,7 +17,8 @@ import numpy as np
 
 from symcluster.errors import VerificationError
 
-__all__ = ["integer_matrix", "power_traces", "lowest_ritz_pairs", "check_large_sector"]
+__all__ = ["integer_matrix", "power_traces", "lowest_ritz_pairs", "check_ritz_pairs",
+           "check_large_sector"]
 
 #: Lanczos: a Ritz value counts as converged when its residual is below this times the
 #: sector's energy scale; the lowest one must converge.
@@ -323,18 +324,46 @@ def check_large_sector(matrix, levels, points, sector, digits, seed=0, steps=200
     xs = sorted(float(mpmath.re(x)) for x, _ in levels[0])
     escale = max(1.0, max(abs(x) for x in xs))
     ritz = lowest_ritz_pairs(matrix, points[0], count=4, steps=min(dim, steps), seed=seed)
+    res = check_ritz_pairs(ritz, xs, sector, points[0], escale, steps_note=f" in {steps} steps")
+    return worst, res / escale
+
+
+def check_ritz_pairs(ritz, values, sector, point, escale, space="sector", level="level",
+                     iteration="", steps_note=""):
+    """Compare Lanczos Ritz pairs with the sorted level values of one space; the residual.
+
+    The lowest Ritz value must have converged and equal the lowest level within its
+    residual; every further converged Ritz value must lie within its residual of some
+    level.  ``space``, ``level``, ``iteration`` and ``steps_note`` only word the messages
+    (a whole sector, or a selected subspace of it).
+
+    Returns
+    -------
+    float
+        The lowest Ritz pair's residual.
+
+    Raises
+    ------
+    VerificationError
+        On any disagreement.
+
+    Examples
+    --------
+    >>> check_ritz_pairs([(-1.0, 1e-14), (0.5, 1e-14)], [-1.0, 0.5, 2.0], (1, 1), {}, 2.0)
+    1e-14
+    """
     theta, res = ritz[0]
     if res > CONVERGED * escale:
-        _fail(f"sector {sector}: the Lanczos iteration did not converge to its lowest "
-              f"eigenvalue in {steps} steps (residual {res:.2e}); rerun with another seed")
-    if abs(xs[0] - theta) > res + FLOAT_TOLERANCE * escale:
-        _fail(f"sector {sector} at {points[0]}: the lowest level {xs[0]!r} differs from the "
-              f"lowest eigenvalue {theta!r} of the sector (Lanczos, residual {res:.2e})")
+        _fail(f"sector {sector}: the Lanczos iteration{iteration} did not converge to its "
+              f"lowest eigenvalue{steps_note} (residual {res:.2e}); rerun with another seed")
+    if abs(values[0] - theta) > res + FLOAT_TOLERANCE * escale:
+        _fail(f"sector {sector} at {point}: the lowest {level} {values[0]!r} differs from "
+              f"the lowest eigenvalue {theta!r} of the {space} (Lanczos, residual {res:.2e})")
     for theta, r in ritz[1:]:
         if r <= CONVERGED * escale:
-            near = min(abs(x - theta) for x in xs)
+            near = min(abs(x - theta) for x in values)
             if near > r + FLOAT_TOLERANCE * escale:
-                _fail(f"sector {sector} at {points[0]}: the sector has the eigenvalue "
-                      f"{theta!r} (Lanczos, residual {r:.2e}), and no level is within "
+                _fail(f"sector {sector} at {point}: the {space} has the eigenvalue "
+                      f"{theta!r} (Lanczos, residual {r:.2e}), and no {level} is within "
                       f"{near:.2e} of it")
-    return worst, res / escale
+    return res

@@ -46,7 +46,7 @@ import flint
 
 from symcluster.tiers import EXACT_DIM, SELECTED_DENSE_DIM
 from symcluster.verify.failure import _fail
-from symcluster.verify.large import CONVERGED, FLOAT_TOLERANCE, lowest_ritz_pairs
+from symcluster.verify.large import FLOAT_TOLERANCE, check_ritz_pairs, lowest_ritz_pairs
 from symcluster.verify.modular import _charpoly_mod, _label_matrices, _poly_mod
 from symcluster.verify.plain import _keys, sector_matrices, sector_matrix, sector_occupations
 from symcluster.verify.sectors import _factor_groups, _sector_shares
@@ -605,22 +605,9 @@ def check_selected_sectors(spectrum, selection, values, points, primes, forms, l
         ritz = lowest_ritz_pairs(matrix, by_label[0], count=4, steps=min(dim, 300),
                                  seed=seed, project=None if proj.trivial else proj)
         escale = max(1.0, max(abs(x) for x in level_vals))
-        theta, res = ritz[0]
-        if res > CONVERGED * escale:
-            _fail(f"sector {sector}: the Lanczos iteration on the selected subspace did not "
-                  f"converge to its lowest eigenvalue (residual {res:.2e}); rerun with "
-                  "another seed")
-        if abs(level_vals[0] - theta) > res + FLOAT_TOLERANCE * escale:
-            _fail(f"sector {sector} at {points[0]}: the lowest selected level "
-                  f"{level_vals[0]!r} differs from the lowest eigenvalue {theta!r} of the "
-                  f"selected subspace (Lanczos, residual {res:.2e})")
-        for theta, r in ritz[1:]:
-            if r <= CONVERGED * escale:
-                near = min(abs(x - theta) for x in level_vals)
-                if near > r + FLOAT_TOLERANCE * escale:
-                    _fail(f"sector {sector} at {points[0]}: the selected subspace has the "
-                          f"eigenvalue {theta!r} (Lanczos, residual {r:.2e}), and no selected "
-                          f"level is within {near:.2e} of it")
+        res = check_ritz_pairs(ritz, level_vals, sector, points[0], escale,
+                               space="selected subspace", level="selected level",
+                               iteration=" on the selected subspace")
         out["lanczos"] += 1
         out["worst"] = max(out["worst"], abs(level_vals[0] - ritz[0][0]) / escale)
         out["lanczos_residual"] = max(out["lanczos_residual"], res / escale)
