@@ -149,6 +149,19 @@ def test_bad_comparisons_exit_2_with_one_line(tmp_path, capsys, dimer_reference,
     assert not (tmp_path / "theirs_compare.png").exists()
 
 
+@pytest.mark.skipif(not os.path.exists("/dev/zero"), reason="needs /dev/zero")
+def test_an_endless_input_is_refused_without_reading_it_all(tmp_path, capsys, dimer_reference):
+    """A device never ends: both inputs are read only up to their limit, then refused."""
+    ref = tmp_path / "ref.json"
+    ref.write_text(json.dumps(dimer_reference))
+    assert main(["compare", str(ref), "/dev/zero", "--no-plot"]) == 2
+    assert "larger than" in error_line(capsys, quiet_stdout=True)
+    theirs = tmp_path / "t.csv"
+    theirs.write_text("n,re_G\n0,0\n")
+    assert main(["compare", "/dev/zero", str(theirs), "--no-plot"]) == 2
+    assert "larger than" in error_line(capsys, quiet_stdout=True)
+
+
 def test_not_a_reference_is_refused(tmp_path, capsys):
     bad = tmp_path / "x.json"
     bad.write_text('{"format": "something else"}')

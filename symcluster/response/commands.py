@@ -161,17 +161,12 @@ def _run_reference(args, build_model, solve, parse_point):
 def _run_compare(args):
     import sys
     from symcluster.export.files import check_outputs, write_files_atomic
+    from symcluster.parsing import read_input_file
     from symcluster.response.compare import MAX_BYTES, compare, comparison_figure
     from symcluster.response.reference import load_reference
     ref = load_reference(args.reference)
+    text = read_input_file(args.theirs, "results file", MAX_BYTES)
     path = pathlib.Path(args.theirs)
-    try:
-        if path.stat().st_size > MAX_BYTES:
-            raise InputError(f"{args.theirs!r} is larger than {MAX_BYTES} bytes")
-        text = path.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read {args.theirs!r}: {getattr(exc, 'strerror', None) or exc}; "
-                         "give the CSV of your code's results") from None
     plot = None
     if not args.no_plot:
         plot = args.plot or str(path.with_name(path.stem + "_compare.png"))

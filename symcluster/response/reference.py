@@ -24,6 +24,7 @@ from fractions import Fraction
 import mpmath
 
 from symcluster.errors import InputError, ModelError
+from symcluster.parsing import read_input_file
 from symcluster.response.greens import greens_matrix, mode_index, spin_index
 from symcluster.response.ensemble import exact_number
 
@@ -217,15 +218,7 @@ def load_reference(path, max_bytes=50_000_000):
     InputError
         Not a file, not JSON, not a symcluster reference, or a table malformed.
     """
-    p = pathlib.Path(path)
-    try:
-        if p.stat().st_size > max_bytes:
-            raise InputError(f"reference {path!r} is larger than {max_bytes} bytes")
-        text = p.read_text(encoding="utf-8")
-    except (OSError, UnicodeDecodeError) as exc:
-        raise InputError(f"cannot read reference {str(path)!r}: "
-                         f"{getattr(exc, 'strerror', None) or exc}; give a reference JSON "
-                         "written by 'symcluster reference'") from None
+    text = read_input_file(path, "reference", max_bytes)
     try:
         data = json.loads(text)
     except json.JSONDecodeError as exc:
