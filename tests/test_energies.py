@@ -36,6 +36,18 @@ def test_implicit_roots_on_a_grid_match_the_reference():
         assert np.max(np.abs(ref.eigenvalues({"t": 1.0, "U": float(u)}) - e[k])) < 1e-10
 
 
+def test_ring6_far_from_zero_and_in_random_order_matches_the_reference():
+    # ring(6)'s level polynomials of the N = 10..12 sectors have their roots near 3U..6U,
+    # tens of units from zero for large U, where their monomial form loses most digits;
+    # the points come in random order, so no point's roots are a good start for the next
+    spec = sc.solve(sc.hubbard(sc.ring(6)))
+    us = np.random.default_rng(5).permutation(np.r_[np.linspace(0.0, 40.0, 25), [-7.5, 1e-6]])
+    e = spec.energies({"t": 1, "U": us})
+    ref = _ring(6)
+    for k, u in enumerate(us):
+        assert np.max(np.abs(ref.eigenvalues({"t": 1.0, "U": float(u)}) - e[k])) < 1e-10
+
+
 def test_both_couplings_varying_and_a_scalar_point():
     spec = sc.solve(sc.hubbard(sc.ring(4)))
     ts = np.array([0.5, 1.0, 2.0])

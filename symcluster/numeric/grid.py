@@ -2,8 +2,10 @@
 
 The engine behind :meth:`symcluster.spectrum.Spectrum.energies`.  Closed forms are
 compiled once with :func:`sympy.lambdify` and evaluated on whole numpy arrays.  The
-implicit roots of one polynomial are computed together: every point's roots start as
-the eigenvalues of its companion matrix (one batched LAPACK call) and are polished by
+implicit roots of one polynomial are computed together, on its centred form (the
+variable shifted so that the roots sum to zero, :func:`_centred`): the roots at every
+fourth point start as the eigenvalues of its companion matrix (one batched LAPACK call),
+those between start on straight lines between their neighbours', and all are polished by
 Newton steps whose residual is computed in double-double arithmetic (error-free
 transformations, T. J. Dekker, Numer. Math. 18, 224 (1971), from memory): the
 high-degree level polynomials are far too ill-conditioned in their monomial form for
@@ -93,6 +95,7 @@ class GridEvaluator:
                     entry = self._closed[e] = (fn, [])
                 entry[1].append(k)
         self._float_coeffs = {}
+        self._centred = {p: _centred(p) for p in self._roots}
 
     def values(self, columns, exact_columns):
         """Values of every level at every point: float64 array (points, levels).
@@ -151,8 +154,11 @@ class GridEvaluator:
                     for k in g:
                         needs_exact.setdefault(k, set()).update(rows)
             for poly, by_index in self._roots.items():
-                hi, lo = self._coefficients(poly, columns, exact_columns)
+                centred, scale, shift = self._centred[poly]
+                hi, lo = self._coefficients(centred, columns, exact_columns)
                 roots, doubtful = _polished_roots(hi, lo)
+                if shift is not None:
+                    roots = (roots - self._shift_values(shift, columns)[:, None]) / scale
                 for i in np.flatnonzero(doubtful).tolist():
                     roots[i] = self._certified_roots(poly, i, columns, exact_columns)
                 for index, positions in by_index.items():
@@ -207,6 +213,12 @@ class GridEvaluator:
         # float64 coefficients: their rounding is taken into the condition test below
         return hi, None
 
+    def _shift_values(self, shift, columns):
+        fn = self._float_coeffs.get(shift)
+        if fn is None:
+            fn = self._float_coeffs[shift] = sympy.lambdify(self.symbols, shift, modules="numpy")
+        return np.broadcast_to(np.asarray(fn(*columns), dtype=float), (len(columns[0]),))
+
     def _point(self, i, columns, exact_columns):
         point = {}
         for s, col, ex in zip(self.symbols, columns, exact_columns):
@@ -225,10 +237,49 @@ class GridEvaluator:
         return np.array([float(r) for r in real_roots_at(poly, point, 17)])
 
 
+def _centred(poly):
+    """``(Q, s, g)``: the polynomial in the variable ``y = s E + g`` whose roots sum to zero.
+
+    A level polynomial ``P(E) = a E^d + b E^(d-1) + ...`` with a constant leading
+    coefficient ``a`` is rewritten in ``y = d a E + b`` (``s = d a``, ``g = b``, a
+    polynomial in the couplings): ``Q(y) = s^d / a * P((y - b) / s)`` is monic with integer
+    coefficients and its roots ``y_i = s E_i + b`` sum to zero.  The roots of a block often
+    sit far from zero (a shift of several U in a sector with many doubly occupied sites),
+    where the monomial form loses most of its digits; centred, they lose few.  Returns
+    ``(P, 1, None)`` when the leading coefficient depends on the couplings.
+    """
+    E = poly.gens[0]
+    d = poly.degree(E)
+    by_power = {}
+    for monom, c in poly.terms():
+        by_power.setdefault(monom[0], []).append((monom[1:], c))
+    top = by_power.get(d, [])
+    if d < 2 or len(top) != 1 or any(top[0][0]):
+        return poly, 1, None
+    a = int(top[0][1])
+    b = sympy.Add(*[sympy.Integer(int(c)) * sympy.Mul(*[g ** e for g, e in zip(poly.gens[1:], m)])
+                    for m, c in by_power.get(d - 1, [])])
+    s = d * a
+    gens = poly.gens
+    # Q(y) = sum_k c_k s^(d-k) / a (y - b)^k, by polynomial arithmetic in (y, couplings)
+    shift = sympy.Poly(E - b, *gens, domain="ZZ")
+    power = sympy.Poly(1, *gens, domain="ZZ")
+    q = sympy.Poly(0, *gens, domain="ZZ")
+    for k in range(d + 1):
+        terms = {(0,) + m: c for m, c in by_power.get(k, [])}
+        if terms:
+            ck = sympy.Poly.from_dict(terms, *gens, domain="ZZ")
+            q += ck * power * (s ** (d - k) // a)
+        power *= shift
+    return q, s, b
+
+
 # --------------------------------------------------------------------- double-double kernels
 
 _STEPS = 30                   # most Aberth iterations from one start
 _PASSES = 8                   # restarts of doubtful points from trusted neighbours
+_STRIDE = 4                   # points between two companion-matrix eigenvalue starts
+_STALL = 6                    # Aberth steps after which a row must keep converging
 _SPLIT = 134217729.0          # 2**27 + 1 (Dekker's splitting of a double into two halves)
 
 
@@ -274,12 +325,21 @@ def _aberth_dd(roots, hi, lo, steps):
     last = np.full(roots.shape, np.inf)
     dps = np.ones_like(roots)
     active = np.arange(len(roots))
-    for _ in range(steps):
+    previous = np.full(len(roots), np.inf)
+    for it in range(steps):
         lo_a = None if lo is None else lo[active]
         new, step, dp = _aberth_once(roots[active], hi[active], lo_a)
         roots[active], last[active], dps[active] = new, step, dp
         scale = np.max(np.abs(new), axis=-1) + 1e-300
-        active = active[np.max(np.abs(step), axis=-1) / scale > 1e-15]
+        size = np.max(np.abs(step), axis=-1) / scale
+        keep = size > 1e-15
+        if it >= _STALL:
+            # simple roots converge at least quadratically from close starts; a row whose
+            # correction no longer shrinks tenfold sits on a cluster of roots: it stays doubtful
+            # (its last correction is kept) and goes to the certified route
+            keep &= size < 0.1 * previous[active]
+        previous[active] = size
+        active = active[keep]
         if not len(active):
             break
     return roots, last, dps
@@ -339,21 +399,32 @@ def _polished_roots(hi, lo):
     if deg == 1:
         roots = (-(hi[:, 1]) / hi[:, 0])[:, None]
         return roots, ~np.isfinite(roots[:, 0])
-    comp = np.zeros((n, deg, deg))
-    comp[:, 0, :] = -hi[:, 1:] / hi[:, :1]
+    # companion eigenvalues at every _STRIDE-th point (and the last); the points between
+    # start from the straight line between their neighbours' sorted roots
+    picked = np.unique(np.r_[np.arange(0, n, _STRIDE), n - 1])
+    comp = np.zeros((len(picked), deg, deg))
+    comp[:, 0, :] = -hi[picked, 1:] / hi[picked, :1]
     comp[:, np.arange(1, deg), np.arange(deg - 1)] = 1.0
     ev = np.linalg.eigvals(comp)
     # a spurious complex pair a +- ib stands for two real roots near a: start them apart
-    start = np.sort(ev.real + np.where(ev.imag >= 0, 1.0, -1.0) * np.abs(ev.imag), axis=-1)
+    known = np.sort(ev.real + np.where(ev.imag >= 0, 1.0, -1.0) * np.abs(ev.imag), axis=-1)
+    right = np.clip(np.searchsorted(picked, np.arange(n)), 1, max(len(picked) - 1, 1))
+    left = right - 1 if len(picked) > 1 else right * 0
+    right = np.minimum(right, len(picked) - 1)
+    span = np.maximum(picked[right] - picked[left], 1)
+    w = ((np.arange(n) - picked[left]) / span)[:, None]
+    start = (1 - w) * known[left] + w * known[right]
     # equal starts would stay equal: spread them by a small fraction of the scale
     size = np.max(np.abs(start), axis=-1, keepdims=True) + 1.0
     start = start + size * 1e-7 * (np.arange(deg) - deg / 2)
     roots, last, dp = _aberth_dd(start, hi, lo, _STEPS)
+    n_bad = n + 1
     for _ in range(_PASSES):
         bad = _doubtful(roots, last, dp, hi, lo)
         good = np.flatnonzero(~bad)
-        if not bad.any() or not len(good):
-            break
+        if not bad.any() or not len(good) or bad.sum() >= n_bad:
+            break       # nothing doubtful, nothing to start from, or no progress
+        n_bad = bad.sum()
         # restart each doubtful point from the roots of the nearest trusted point: the
         # roots move continuously with the couplings, so the start is in the right order
         rows = np.flatnonzero(bad)
