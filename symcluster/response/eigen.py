@@ -41,6 +41,7 @@ import numpy as np
 from symcluster.errors import ModelError, VerificationError
 from symcluster.hilbert.action import HamiltonianAction
 from symcluster.spectrum import check_digits, energy_numeric
+from symcluster.symmetry.termgraph import term_lattice_symmetry
 
 __all__ = ["PointSystem", "SectorEigen", "Eigenspace", "arb_precision", "to_mpf", "to_arb",
            "upper", "ladder_matrix", "sector_sign"]
@@ -221,6 +222,8 @@ class PointSystem:
         self._sectors = {}
         self._partial = {}
         self._prepared = {}
+        self._lattice = False
+        self.block_sectors = {}       # response.blockeig.BlockSector per sector, by lehmann
 
     # ----- levels ---------------------------------------------------------------------
     def _values_of_n(self, n):
@@ -313,8 +316,9 @@ class PointSystem:
 
     def worst_eps(self):
         """The largest projector bound of the eigenspaces certified so far."""
-        return max((sp.eps for prep in self._prepared.values() for sp in prep["spaces"]
-                    if sp.eps is not None), default=0.0)
+        return max([sp.eps for prep in self._prepared.values() for sp in prep["spaces"]
+                    if sp.eps is not None] + [b.worst_eps for b in self.block_sectors.values()
+                                              if b is not None], default=0.0)
 
     # ----- sectors ----------------------------------------------------------------------
     def has_sector(self, n_up, n_dn):
@@ -437,17 +441,27 @@ class PointSystem:
                     f"to {self.digits} digits (bound {float(worst):.1e}); report this model and point")
         return SectorEigen(key, states, index, X, spaces, H, it, worst, rows)
 
-    def _match(self, levels, fvals, sector):
-        """Eigenspaces: exact levels merged where equal at the point, matched to columns."""
+    def merged_spaces(self, levels):
+        """Eigenspaces of ``sector_levels``: exact levels merged where equal at the point."""
         tol_equal = mpmath.mpf(10) ** (-(self.digits + 8)) * float(self.scale)
-        ordered = sorted(levels, key=lambda x: x[1])
         spaces = []
-        for lev, val, mult in ordered:
+        for lev, val, mult in sorted(levels, key=lambda x: x[1]):
             if spaces and abs(val - spaces[-1].value) <= tol_equal:
                 spaces[-1].dim += mult
                 spaces[-1].levels.append(lev)
             else:
                 spaces.append(Eigenspace(val, mult, [], [lev]))
+        return spaces
+
+    def lattice(self):
+        """The model's lattice group (term automorphisms, each checked on H), or None."""
+        if self._lattice is False:
+            self._lattice = term_lattice_symmetry(self.model)
+        return self._lattice
+
+    def _match(self, levels, fvals, sector):
+        """Eigenspaces of :meth:`merged_spaces`, matched to the float columns."""
+        spaces = self.merged_spaces(levels)
         col = 0
         norm = float(np.max(np.abs(fvals))) if len(fvals) else 1.0
         tol = 1e-7 * max(norm, float(self.scale), 1.0)
