@@ -38,6 +38,7 @@ Representations of Finite Groups", sect. 2.6, 2.7 [from memory]).
 
 from dataclasses import dataclass, field
 from fractions import Fraction
+import math
 
 import flint
 import mpmath
@@ -46,7 +47,8 @@ import numpy as np
 from symcluster.errors import VerificationError
 from symcluster.response.eigen import MAX_ITERATIONS, arb_precision, to_arb, upper
 
-__all__ = ["BlockSector", "SymmetryBlock", "block_sector", "symmetrizer"]
+__all__ = ["BlockSector", "SymmetryBlock", "MemberVectors", "block_sector", "member_vectors",
+           "symmetrizer"]
 
 
 @dataclass
@@ -89,6 +91,90 @@ def _fmpq(v):
     return flint.fmpq(v.numerator, v.denominator)
 
 
+class _Prepared:
+    """Exact matrices and float eigen-coefficients of every block of one sector."""
+
+    def __init__(self, system, lattice, n_up, n_dn):
+        space = system.space
+        self.sector = (n_up, n_dn)
+        self.states = space.sector_states(n_up, n_dn)
+        self.index = {s: i for i, s in enumerate(self.states)}
+        n = len(self.states)
+        self.spaces = system.merged_spaces(system.sector_levels(n_up, n_dn))
+        self.work = system._sector_work(self.spaces)
+        Hq = flint.fmpq_mat(n, n)
+        for (i, j), v in system.exact_matrix(self.states, self.index).items():
+            Hq[i, j] = _fmpq(v)
+        self.Hq = Hq
+        scale = float(system.scale)
+        values = [float(sp.value) for sp in self.spaces]
+        tol = 1e-7 * max([scale, 1.0] + [abs(v) for v in values])
+        close = 1e-9 * scale + 1e-12
+        self.group = lattice.group.elements
+        self.blocks = []            # (factor, B, G, A, M, C, owner)
+        # levels closer than float64 resolves cannot be told apart by the float matching
+        self.separable = all(b - a > close for a, b in zip(values, values[1:]))
+        if not self.separable:
+            return
+        for irrep, vecs in zip(lattice.irreps, lattice.adapted_bases(self.states)):
+            if not vecs:
+                continue
+            k = len(vecs)
+            B = flint.fmpq_mat(n, k)
+            for c, vec in enumerate(vecs):
+                for st, x in vec.items():
+                    B[self.index[st], c] = x
+            Bt = B.transpose()
+            HB = Hq * B
+            G = Bt * B
+            A = Bt * HB
+            M = G.solve(A)
+            if B * M != HB:
+                raise VerificationError(f"sector N_up={n_up}, N_dn={n_dn}: the adapted basis of "
+                                        f"{irrep.label} is not invariant under H; report this model")
+            Gf = np.array([[float(x) for x in row] for row in G.tolist()])
+            Af = np.array([[float(x) for x in row] for row in A.tolist()])
+            Li = np.linalg.inv(np.linalg.cholesky(Gf))
+            Ar = Li @ Af @ Li.T
+            fvals, V = np.linalg.eigh((Ar + Ar.T) / 2)
+            owner = []                 # every column to the nearest exact level of the sector
+            for f in fvals:
+                m = int(np.argmin([abs(f - v) for v in values]))
+                if abs(f - values[m]) > tol:
+                    raise VerificationError(
+                        f"sector N_up={n_up}, N_dn={n_dn}, block {irrep.label}: eigenvalue "
+                        f"{f:.12g} matches no level of the spectrum; report this model and point")
+                owner.append(m)
+            self.blocks.append((Fraction(irrep.dim, irrep.copies), B, G, A, M, Li.T @ V, owner))
+        count = [Fraction(0)] * len(self.spaces)
+        for factor, *_, owner in self.blocks:
+            for m in owner:
+                count[m] += factor
+        for sp, c in zip(self.spaces, count):
+            if c != sp.dim:
+                raise VerificationError(
+                    f"sector N_up={n_up}, N_dn={n_dn}: the symmetry blocks hold {c} states of "
+                    f"the level {mpmath.nstr(sp.value, 12)}, the spectrum {sp.dim}; report this "
+                    "model and point")
+
+    def refine(self, system, b):
+        """Refine and certify block ``b``: (X, clusters)."""
+        factor, B, G, A, M, C, owner = self.blocks[b]
+        clusters = [[self.spaces[m], [c for c, o in enumerate(owner) if o == m], None, None]
+                    for m in sorted(set(owner))]
+        X = _refine_block(flint.arb_mat(G), flint.arb_mat(A), flint.arb_mat(M),
+                          flint.arb_mat(C.tolist()), self.spaces, clusters, owner, system,
+                          self.work, self.sector)
+        return X, clusters
+
+
+def _prepared(system, lattice, n_up, n_dn):
+    key = (n_up, n_dn)
+    if key not in system.block_cache:
+        system.block_cache[key] = _Prepared(system, lattice, n_up, n_dn)
+    return system.block_cache[key]
+
+
 def block_sector(system, lattice, n_up, n_dn):
     """The :class:`BlockSector` of sector (n_up, n_dn), or None when a block holds two
     distinct levels closer than float64 resolves (the caller then refines the whole
@@ -101,80 +187,69 @@ def block_sector(system, lattice, n_up, n_dn):
         certificate does not reach the requested digits, or the blocks do not add up to
         the sector's multiplicities.
     """
-    space = system.space
-    states = space.sector_states(n_up, n_dn)
-    index = {s: i for i, s in enumerate(states)}
-    n = len(states)
-    spaces = system.merged_spaces(system.sector_levels(n_up, n_dn))
-    work = system._sector_work(spaces)
-    exact = system.exact_matrix(states, index)
-    Hq = flint.fmpq_mat(n, n)
-    for (i, j), v in exact.items():
-        Hq[i, j] = _fmpq(v)
-    scale = float(system.scale)
-    tol = 1e-7 * max([scale, 1.0] + [abs(float(sp.value)) for sp in spaces])
-    close = 1e-9 * scale + 1e-12
-    values = [float(sp.value) for sp in spaces]
-    group = lattice.group.elements
+    prep = _prepared(system, lattice, n_up, n_dn)
+    if not prep.separable:
+        return None
     blocks = []
-    count = {id(sp): Fraction(0) for sp in spaces}
-    with arb_precision(work + 10), mpmath.workdps(work + 10):
-        H = flint.arb_mat(Hq)
-        for irrep, vecs in zip(lattice.irreps, lattice.adapted_bases(states)):
-            if not vecs:
-                continue
-            k = len(vecs)
-            B = flint.fmpq_mat(n, k)
-            for c, vec in enumerate(vecs):
-                for st, x in vec.items():
-                    B[index[st], c] = x
-            Bt = B.transpose()
-            HB = Hq * B
-            G = Bt * B
-            A = Bt * HB
-            M = G.solve(A)
-            if B * M != HB:
-                raise VerificationError(f"sector N_up={n_up}, N_dn={n_dn}: the adapted basis of "
-                                        f"{irrep.label} is not invariant under H; report this model")
-            Gf = np.array([[float(x) for x in row] for row in G.tolist()])
-            Af = np.array([[float(x) for x in row] for row in A.tolist()])
-            L = np.linalg.cholesky(Gf)
-            Li = np.linalg.inv(L)
-            Ar = Li @ Af @ Li.T
-            fvals, V = np.linalg.eigh((Ar + Ar.T) / 2)
-            C = Li.T @ V
-            # every column to the nearest exact level of the sector
-            owner = []
-            for f in fvals:
-                m = int(np.argmin([abs(f - v) for v in values]))
-                if abs(f - values[m]) > tol:
-                    raise VerificationError(
-                        f"sector N_up={n_up}, N_dn={n_dn}, block {irrep.label}: eigenvalue "
-                        f"{f:.12g} matches no level of the spectrum; report this model and point")
-                owner.append(m)
-            used = sorted(set(owner))
-            if any(values[b] - values[a] <= close for a, b in zip(used, used[1:])):
-                return None
-            clusters = []
-            for m in used:
-                cols = [c for c, o in enumerate(owner) if o == m]
-                clusters.append([spaces[m], cols, None, None])
-                count[id(spaces[m])] += Fraction(irrep.dim, irrep.copies) * len(cols)
-            X = _refine_block(flint.arb_mat(G), flint.arb_mat(A), flint.arb_mat(M),
-                              flint.arb_mat(C.tolist()), spaces, clusters, owner, system, work,
-                              (n_up, n_dn, irrep.label))
-            blocks.append(SymmetryBlock(Fraction(irrep.dim, irrep.copies),
-                                        flint.arb_mat(Bt), X, clusters))
-    for sp in spaces:
-        if count[id(sp)] != sp.dim:
-            raise VerificationError(
-                f"sector N_up={n_up}, N_dn={n_dn}: the symmetry blocks hold {count[id(sp)]} "
-                f"states of the level {mpmath.nstr(sp.value, 12)}, the spectrum {sp.dim}; "
-                "report this model and point")
+    with arb_precision(prep.work + 10), mpmath.workdps(prep.work + 10):
+        H = flint.arb_mat(prep.Hq)
+        for b, (factor, B, *_) in enumerate(prep.blocks):
+            X, clusters = prep.refine(system, b)
+            blocks.append(SymmetryBlock(factor, flint.arb_mat(B.transpose()), X, clusters))
     worst = max((c[2] for b in blocks for c in b.clusters), default=0.0)
+    return BlockSector((n_up, n_dn), prep.states, prep.index, H, prep.spaces, blocks,
+                       prep.group, worst)
+
+
+@dataclass
+class MemberVectors:
+    """Certified Fock vectors of some eigenspaces of one sector, read off one block each;
+    ``rows[i][c]`` is entry i of the vector in column c (the columns of the eigenspaces
+    as numbered by :class:`~symcluster.response.eigen.PointSystem`)."""
+
+    states: list
+    index: dict
+    H: object
+    rows: list
+    worst_eps: float = 0.0
+
+
+def member_vectors(system, lattice, n_up, n_dn, spaces):
+    """Fock vectors of the eigenspaces ``spaces`` (of ``system.spaces(n_up, n_dn)``) when
+    each lies whole in one block of a one-dimensional irrep (factor 1), else None.  Sets
+    ``eps`` and ``eta`` of each space from its block's certificate (the block holds the
+    whole eigenspace: its certified columns number the level's multiplicity)."""
+    prep = _prepared(system, lattice, n_up, n_dn)
+    if not prep.separable:
+        return None
+    where = []
     for sp in spaces:
-        sp.eps = max((c[2] for b in blocks for c in b.clusters if c[0] is sp), default=0.0)
-    return BlockSector((n_up, n_dn), states, index, H, spaces, blocks, group, worst)
+        m = next((m for m, s in enumerate(prep.spaces) if s.levels[0] is sp.levels[0]), None)
+        if m is None:
+            return None
+        hits = [b for b, blk in enumerate(prep.blocks) if m in blk[6]]
+        if len(hits) != 1 or prep.blocks[hits[0]][0] != 1:
+            return None
+        where.append((sp, m, hits[0]))
+    n = len(prep.states)
+    rows = [dict() for _ in range(n)]
+    done = {}
+    with arb_precision(prep.work + 10), mpmath.workdps(prep.work + 10):
+        H = flint.arb_mat(prep.Hq)
+        for sp, m, b in where:
+            if b not in done:
+                done[b] = prep.refine(system, b)
+            X, clusters = done[b]
+            cl = next(c for c in clusters if c[0] is prep.spaces[m])
+            if len(cl[1]) != sp.dim:
+                return None
+            V = (flint.arb_mat(prep.blocks[b][1]) * X).tolist()
+            for c, bc in zip(sp.columns, cl[1]):
+                for i in range(n):
+                    rows[i][c] = V[i][bc]
+            sp.eps, sp.eta = cl[2], cl[3]
+    worst = max(sp.eps for sp in spaces)
+    return MemberVectors(prep.states, prep.index, H, rows, worst)
 
 
 def _refine_block(G, A, M, X, spaces, clusters, owner, system, work, where):
@@ -182,63 +257,69 @@ def _refine_block(G, A, M, X, spaces, clusters, owner, system, work, where):
     and eta of every cluster); returns the coefficients."""
     k = X.nrows()
     vals = [to_arb(spaces[o].value) for o in owner]
-    target = mpmath.mpf(10) ** (-(system.digits + 8))
+    target = 10.0 ** (-(system.digits + 8))
     E = flint.arb_mat(k, k)
     for c in range(k):
         E[c, c] = vals[c]
-    for _ in range(MAX_ITERATIONS):
+    ev = np.array(vals, dtype=object)
+    own = np.array(owner)
+    same = own[:, None] == own[None, :]
+    # 1 / (E_j - E_i) off the clusters (1 on them, unused)
+    diff = np.where(same, flint.arb(1), ev[None, :] - ev[:, None])
+    dinv = 1 / diff
+    eye = np.eye(k, dtype=int)
+    worst = float("inf")
+    for it in range(MAX_ITERATIONS):
         Xt = X.transpose()
-        r = (Xt * (G * X)).tolist()
-        s = (Xt * (A * X)).tolist()
-        F = flint.arb_mat(k, k)
-        for i in range(k):
-            ei, oi, ri, si = vals[i], owner[i], r[i], s[i]
-            for j in range(k):
-                rij = -ri[j] + (1 if i == j else 0)
-                if owner[j] == oi:
-                    F[i, j] = rij / 2
-                else:
-                    ej = vals[j]
-                    F[i, j] = (si[j] + ej * rij) / (ej - ei)
-        X = (X + X * F).mid()
+        r = eye - np.array((Xt * (G * X)).tolist(), dtype=object)
+        s = np.array((Xt * (A * X)).tolist(), dtype=object)
+        F = np.where(same, r / 2, (s + ev[None, :] * r) * dinv)
+        X = (X + X * flint.arb_mat(F.tolist())).mid()
+        # the error after a step is about the square of the correction: certify only then
+        step = max(upper(x) for x in F.ravel())
+        if step * step * 1e4 > target and it + 1 < MAX_ITERATIONS:
+            continue
         worst = _certify_block(G, M, X, E, spaces, clusters, system, work)
         if worst <= target:
             return X
-    raise VerificationError(f"eigenvectors of sector N_up={where[0]}, N_dn={where[1]}, block "
-                            f"{where[2]} could not be certified to {system.digits} digits "
+    raise VerificationError(f"eigenvectors of sector N_up={where[0]}, N_dn={where[1]} could "
+                            f"not be certified to {system.digits} digits in a symmetry block "
                             f"(bound {float(worst):.1e}); report this model and point")
 
 
 def _certify_block(G, M, X, E, spaces, clusters, system, work):
-    """Set eps and eta of every cluster (module docstring, step 4); the largest eps x dim."""
+    """Set eps and eta of every cluster (module docstring, step 4); the largest eps x dim.
+    Float arithmetic rounded up: every bound is an upper bound."""
     Xt = X.transpose()
     gram = (Xt * (G * X)).tolist()
     D = M * X - X * E
     res = (D.transpose() * (G * D)).tolist()
-    rho = mpmath.mpf(10) ** (-work) * (float(system.scale) + 1)
-    values = [sp.value for sp in spaces]
-    pos = {id(sp): m for m, sp in enumerate(spaces)}
-    worst = mpmath.mpf(0)
-    for cl in clusters:
-        sp, cols = cl[0], cl[1]
-        m = pos[id(sp)]
-        gaps = [abs(values[m] - values[q]) for q in (m - 1, m + 1) if 0 <= q < len(values)]
-        delta = (min(gaps) if gaps else mpmath.inf) - 2 * rho
-        if delta <= 0:
-            raise VerificationError("two levels of one sector cannot be separated at the "
-                                    "point; evaluate at a nearby point")
-        g2 = flint.arb(0)
-        r2 = flint.arb(0)
-        for a in cols:
-            r2 += res[a][a]
-            for b in cols:
-                x = gram[a][b] - (1 if a == b else 0)
-                g2 += x * x
-        eta = mpmath.sqrt(mpmath.mpf(upper(g2)))
-        r = mpmath.sqrt(mpmath.mpf(upper(r2))) + rho * mpmath.sqrt(len(cols))
-        eps = mpmath.inf if eta >= mpmath.mpf(1) / 2 else eta + r / (mpmath.sqrt(1 - eta) * delta)
-        cl[2], cl[3] = float(eps) if eps != mpmath.inf else float("inf"), float(eta)
-        worst = max(worst, eps * len(cols))
+    rho = float(mpmath.mpf(10) ** (-work) * (float(system.scale) + 1)) * 1.01
+    with mpmath.workdps(work + 10):
+        values = [sp.value for sp in spaces]
+        pos = {id(sp): m for m, sp in enumerate(spaces)}
+        worst = 0.0
+        for cl in clusters:
+            sp, cols = cl[0], cl[1]
+            m = pos[id(sp)]
+            gaps = [abs(values[m] - values[q]) for q in (m - 1, m + 1) if 0 <= q < len(values)]
+            delta = (float(min(gaps)) * (1 - 1e-12) if gaps else float("inf")) - 2 * rho
+            if delta <= 0:
+                raise VerificationError("two levels of one sector cannot be separated at the "
+                                        "point; evaluate at a nearby point")
+            g2 = flint.arb(0)
+            r2 = flint.arb(0)
+            for a in cols:
+                r2 += res[a][a]
+                for b in cols:
+                    x = gram[a][b] - (1 if a == b else 0)
+                    g2 += x * x
+            eta = math.sqrt(upper(g2)) * (1 + 1e-12)
+            r = math.sqrt(upper(r2)) * (1 + 1e-12) + rho * math.sqrt(len(cols))
+            eps = float("inf") if eta >= 0.5 else \
+                (eta + r / (math.sqrt(1 - eta) * delta)) * (1 + 1e-12)
+            cl[2], cl[3] = eps, eta
+            worst = max(worst, eps * len(cols))
     return worst
 
 

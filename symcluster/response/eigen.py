@@ -44,7 +44,7 @@ from symcluster.spectrum import check_digits, energy_numeric
 from symcluster.symmetry.termgraph import term_lattice_symmetry
 
 __all__ = ["PointSystem", "SectorEigen", "Eigenspace", "arb_precision", "to_mpf", "to_arb",
-           "upper", "ladder_matrix", "sector_sign"]
+           "upper", "ladder_matrix", "sector_sign", "to_mpf_list"]
 
 #: iterations of the refinement before giving up (each roughly doubles the digits)
 MAX_ITERATIONS = 12
@@ -88,9 +88,22 @@ def to_mpf(a):
 
 
 def upper(a):
-    """A float upper bound of ``|a|`` for a ball ``a`` (rounded up)."""
+    """A float upper bound of ``|a|`` for a ball ``a`` (rounded up; at least 1e-300).
+
+    ``abs_upper`` is an exact upper bound; ``float`` rounds it to within one unit in
+    the last place, which the factor covers (an underflow to 0 is covered by 1e-300).
+    """
     hi = a.abs_upper()
-    return float(to_mpf(hi) + to_mpf(hi.rad())) * (1 + 1e-12) + 1e-300
+    return (float(hi) + float(hi.rad())) * (1 + 1e-12) + 1e-300
+
+
+def to_mpf_list(balls):
+    """The midpoints of many balls as mpmath numbers, exactly (one precision switch)."""
+    pairs = [x.mid().man_exp() for x in balls]
+    pairs = [(int(m), int(e)) for m, e in pairs]
+    bits = max((m.bit_length() for m, _ in pairs), default=1)
+    with mpmath.workprec(max(64, bits + 8)):
+        return [mpmath.mpf(p) for p in pairs]
 
 
 def sector_sign(up, dn, mode, spin):
@@ -224,6 +237,7 @@ class PointSystem:
         self._prepared = {}
         self._lattice = False
         self.block_sectors = {}       # response.blockeig.BlockSector per sector, by lehmann
+        self.block_cache = {}         # response.blockeig's exact block data per sector
 
     # ----- levels ---------------------------------------------------------------------
     def _values_of_n(self, n):

@@ -35,9 +35,10 @@ from dataclasses import dataclass, field
 
 import flint
 import mpmath
+import numpy as np
 
 from symcluster.errors import ModelError, VerificationError
-from symcluster.response.eigen import PointSystem, arb_precision, to_mpf
+from symcluster.response.eigen import PointSystem, arb_precision, to_arb, to_mpf, to_mpf_list
 from symcluster.response.ensemble import exact_number, make_ensemble
 from symcluster.response.lehmann import lehmann_sums
 from symcluster.spectrum import Spectrum
@@ -254,6 +255,8 @@ class GreensMatrix:
     n_modes: int
     positions: object = None            # site positions along a ring, for momenta
     hole_sum: list = field(default=None, repr=False)
+    # (i, j) -> representative pair of its orbit under the lattice group (G_ij = G_g(i)g(j))
+    pair_orbits: dict = field(default=None, repr=False)
 
     def element(self, i, j):
         """The :class:`GreensFunction` G_ij."""
@@ -305,16 +308,18 @@ class GreensMatrix:
         element's tail checked as in :meth:`GreensFunction.matsubara`)."""
         M = self.n_modes
         pairs = [(i, j) for i in range(M) for j in range(i, M)]
-        elements = {key: self.element(*key) for key in pairs}
+        rep = self.pair_orbits or {key: key for key in pairs}
+        reps = sorted(set(rep.values()))
+        elements = {key: self.element(*key) for key in reps}
         with mpmath.workdps(self.digits + 10):
-            b = elements[pairs[0]]._check_beta(beta)
-            cols = [[W[i][j] for W in self.weights] for i, j in pairs]
+            b = elements[reps[0]]._check_beta(beta)
+            cols = [[W[i][j] for W in self.weights] for i, j in reps]
             sums = _matsubara_sums(self.omegas, cols, b, n_max, self.digits)
             last = (2 * n_max - 1) * mpmath.pi / b
-            for key, vals in zip(pairs, sums):
+            for key, vals in zip(reps, sums):
                 elements[key]._check_tail(vals[-1], last)
-        vals = dict(zip(pairs, sums))
-        return [[[vals[(min(i, j), max(i, j))][n] for j in range(M)] for i in range(M)]
+        vals = dict(zip(reps, sums))
+        return [[[vals[rep[(min(i, j), max(i, j))]][n] for j in range(M)] for i in range(M)]
                 for n in range(n_max)]
 
 
@@ -323,27 +328,22 @@ def _matsubara_sums(omegas, columns, beta, n_max, digits):
     arithmetic (two real matrix products); returns [c][n] -> mpc."""
     P = len(omegas)
     with arb_precision(digits + 10):
-        from symcluster.response.eigen import to_arb
         b = to_arb(beta)
         step = 2 * flint.arb.pi() / b
-        om = [to_arb(x) for x in omegas]
-        om2 = [x * x for x in om]
-        kre = flint.arb_mat(n_max, max(P, 1))
-        kim = flint.arb_mat(n_max, max(P, 1))
-        for n in range(n_max):
-            wn = step * (n + flint.arb(1) / 2)
-            wn2 = wn * wn
-            for p in range(P):
-                inv = 1 / (om2[p] + wn2)
-                kre[n, p] = -om[p] * inv
-                kim[n, p] = -wn * inv
+        half = flint.arb(1) / 2
+        wn = np.array([step * (n + half) for n in range(n_max)], dtype=object)
+        om = np.array([to_arb(x) for x in omegas] or [flint.arb(0)], dtype=object)
+        # 1/(i w - om) = (-om - i w) / (om^2 + w^2), elementwise on arrays of balls
+        inv = 1 / ((om * om)[None, :] + (wn * wn)[:, None])
+        kre = flint.arb_mat((-(om[None, :] * inv)).tolist())
+        kim = flint.arb_mat((-(wn[:, None] * inv)).tolist())
         W = flint.arb_mat(max(P, 1), len(columns))
         for c, col in enumerate(columns):
             for p in range(P):
                 W[p, c] = to_arb(col[p])
-        re = (kre * W).tolist()
-        im = (kim * W).tolist()
-        return [[mpmath.mpc(to_mpf(re[n][c]), to_mpf(im[n][c])) for n in range(n_max)]
+        re = to_mpf_list((kre * W).transpose().entries())
+        im = to_mpf_list((kim * W).transpose().entries())
+        return [[mpmath.mpc(re[c * n_max + n], im[c * n_max + n]) for n in range(n_max)]
                 for c in range(len(columns))]
 
 
@@ -392,7 +392,7 @@ def greens_matrix(spectrum: Spectrum, point: Mapping[str, object], spin: str = "
     gm = GreensMatrix(d["omegas"], d["exact"], d["weights"], ens.beta, ens.mu, system.digits,
                       d["m0"], d["m1"], d["n"], d["certificate"], "up" if s == 0 else "down",
                       ens.describe(), d["n_modes"], translation_shift(system.model),
-                      d["hole_sum"])
+                      d["hole_sum"], _pair_orbits(system, d["n_modes"]))
     _check_sum_rules(gm, ens, system)
     return gm
 
@@ -443,6 +443,21 @@ def greens_function(spectrum: Spectrum, point: Mapping[str, object], i: int = 0,
     gm = greens_matrix(spectrum, point, spin, N, temperature, mu, digits)
     space = spectrum.model.space
     return gm.element(mode_index(space, i), mode_index(space, j))
+
+
+def _pair_orbits(system, M):
+    """(i, j) with i <= j -> the smallest pair of its orbit under the lattice group (the
+    ensemble is a function of H, which every group element leaves invariant, so
+    G_ij = G_g(i)g(j); and G_ij = G_ji for real eigenvectors); None without a group."""
+    lat = system.lattice()
+    if lat is None:
+        return None
+    out = {}
+    for i in range(M):
+        for j in range(i, M):
+            images = [tuple(sorted((g[i], g[j]))) for g in lat.group.elements]
+            out[(i, j)] = min(images)
+    return out
 
 
 def _check_sum_rules(gm, ens, system):

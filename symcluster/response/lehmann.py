@@ -8,8 +8,9 @@ import mpmath
 import sympy
 
 from symcluster.errors import VerificationError
-from symcluster.response.blockeig import BlockSector, block_sector, symmetrizer
-from symcluster.response.eigen import arb_precision, ladder_matrix, to_arb, to_mpf, upper
+from symcluster.response.blockeig import BlockSector, block_sector, member_vectors, symmetrizer
+from symcluster.response.eigen import (arb_precision, ladder_matrix, to_arb, to_mpf, to_mpf_list,
+                                       upper)
 
 __all__ = ["lehmann_sums"]
 
@@ -66,7 +67,7 @@ def lehmann_sums(system, ens, s):
         for mem in ens.members:
             by_sector.setdefault(mem.sector, []).append(mem)
         for sec, mems in by_sector.items():
-            eig = system.vectors(*sec, [m.space for m in mems])
+            eig = _members(system, sec, [m.space for m in mems])
             cols = [c for m in mems for c in m.space.columns]
             prob = {}
             for m in mems:
@@ -177,6 +178,18 @@ def _target(system, tgt):
     return bs if bs is not None else system.sector(*tgt)
 
 
+def _members(system, sec, spaces):
+    """Certified vectors of the ensemble's eigenspaces in one sector: from one symmetry
+    block each where possible (blockeig.member_vectors), else the sector's columns."""
+    lat = system.lattice()
+    key = (sec[0], sec[1])
+    if lat is not None and len(lat.group.elements) > 1 and key not in system._sectors:
+        got = member_vectors(system, lat, *sec, spaces)
+        if got is not None:
+            return got
+    return system.vectors(*sec, spaces)
+
+
 def _block_poles(ens, teig, ys, mems, cols, d, M, hole_sum):
     """Poles into a block sector: the projections onto each block's eigenvectors,
     summed over the lattice group (blockeig's module docstring)."""
@@ -269,16 +282,17 @@ def _merge(system, ens, poles, M):
             merged.append([om, W, err, handle])
     omegas, exact, weights = [], [], []
     worst = mpmath.mpf(0)
+    cut = 10.0 ** (-(system.digits + 2))
     for om, W, err, handle in merged:
-        Wm = [[to_mpf(x) for x in row] for row in W]
-        rad = max(upper(x.rad()) for row in W for x in row)
-        e = err + rad
-        worst = max(worst, e)
-        if max(abs(x) for row in Wm for x in row) <= mpmath.mpf(10) ** (-(system.digits + 2)):
+        flat = [x for row in W for x in row]
+        rad = max(float(x.rad()) for x in flat) * (1 + 1e-12) + 1e-300
+        worst = max(worst, err + rad)
+        if max(upper(x) for x in flat) <= cut:      # every weight below 10**-(digits+2)
             continue
+        vals = to_mpf_list(flat)
         omegas.append(+om)
         exact.append(_exact_omega(system, ens, handle))
-        weights.append(Wm)
+        weights.append([vals[i * M:(i + 1) * M] for i in range(M)])
     if worst > mpmath.mpf(10) ** (-(system.digits + 2)):
         raise VerificationError(f"Green's function weights are certified only to {float(worst):.1e}; "
                                 f"more than the requested {system.digits} digits allow")
