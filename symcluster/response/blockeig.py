@@ -132,11 +132,16 @@ class _Prepared:
             if B * M != HB:
                 raise VerificationError(f"sector N_up={n_up}, N_dn={n_dn}: the adapted basis of "
                                         f"{irrep.label} is not invariant under H; report this model")
-            Gf = np.array([[float(x) for x in row] for row in G.tolist()])
-            Af = np.array([[float(x) for x in row] for row in A.tolist()])
-            Li = np.linalg.inv(np.linalg.cholesky(Gf))
-            Ar = Li @ Af @ Li.T
-            fvals, V = np.linalg.eigh((Ar + Ar.T) / 2)
+            # exact G-orthogonal basis B T^T: T G T^T = diag(d), checked exactly
+            T, d = _orthogonalizer(G)
+            TGT = T * G * T.transpose()
+            if any(TGT[i, j] != (d[i] if i == j else 0) for i in range(k) for j in range(k)):
+                raise VerificationError("internal error: block Gram matrix not diagonalised")
+            Ap = T * A * T.transpose()      # H in the basis B T^T; H_Q = d^-1/2 Ap d^-1/2
+            df = np.array([float(x) for x in d])
+            Hf = np.array([[float(x) for x in row] for row in Ap.tolist()])
+            Hf = Hf / np.sqrt(np.outer(df, df))
+            fvals, V = np.linalg.eigh((Hf + Hf.T) / 2)
             owner = []                 # every column to the nearest exact level of the sector
             for f in fvals:
                 m = int(np.argmin([abs(f - v) for v in values]))
@@ -145,7 +150,7 @@ class _Prepared:
                         f"sector N_up={n_up}, N_dn={n_dn}, block {irrep.label}: eigenvalue "
                         f"{f:.12g} matches no level of the spectrum; report this model and point")
                 owner.append(m)
-            self.blocks.append((Fraction(irrep.dim, irrep.copies), B, G, A, M, Li.T @ V, owner))
+            self.blocks.append((Fraction(irrep.dim, irrep.copies), T * Bt, d, Ap, V, owner))
         count = [Fraction(0)] * len(self.spaces)
         for factor, *_, owner in self.blocks:
             for m in owner:
@@ -159,13 +164,68 @@ class _Prepared:
 
     def refine(self, system, b):
         """Refine and certify block ``b``: (X, clusters)."""
-        factor, B, G, A, M, C, owner = self.blocks[b]
+        _, _, d, Ap, V, owner = self.blocks[b]
         clusters = [[self.spaces[m], [c for c, o in enumerate(owner) if o == m], None, None]
                     for m in sorted(set(owner))]
-        X = _refine_block(flint.arb_mat(G), flint.arb_mat(A), flint.arb_mat(M),
-                          flint.arb_mat(C.tolist()), self.spaces, clusters, owner, system,
-                          self.work, self.sector)
+        with arb_precision(self.work + 10), mpmath.workdps(self.work + 10):
+            k = len(d)
+            rs = [1 / flint.arb(x).sqrt() for x in d]        # d^-1/2
+            HQ = flint.arb_mat(Ap)
+            for i in range(k):
+                for j in range(k):
+                    if HQ[i, j] != 0:
+                        HQ[i, j] = HQ[i, j] * rs[i] * rs[j]
+            X = _refine_block(HQ, flint.arb_mat(V.tolist()), self.spaces, clusters, owner,
+                              system, self.work, self.sector)
+            # coefficients in the basis T B^T: rows scaled by d^-1/2
+            X = flint.arb_mat((np.array(rs, dtype=object)[:, None]
+                               * np.array(X.tolist(), dtype=object)).tolist())
         return X, clusters
+
+
+def _orthogonalizer(G):
+    """Exact unit lower-triangular T and d with T G T^T = diag(d), for a symmetric
+    positive definite rational G: Gram-Schmidt in the G inner product, one connected
+    component of G's off-diagonal pattern at a time (adapted basis vectors of different
+    state orbits are orthogonal, so the components are small)."""
+    k = G.nrows()
+    rows = G.tolist()
+    ent = {(i, j): Fraction(int(x.p), int(x.q)) for i, row in enumerate(rows)
+           for j, x in enumerate(row) if x != 0}
+    parent = list(range(k))
+
+    def root(a):
+        while parent[a] != a:
+            parent[a] = parent[parent[a]]
+            a = parent[a]
+        return a
+    for i, j in ent:
+        if i != j:
+            parent[root(i)] = root(j)
+    comps = {}
+    for i in range(k):
+        comps.setdefault(root(i), []).append(i)
+    T = flint.fmpq_mat(k, k)
+    d = [None] * k
+    for comp in comps.values():
+        done = []                   # (index, vector {a: Fraction}, d)
+        for i in comp:
+            vec = {i: Fraction(1)}
+            for j, u, dj in done:
+                # <u, e_i>_G
+                g = sum((x * ent.get((a, i), 0) for a, x in u.items()), Fraction(0))
+                if g:
+                    c = g / dj
+                    for a, x in u.items():
+                        vec[a] = vec.get(a, 0) - c * x
+            di = sum((x * y * ent.get((a, b), 0) for a, x in vec.items() for b, y in vec.items()),
+                     Fraction(0))
+            done.append((i, vec, di))
+            d[i] = flint.fmpq(di.numerator, di.denominator)
+            for a, x in vec.items():
+                if x:
+                    T[i, a] = flint.fmpq(x.numerator, x.denominator)
+    return T, d
 
 
 def _prepared(system, lattice, n_up, n_dn):
@@ -193,9 +253,9 @@ def block_sector(system, lattice, n_up, n_dn):
     blocks = []
     with arb_precision(prep.work + 10), mpmath.workdps(prep.work + 10):
         H = flint.arb_mat(prep.Hq)
-        for b, (factor, B, *_) in enumerate(prep.blocks):
+        for b, (factor, TBt, *_) in enumerate(prep.blocks):
             X, clusters = prep.refine(system, b)
-            blocks.append(SymmetryBlock(factor, flint.arb_mat(B.transpose()), X, clusters))
+            blocks.append(SymmetryBlock(factor, flint.arb_mat(TBt), X, clusters))
     worst = max((c[2] for b in blocks for c in b.clusters), default=0.0)
     return BlockSector((n_up, n_dn), prep.states, prep.index, H, prep.spaces, blocks,
                        prep.group, worst)
@@ -227,7 +287,7 @@ def member_vectors(system, lattice, n_up, n_dn, spaces):
         m = next((m for m, s in enumerate(prep.spaces) if s.levels[0] is sp.levels[0]), None)
         if m is None:
             return None
-        hits = [b for b, blk in enumerate(prep.blocks) if m in blk[6]]
+        hits = [b for b, blk in enumerate(prep.blocks) if m in blk[5]]
         if len(hits) != 1 or prep.blocks[hits[0]][0] != 1:
             return None
         where.append((sp, m, hits[0]))
@@ -243,7 +303,7 @@ def member_vectors(system, lattice, n_up, n_dn, spaces):
             cl = next(c for c in clusters if c[0] is prep.spaces[m])
             if len(cl[1]) != sp.dim:
                 return None
-            V = (flint.arb_mat(prep.blocks[b][1]) * X).tolist()
+            V = (flint.arb_mat(prep.blocks[b][1]).transpose() * X).tolist()
             for c, bc in zip(sp.columns, cl[1]):
                 for i in range(n):
                     rows[i][c] = V[i][bc]
@@ -252,34 +312,40 @@ def member_vectors(system, lattice, n_up, n_dn, spaces):
     return MemberVectors(prep.states, prep.index, H, rows, worst)
 
 
-def _refine_block(G, A, M, X, spaces, clusters, owner, system, work, where):
-    """Ogita-Aishima steps in the G inner product until the certificate holds (sets eps
-    and eta of every cluster); returns the coefficients."""
+def _refine_block(HQ, X, spaces, clusters, owner, system, work, where):
+    """Ogita-Aishima steps on the symmetric block HQ until the certificate holds (sets eps
+    and eta of every cluster); returns the eigenvector coefficients.  A step squares the
+    error, so a step runs at about twice the bits of the accuracy it starts from (the
+    first from float64's 48 bits); the last steps and the certificate at full precision."""
     k = X.nrows()
+    full = flint.ctx.prec
     vals = [to_arb(spaces[o].value) for o in owner]
     target = 10.0 ** (-(system.digits + 8))
-    E = flint.arb_mat(k, k)
-    for c in range(k):
-        E[c, c] = vals[c]
     ev = np.array(vals, dtype=object)
     own = np.array(owner)
     same = own[:, None] == own[None, :]
     # 1 / (E_j - E_i) off the clusters (1 on them, unused)
-    diff = np.where(same, flint.arb(1), ev[None, :] - ev[:, None])
-    dinv = 1 / diff
+    dinv = 1 / np.where(same, flint.arb(1), ev[None, :] - ev[:, None])
     eye = np.eye(k, dtype=int)
     worst = float("inf")
+    acc = 48
     for it in range(MAX_ITERATIONS):
-        Xt = X.transpose()
-        r = eye - np.array((Xt * (G * X)).tolist(), dtype=object)
-        s = np.array((Xt * (A * X)).tolist(), dtype=object)
-        F = np.where(same, r / 2, (s + ev[None, :] * r) * dinv)
-        X = (X + X * flint.arb_mat(F.tolist())).mid()
+        prec = min(full, 2 * acc + 32)
+        flint.ctx.prec = prec
+        try:
+            Xt = X.transpose()
+            r = eye - np.array((Xt * X).tolist(), dtype=object)
+            s = np.array((Xt * (HQ * X)).tolist(), dtype=object)
+            F = np.where(same, r / 2, (s + ev[None, :] * r) * dinv)
+            X = (X + X * flint.arb_mat(F.tolist())).mid()
+        finally:
+            flint.ctx.prec = full
+        acc = 2 * acc - 8
         # the error after a step is about the square of the correction: certify only then
         step = max(upper(x) for x in F.ravel())
-        if step * step * 1e4 > target and it + 1 < MAX_ITERATIONS:
+        if (step * step * 1e4 > target or prec < full) and it + 1 < MAX_ITERATIONS:
             continue
-        worst = _certify_block(G, M, X, E, spaces, clusters, system, work)
+        worst = _certify_block(HQ, X, ev, spaces, clusters, system, work)
         if worst <= target:
             return X
     raise VerificationError(f"eigenvectors of sector N_up={where[0]}, N_dn={where[1]} could "
@@ -287,13 +353,13 @@ def _refine_block(G, A, M, X, spaces, clusters, owner, system, work, where):
                             f"(bound {float(worst):.1e}); report this model and point")
 
 
-def _certify_block(G, M, X, E, spaces, clusters, system, work):
+def _certify_block(HQ, X, E, spaces, clusters, system, work):
     """Set eps and eta of every cluster (module docstring, step 4); the largest eps x dim.
     Float arithmetic rounded up: every bound is an upper bound."""
-    Xt = X.transpose()
-    gram = (Xt * (G * X)).tolist()
-    D = M * X - X * E
-    res = (D.transpose() * (G * D)).tolist()
+    # only the cluster-diagonal parts of X^T X and D^T D are needed: column dots
+    Xn = np.array(X.tolist(), dtype=object)
+    D = np.array((HQ * X).tolist(), dtype=object) - Xn * E[None, :]
+    res = (D * D).sum(axis=0)
     rho = float(mpmath.mpf(10) ** (-work) * (float(system.scale) + 1)) * 1.01
     with mpmath.workdps(work + 10):
         values = [sp.value for sp in spaces]
@@ -307,13 +373,9 @@ def _certify_block(G, M, X, E, spaces, clusters, system, work):
             if delta <= 0:
                 raise VerificationError("two levels of one sector cannot be separated at the "
                                         "point; evaluate at a nearby point")
-            g2 = flint.arb(0)
-            r2 = flint.arb(0)
-            for a in cols:
-                r2 += res[a][a]
-                for b in cols:
-                    x = gram[a][b] - (1 if a == b else 0)
-                    g2 += x * x
+            r2 = sum(res[a] for a in cols)
+            gram = Xn[:, cols].T.dot(Xn[:, cols]) - np.eye(len(cols), dtype=int)
+            g2 = (gram * gram).sum()
             eta = math.sqrt(upper(g2)) * (1 + 1e-12)
             r = math.sqrt(upper(r2)) * (1 + 1e-12) + rho * math.sqrt(len(cols))
             eps = float("inf") if eta >= 0.5 else \

@@ -236,6 +236,7 @@ class PointSystem:
         self._partial = {}
         self._prepared = {}
         self._lattice = False
+        self._exact = {}
         self.block_sectors = {}       # response.blockeig.BlockSector per sector, by lehmann
         self.block_cache = {}         # response.blockeig's exact block data per sector
 
@@ -364,16 +365,23 @@ class PointSystem:
         return self._partial[key][1]
 
     def exact_matrix(self, states, index):
-        """H of a sector at the point: ``{(row, col): Fraction}``."""
+        """H of a sector at the point: ``{(row, col): int or Fraction}`` (computed once per
+        sector)."""
+        key = (states[0], len(states)) if states else None
+        cache = self._exact
+        if key in cache:
+            return cache[key]
         entries = {}
-        vals = self.values
+        # integer values as ints: the sums stay integers where they can
+        vals = {lab: (v.numerator if v.denominator == 1 else v) for lab, v in self.values.items()}
         for col, st in enumerate(states):
             for st2, lab, c in self._action[st]:
                 row = index.get(st2)
                 if row is None:
                     continue
-                entries[(row, col)] = entries.get((row, col), 0) + Fraction(c) * vals[lab]
-        return {k: v for k, v in entries.items() if v}
+                entries[(row, col)] = entries.get((row, col), 0) + c * vals[lab]
+        out = cache[key] = {k: Fraction(v) for k, v in entries.items() if v}
+        return out
 
     def _prepare(self, n_up, n_dn):
         """Sector states, exact matrix, float eigenvectors and the matched eigenspaces."""
