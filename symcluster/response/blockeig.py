@@ -95,13 +95,11 @@ class _Prepared:
     """Exact matrices and float eigen-coefficients of every block of one sector."""
 
     def __init__(self, system, lattice, n_up, n_dn):
-        space = system.space
         self.sector = (n_up, n_dn)
-        self.states = space.sector_states(n_up, n_dn)
-        self.index = {s: i for i, s in enumerate(self.states)}
+        base = system._prepare(n_up, n_dn)       # states, eigenspaces (shared objects), work
+        self.states, self.index = base["states"], base["index"]
+        self.spaces, self.work = base["spaces"], base["work"]
         n = len(self.states)
-        self.spaces = system.merged_spaces(system.sector_levels(n_up, n_dn))
-        self.work = system._sector_work(self.spaces)
         Hq = flint.fmpq_mat(n, n)
         for (i, j), v in system.exact_matrix(self.states, self.index).items():
             Hq[i, j] = _fmpq(v)
@@ -284,7 +282,7 @@ def member_vectors(system, lattice, n_up, n_dn, spaces):
         return None
     where = []
     for sp in spaces:
-        m = next((m for m, s in enumerate(prep.spaces) if s.levels[0] is sp.levels[0]), None)
+        m = next((m for m, s in enumerate(prep.spaces) if s is sp), None)
         if m is None:
             return None
         hits = [b for b, blk in enumerate(prep.blocks) if m in blk[5]]

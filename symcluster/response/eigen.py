@@ -383,24 +383,31 @@ class PointSystem:
         out = cache[key] = {k: Fraction(v) for k, v in entries.items() if v}
         return out
 
-    def _prepare(self, n_up, n_dn):
-        """Sector states, exact matrix, float eigenvectors and the matched eigenspaces."""
+    def _prepare(self, n_up, n_dn, floats=False):
+        """Sector states and its eigenspaces (exact levels, columns in ascending order);
+        with ``floats``, also the exact matrix and its float eigenvectors, matched with
+        the eigenspaces (computed on first need)."""
         key = (n_up, n_dn)
-        if key in self._prepared:
-            return self._prepared[key]
-        states = self.space.sector_states(n_up, n_dn)
-        index = {s: i for i, s in enumerate(states)}
-        n = len(states)
-        levels = self.sector_levels(n_up, n_dn)
-        exact = self.exact_matrix(states, index)
-        dense = np.zeros((n, n))
-        for (i, j), v in exact.items():
-            dense[i, j] = float(v)
-        fvals, fvecs = np.linalg.eigh(dense)
-        spaces = self._match(levels, fvals, key)
-        work = self._sector_work(spaces)
-        out = self._prepared[key] = {"states": states, "index": index, "exact": exact,
-                                     "fvecs": fvecs, "spaces": spaces, "work": work}
+        out = self._prepared.get(key)
+        if out is None:
+            states = self.space.sector_states(n_up, n_dn)
+            spaces = self.merged_spaces(self.sector_levels(n_up, n_dn))
+            col = 0
+            for sp in spaces:
+                sp.columns = list(range(col, col + sp.dim))
+                col += sp.dim
+            out = self._prepared[key] = {"states": states, "spaces": spaces,
+                                         "index": {s: i for i, s in enumerate(states)},
+                                         "work": self._sector_work(spaces)}
+        if floats and "fvecs" not in out:
+            n = len(out["states"])
+            exact = self.exact_matrix(out["states"], out["index"])
+            dense = np.zeros((n, n))
+            for (i, j), v in exact.items():
+                dense[i, j] = float(v)
+            fvals, fvecs = np.linalg.eigh(dense)
+            self._match(out["spaces"], fvals, key)
+            out["exact"], out["fvecs"] = exact, fvecs
         return out
 
     def _sector_work(self, spaces):
@@ -422,7 +429,7 @@ class PointSystem:
 
     def _refine_sector(self, key, only):
         """Refine every column (``only`` None) or the columns of the eigenspaces ``only``."""
-        prep = self._prepare(*key)
+        prep = self._prepare(*key, floats=True)
         states, index, exact, spaces = prep["states"], prep["index"], prep["exact"], prep["spaces"]
         work = prep["work"]
         n = len(states)
@@ -481,22 +488,18 @@ class PointSystem:
             self._lattice = term_lattice_symmetry(self.model)
         return self._lattice
 
-    def _match(self, levels, fvals, sector):
-        """Eigenspaces of :meth:`merged_spaces`, matched to the float columns."""
-        spaces = self.merged_spaces(levels)
-        col = 0
+    def _match(self, spaces, fvals, sector):
+        """Check the float eigenvalues against the eigenspaces' exact values, column by
+        column (ascending)."""
         norm = float(np.max(np.abs(fvals))) if len(fvals) else 1.0
         tol = 1e-7 * max(norm, float(self.scale), 1.0)
         for sp in spaces:
-            sp.columns = list(range(col, col + sp.dim))
-            col += sp.dim
             for c in sp.columns:
                 if abs(fvals[c] - float(sp.value)) > tol:
                     raise VerificationError(
                         f"sector N_up={sector[0]}, N_dn={sector[1]}: eigenvalue {fvals[c]:.12g} "
                         f"of the sector matrix does not match the level {float(sp.value):.12g} "
                         "of the spectrum; report this model and point")
-        return spaces
 
     def _groups(self, spaces):
         """Eigenspaces closer than float64 can resolve: refined as one cluster, then split."""

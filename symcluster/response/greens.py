@@ -333,16 +333,19 @@ def _matsubara_sums(omegas, columns, beta, n_max, digits):
         half = flint.arb(1) / 2
         wn = np.array([step * (n + half) for n in range(n_max)], dtype=object)
         om = np.array([to_arb(x) for x in omegas] or [flint.arb(0)], dtype=object)
-        # 1/(i w - om) = (-om - i w) / (om^2 + w^2), elementwise on arrays of balls
-        inv = 1 / ((om * om)[None, :] + (wn * wn)[:, None])
-        kre = flint.arb_mat((-(om[None, :] * inv)).tolist())
-        kim = flint.arb_mat((-(wn[:, None] * inv)).tolist())
+        # 1/(i w - om) = (-om - i w) / (om^2 + w^2): one kernel K = 1/(om^2 + w^2) built
+        # elementwise on arrays of balls; Re = K (-om o W), Im = -w o (K W)
+        K = flint.arb_mat((1 / ((om * om)[None, :] + (wn * wn)[:, None])).tolist())
         W = flint.arb_mat(max(P, 1), len(columns))
+        Wre = flint.arb_mat(max(P, 1), len(columns))
         for c, col in enumerate(columns):
             for p in range(P):
-                W[p, c] = to_arb(col[p])
-        re = to_mpf_list((kre * W).transpose().entries())
-        im = to_mpf_list((kim * W).transpose().entries())
+                x = to_arb(col[p])
+                W[p, c] = x
+                Wre[p, c] = -om[p] * x
+        re = to_mpf_list((K * Wre).transpose().entries())
+        kw = np.array((K * W).tolist(), dtype=object) * (-wn)[:, None]
+        im = to_mpf_list(kw.T.ravel())
         return [[mpmath.mpc(re[c * n_max + n], im[c * n_max + n]) for n in range(n_max)]
                 for c in range(len(columns))]
 
