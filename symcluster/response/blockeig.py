@@ -100,10 +100,14 @@ class _Prepared:
         self.states, self.index = base["states"], base["index"]
         self.spaces, self.work = base["spaces"], base["work"]
         n = len(self.states)
-        Hq = flint.fmpq_mat(n, n)
-        for (i, j), v in system.exact_matrix(self.states, self.index).items():
-            Hq[i, j] = _fmpq(v)
-        self.Hq = Hq
+        exact = system.exact_matrix(self.states, self.index)
+        den = 1                     # H = Hz / den with Hz an integer matrix
+        for v in exact.values():
+            den = math.lcm(den, v.denominator)
+        Hz = flint.fmpz_mat(n, n)
+        for (i, j), v in exact.items():
+            Hz[i, j] = int(v * den)
+        self.Hq = flint.fmpq_mat(Hz) / den
         scale = float(system.scale)
         values = [float(sp.value) for sp in self.spaces]
         tol = 1e-7 * max([scale, 1.0] + [abs(v) for v in values])
@@ -118,22 +122,24 @@ class _Prepared:
             if not vecs:
                 continue
             k = len(vecs)
-            B = flint.fmpq_mat(n, k)
+            B = flint.fmpz_mat(n, k)
             for c, vec in enumerate(vecs):
                 for st, x in vec.items():
                     B[self.index[st], c] = x
             Bt = B.transpose()
-            HB = Hq * B
-            G = Bt * B
-            A = Bt * HB
+            HB = Hz * B                     # integer products; den H B
+            G = flint.fmpq_mat(Bt * B)
+            A = flint.fmpq_mat(Bt * HB) / den
             M = G.solve(A)
-            if B * M != HB:
+            if flint.fmpq_mat(B) * (M * den) != flint.fmpq_mat(HB):
                 raise VerificationError(f"sector N_up={n_up}, N_dn={n_dn}: the adapted basis of "
                                         f"{irrep.label} is not invariant under H; report this model")
             # exact G-orthogonal basis B T^T: T G T^T = diag(d), checked exactly
             T, d = _orthogonalizer(G)
-            TGT = T * G * T.transpose()
-            if any(TGT[i, j] != (d[i] if i == j else 0) for i in range(k) for j in range(k)):
+            Dm = flint.fmpq_mat(k, k)
+            for i in range(k):
+                Dm[i, i] = d[i]
+            if T * G * T.transpose() != Dm:
                 raise VerificationError("internal error: block Gram matrix not diagonalised")
             Ap = T * A * T.transpose()      # H in the basis B T^T; H_Q = d^-1/2 Ap d^-1/2
             df = np.array([float(x) for x in d])
@@ -148,7 +154,7 @@ class _Prepared:
                         f"sector N_up={n_up}, N_dn={n_dn}, block {irrep.label}: eigenvalue "
                         f"{f:.12g} matches no level of the spectrum; report this model and point")
                 owner.append(m)
-            self.blocks.append((Fraction(irrep.dim, irrep.copies), T * Bt, d, Ap, V, owner))
+            self.blocks.append((Fraction(irrep.dim, irrep.copies), T * flint.fmpq_mat(Bt), d, Ap, V, owner))
         count = [Fraction(0)] * len(self.spaces)
         for factor, *_, owner in self.blocks:
             for m in owner:

@@ -257,14 +257,11 @@ def _apply_rows(ops, rows, n_out, ncols):
 
 
 def _wdots(A, B, pvec):
-    """sum_k p_k sum_r A[r, k] B[r, k]."""
-    a, b = A.tolist(), B.tolist()
+    """sum_k p_k sum_r A[r, k] B[r, k] (the diagonal of one ball matrix product)."""
+    P = A.transpose() * B
     total = flint.arb(0)
     for k, p in enumerate(pvec):
-        acc = flint.arb(0)
-        for ra, rb in zip(a, b):
-            acc += ra[k] * rb[k]
-        total += p * acc
+        total += p * P[k, k]
     return total
 
 
