@@ -332,17 +332,23 @@ def _matsubara_sums(omegas, columns, beta, n_max, digits):
         step = 2 * flint.arb.pi() / b
         half = flint.arb(1) / 2
         wn = np.array([step * (n + half) for n in range(n_max)], dtype=object)
-        om = np.array([to_arb(x) for x in omegas] or [flint.arb(0)], dtype=object)
+        # poles of equal |omega| share the kernel 1/(omega^2 + w^2) (particle-hole pairs)
+        mags = sorted({abs(x) for x in omegas}) or [mpmath.mpf(0)]
+        slot = {m: q for q, m in enumerate(mags)}
+        sq = np.array([to_arb(m) ** 2 for m in mags], dtype=object)
         # 1/(i w - om) = (-om - i w) / (om^2 + w^2): one kernel K = 1/(om^2 + w^2) built
-        # elementwise on arrays of balls; Re = K (-om o W), Im = -w o (K W)
-        K = flint.arb_mat((1 / ((om * om)[None, :] + (wn * wn)[:, None])).tolist())
-        W = flint.arb_mat(max(P, 1), len(columns))
-        Wre = flint.arb_mat(max(P, 1), len(columns))
+        # elementwise on arrays of balls; Re = K (-om o W), Im = -w o (K W), the rows of W
+        # summed per |omega|
+        K = flint.arb_mat((1 / (sq[None, :] + (wn * wn)[:, None])).tolist())
+        Q = len(mags)
+        W = flint.arb_mat(Q, len(columns))
+        Wre = flint.arb_mat(Q, len(columns))
         for c, col in enumerate(columns):
             for p in range(P):
                 x = to_arb(col[p])
-                W[p, c] = x
-                Wre[p, c] = -om[p] * x
+                q = slot[abs(omegas[p])]
+                W[q, c] = W[q, c] + x
+                Wre[q, c] = Wre[q, c] - to_arb(omegas[p]) * x
         re = to_mpf_list((K * Wre).transpose().entries())
         kw = np.array((K * W).tolist(), dtype=object) * (-wn)[:, None]
         im = to_mpf_list(kw.T.ravel())
