@@ -96,6 +96,7 @@ class _Prepared:
 
     def __init__(self, system, lattice, n_up, n_dn):
         self.sector = (n_up, n_dn)
+        self.gaps = None
         base = system._prepare(n_up, n_dn)       # states, eigenspaces (shared objects), work
         self.states, self.index = base["states"], base["index"]
         self.spaces, self.work = base["spaces"], base["work"]
@@ -172,18 +173,15 @@ class _Prepared:
         clusters = [[self.spaces[m], [c for c, o in enumerate(owner) if o == m], None, None]
                     for m in sorted(set(owner))]
         with arb_precision(self.work + 10), mpmath.workdps(self.work + 10):
-            k = len(d)
-            rs = [1 / flint.arb(x).sqrt() for x in d]        # d^-1/2
-            HQ = flint.arb_mat(Ap)
-            for i in range(k):
-                for j in range(k):
-                    if HQ[i, j] != 0:
-                        HQ[i, j] = HQ[i, j] * rs[i] * rs[j]
+            rs = np.array([1 / flint.arb(x).sqrt() for x in d], dtype=object)   # d^-1/2
+            HQ = flint.arb_mat((np.array(flint.arb_mat(Ap).tolist(), dtype=object)
+                                * rs[:, None] * rs[None, :]).tolist())
+            if self.gaps is None:
+                self.gaps = _gaps(self.spaces, system, self.work)
             X = _refine_block(HQ, flint.arb_mat(V.tolist()), self.spaces, clusters, owner,
-                              system, self.work, self.sector)
+                              system, self.work, self.sector, self.gaps)
             # coefficients in the basis T B^T: rows scaled by d^-1/2
-            X = flint.arb_mat((np.array(rs, dtype=object)[:, None]
-                               * np.array(X.tolist(), dtype=object)).tolist())
+            X = flint.arb_mat((rs[:, None] * np.array(X.tolist(), dtype=object)).tolist())
         return X, clusters
 
 
@@ -316,7 +314,7 @@ def member_vectors(system, lattice, n_up, n_dn, spaces):
     return MemberVectors(prep.states, prep.index, H, rows, worst)
 
 
-def _refine_block(HQ, X, spaces, clusters, owner, system, work, where):
+def _refine_block(HQ, X, spaces, clusters, owner, system, work, where, gaps=None):
     """Ogita-Aishima steps on the symmetric block HQ until the certificate holds (sets eps
     and eta of every cluster); returns the eigenvector coefficients.  A step squares the
     error, so a step runs at about twice the bits of the accuracy it starts from (the
@@ -328,10 +326,14 @@ def _refine_block(HQ, X, spaces, clusters, owner, system, work, where):
     ev = np.array(vals, dtype=object)
     own = np.array(owner)
     same = own[:, None] == own[None, :]
-    # 1 / (E_j - E_i) off the clusters (1 on them, unused)
+    # F = S o dinv + R o evd: off the clusters dinv = 1/(E_j - E_i), evd = E_j dinv; on
+    # them dinv = 0, evd = 1/2
     dinv = 1 / np.where(same, flint.arb(1), ev[None, :] - ev[:, None])
+    evd = np.where(same, flint.arb(1) / 2, ev[None, :] * dinv)
+    dinv = np.where(same, flint.arb(0), dinv)
     eye = np.eye(k, dtype=int)
     worst = float("inf")
+    gaps = gaps or _gaps(spaces, system, work)
     acc = 48
     for it in range(MAX_ITERATIONS):
         prec = min(full, 2 * acc + 32)
@@ -340,16 +342,14 @@ def _refine_block(HQ, X, spaces, clusters, owner, system, work, where):
             Xt = X.transpose()
             r = eye - np.array((Xt * X).tolist(), dtype=object)
             s = np.array((Xt * (HQ * X)).tolist(), dtype=object)
-            F = np.where(same, r / 2, (s + ev[None, :] * r) * dinv)
+            F = s * dinv + r * evd
             X = (X + X * flint.arb_mat(F.tolist())).mid()
         finally:
             flint.ctx.prec = full
         acc = 2 * acc - 8
-        # the error after a step is about the square of the correction: certify only then
-        step = max(upper(x) for x in F.ravel())
-        if (step * step * 1e4 > target or prec < full) and it + 1 < MAX_ITERATIONS:
-            continue
-        worst = _certify_block(HQ, X, ev, spaces, clusters, system, work)
+        if prec < full and it + 1 < MAX_ITERATIONS:
+            continue        # not yet at the accuracy a certificate needs
+        worst = _certify_block(HQ, X, ev, gaps, clusters)
         if worst <= target:
             return X
     raise VerificationError(f"eigenvectors of sector N_up={where[0]}, N_dn={where[1]} could "
@@ -357,35 +357,43 @@ def _refine_block(HQ, X, spaces, clusters, owner, system, work, where):
                             f"(bound {float(worst):.1e}); report this model and point")
 
 
-def _certify_block(HQ, X, E, spaces, clusters, system, work):
+def _gaps(spaces, system, work):
+    """Per eigenspace of the sector, a float lower bound of the distance from its exact
+    value to the other exact values, less twice their error rho; and rho."""
+    rho = float(mpmath.mpf(10) ** (-work) * (float(system.scale) + 1)) * 1.01
+    out = {}
+    with mpmath.workdps(work + 10):
+        values = [sp.value for sp in spaces]
+        for m, sp in enumerate(spaces):
+            near = [abs(values[m] - values[q]) for q in (m - 1, m + 1) if 0 <= q < len(values)]
+            delta = (float(min(near)) * (1 - 1e-12) if near else float("inf")) - 2 * rho
+            if delta <= 0:
+                raise VerificationError("two levels of one sector cannot be separated at the "
+                                        "point; evaluate at a nearby point")
+            out[id(sp)] = delta
+    return out, rho
+
+
+def _certify_block(HQ, X, E, gaps, clusters):
     """Set eps and eta of every cluster (module docstring, step 4); the largest eps x dim.
     Float arithmetic rounded up: every bound is an upper bound."""
+    delta, rho = gaps
     # only the cluster-diagonal parts of X^T X and D^T D are needed: column dots
     Xn = np.array(X.tolist(), dtype=object)
     D = np.array((HQ * X).tolist(), dtype=object) - Xn * E[None, :]
     res = (D * D).sum(axis=0)
-    rho = float(mpmath.mpf(10) ** (-work) * (float(system.scale) + 1)) * 1.01
-    with mpmath.workdps(work + 10):
-        values = [sp.value for sp in spaces]
-        pos = {id(sp): m for m, sp in enumerate(spaces)}
-        worst = 0.0
-        for cl in clusters:
-            sp, cols = cl[0], cl[1]
-            m = pos[id(sp)]
-            gaps = [abs(values[m] - values[q]) for q in (m - 1, m + 1) if 0 <= q < len(values)]
-            delta = (float(min(gaps)) * (1 - 1e-12) if gaps else float("inf")) - 2 * rho
-            if delta <= 0:
-                raise VerificationError("two levels of one sector cannot be separated at the "
-                                        "point; evaluate at a nearby point")
-            r2 = sum(res[a] for a in cols)
-            gram = Xn[:, cols].T.dot(Xn[:, cols]) - np.eye(len(cols), dtype=int)
-            g2 = (gram * gram).sum()
-            eta = math.sqrt(upper(g2)) * (1 + 1e-12)
-            r = math.sqrt(upper(r2)) * (1 + 1e-12) + rho * math.sqrt(len(cols))
-            eps = float("inf") if eta >= 0.5 else \
-                (eta + r / (math.sqrt(1 - eta) * delta)) * (1 + 1e-12)
-            cl[2], cl[3] = eps, eta
-            worst = max(worst, eps * len(cols))
+    worst = 0.0
+    for cl in clusters:
+        sp, cols = cl[0], cl[1]
+        r2 = sum(res[a] for a in cols)
+        gram = Xn[:, cols].T.dot(Xn[:, cols]) - np.eye(len(cols), dtype=int)
+        g2 = (gram * gram).sum()
+        eta = math.sqrt(upper(g2)) * (1 + 1e-12)
+        r = math.sqrt(upper(r2)) * (1 + 1e-12) + rho * math.sqrt(len(cols))
+        eps = float("inf") if eta >= 0.5 else \
+            (eta + r / (math.sqrt(1 - eta) * delta[id(sp)])) * (1 + 1e-12)
+        cl[2], cl[3] = eps, eta
+        worst = max(worst, eps * len(cols))
     return worst
 
 
