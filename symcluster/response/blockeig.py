@@ -248,6 +248,17 @@ def block_sector(system, lattice, n_up, n_dn):
         A block is not H-invariant, a float eigenvalue matches no exact level, the
         certificate does not reach the requested digits, or the blocks do not add up to
         the sector's multiplicities.
+
+    Examples
+    --------
+    >>> import symcluster as sc
+    >>> from symcluster.response.eigen import PointSystem
+    >>> ps = PointSystem(sc.solve(sc.hubbard(sc.ring(4))), {"t": 1, "U": 2}, digits=20)
+    >>> bs = block_sector(ps, ps.lattice(), 2, 1)
+    >>> int(sum(b.factor * b.X.nrows() for b in bs.blocks)), len(bs.states)   # blocks fill it
+    (24, 24)
+    >>> bs.worst_eps < 1e-28
+    True
     """
     prep = _prepared(system, lattice, n_up, n_dn)
     if not prep.separable:
@@ -280,7 +291,18 @@ def member_vectors(system, lattice, n_up, n_dn, spaces):
     """Fock vectors of the eigenspaces ``spaces`` (of ``system.spaces(n_up, n_dn)``) when
     each lies whole in one block of a one-dimensional irrep (factor 1), else None.  Sets
     ``eps`` and ``eta`` of each space from its block's certificate (the block holds the
-    whole eigenspace: its certified columns number the level's multiplicity)."""
+    whole eigenspace: its certified columns number the level's multiplicity).
+
+    Examples
+    --------
+    >>> import symcluster as sc
+    >>> from symcluster.response.eigen import PointSystem
+    >>> ps = PointSystem(sc.solve(sc.hubbard(sc.ring(4))), {"t": 1, "U": 2}, digits=20)
+    >>> ground = ps.spaces(2, 2)[:1]              # the unique singlet at half filling
+    >>> mv = member_vectors(ps, ps.lattice(), 2, 2, ground)
+    >>> mv.worst_eps < 1e-28, len(mv.rows)
+    (True, 36)
+    """
     prep = _prepared(system, lattice, n_up, n_dn)
     if not prep.separable:
         return None
@@ -399,7 +421,14 @@ def _certify_block(HQ, X, E, gaps, clusters):
 
 def symmetrizer(group, n_modes):
     """The integer matrix S (M^2 x M^2), S[(i, j), (i', j')] = #{g : g(i) = i', g(j) = j'}
-    (module docstring), as an exact arb_mat."""
+    (module docstring), as an exact arb_mat.
+
+    Examples
+    --------
+    >>> S = symmetrizer([(0, 1), (1, 0)], 2)        # identity and the swap of two modes
+    >>> [[int(S[a, b].unique_fmpz()) for b in range(4)] for a in range(4)]
+    [[1, 0, 0, 1], [0, 1, 1, 0], [0, 1, 1, 0], [1, 0, 0, 1]]
+    """
     M = n_modes
     S = flint.arb_mat(M * M, M * M)
     counts = {}
