@@ -41,6 +41,7 @@ from symcluster.errors import ModelError, VerificationError
 from symcluster.response.eigen import PointSystem, arb_precision, to_arb, to_mpf, to_mpf_list
 from symcluster.response.ensemble import exact_number, make_ensemble
 from symcluster.response.lehmann import lehmann_sums
+from symcluster.response.momenta import translation_group
 from symcluster.spectrum import Spectrum
 
 __all__ = ["greens_function", "greens_matrix", "GreensFunction", "GreensMatrix", "spin_index",
@@ -257,6 +258,8 @@ class GreensMatrix:
     hole_sum: list = field(default=None, repr=False)
     # (i, j) -> representative pair of its orbit under the lattice group (G_ij = G_g(i)g(j))
     pair_orbits: dict = field(default=None, repr=False)
+    # the cluster's translation group (response.momenta.Translations) or None
+    translations: object = None
 
     def element(self, i, j):
         """The :class:`GreensFunction` G_ij."""
@@ -272,22 +275,51 @@ class GreensMatrix:
                               dict(self.certificate), i, j, self.spin, self.description)
 
     def momentum(self, m):
-        """G(k) at k = 2 pi m / L on a ring: (1/L) sum_ij exp(-i k (x_i - x_j)) G_ij.
+        """G(k) = (1/L) sum_ij exp(-i k (x_i - x_j)) G_ij on a cluster with translations.
+
+        On a ring (sites i -> i+1 mod L a symmetry) ``m`` is an integer, k = 2 pi m / L.
+        On other clusters with a translation group (:mod:`symcluster.response.momenta`,
+        e.g. periodic grids) ``m`` is a tuple, one integer per generator of
+        ``self.translations`` (an integer when there is one generator):
+        k = 2 pi (m_1/n_1, ..., m_r/n_r) in the generators' coordinates.  The weight
+        bound of the result is L times that of the G_ij.
 
         Raises
         ------
         ModelError
-            The cluster has no cyclic translation (site i -> i + 1 mod L).
+            The cluster has no translation group, or ``m`` does not fit it.
+
+        Examples
+        --------
+        >>> import symcluster as sc
+        >>> spec = sc.solve(sc.hubbard(sc.grid(3, 3, periodic=True)), electrons=[0, 1])
+        >>> gm = greens_matrix(spec, {"t": 1, "U": 4}, N=0, mu=0, digits=20)
+        >>> gm.translations.orders                          # x -> x+1, y -> y+1
+        [3, 3]
+        >>> [(mpmath.nstr(w, 8), mpmath.nstr(x, 8)) for w, x in gm.momentum((1, 0)).poles]
+        [('-1.0', '1.0')]
         """
-        if self.positions is None:
-            raise ModelError("momenta need a cluster whose sites i -> i+1 (mod L) is a "
-                             "symmetry of every bond and site label (a ring); this one is not")
-        L = len(self.positions)
+        if self.positions is not None and isinstance(m, int) and not isinstance(m, bool):
+            L = len(self.positions)
+            coords, orders, ms = [(x,) for x in self.positions], [L], (m,)
+        elif self.translations is not None:
+            tr = self.translations
+            coords, orders, L = tr.coords, tr.orders, len(tr.coords)
+            ms = (m,) if isinstance(m, int) and not isinstance(m, bool) else m
+            if not isinstance(ms, tuple) or len(ms) != len(orders) or any(
+                    isinstance(x, bool) or not isinstance(x, int) for x in ms):
+                raise ModelError(f"momentum {m!r}: give {len(orders)} integer(s), one per "
+                                 f"translation generator (orders {orders})")
+        else:
+            raise ModelError("momenta need a cluster with a translation group (an abelian group "
+                             "of symmetries moving site 0 to every site once, e.g. a ring or a "
+                             "periodic grid); this one has none")
         cut = mpmath.mpf(10) ** (-(self.digits + 2))
         with mpmath.workdps(self.digits + 10):
-            k = 2 * mpmath.pi * m / L
-            cosines = [[mpmath.cos(k * (self.positions[i] - self.positions[j])) for j in range(L)]
-                       for i in range(L)]
+            def phase(i, j):
+                return 2 * mpmath.pi * sum(mpmath.mpf(x * (a - b)) / n for x, a, b, n in
+                                           zip(ms, coords[i], coords[j], orders))
+            cosines = [[mpmath.cos(phase(i, j)) for j in range(L)] for i in range(L)]
 
             def fold(mat):
                 return sum((cosines[i][j] * mat[i][j] for i in range(L) for j in range(L)),
@@ -299,9 +331,11 @@ class GreensMatrix:
                     poles.append((om, +w))
                     exact.append((ex, None))
             moments = {"m0": fold(self.m0), "m1": fold(self.m1), "n": fold(self.n)}
-        return GreensFunction(poles, exact, self.beta, self.mu, self.digits, moments,
-                              dict(self.certificate), f"k={m}/{L}*2pi", None, self.spin,
-                              self.description)
+        cert = dict(self.certificate)
+        cert["weight_error"] = cert["weight_error"] * L
+        label = "k=2pi(" + ", ".join(f"{x}/{n}" for x, n in zip(ms, orders)) + ")"
+        return GreensFunction(poles, exact, self.beta, self.mu, self.digits, moments, cert,
+                              label, None, self.spin, self.description)
 
     def matsubara(self, beta, n_max):
         """All G_ij(i omega_n) at once: list over n of M x M nested lists of mpc (each
@@ -401,7 +435,8 @@ def greens_matrix(spectrum: Spectrum, point: Mapping[str, object], spin: str = "
     gm = GreensMatrix(d["omegas"], d["exact"], d["weights"], ens.beta, ens.mu, system.digits,
                       d["m0"], d["m1"], d["n"], d["certificate"], "up" if s == 0 else "down",
                       ens.describe(), d["n_modes"], translation_shift(system.model),
-                      d["hole_sum"], _pair_orbits(system, d["n_modes"]))
+                      d["hole_sum"], _pair_orbits(system, d["n_modes"]),
+                      translation_group(system.model, system.lattice()))
     _check_sum_rules(gm, ens, system)
     return gm
 
