@@ -31,7 +31,6 @@ C. Davis, W. M. Kahan, "The rotation of eigenvectors by a perturbation. III",
 SIAM J. Numer. Anal. 7, 1 (1970) [from memory].
 """
 
-from contextlib import contextmanager
 from dataclasses import dataclass, field
 from fractions import Fraction
 import flint
@@ -40,6 +39,7 @@ import numpy as np
 
 from symcluster.errors import ModelError, VerificationError
 from symcluster.hilbert.action import HamiltonianAction
+from symcluster.response.balls import arb_precision, to_arb, to_mpf, to_mpf_list, upper
 from symcluster.spectrum import check_digits, energy_numeric
 from symcluster.symmetry.termgraph import term_lattice_symmetry
 
@@ -48,62 +48,6 @@ __all__ = ["PointSystem", "SectorEigen", "Eigenspace", "arb_precision", "to_mpf"
 
 #: iterations of the refinement before giving up (each roughly doubles the digits)
 MAX_ITERATIONS = 12
-
-
-@contextmanager
-def arb_precision(digits):
-    """python-flint's working precision set for ``digits`` decimal digits, restored after.
-
-    python-flint's precision is process-wide: do not run this side by side in threads
-    (DEVELOPERS.md).
-    """
-    old = flint.ctx.prec
-    flint.ctx.prec = int(3.33 * digits) + 16
-    try:
-        yield
-    finally:
-        flint.ctx.prec = old
-
-
-def to_arb(x):
-    """An mpmath number (or int, Fraction) as an exact python-flint ball."""
-    if isinstance(x, Fraction):
-        return flint.arb(flint.fmpq(x.numerator, x.denominator))
-    if isinstance(x, int):
-        return flint.arb(x)
-    if not x:
-        return flint.arb(0)
-    m, e = mpmath.frexp(x)
-    k = mpmath.mp.prec + 64
-    return flint.arb((int(mpmath.ldexp(m, k)), int(e) - k))
-
-
-def to_mpf(a):
-    """The midpoint of a python-flint ball as an mpmath number (exact conversion, whatever
-    mpmath's working precision)."""
-    man, exp = a.mid().man_exp()
-    man = int(man)
-    with mpmath.workprec(max(64, man.bit_length() + 8)):
-        return mpmath.ldexp(mpmath.mpf(man), int(exp))
-
-
-def upper(a):
-    """A float upper bound of ``|a|`` for a ball ``a`` (rounded up; at least 1e-300).
-
-    ``abs_upper`` is an exact upper bound; ``float`` rounds it to within one unit in
-    the last place, which the factor covers (an underflow to 0 is covered by 1e-300).
-    """
-    hi = a.abs_upper()
-    return (float(hi) + float(hi.rad())) * (1 + 1e-12) + 1e-300
-
-
-def to_mpf_list(balls):
-    """The midpoints of many balls as mpmath numbers, exactly (one precision switch)."""
-    pairs = [x.mid().man_exp() for x in balls]
-    pairs = [(int(m), int(e)) for m, e in pairs]
-    bits = max((m.bit_length() for m, _ in pairs), default=1)
-    with mpmath.workprec(max(64, bits + 8)):
-        return [mpmath.mpf(p) for p in pairs]
 
 
 def sector_sign(up, dn, mode, spin):
