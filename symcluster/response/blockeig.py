@@ -107,7 +107,7 @@ class _Prepared:
             den = math.lcm(den, v.denominator)
         Hz = flint.fmpz_mat(n, n)
         for (i, j), v in exact.items():
-            Hz[i, j] = int(v * den)
+            Hz[i, j] = v.numerator * (den // v.denominator)
         self.Hq = flint.fmpq_mat(Hz) / den
         scale = float(system.scale)
         values = [float(sp.value) for sp in self.spaces]
@@ -349,11 +349,15 @@ def _refine_block(HQ, X, spaces, clusters, owner, system, work, where, gaps=None
     own = np.array(owner)
     same = own[:, None] == own[None, :]
     # F = S o dinv + R o evd: off the clusters dinv = 1/(E_j - E_i), evd = E_j dinv; on
-    # them dinv = 0, evd = 1/2
+    # them dinv = 0, evd = 1/2.  F is a correction of the size of the current error and is
+    # needed to float64's relative accuracy only (the certificate, in balls, decides), so
+    # it is formed in float64 from R and S, which are computed in balls
     dinv = 1 / np.where(same, flint.arb(1), ev[None, :] - ev[:, None])
-    evd = np.where(same, flint.arb(1) / 2, ev[None, :] * dinv)
-    dinv = np.where(same, flint.arb(0), dinv)
-    eye = np.eye(k, dtype=int)
+    evd = np.where(same, 0.5, (ev[None, :] * dinv).astype(float))
+    dinv = np.where(same, 0.0, dinv.astype(float))
+    eye = flint.arb_mat(k, k)
+    for i in range(k):
+        eye[i, i] = 1
     worst = float("inf")
     gaps = gaps or _gaps(spaces, system, work)
     acc = 48
@@ -362,8 +366,8 @@ def _refine_block(HQ, X, spaces, clusters, owner, system, work, where, gaps=None
         flint.ctx.prec = prec
         try:
             Xt = X.transpose()
-            r = eye - np.array((Xt * X).tolist(), dtype=object)
-            s = np.array((Xt * (HQ * X)).tolist(), dtype=object)
+            r = np.array((eye - Xt * X).tolist(), dtype=float)
+            s = np.array((Xt * (HQ * X)).tolist(), dtype=float)
             F = s * dinv + r * evd
             X = (X + X * flint.arb_mat(F.tolist())).mid()
         finally:

@@ -310,7 +310,7 @@ class PointSystem:
 
     def exact_matrix(self, states, index):
         """H of a sector at the point: ``{(row, col): int or Fraction}`` (computed once per
-        sector)."""
+        sector; both have ``numerator`` and ``denominator``)."""
         key = (states[0], len(states)) if states else None
         cache = self._exact
         if key in cache:
@@ -324,7 +324,7 @@ class PointSystem:
                 if row is None:
                     continue
                 entries[(row, col)] = entries.get((row, col), 0) + c * vals[lab]
-        out = cache[key] = {k: Fraction(v) for k, v in entries.items() if v}
+        out = cache[key] = {k: v for k, v in entries.items() if v}
         return out
 
     def _prepare(self, n_up, n_dn, floats=False):
