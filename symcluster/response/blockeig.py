@@ -114,62 +114,84 @@ class _Prepared:
         tol = 1e-7 * max([scale, 1.0] + [abs(v) for v in values])
         close = 1e-9 * scale + 1e-12
         self.group = lattice.group.elements
-        self.blocks = []            # (factor, B, G, A, M, C, owner)
         # levels closer than float64 resolves cannot be told apart by the float matching
         self.separable = all(b - a > close for a, b in zip(values, values[1:]))
-        if not self.separable:
-            return
-        for irrep, vecs in zip(lattice.irreps, lattice.adapted_bases(self.states)):
-            if not vecs:
-                continue
-            k = len(vecs)
-            B = flint.fmpz_mat(n, k)
-            for c, vec in enumerate(vecs):
-                for st, x in vec.items():
-                    B[self.index[st], c] = x
-            Bt = B.transpose()
-            HB = Hz * B                     # integer products; den H B
-            G = flint.fmpq_mat(Bt * B)
-            A = flint.fmpq_mat(Bt * HB) / den
-            M = G.solve(A)
-            if flint.fmpq_mat(B) * (M * den) != flint.fmpq_mat(HB):
-                raise VerificationError(f"sector N_up={n_up}, N_dn={n_dn}: the adapted basis of "
-                                        f"{irrep.label} is not invariant under H; report this model")
-            # exact G-orthogonal basis B T^T: T G T^T = diag(d), checked exactly
-            T, d = _orthogonalizer(G)
-            Dm = flint.fmpq_mat(k, k)
-            for i in range(k):
-                Dm[i, i] = d[i]
-            if T * G * T.transpose() != Dm:
-                raise VerificationError("internal error: block Gram matrix not diagonalised")
-            Ap = T * A * T.transpose()      # H in the basis B T^T; H_Q = d^-1/2 Ap d^-1/2
-            df = np.array([float(x) for x in d])
-            Hf = np.array([[float(x) for x in row] for row in Ap.tolist()])
-            Hf = Hf / np.sqrt(np.outer(df, df))
-            fvals, V = np.linalg.eigh((Hf + Hf.T) / 2)
-            owner = []                 # every column to the nearest exact level of the sector
-            for f in fvals:
-                m = int(np.argmin([abs(f - v) for v in values]))
-                if abs(f - values[m]) > tol:
+        self.values, self.tol, self.Hz, self.den = np.array(values), tol, Hz, den
+        self.bases = []
+        if self.separable:
+            self.bases = [(irrep, vecs) for irrep, vecs in
+                          zip(lattice.irreps, lattice.adapted_bases(self.states)) if vecs]
+        self._blocks = {}
+        self._counted = False
+
+    def block(self, b):
+        """Block ``b`` (built once): (factor, T B^T, d, Ap, float eigenvectors, owner)."""
+        if b in self._blocks:
+            return self._blocks[b]
+        irrep, vecs = self.bases[b]
+        n, k = len(self.states), len(vecs)
+        n_up, n_dn = self.sector
+        Hz, den = self.Hz, self.den
+        B = flint.fmpz_mat(n, k)
+        for c, vec in enumerate(vecs):
+            for st, x in vec.items():
+                B[self.index[st], c] = x
+        Bt = B.transpose()
+        HB = Hz * B                     # integer products; den H B
+        G = flint.fmpq_mat(Bt * B)
+        A = flint.fmpq_mat(Bt * HB) / den
+        M = G.solve(A)
+        if flint.fmpq_mat(B) * (M * den) != flint.fmpq_mat(HB):
+            raise VerificationError(f"sector N_up={n_up}, N_dn={n_dn}: the adapted basis of "
+                                    f"{irrep.label} is not invariant under H; report this model")
+        # exact G-orthogonal basis B T^T: T G T^T = diag(d), checked exactly
+        T, d = _orthogonalizer(G)
+        Dm = flint.fmpq_mat(k, k)
+        for i in range(k):
+            Dm[i, i] = d[i]
+        if T * G * T.transpose() != Dm:
+            raise VerificationError("internal error: block Gram matrix not diagonalised")
+        Ap = T * A * T.transpose()      # H in the basis B T^T; H_Q = d^-1/2 Ap d^-1/2
+        df = np.array([float(x) for x in d])
+        Hf = np.array(Ap.tolist(), dtype=float) / np.sqrt(np.outer(df, df))
+        fvals, V = np.linalg.eigh((Hf + Hf.T) / 2)
+        # every column to the nearest exact level of the sector
+        vals = self.values
+        hi = np.clip(np.searchsorted(vals, fvals), 1, len(vals) - 1) if len(vals) > 1 \
+            else np.zeros(len(fvals), dtype=int)
+        lo = np.maximum(hi - 1, 0)
+        owner = np.where(np.abs(fvals - vals[lo]) <= np.abs(fvals - vals[hi]), lo, hi)
+        bad = np.abs(fvals - vals[owner]) > self.tol
+        if bad.any():
+            f = fvals[np.argmax(bad)]
+            raise VerificationError(
+                f"sector N_up={n_up}, N_dn={n_dn}, block {irrep.label}: eigenvalue "
+                f"{f:.12g} matches no level of the spectrum; report this model and point")
+        out = self._blocks[b] = (Fraction(irrep.dim, irrep.copies),
+                                 T * flint.fmpq_mat(Bt), d, Ap, V, [int(o) for o in owner])
+        return out
+
+    def all_blocks(self):
+        """Every block, and the check that together they hold every level of the sector
+        exactly as often as the spectrum says."""
+        blocks = [self.block(b) for b in range(len(self.bases))]
+        if not self._counted:
+            count = [Fraction(0)] * len(self.spaces)
+            for factor, *_, owner in blocks:
+                for m in owner:
+                    count[m] += factor
+            for sp, c in zip(self.spaces, count):
+                if c != sp.dim:
                     raise VerificationError(
-                        f"sector N_up={n_up}, N_dn={n_dn}, block {irrep.label}: eigenvalue "
-                        f"{f:.12g} matches no level of the spectrum; report this model and point")
-                owner.append(m)
-            self.blocks.append((Fraction(irrep.dim, irrep.copies), T * flint.fmpq_mat(Bt), d, Ap, V, owner))
-        count = [Fraction(0)] * len(self.spaces)
-        for factor, *_, owner in self.blocks:
-            for m in owner:
-                count[m] += factor
-        for sp, c in zip(self.spaces, count):
-            if c != sp.dim:
-                raise VerificationError(
-                    f"sector N_up={n_up}, N_dn={n_dn}: the symmetry blocks hold {c} states of "
-                    f"the level {mpmath.nstr(sp.value, 12)}, the spectrum {sp.dim}; report this "
-                    "model and point")
+                        f"sector N_up={self.sector[0]}, N_dn={self.sector[1]}: the symmetry "
+                        f"blocks hold {c} states of the level {mpmath.nstr(sp.value, 12)}, "
+                        f"the spectrum {sp.dim}; report this model and point")
+            self._counted = True
+        return blocks
 
     def refine(self, system, b):
         """Refine and certify block ``b``: (X, clusters)."""
-        _, _, d, Ap, V, owner = self.blocks[b]
+        _, _, d, Ap, V, owner = self.block(b)
         clusters = [[self.spaces[m], [c for c, o in enumerate(owner) if o == m], None, None]
                     for m in sorted(set(owner))]
         with arb_precision(self.work + 10), mpmath.workdps(self.work + 10):
@@ -266,7 +288,7 @@ def block_sector(system, lattice, n_up, n_dn):
     blocks = []
     with arb_precision(prep.work + 10), mpmath.workdps(prep.work + 10):
         H = flint.arb_mat(prep.Hq)
-        for b, (factor, TBt, *_) in enumerate(prep.blocks):
+        for b, (factor, TBt, *_) in enumerate(prep.all_blocks()):
             X, clusters = prep.refine(system, b)
             blocks.append(SymmetryBlock(factor, flint.arb_mat(TBt), X, clusters))
     worst = max((c[2] for b in blocks for c in b.clusters), default=0.0)
@@ -311,10 +333,18 @@ def member_vectors(system, lattice, n_up, n_dn, spaces):
         m = next((m for m, s in enumerate(prep.spaces) if s is sp), None)
         if m is None:
             return None
-        hits = [b for b, blk in enumerate(prep.blocks) if m in blk[5]]
-        if len(hits) != 1 or prep.blocks[hits[0]][0] != 1:
+        # the first block holding the level must hold all of it (factor 1): then, by the
+        # dimension count, the whole eigenspace lies in that block
+        for b in range(len(prep.bases)):
+            blk = prep.block(b)
+            hits = blk[5].count(m)
+            if hits:
+                if blk[0] != 1 or hits != sp.dim:
+                    return None
+                where.append((sp, m, b))
+                break
+        else:
             return None
-        where.append((sp, m, hits[0]))
     n = len(prep.states)
     rows = [dict() for _ in range(n)]
     done = {}
@@ -327,7 +357,7 @@ def member_vectors(system, lattice, n_up, n_dn, spaces):
             cl = next(c for c in clusters if c[0] is prep.spaces[m])
             if len(cl[1]) != sp.dim:
                 return None
-            V = (flint.arb_mat(prep.blocks[b][1]).transpose() * X).tolist()
+            V = (flint.arb_mat(prep.block(b)[1]).transpose() * X).tolist()
             for c, bc in zip(sp.columns, cl[1]):
                 for i in range(n):
                     rows[i][c] = V[i][bc]
