@@ -353,8 +353,8 @@ class GreensMatrix:
             for key, vals in zip(reps, sums):
                 elements[key]._check_tail(vals[-1], last)
         vals = dict(zip(reps, sums))
-        return [[[vals[rep[(min(i, j), max(i, j))]][n] for j in range(M)] for i in range(M)]
-                for n in range(n_max)]
+        series = [[vals[rep[(min(i, j), max(i, j))]] for j in range(M)] for i in range(M)]
+        return [[[col[n] for col in row] for row in series] for n in range(n_max)]
 
 
 def _matsubara_sums(omegas, columns, beta, n_max, digits):
