@@ -9,19 +9,23 @@ basis B (n x k):
 
 1. exactness: H B = B M is checked in exact rational arithmetic (python-flint
    ``fmpq_mat``), with M = G^-1 A, G = B^T B and A = B^T H B; so W is H-invariant and
-   the spectrum of H on W is a subset of the sector's exact levels;
-2. a float64 solution of A c = E G c gives approximate coefficients; every column is
+   the spectrum of H on W is a subset of the sector's exact levels; an exact unit
+   lower-triangular T with T G T^T = diag(d) (Gram-Schmidt in G, checked) makes the
+   columns of Q = B T^T d^-1/2 orthonormal, and H_Q = d^-1/2 T A T^T d^-1/2 is the
+   (symmetric) matrix of H in Q, enclosed in balls;
+2. a float64 eigendecomposition of H_Q gives approximate coefficients; every column is
    matched with the nearest exact level of the sector (a mismatch is a
    :class:`VerificationError`);
-3. refinement: the Ogita-Aishima step in the G inner product (R = 1 - X^T G X,
-   S = X^T A X, F_ij = (S_ij + E_j R_ij) / (E_j - E_i), F_ii = R_ii / 2, X += X F), in
-   ball arithmetic (``arb_mat``), with the exact levels in the place of Ritz values;
-4. certificate per level E of W with columns X_E (Fock vectors V_E = B X_E): the Gram
-   defect eta = ||X_E^T G X_E - 1||_F and the residual r^2 = tr(D^T G D), D = M X_E -
-   E X_E (= ||H V_E - E V_E||_F^2), enclosed in balls; with delta the distance from E to
-   the other exact levels of the whole sector (the spectrum of H on W is among them),
-   Davis-Kahan gives ||Q_E - V_E V_E^T||_2 <= eps = eta + r / (sqrt(1 - eta) delta) for the
-   projector Q_E onto the E-eigenvectors inside W;
+3. refinement: the Ogita-Aishima step (R = 1 - X^T X, S = X^T H_Q X,
+   F_ij = (S_ij + E_j R_ij) / (E_j - E_i) between levels, F_ij = R_ij / 2 within one,
+   X += X F), R and S in ball arithmetic (``arb_mat``), F in float64 (it only steers the
+   iteration), with the exact levels in the place of Ritz values;
+4. certificate per level E of W with columns X_E (Fock vectors V_E = Q X_E): the Gram
+   defect eta = ||X_E^T X_E - 1||_F and the residual r = ||H_Q X_E - E X_E||_F
+   (= ||H V_E - E V_E||_F, Q being orthonormal), enclosed in balls; with delta the
+   distance from E to the other exact levels of the whole sector (the spectrum of H on
+   W is among them), Davis-Kahan gives ||Q_E - V_E V_E^T||_2 <= eps =
+   eta + r / (sqrt(1 - eta) delta) for the projector Q_E onto the E-eigenvectors inside W;
 5. completeness: for every level E of the sector, sum over W of (d / copies) times the
    number of columns matched with E equals the multiplicity of E in the sector (d the
    irrep dimension; W holds each irrep ``copies`` times per occurrence).
@@ -60,9 +64,10 @@ class SymmetryBlock:
     factor : Fraction
         d / copies of its irrep: how many Fock states one column of W stands for.
     BT : flint.arb_mat
-        The exact basis, transposed (k x n).
+        The exact orthogonal basis of W, transposed: T B^T (k x n), T G T^T = diag(d).
     X : flint.arb_mat
-        Coefficients (k x k) of the eigenvectors in the basis, orthonormal in G = B^T B.
+        Coefficients (k x k) in that basis: the Fock eigenvectors are the columns of
+        (T B^T)^T X, orthonormal to the certified Gram defect.
     clusters : list of (Eigenspace, list of int, float, float)
         Per exact level: the sector's eigenspace, its columns in X, eps and eta.
     """
