@@ -3,11 +3,14 @@ of python-flint, shared by the response modules."""
 
 from contextlib import contextmanager
 from fractions import Fraction
+import gc
 
 import flint
 import mpmath
+from mpmath.libmp import from_man_exp
 
-__all__ = ["arb_precision", "to_arb", "to_mpf", "to_mpf_list", "upper"]
+__all__ = ["arb_precision", "paused_gc", "to_arb", "to_mpf", "to_mpf_list", "to_mpc_list",
+           "upper"]
 
 
 @contextmanager
@@ -29,6 +32,33 @@ def arb_precision(digits):
         yield
     finally:
         flint.ctx.prec = old
+
+
+@contextmanager
+def paused_gc():
+    """Python's cyclic garbage collector paused for a block, restored after.
+
+    Ball arithmetic on numpy object arrays allocates tens of thousands of short-lived
+    objects without reference cycles; each of them would otherwise trigger collections
+    that rescan every live object (sympy's expressions of a solved spectrum among them).
+    Reference counting still frees everything at once; cycles made meanwhile are
+    collected after.
+
+    Examples
+    --------
+    >>> with paused_gc():
+    ...     gc.isenabled()
+    False
+    >>> gc.isenabled()
+    True
+    """
+    was = gc.isenabled()
+    gc.disable()
+    try:
+        yield
+    finally:
+        if was:
+            gc.enable()
 
 
 def to_arb(x):
@@ -80,16 +110,34 @@ def upper(a):
     return (float(hi) + float(hi.rad())) * (1 + 1e-12) + 1e-300
 
 
+def _raw_mids(balls):
+    """mpmath's raw form of the midpoints of balls (exact)."""
+    out = []
+    for x in balls:
+        m, e = x.mid().man_exp()
+        out.append(from_man_exp(int(m), int(e)))
+    return out
+
+
 def to_mpf_list(balls):
-    """The midpoints of many balls as mpmath numbers, exactly (one precision switch).
+    """The midpoints of many balls as mpmath numbers, exactly.
 
     Examples
     --------
     >>> to_mpf_list([flint.arb(1) / 4, flint.arb(-3)])
     [mpf('0.25'), mpf('-3.0')]
     """
-    pairs = [x.mid().man_exp() for x in balls]
-    pairs = [(int(m), int(e)) for m, e in pairs]
-    bits = max((m.bit_length() for m, _ in pairs), default=1)
-    with mpmath.workprec(max(64, bits + 8)):
-        return [mpmath.mpf(p) for p in pairs]
+    make = mpmath.mp.make_mpf
+    return [make(r) for r in _raw_mids(balls)]
+
+
+def to_mpc_list(re, im):
+    """The midpoints of two equally long lists of balls as complex mpmath numbers, exactly.
+
+    Examples
+    --------
+    >>> to_mpc_list([flint.arb(1) / 4], [flint.arb(-3)])
+    [mpc(real='0.25', imag='-3.0')]
+    """
+    make = mpmath.mp.make_mpc
+    return [make(z) for z in zip(_raw_mids(re), _raw_mids(im))]

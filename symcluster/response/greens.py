@@ -38,6 +38,7 @@ import mpmath
 import numpy as np
 
 from symcluster.errors import ModelError, VerificationError
+from symcluster.response.balls import paused_gc, to_mpc_list
 from symcluster.response.eigen import PointSystem, arb_precision, to_arb, to_mpf, to_mpf_list
 from symcluster.response.ensemble import exact_number, make_ensemble
 from symcluster.response.lehmann import lehmann_sums
@@ -345,7 +346,7 @@ class GreensMatrix:
         rep = self.pair_orbits or {key: key for key in pairs}
         reps = sorted(set(rep.values()))
         elements = {key: self.element(*key) for key in reps}
-        with mpmath.workdps(self.digits + 10):
+        with mpmath.workdps(self.digits + 10), paused_gc():
             b = elements[reps[0]]._check_beta(beta)
             cols = [[W[i][j] for W in self.weights] for i, j in reps]
             sums = _matsubara_sums(self.omegas, cols, b, n_max, self.digits)
@@ -354,7 +355,8 @@ class GreensMatrix:
                 elements[key]._check_tail(vals[-1], last)
         vals = dict(zip(reps, sums))
         series = [[vals[rep[(min(i, j), max(i, j))]] for j in range(M)] for i in range(M)]
-        return [[[col[n] for col in row] for row in series] for n in range(n_max)]
+        with paused_gc():
+            return [[[col[n] for col in row] for row in series] for n in range(n_max)]
 
 
 def _matsubara_sums(omegas, columns, beta, n_max, digits):
@@ -383,11 +385,18 @@ def _matsubara_sums(omegas, columns, beta, n_max, digits):
                 q = slot[abs(omegas[p])]
                 W[q, c] = W[q, c] + x
                 Wre[q, c] = Wre[q, c] - to_arb(omegas[p]) * x
-        re = to_mpf_list((K * Wre).transpose().entries())
+        re = (K * Wre).transpose().entries()
         kw = np.array((K * W).tolist(), dtype=object) * (-wn)[:, None]
-        im = to_mpf_list(kw.T.ravel())
-        return [[mpmath.mpc(re[c * n_max + n], im[c * n_max + n]) for n in range(n_max)]
-                for c in range(len(columns))]
+        im = kw.T.ravel()
+        # the balls' radii (rounding in the kernel and the sums) must stay far below the
+        # requested digits; the weights' own errors are bounded by the caller's certificate
+        lim = flint.arb(10) ** (-(digits + 4))
+        if not all(x.rad() < lim for part in (re, im) for x in part):
+            rad = max(float(x.rad()) for part in (re, im) for x in part)
+            raise VerificationError(f"Matsubara sums: rounding error {rad:.1e} exceeds "
+                                    f"1e-{digits + 4}; report this model and point")
+        vals = to_mpc_list(re, im)
+        return [vals[c * n_max:(c + 1) * n_max] for c in range(len(columns))]
 
 
 def translation_shift(model):
@@ -430,8 +439,9 @@ def greens_matrix(spectrum: Spectrum, point: Mapping[str, object], spin: str = "
         system = PointSystem(spectrum, point, digits)
     elif system.spectrum is not spectrum:
         raise ModelError("system= belongs to another spectrum")
-    ens = make_ensemble(system, N, temperature, mu)
-    d = lehmann_sums(system, ens, s)
+    with paused_gc():
+        ens = make_ensemble(system, N, temperature, mu)
+        d = lehmann_sums(system, ens, s)
     gm = GreensMatrix(d["omegas"], d["exact"], d["weights"], ens.beta, ens.mu, system.digits,
                       d["m0"], d["m1"], d["n"], d["certificate"], "up" if s == 0 else "down",
                       ens.describe(), d["n_modes"], translation_shift(system.model),
