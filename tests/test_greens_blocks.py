@@ -68,3 +68,31 @@ def test_a_wrong_symmetry_group_is_caught_by_the_exact_invariance_check():
     wrong = PointSystem(ring, {"t": 1, "U": 3}, digits=20).lattice()
     with pytest.raises(VerificationError, match="not invariant under H"):
         block_sector(ps, wrong, 2, 1)
+
+
+def test_blocks_the_electron_cannot_reach_are_left_out_and_no_pole_is_missed():
+    # ring(4) at half filling: c^+ from the singlet ground state reaches only the
+    # symmetry blocks allowed by the group's selection rules; the others are not
+    # refined.  Every pole of the independent numpy computation (dense Jordan-Wigner
+    # matrices, tests/helpers_lehmann.py) must still be there with its weight.
+    import numpy as np
+    point = {"t": 1, "U": 3}
+    spec = sc.solve(sc.hubbard(sc.ring(4)))
+    ps = PointSystem(spec, point, digits=30)
+    gm = greens_matrix(spec, point, spin="up", N=4, digits=30, system=ps)
+    blocks = [b for bs in ps.block_sectors.values() if bs is not None for b in bs.blocks]
+    assert blocks and any(not b.refined for b in blocks)
+    assert gm.certificate["weight_error"] < 1e-32
+    ref = LehmannReference(*hubbard_h(_ring_bonds(4), 4, 1.0, 3.0))
+    for i, j in [(0, 0), (0, 1), (0, 2)]:
+        om, w = ref.poles(i, j, 0, N=4, T=None, mu=None)
+        merged = {}                     # poles equal to 1e-8 merged, first omega kept
+        for o, x in zip(om, w):
+            key = round(float(o), 8)
+            o0, x0 = merged.get(key, (o, 0.0))
+            merged[key] = (o0, x0 + x)
+        expect = sorted((o, x) for o, x in merged.values() if abs(x) > 1e-12)
+        got = [(float(o), float(x)) for o, x in gm.element(i, j).poles if abs(x) > 1e-12]
+        assert len(got) == len(expect), (i, j)
+        for (o1, x1), (o2, x2) in zip(got, expect):
+            assert abs(o1 - o2) < 1e-9 and abs(x1 - x2) < 1e-10, (i, j, o1, o2, x1, x2)

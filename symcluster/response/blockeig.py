@@ -55,9 +55,9 @@ __all__ = ["BlockSector", "SymmetryBlock", "MemberVectors", "block_sector", "mem
            "symmetrizer"]
 
 
-@dataclass
 class SymmetryBlock:
-    """One adapted subspace W of a sector with its certified eigen-coefficients.
+    """One adapted subspace W of a sector; its eigen-coefficients are refined and
+    certified when first asked for (:attr:`X`, :attr:`clusters`).
 
     Attributes
     ----------
@@ -65,6 +65,9 @@ class SymmetryBlock:
         d / copies of its irrep: how many Fock states one column of W stands for.
     BT : flint.arb_mat
         The exact orthogonal basis of W, transposed: T B^T (k x n), T G T^T = diag(d).
+    d : list of flint.fmpq
+        The squared norms of the rows of ``BT`` (exact): the orthogonal projector onto W
+        is BT^T diag(d)^-1 BT.
     X : flint.arb_mat
         Coefficients (k x k) in that basis: the Fock eigenvectors are the columns of
         (T B^T)^T X, orthonormal to the certified Gram defect.
@@ -72,10 +75,41 @@ class SymmetryBlock:
         Per exact level: the sector's eigenspace, its columns in X, eps and eta.
     """
 
-    factor: Fraction
-    BT: object
-    X: object
-    clusters: list = field(default_factory=list)
+    def __init__(self, factor, BT, d, refine):
+        self.factor, self.BT, self.d = factor, BT, d
+        self._refine = refine
+        self._done = None
+
+    def _get(self):
+        if self._done is None:
+            self._done = self._refine()
+        return self._done
+
+    @property
+    def X(self):
+        return self._get()[0]
+
+    @property
+    def clusters(self):
+        return self._get()[1]
+
+    @property
+    def refined(self):
+        """Whether the coefficients have been refined and certified."""
+        return self._done is not None
+
+    def projection_bound(self, P):
+        """A float upper bound of max_c ||Pi_W y_c||^2 over the columns y_c of a Fock
+        matrix Y, given P = BT Y (the orthogonal projector Pi_W = BT^T diag(d)^-1 BT)."""
+        rows = P.tolist()
+        inv = [flint.arb(1) / flint.arb(x) for x in self.d]
+        worst = 0.0
+        for c in range(P.ncols()):
+            total = flint.arb(0)
+            for r, w in zip(rows, inv):
+                total += r[c] * r[c] * w
+            worst = max(worst, upper(total))
+        return worst
 
 
 @dataclass
@@ -89,7 +123,11 @@ class BlockSector:
     spaces: list                # Eigenspace per exact level of the sector
     blocks: list
     group: list                 # the lattice group's mode permutations
-    worst_eps: float = 0.0
+
+    @property
+    def worst_eps(self):
+        """The largest projector bound of the blocks certified so far."""
+        return max((c[2] for b in self.blocks if b.refined for c in b.clusters), default=0.0)
 
 
 def _fmpq(v):
@@ -293,12 +331,18 @@ def block_sector(system, lattice, n_up, n_dn):
     blocks = []
     with arb_precision(prep.work + 10), mpmath.workdps(prep.work + 10):
         H = flint.arb_mat(prep.Hq)
-        for b, (factor, TBt, *_) in enumerate(prep.all_blocks()):
-            X, clusters = prep.refine(system, b)
-            blocks.append(SymmetryBlock(factor, flint.arb_mat(TBt), X, clusters))
-    worst = max((c[2] for b in blocks for c in b.clusters), default=0.0)
+        for b, (factor, TBt, d, *_) in enumerate(prep.all_blocks()):
+            blocks.append(SymmetryBlock(factor, flint.arb_mat(TBt), d,
+                                        _refiner(prep, system, b)))
     return BlockSector((n_up, n_dn), prep.states, prep.index, H, prep.spaces, blocks,
-                       prep.group, worst)
+                       prep.group)
+
+
+def _refiner(prep, system, b):
+    def run():
+        with arb_precision(prep.work + 10), mpmath.workdps(prep.work + 10):
+            return prep.refine(system, b)
+    return run
 
 
 @dataclass

@@ -525,8 +525,9 @@ def _check_sum_rules(gm, ens, system):
         worst = mpmath.mpf(0)
         for i in range(M):
             for j in range(M):
-                s0 = sum((W[i][j] for W in gm.weights), mpmath.mpf(0))
-                s1 = sum((om * W[i][j] for om, W in zip(gm.omegas, gm.weights)), mpmath.mpf(0))
+                col = [W[i][j] for W in gm.weights]
+                s0 = mpmath.fsum(col)
+                s1 = mpmath.fdot(gm.omegas, col)
                 checks = [("sum of weights = <{c_i, c_j+}>", s0, gm.m0[i][j], tol),
                           ("first moment = <{[c_i, H - mu N], c_j+}>", s1, gm.m1[i][j],
                            tol * scale * 4),

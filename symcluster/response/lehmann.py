@@ -59,6 +59,9 @@ def lehmann_sums(system, ens, s):
     nn = [[zero] * M for _ in modes]
     hole_sum = [[zero] * M for _ in modes]
     bound = mpmath.mpf(ens.dropped) * 2
+    # a symmetry block that the ladder operators provably do not reach (every
+    # ||Pi_W c^(+)_m|a>||^2 below this) is not refined; its bound enters the certificate
+    skip_below = 10.0 ** -(system.digits + 20) if system.digits < 280 else 0.0
     with arb_precision(prec_digits), mpmath.workdps(prec_digits):
         mu_a = flint.arb(0)
         if ens.mu:
@@ -117,7 +120,10 @@ def lehmann_sums(system, ens, s):
                     continue
                 tgt, teig, ys, _ = part
                 if isinstance(teig, BlockSector):
-                    poles.extend(_block_poles(ens, teig, ys, mems, cols, d, M, hole_sum))
+                    got, dropped = _block_poles(ens, teig, ys, mems, cols, d, M, hole_sum,
+                                                skip_below)
+                    poles.extend(got)
+                    bound += dropped
                     continue
                 Xt = teig.X.transpose()
                 ts = [(Xt * y).tolist() for y in ys]      # <b|c^(+)_m|a>, rows b
@@ -190,17 +196,37 @@ def _members(system, sec, spaces):
     return system.vectors(*sec, spaces)
 
 
-def _block_poles(ens, teig, ys, mems, cols, d, M, hole_sum):
+def _block_poles(ens, teig, ys, mems, cols, d, M, hole_sum, skip_below=0.0):
     """Poles into a block sector: the projections onto each block's eigenvectors,
-    summed over the lattice group (blockeig's module docstring)."""
+    summed over the lattice group (blockeig's module docstring); and the bound of the
+    weights of the blocks left out.
+
+    A block W whose projector Pi_W takes every column y of Y = (c^(+)_m |a>) to
+    ||Pi_W y||^2 <= nu contributes at most factor nu to any weight, summed over all its
+    eigenspaces (|<y_i|Q_E|y_j>| <= ||Q_E y_i|| ||Q_E y_j||, Cauchy-Schwarz over E, and
+    sum_E Q_E = Pi_W; the group average and the probabilities are convex sums): when
+    factor nu <= ``skip_below`` the block is not refined and factor nu (plus the ensemble
+    vectors' error over its columns) is returned in the bound (the selection rules of
+    the lattice group make such blocks exactly zero)."""
     C = len(cols)
     nt = len(teig.states)
     ylists = [y.tolist() for y in ys]
     Y = flint.arb_mat([[v for m in range(M) for v in ylists[m][r]] for r in range(nt)])
     order = len(teig.group)
     acc = {}
+    dropped = mpmath.mpf(0)
     for blk in teig.blocks:
-        T = (blk.X.transpose() * (blk.BT * Y)).tolist()
+        P = blk.BT * Y
+        if skip_below > 0 and not blk.refined:
+            nu = blk.projection_bound(P) * float(blk.factor) * (1 + 1e-12)
+            if nu <= skip_below:
+                # plus the ensemble vectors' own error over the block's k columns, as
+                # the refined path counts it pole by pole
+                k = blk.BT.nrows()
+                dropped += nu + sum(float(blk.factor) * mpmath.mpf(mem.prob) * mem.space.eps
+                                    * k for mem in mems)
+                continue
+        T = (blk.X.transpose() * P).tolist()
         f = flint.arb(flint.fmpq(blk.factor.numerator, blk.factor.denominator))
         for sp, bcols, eps, _ in blk.clusters:
             for mem in mems:
@@ -220,7 +246,7 @@ def _block_poles(ens, teig, ys, mems, cols, d, M, hole_sum):
                 entry[3] += float(blk.factor) * mpmath.mpf(mem.prob) * (
                     mem.space.eps * len(bcols) + eps * (1 + mem.space.eta) * mem.space.dim)
     if not acc:
-        return []
+        return [], dropped
     entries = list(acc.values())
     stack = flint.arb_mat(M * M, len(entries))
     for c, (_, _, V, _) in enumerate(entries):
@@ -240,7 +266,7 @@ def _block_poles(ens, teig, ys, mems, cols, d, M, hole_sum):
                 for j in range(M):
                     hole_sum[i][j] = hole_sum[i][j] + W[i][j]
         out.append((om, W, err, (mem.space, sp, d)))
-    return out
+    return out, dropped
 
 
 def to_arb_prob(p):
