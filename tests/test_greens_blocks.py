@@ -75,7 +75,6 @@ def test_blocks_the_electron_cannot_reach_are_left_out_and_no_pole_is_missed():
     # symmetry blocks allowed by the group's selection rules; the others are not
     # refined.  Every pole of the independent numpy computation (dense Jordan-Wigner
     # matrices, tests/helpers_lehmann.py) must still be there with its weight.
-    import numpy as np
     point = {"t": 1, "U": 3}
     spec = sc.solve(sc.hubbard(sc.ring(4)))
     ps = PointSystem(spec, point, digits=30)

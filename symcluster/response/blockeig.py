@@ -40,7 +40,7 @@ which :mod:`symcluster.response.lehmann` evaluates (J.-P. Serre, "Linear
 Representations of Finite Groups", sect. 2.6, 2.7 [from memory]).
 """
 
-from dataclasses import dataclass, field
+from dataclasses import dataclass
 from fractions import Fraction
 import math
 

@@ -33,15 +33,14 @@ G. D. Mahan, Many-Particle Physics, ch. 3 (Lehmann representation) [from memory]
 from collections.abc import Mapping
 from dataclasses import dataclass, field
 
-import flint
 import mpmath
-import numpy as np
 
 from symcluster.errors import ModelError, VerificationError
-from symcluster.response.balls import paused_gc, to_mpc_list
-from symcluster.response.eigen import PointSystem, arb_precision, to_arb, to_mpf, to_mpf_list
+from symcluster.response.balls import paused_gc
+from symcluster.response.eigen import PointSystem
 from symcluster.response.ensemble import exact_number, make_ensemble
 from symcluster.response.lehmann import lehmann_sums
+from symcluster.response.matsubara import matsubara_sums
 from symcluster.response.momenta import translation_group
 from symcluster.spectrum import Spectrum
 
@@ -132,7 +131,7 @@ class GreensFunction:
             raise ModelError(f"n_max={n_max!r} must be an integer 1..1000000")
         with mpmath.workdps(self.digits + 10):
             b = self._check_beta(beta)
-            out = _matsubara_sums([om for om, _ in self.poles], [[w for _, w in self.poles]],
+            out = matsubara_sums([om for om, _ in self.poles], [[w for _, w in self.poles]],
                                   b, n_max, self.digits)[0]
             self._check_tail(out[-1], (2 * n_max - 1) * mpmath.pi / b)
             return out
@@ -349,7 +348,7 @@ class GreensMatrix:
         with mpmath.workdps(self.digits + 10), paused_gc():
             b = elements[reps[0]]._check_beta(beta)
             cols = [[W[i][j] for W in self.weights] for i, j in reps]
-            sums = _matsubara_sums(self.omegas, cols, b, n_max, self.digits)
+            sums = matsubara_sums(self.omegas, cols, b, n_max, self.digits)
             last = (2 * n_max - 1) * mpmath.pi / b
             for key, vals in zip(reps, sums):
                 elements[key]._check_tail(vals[-1], last)
@@ -357,46 +356,6 @@ class GreensMatrix:
         series = [[vals[rep[(min(i, j), max(i, j))]] for j in range(M)] for i in range(M)]
         with paused_gc():
             return [[[col[n] for col in row] for row in series] for n in range(n_max)]
-
-
-def _matsubara_sums(omegas, columns, beta, n_max, digits):
-    """sum_p columns[c][p] / (i w_n - omega_p) for every column c and n < n_max, in ball
-    arithmetic (two real matrix products); returns [c][n] -> mpc."""
-    P = len(omegas)
-    with arb_precision(digits + 10):
-        b = to_arb(beta)
-        step = 2 * flint.arb.pi() / b
-        half = flint.arb(1) / 2
-        wn = np.array([step * (n + half) for n in range(n_max)], dtype=object)
-        # poles of equal |omega| share the kernel 1/(omega^2 + w^2) (particle-hole pairs)
-        mags = sorted({abs(x) for x in omegas}) or [mpmath.mpf(0)]
-        slot = {m: q for q, m in enumerate(mags)}
-        sq = np.array([to_arb(m) ** 2 for m in mags], dtype=object)
-        # 1/(i w - om) = (-om - i w) / (om^2 + w^2): one kernel K = 1/(om^2 + w^2) built
-        # elementwise on arrays of balls; Re = K (-om o W), Im = -w o (K W), the rows of W
-        # summed per |omega|
-        K = flint.arb_mat((1 / (sq[None, :] + (wn * wn)[:, None])).tolist())
-        Q = len(mags)
-        W = flint.arb_mat(Q, len(columns))
-        Wre = flint.arb_mat(Q, len(columns))
-        for c, col in enumerate(columns):
-            for p in range(P):
-                x = to_arb(col[p])
-                q = slot[abs(omegas[p])]
-                W[q, c] = W[q, c] + x
-                Wre[q, c] = Wre[q, c] - to_arb(omegas[p]) * x
-        re = (K * Wre).transpose().entries()
-        kw = np.array((K * W).tolist(), dtype=object) * (-wn)[:, None]
-        im = kw.T.ravel()
-        # the balls' radii (rounding in the kernel and the sums) must stay far below the
-        # requested digits; the weights' own errors are bounded by the caller's certificate
-        lim = flint.arb(10) ** (-(digits + 4))
-        if not all(x.rad() < lim for part in (re, im) for x in part):
-            rad = max(float(x.rad()) for part in (re, im) for x in part)
-            raise VerificationError(f"Matsubara sums: rounding error {rad:.1e} exceeds "
-                                    f"1e-{digits + 4}; report this model and point")
-        vals = to_mpc_list(re, im)
-        return [vals[c * n_max:(c + 1) * n_max] for c in range(len(columns))]
 
 
 def translation_shift(model):
