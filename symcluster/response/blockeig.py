@@ -305,14 +305,16 @@ def _prepared(system, lattice, n_up, n_dn):
 def block_sector(system, lattice, n_up, n_dn):
     """The :class:`BlockSector` of sector (n_up, n_dn), or None when a block holds two
     distinct levels closer than float64 resolves (the caller then refines the whole
-    sector).
+    sector).  Every block's exact matrices and the count of its levels are made and
+    checked here; its eigen-coefficients are refined and certified when first asked for
+    (``block.X``), so a block that the caller proves irrelevant costs no refinement.
 
     Raises
     ------
     VerificationError
-        A block is not H-invariant, a float eigenvalue matches no exact level, the
-        certificate does not reach the requested digits, or the blocks do not add up to
-        the sector's multiplicities.
+        A block is not H-invariant, a float eigenvalue matches no exact level, or the
+        blocks do not add up to the sector's multiplicities; on ``block.X``: the
+        certificate does not reach the requested digits.
 
     Examples
     --------
