@@ -243,7 +243,7 @@ class _Prepared:
                                 * rs[:, None] * rs[None, :]).tolist())
             if self.gaps is None:
                 self.gaps = _gaps(self.spaces, system, self.work)
-            X = _refine_block(HQ, flint.arb_mat(V.tolist()), self.spaces, clusters, owner,
+            X = _refine_block(HQ, V, self.spaces, clusters, owner,
                               system, self.work, self.sector, self.gaps)
             # coefficients in the basis T B^T: rows scaled by d^-1/2
             X = flint.arb_mat((rs[:, None] * np.array(X.tolist(), dtype=object)).tolist())
@@ -419,10 +419,11 @@ def member_vectors(system, lattice, n_up, n_dn, spaces):
 
 def _refine_block(HQ, X, spaces, clusters, owner, system, work, where, gaps=None):
     """Ogita-Aishima steps on the symmetric block HQ until the certificate holds (sets eps
-    and eta of every cluster); returns the eigenvector coefficients.  A step squares the
-    error, so a step runs at about twice the bits of the accuracy it starts from (the
-    first from float64's 48 bits); the last steps and the certificate at full precision."""
-    k = X.nrows()
+    and eta of every cluster); returns the eigenvector coefficients.  ``X`` is the float64
+    start (numpy, k x k).  A step squares the error, so a step runs at about twice the
+    bits of the accuracy it starts from (the first from float64's 48 bits); the last
+    steps and the certificate at full precision."""
+    k = X.shape[0]
     full = flint.ctx.prec
     vals = [to_arb(spaces[o].value) for o in owner]
     target = 10.0 ** (-(system.digits + 8))
@@ -442,6 +443,7 @@ def _refine_block(HQ, X, spaces, clusters, owner, system, work, where, gaps=None
     worst = float("inf")
     gaps = gaps or _gaps(spaces, system, work)
     acc = 48
+    Xf, X = X, flint.arb_mat(X.tolist())
     for it in range(MAX_ITERATIONS):
         prec = min(full, 2 * acc + 32)
         flint.ctx.prec = prec
@@ -450,7 +452,13 @@ def _refine_block(HQ, X, spaces, clusters, owner, system, work, where, gaps=None
             r = np.array((eye - Xt * X).tolist(), dtype=float)
             s = np.array((Xt * (HQ * X)).tolist(), dtype=float)
             F = s * dinv + r * evd
-            X = (X + X * flint.arb_mat(F.tolist())).mid()
+            if Xf is not None:
+                # first step, X still float64: X F in float64 errs by about
+                # k 2^-53 |X| |F|, far below the accuracy this step reaches (2^-88)
+                X = (X + flint.arb_mat((Xf @ F).tolist())).mid()
+                Xf = None
+            else:
+                X = (X + X * flint.arb_mat(F.tolist())).mid()
         finally:
             flint.ctx.prec = full
         acc = 2 * acc - 8
