@@ -45,7 +45,7 @@ import mpmath
 
 from symcluster.theorems.realalg import _descartes, _scaled, value_at
 
-__all__ = ["line_values", "free_of_roots", "meeting_windows", "sector_below", "LazyDict"]
+__all__ = ["line_values", "free_of_roots", "meeting_windows", "sector_below", "sector_below_open", "LazyDict"]
 
 #: the smallest window, as a fraction of the interval, below which the exact route is used
 MIN_WIDTH_FRACTION = Fraction(1, 2 ** 12)
@@ -288,3 +288,98 @@ class LazyDict(dict):
 
     def get(self, key, default=None):
         return dict.get(self.fill(), key, default)
+
+
+def _near_end(curves, low, high, end, inner):
+    """True when, on the open window between ``inner`` and the open end ``end`` (rationals),
+    the minimum over ``low`` is proven below the minimum over ``high``, in the case where the
+    two minima are equal at ``end`` itself (a degenerate level at U = 0, say).
+
+    The factors whose lowest root at ``end`` is the common minimum E0 ("near") are the only
+    ones that matter on the window: a level line through the gap above E0 at ``end`` (and
+    above every near factor's lowest root at ``inner``) has every other factor above it and
+    every near factor's lowest root below it on the closed window (the level test).  For
+    each near pair (g in low, h in high) Res_E(g, h) has no root in the open window
+    (Descartes' rule, no factorisation), so their order is the same on all of it; one exact
+    comparison at ``inner`` then decides."""
+    pts = sorted((end, inner))
+    u, v = pts
+    allf = sorted(set(low) | set(high))
+    e0 = min((curves.lowest(f, end) for f in allf), key=_Key)
+    near = [f for f in allf if curves.lowest(f, end).cmp(e0) == 0]
+    far = [f for f in allf if f not in near]
+    near_low = [f for f in near if f in low]
+    near_high = [f for f in near if f in high]
+    if not near_low or not near_high or set(near_low) & set(near_high):
+        return False
+    # the line: at the end, halfway between E0 and the next root of any factor there; at
+    # inner, halfway between the highest near lowest root and the next root above it
+    lvl = {}
+    for y in (end, inner):
+        top_near = max(curves.lowest(f, y).numeric(20) for f in near)
+        above = [r for f in allf for r in curves.roots_numeric(f, y) if r > top_near + 1e-12]
+        lowest_far = min((curves.lowest(f, y).numeric(20) for f in far), default=None)
+        if lowest_far is not None and lowest_far <= top_near:
+            return False
+        mid = (top_near + min(above)) / 2 if above else top_near + 1
+        M = Fraction(mpmath.nstr(mid, 20, min_fixed=-mpmath.inf, max_fixed=mpmath.inf))
+        if any(curves.lowest(f, y).cmp(M) >= 0 for f in near) or \
+                any(curves.lowest(f, y).cmp(M) <= 0 for f in far):
+            return False
+        lvl[y] = M
+    for f in allf:
+        if not free_of_roots(line_values(curves.columns(f), u, lvl[u], v, lvl[v]), u, v):
+            return False
+    for g in near_low:
+        for h in near_high:
+            r = curves.resultant(g, h)
+            if r == 0 or (r.degree() > 0 and
+                          _descartes(_scaled(r, u, v - u), r.degree()) != 0):
+                return False
+    b = min((curves.lowest(h, inner) for h in near_high), key=_Key)
+    return any(curves.lowest(g, inner).cmp(b) < 0 for g in near_low)
+
+
+class _Key:
+    def __init__(self, r):
+        self.r = r
+
+    def __lt__(self, other):
+        return self.r.cmp(other.r) < 0
+
+
+def sector_below_open(curves, low, high, u, v, closed):
+    """:func:`sector_below` on the interval from u to v with ends closed or open as in
+    ``closed``; at an open end where the two minima are equal (a degeneracy at that end
+    point) a small window next to it is decided by :func:`_near_end`.
+
+    Examples
+    --------
+    >>> from symcluster.theorems.envelope import Curves
+    >>> c = Curves([{(1, 0): 1, (0, 1): -1}, {(1, 0): 1}], Fraction(-1), Fraction(0))
+    >>> sector_below_open(c, [0], [1], Fraction(-1), Fraction(0), (True, False))  # x < 0
+    True
+    >>> sector_below_open(c, [0], [1], Fraction(-1), Fraction(0), (True, True))
+    False
+    """
+    low, high = sorted(set(low)), sorted(set(high))
+    a, b = u, v
+    for end, is_closed, step in ((u, closed[0], 1), (v, closed[1], -1)):
+        if is_closed:
+            continue
+        if curves.lowest(curves.argmin(low, end), end).cmp(
+                curves.lowest(curves.argmin(high, end), end)) != 0:
+            continue
+        width = (v - u) / 64
+        for _ in range(12):
+            inner = end + step * width
+            if _near_end(curves, low, high, end, inner):
+                break
+            width /= 4
+        else:
+            return False
+        if step == 1:
+            a = inner
+        else:
+            b = inner
+    return a < b and sector_below(curves, low, high, a, b)

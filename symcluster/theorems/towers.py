@@ -27,7 +27,7 @@ from symcluster.errors import ModelError
 from symcluster.spectrum import Spectrum, exact_rational
 from symcluster.theorems.envelope import Curves, INF, NEG_INF
 from symcluster.theorems.realalg import RealAlg
-from symcluster.theorems.separate import LazyDict, sector_below
+from symcluster.theorems.separate import LazyDict, sector_below_open
 
 __all__ = ["Interval", "EnvelopePiece", "TowerVerdict", "TowerReport", "towers", "tower_rows",
            "KINDS"]
@@ -443,10 +443,12 @@ def towers(spec: Spectrum, n_electrons: int, coupling: str = "U", interval: tupl
         return _envelope_pieces(ctx, by_value, raw)
     lazy = LazyDict(sweep)
     if lo is not None and hi is not None and all(
-            sector_below(ctx.curves, ctx.factors_of(by_value[v]), ctx.factors_of(by_value[w]),
-                         lo, hi) for v, w in zip(chain, chain[1:])):
-        # every consecutive pair proven apart on the closed interval by level lines
-        # (symcluster.theorems.separate): the ordering holds everywhere, no crossing
+            sector_below_open(ctx.curves, ctx.factors_of(by_value[v]),
+                              ctx.factors_of(by_value[w]), lo, hi, closed)
+            for v, w in zip(chain, chain[1:])):
+        # every consecutive pair proven apart on the interval by level lines (and, next to
+        # an open end where the minima are equal, by resultants without roots in a small
+        # window; symcluster.theorems.separate): the ordering holds everywhere
         m = (lo + hi) / 2
         verdicts = []
         for v, w in zip(chain, chain[1:]):
