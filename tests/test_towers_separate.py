@@ -144,3 +144,69 @@ def test_ladder_sectors_against_the_reference_at_sample_points(n):
 @functools.lru_cache(maxsize=None)
 def _ladder():
     return sc.solve(sc.hubbard(sc.grid(2, 3)), fixed={"t": 1})
+
+
+def _ring4_with_polarised_level_at(value):
+    """The 4-ring spectrum with its N = 3, S = 3/2 level at -2 (three spinless fermions in
+    the orbitals -2, 0, 0: exact for every U) moved to the constant ``value`` (exact)."""
+    import dataclasses
+    spec = sc.solve(sc.hubbard(sc.ring(4)), fixed={"t": 1})
+    levels = []
+    for l in spec.levels:
+        q = l.quantum_numbers
+        if q["N"] == 3 and q["S"] == sympy.Rational(3, 2) and l.energy == -2:
+            gens = l.polynomial.gens
+            l = dataclasses.replace(l, energy=value,
+                                    polynomial=sympy.Poly(gens[0] - value, *gens))
+        levels.append(l)
+    return dataclasses.replace(spec, levels=levels)
+
+
+def test_a_tiny_exact_shift_decides_the_open_end_and_the_crossing():
+    # 4-ring, N = 3, attractive U: E_min(1/2) = -4 at U = 0 (orbitals -2, 0, 0 filled by
+    # 2 + 1 electrons; textbook tight binding) and increases with U (Hellmann-Feynman: its
+    # slope is the double occupancy, > 0), so E_min(1/2) < -4 for U < 0.  A constant
+    # S = 3/2 level put at exactly -4 touches it only at the excluded end U = 0: the tower
+    # holds on [-20, 0) (the open-end route) and fails at the point U = 0 on [-20, 0].
+    # Put at -4 - eps it crosses at an exact point just left of 0 and fails from there on.
+    eps = sympy.Rational(1, 10 ** 6)
+    at = sc.towers(_ring4_with_polarised_level_at(-4), 3, "U", (-20, 0), {"t": 1},
+                   closed=(True, False))
+    assert at.holds
+    closed = sc.towers(_ring4_with_polarised_level_at(-4), 3, "U", (-20, 0), {"t": 1},
+                       closed=(True, True))
+    assert not closed.holds
+    (v,) = closed.violations
+    assert v.interval.is_point and v.interval.lower == 0
+    below = sc.towers(_ring4_with_polarised_level_at(-4 - eps), 3, "U", (-20, 0), {"t": 1},
+                      closed=(True, False))
+    assert not below.holds
+    (c,) = below.crossings
+    # the crossing is where E_min(1/2)(U) = -4 - eps: check with the Fock reference's
+    # S = 1/2 minimum (the Sz = 1/2 sector's lowest level below -2) on both sides of it
+    import helpers_towers
+    ref = helpers_towers.reference(sc.ring(4))
+    x = float(c["numeric"])
+    assert -1e-4 < x < 0
+    for u, sign in ((x - 1e-9, -1), (x + 1e-9, 1)):
+        m = helpers_towers.sz_minima(ref, 3, {"t": 1, "U": u})[1]
+        assert (m - (-4 - 1e-6)) * sign > 0
+    above = sc.towers(_ring4_with_polarised_level_at(-4 + eps), 3, "U", (-20, 0), {"t": 1},
+                      closed=(True, True))
+    assert above.holds
+
+
+def test_a_tree_with_a_degenerate_free_level_against_the_reference():
+    # atlas graph G78 (a tree: the star of site 1 with a tail): at U = 0 its half-filled
+    # ground level is degenerate between S = 0 and S = 1 (a zero mode), the case of the
+    # open-end route; the verdict is compared with the Fock reference close to U = 0
+    import helpers_towers
+    cluster = sc.cluster(6, [(0, 1), (1, 2), (1, 4), (1, 5), (2, 3)], name="G78")
+    spec = sc.solve(sc.hubbard(cluster), fixed={"t": 1}, sectors=[{"N": 6}])
+    rep = sc.towers(spec, 6, "U", (-20, 0), {"t": 1}, closed=(True, False))
+    ref = helpers_towers.reference(cluster)
+    m0 = helpers_towers.sz_minima(ref, 6, {"t": 1, "U": 0})
+    assert m0[0] == pytest.approx(m0[2], abs=1e-9)          # degenerate at U = 0
+    assert rep.holds
+    for u in (-20, -3.5, -0.01, -1e-4):
+        assert helpers_towers.tower_holds_at(ref, 6, {"t": 1, "U": u}, tol=1e-12) is True
