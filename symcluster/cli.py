@@ -76,6 +76,7 @@ examples:
   symcluster levels ring 6 --sectors 'N=6,S=0;N=5,S=1/2,k=0' --at t=1,U=4
   symcluster levels --cluster-file dimer.toml --json dimer.json
   symcluster levels ring 6 --family heisenberg --at J=1
+  symcluster levels chain 2 --electrons 2 --at t=1 --over U:0:10:21
   symcluster levels --family anderson 1 --at eps_d=-2,U=4,eps_1=0,V_1=1
   symcluster levels --model worked/heisenberg_j1j2.toml --at J1=1,J2=1/2
   symcluster shapes                            list the built-in cluster shapes
@@ -331,6 +332,11 @@ def _make_parser():
                          "--at t=1,U=4 (the model's own couplings, e.g. J=1 for --family "
                          "heisenberg; values: integers, decimals, 1e-3 or fractions 3/2; all "
                          "couplings needed; default: no values, exact forms only)")
+    lv.add_argument("--over", metavar="NAME:LO:HI:COUNT",
+                    help="also print every level at COUNT evenly spaced values of one "
+                         "coupling, e.g. --over U:0:20:41, the others from --at (a "
+                         "tab-separated table, one row per value and level; the exact table "
+                         "and --latex/--json carry no values then; default: no sweep)")
     lv.add_argument("--digits", type=_digits, default=12, metavar="D",
                     help="significant digits of numerical values (default 12)")
     lv.add_argument("--verification", action="store_true",
@@ -477,7 +483,10 @@ def _run_levels(args, out, err):
     if isinstance(at, (list, tuple)):
         at = " ".join(at)
     point = parse_point(at) if at is not None else None
-    if point is not None:
+    sweep = _levels_sweep(args, point, model, fixed)
+    if sweep is not None:
+        point = None                    # the sweep carries the values
+    elif point is not None:
         _check_point(point, model, fixed)
     _check_outputs([args.latex, args.json],
                    inputs=[args.cluster_file, getattr(args, "model", None)])
@@ -494,6 +503,10 @@ def _run_levels(args, out, err):
                              verification="full" if getattr(args, "verification", False)
                              else "short")
         sym = format_symmetries(spectrum) if args.show_symmetry else ""
+        if sweep is not None:
+            from symcluster.export import format_sweep
+            name, values, others = sweep
+            table += "\n" + format_sweep(spectrum, name, values, others, args.digits)
         tex = js = None
         if args.latex:
             progress.phase("output, LaTeX", n_out, "outputs", done=1)
@@ -514,6 +527,34 @@ def _run_levels(args, out, err):
     for path, _ in files:
         err.write(f"symcluster: wrote {path}\n")
     return 0
+
+
+def _levels_sweep(args, point, model, fixed):
+    """``levels --over NAME:LO:HI:COUNT``: (name, exact values, other couplings) or None."""
+    text = getattr(args, "over", None)
+    if text is None:
+        return None
+    import sympy
+    from symcluster.analysis.commands import parse_over
+    name, (lo, hi), count = parse_over(text)
+    if count is None:
+        raise InputError(f"--over {text}: give the number of values too, NAME:LO:HI:COUNT, "
+                         f"e.g. --over {name}:{lo}:{hi}:41")
+    if not lo < hi:
+        raise InputError(f"--over {text}: the range is empty; give LO < HI, e.g. "
+                         f"--over {name}:0:20:41")
+    free = [s.name for s in model.symbols if s.name not in (fixed or {})]
+    if name not in free:
+        why = "is held fixed" if name in (fixed or {}) else "is not a coupling of this model"
+        raise InputError(f"--over: {name!r} {why}; sweep one of " + ", ".join(free))
+    others = {k: v for k, v in (point or {}).items() if k != name}
+    missing = [n for n in free if n != name and n not in others]
+    if missing:
+        raise InputError(f"--over {name} needs the other couplings at fixed values; add --at "
+                         + ",".join(f"{n}=1" for n in missing) + " (with your values)")
+    _check_point({**others, name: lo}, model, fixed)
+    values = [lo + (hi - lo) * sympy.Rational(k, count - 1) for k in range(count)]
+    return name, values, others
 
 
 def _demo_args():

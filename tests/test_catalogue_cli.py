@@ -139,3 +139,23 @@ def test_a_dask_local_cluster_gives_the_rows_of_the_local_pool(tmp_path):
     workers = {r["worker"] for r in table(tmp_path / "dask.db", "SELECT worker FROM tasks")}
     assert len(workers) >= 1 and all(w.split(":")[1] != str(os.getpid()) for w in workers)
     assert all(json.loads(r["result"])["format"] == "symcluster-spectrum" for r in dask)
+
+
+def test_one_solve_runs_its_blocks_on_a_dask_local_cluster():
+    # issue 21: "large single solves can use the same executor for their blocks"; the
+    # energies are checked against the plain Fock reference (numpy eigenvalues of the
+    # bit-string Hamiltonian, tests/reference_fock.py), not against another solve
+    pytest.importorskip("distributed")
+    import numpy as np
+    from reference_fock import FockReference
+
+    import symcluster as sc
+    from symcluster.catalogue.engines import dask_executor
+    with dask_executor(n_workers=2) as ex:
+        spec = sc.solve(sc.hubbard(sc.ring(4)), executor=ex)
+    values = {"t": 1, "U": "7/2"}
+    mine = np.sort(np.repeat([float(v) for v, _ in spec.numeric(values, 20)],
+                             [d for _, d in spec.numeric(values, 20)]))
+    ref = FockReference(4, [(i, (i + 1) % 4, "t") for i in range(4)])
+    assert np.max(np.abs(mine - ref.eigenvalues({"t": 1.0, "U": 3.5}))) < 1e-12
+    assert spec.verification.checks          # a result exists only after its checks passed

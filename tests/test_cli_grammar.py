@@ -98,3 +98,64 @@ def test_every_option_has_help_and_shows_its_default():
             hidden.append(name)
     assert not missing, f"options without help: {missing}"
     assert not hidden, f"options whose default is not shown: {hidden}"
+
+
+def test_levels_over_a_sweep_prints_every_level_at_every_value(capsys):
+    # dimer, N = 2: the lowest level is (U - sqrt(U^2 + 16 t^2))/2 (module docstring)
+    code, out, _ = _run(["levels", "chain", "2", "--electrons", "2", "--at", "t=1",
+                         "--over", "U:0:8:5", "--digits", "12"], capsys)
+    assert code == 0
+    lines = out.splitlines()
+    start = next(k for k, l in enumerate(lines) if l.startswith("U\tlevel\t"))
+    head = lines[start].split("\t")
+    rows = [dict(zip(head, l.split("\t"))) for l in lines[start + 1:]]
+    us = sorted({r["U"] for r in rows}, key=float)
+    assert us == ["0", "2", "4", "6", "8"]
+    for u in us:
+        mine = [r for r in rows if r["U"] == u]
+        assert len({r["level"] for r in mine}) == len(mine) == 4      # 4 levels of N = 2
+        assert sum(int(r["deg"]) for r in mine) == 6                   # C(4, 2) states
+        lowest = min(float(r["value"]) for r in mine)
+        x = float(u)
+        assert abs(lowest - (x - math.sqrt(x * x + 16)) / 2) < 1e-10
+
+
+@pytest.mark.parametrize("argv, words", [
+    (["--over", "U:0:8", "--at", "t=1"], "number of values"),
+    (["--over", "V:0:8:3", "--at", "t=1"], "not a coupling"),
+    (["--over", "U:0:8:3"], "add --at t=1"),
+    (["--over", "U:8:0:3", "--at", "t=1"], "range is empty"),
+])
+def test_levels_over_refuses_an_incomplete_sweep(argv, words, capsys):
+    code, out, err = _run(["levels", "chain", "2", *argv], capsys)
+    assert code == 2 and out == "" and words in err and err.count("\n") == 1
+
+
+def test_thermo_over_a_sweep_repeats_the_table_per_value(capsys):
+    # canonical N = 2 energy at T from the independent Fock reference (numpy eigenvalues of
+    # the bit-string Hamiltonian, tests/reference_fock.py): E = sum E_i e^{-E_i/T} / Z
+    from fractions import Fraction
+
+    import numpy as np
+    from reference_fock import FockReference
+    code, out, _ = _run(["thermo", "chain", "2", "--electrons", "2", "--at", "t=1",
+                         "--over", "U:0:6:3", "--temperatures", "1/2", "2", "--digits", "14"],
+                        capsys)
+    assert code == 0
+    lines = out.strip().splitlines()
+    head = lines[0].split("\t")
+    assert head[:3] == ["U", "T", "mu"]
+    rows = [dict(zip(head, l.split("\t"))) for l in lines[1:]]
+    assert [(r["U"], r["T"]) for r in rows] == [(u, t) for u in ("0", "3", "6")
+                                                for t in ("1/2", "2")]
+    ref = FockReference(2, [(0, 1, "t")])
+    for r in rows:
+        e = ref.eigenvalues({"t": 1.0, "U": float(r["U"])}, n=2)
+        w = np.exp(-(e - e.min()) / float(Fraction(r["T"])))
+        assert abs(float(r["energy"]) - float(np.sum(e * w) / np.sum(w))) < 1e-10
+
+
+def test_thermo_over_needs_a_count_and_a_known_coupling(capsys):
+    for over, words in (("U:0:6", "number of values"), ("W:0:6:3", "unknown coupling")):
+        code, out, err = _run(["thermo", "chain", "2", "--over", over], capsys)
+        assert code == 2 and out == "" and words in err

@@ -101,5 +101,5 @@ def test_a_wrong_polynomial_is_never_used():
         terms["t"][((i + 1) % n, i)] = -1
     shift = {((i + 12) % n, i): 1 for i in range(n)}          # C^2 = 1, but f = x^2 - 2
     blk = LinearBlock(n, terms, integral=True, centre=((-2, 0, 1), shift))
-    with pytest.raises(VerificationError, match="suits the split"):
+    with pytest.raises(VerificationError, match="suit the split"):
         charpoly_dict(blk, ("t",), backend="flint")

@@ -630,17 +630,21 @@ def _multimodular(n, D, B0, Bs, bounds, even, hbits, rng, split=None):
     acc = None
     modulus = 1
     k = 0
-    skipped = 0
+    skipped = used = 0
     while True:
         p = _prime(k)
         k += 1
         res = _one_prime(n, D, B0, Bs, bounds, even, p, points, split)
         if res is None:
             skipped += 1
-            if skipped > 200:
-                raise VerificationError(f"no prime among {k} suits the split of a {n}-dimensional "
-                                        "block; report this block")
+            # f splits into linear factors modulo about one prime in s (Chebotarev: the
+            # Galois group of the real cyclotomic subfield is abelian of order s), so a
+            # long run of unsuitable primes is normal; far more than that is not
+            if skipped > 200 + 8 * split.degree * used:
+                raise VerificationError(f"only {used} of {k} primes suit the split of a "
+                                        f"{n}-dimensional block; report this block")
             continue
+        used += 1
         if acc is None:
             acc = [r if r <= p // 2 else r - p for r in res]
             modulus = p

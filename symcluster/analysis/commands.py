@@ -210,6 +210,10 @@ def _add_thermo(p):
                         f"most {MAX_VALUES} (default 0)")
     p.add_argument("--field", default="0",
                    help="Zeeman field h, H_Z = -h (N_up - N_dn) (default 0)")
+    p.add_argument("--over", default=None, metavar="NAME:LO:HI:COUNT",
+                   help="repeat the table at COUNT evenly spaced values of one coupling, "
+                        "e.g. U:0:8:5 (a first column holds the value; the other couplings "
+                        "come from --at; default: the --at point only)")
 
 
 def _add_plot(p):
@@ -373,9 +377,20 @@ def check_request(args, model, electrons):
     if kind == "thermo":
         temps = expand_values(args.temperatures, "--temperatures")
         mus = expand_values(args.mu, "--mu")
-        if len(temps) * len(mus) > MAX_ROWS:
-            raise InputError(f"{len(temps)} temperatures x {len(mus)} values "
-                             f"of --mu make more than {MAX_ROWS} rows; give fewer values")
+        n_over = 1
+        if args.over:
+            name, rng, n_over = parse_over(args.over)
+            known(name, "--over")
+            if n_over is None:
+                raise InputError(f"--over {args.over}: give the number of values too, "
+                                 f"NAME:LO:HI:COUNT, e.g. --over {name}:{rng[0]}:{rng[1]}:5")
+            if not rng[0] < rng[1]:
+                raise InputError(f"--over {args.over}: the range is empty; give LO < HI, e.g. "
+                                 f"--over {name}:0:8:5")
+        if len(temps) * len(mus) * n_over > MAX_ROWS:
+            raise InputError(f"{len(temps)} temperatures x {len(mus)} values of --mu"
+                             + (f" x {n_over} values of --over" if n_over > 1 else "")
+                             + f" make more than {MAX_ROWS} rows; give fewer values")
         for x in temps:
             if not x > 0:
                 raise InputError(f"temperature {x} is not positive; give temperatures T > 0 "
@@ -445,7 +460,11 @@ def run_analysis(spec, args, out=None, err=None):
     if kind in ("ground-map", "plot"):
         rng, fixed = parse_range(args.range), parse_assignment(args.fixed)
     else:
-        pt = spec.point(parse_assignment(args.at))
+        at = parse_assignment(args.at)
+        if kind == "thermo" and args.over:       # the swept coupling needs no --at value
+            name, (lo, _hi), _count = parse_over(args.over)
+            at[name] = lo
+        pt = spec.point(at)
     if kind == "ground-map":
         pts = transitions(spec, args.sector, args.coupling, rng, fixed)
         for tr in pts:
@@ -491,15 +510,25 @@ def run_analysis(spec, args, out=None, err=None):
     elif kind == "thermo":
         temps = expand_values(args.temperatures, "--temperatures")
         mus = expand_values(args.mu, "--mu")
-        rows = thermo_table(spec, {s.name: v for s, v in pt.items()}, temps, args.sector, mus,
-                            _number(args.field, "field"), args.digits)
+        base = {s.name: v for s, v in pt.items()}
         cols = ["T", "mu", "energy", "entropy", "specific_heat", "double_occupancy",
                 "density", "susceptibility"]
+        sweep = [None]
+        if args.over:
+            name, (lo, hi), count = parse_over(args.over)
+            sweep = [lo + (hi - lo) * sympy.Rational(k, count - 1) for k in range(count)]
+            cols.insert(0, name)
+        rows = []
+        for x in sweep:
+            at = base if x is None else {**base, name: x}
+            part = thermo_table(spec, at, temps, args.sector, mus,
+                                _number(args.field, "field"), args.digits)
+            rows += part if x is None else [{name: x, **r} for r in part]
         out.write("\t".join(cols) + "\n")
         for r in rows:
             out.write("\t".join(mpmath.nstr(r[c], args.digits) if isinstance(r[c], mpmath.mpf)
                                 else str(r[c]) for c in cols) + "\n")
-        frags.append(lx.latex_thermo_table(rows, digits=args.digits))
+        frags.append(lx.latex_thermo_table(rows, columns=tuple(cols), digits=args.digits))
     elif kind == "plot":
         from symcluster.analysis.plots import plot_levels, write_plot
         fig = plot_levels(spec, None, args.coupling, rng, fixed, args.sector, args.color_by,

@@ -115,18 +115,32 @@ def central_operator(lattice, irrep, vectors, pivots):
         return None
     elements, f = found
     perms = [lattice.group.elements[g] for g in elements]
-    row = {p: i for i, p in enumerate(pivots)}
-    mat = {}
+    inverses = []
+    for g in perms:
+        inv = [0] * len(g)
+        for i, x in enumerate(g):
+            inv[x] = i
+        inverses.append(tuple(inv))
+    # only the pivot entries of C w_j are needed: (C w)[p] = sum_g sign(g, s) w[s] with
+    # g s = p, so look up s = g^-1 p for each pivot p instead of moving every state of w
+    sources = {}                        # state s -> [(pivot row i, sign of g on s)]
+    for i, (up, dn) in enumerate(pivots):
+        for g, gi in zip(perms, inverses):
+            _, su, sd = permute_state(gi, up, dn)
+            sign, u2, d2 = permute_state(g, su, sd)
+            if (u2, d2) != (up, dn):    # pragma: no cover - a permutation and its inverse
+                raise ValueError("central_operator: a group element's inverse is wrong")
+            sources.setdefault((su, sd), []).append((i, sign))
+    acc = {}
     for j, w in enumerate(vectors):
-        image = {}
-        for (up, dn), x in w.items():
-            for g in perms:
-                sign, u2, d2 = permute_state(g, up, dn)
-                key = (u2, d2)
-                image[key] = image.get(key, 0) + sign * x
-        for st, v in image.items():
-            i = row.get(st)
-            if i is not None and v:
-                q, rem = divmod(v, vectors[i][st])
-                mat[(i, j)] = Fraction(v, vectors[i][st]) if rem else q
+        for st in w.keys() & sources.keys():
+            x = w[st]
+            for i, sign in sources[st]:
+                acc[(i, j)] = acc.get((i, j), 0) + sign * x
+    mat = {}
+    for (i, j), v in acc.items():
+        if v:
+            piv = vectors[i][pivots[i]]
+            q, rem = divmod(v, piv)
+            mat[(i, j)] = Fraction(v, piv) if rem else q
     return f, mat

@@ -23,8 +23,8 @@ from symcluster.version import __version__
 
 _EPS = re.compile(r"^eps(?=[_0-9]|$)")
 
-__all__ = ["format_table", "format_symmetries", "energy_text", "poly_text", "spin_text",
-           "numeric_values", "level_sort_key"]
+__all__ = ["format_table", "format_sweep", "format_symmetries", "energy_text", "poly_text",
+           "spin_text", "numeric_values", "level_sort_key"]
 
 
 class _ExactStrPrinter(StrPrinter):
@@ -281,6 +281,76 @@ def format_table(spectrum, point=None, digits=12, verification="full"):
         lines += ["", "# root k of Pj: real root k of Pj(epsilon) = 0, counted from 0 (the lowest) "
                   "upwards; epsilon is the energy"]
         lines += [f"P{j}: {poly_text(p)} = 0" for p, j in poly_names.items()]
+    return "\n".join(lines) + "\n"
+
+
+def format_sweep(spectrum, name, values, point=None, digits=12):
+    """Every level's value along a sweep of one coupling: a tab-separated table.
+
+    Parameters
+    ----------
+    spectrum : Spectrum
+    name : str
+        The swept coupling.
+    values : sequence of numbers
+        Its values (exact: integers, fractions, decimal strings or sympy Rationals).
+    point : dict, optional
+        ``{name: number}`` for every other coupling.
+    digits : int
+        Significant digits of each value (each certified, as in :func:`format_table`).
+
+    Returns
+    -------
+    str
+        Two ``#`` lines, a header, then one row per (value, level) in long form:
+        the swept value, ``level`` (the level's position in ``spectrum.levels`` and in
+        the JSON output, counted from 0), N, S, 2S+1, eta and irrep where the spectrum
+        has them, the degeneracy and the value.  Reads into pandas with
+        ``pandas.read_csv(path, sep="\\t", comment="#")``.
+
+    Examples
+    --------
+    >>> import symcluster as sc
+    >>> spec = sc.solve(sc.hubbard(sc.chain(2)), electrons=[2])
+    >>> text = format_sweep(spec, "U", [0, 4], {"t": 1}, digits=6)
+    >>> text.splitlines()[2].split()
+    ['U', 'level', 'N', 'S', '2S+1', 'eta', 'irrep', 'deg', 'value']
+    >>> min(float(r.split()[-1]) for r in text.splitlines()[3:] if r.split()[0] == "4")
+    -0.828427
+    """
+    base = dict(point or {})
+    show_eta, show_irrep = _columns(spectrum.levels)
+    show_n = any("N" in lev.quantum_numbers for lev in spectrum.levels)
+    head = [name, "level"] + (["N"] if show_n else []) + ["S", "2S+1"] + (
+        ["eta"] if show_eta else []) + (["irrep"] if show_irrep else []) + ["deg", "value"]
+    values = list(values)
+    if not values:
+        raise ValueError("format_sweep needs at least one value of the swept coupling")
+    first = spectrum.point({**base, name: values[0]})
+    others = ", ".join(f"{s.name}={_rat(v)}" for s, v in first.items()
+                       if s.name != name) or "no other coupling"
+    lines = [f"# {spectrum.model.describe()}",
+             f"# every level versus {name} at {others}; values to {digits} significant "
+             f"digits, each certified; 'level' counts spectrum.levels from 0",
+             "\t".join(head)]
+    order = sorted(range(len(spectrum.levels)),
+                   key=lambda i: level_sort_key(spectrum.levels[i], None, i))
+    for x in values:
+        pt = spectrum.point({**base, name: x})
+        vals = numeric_values(spectrum, pt, digits)
+        shown = _rat(pt[spectrum.symbol(name)])
+        for i in order:
+            lev = spectrum.levels[i]
+            qn = lev.quantum_numbers
+            s, mult = spin_text(qn)
+            row = [shown, str(i)] + ([str(qn.get("N", "-"))] if show_n else []) + [s, mult]
+            if show_eta:
+                row.append(_rat(qn["eta"]) if qn.get("eta") is not None else "-")
+            if show_irrep:
+                row.append(str(qn.get("irrep") or "-"))
+            with mpmath.workdps(digits):
+                row += [str(lev.degeneracy), mpmath.nstr(vals[i], digits)]
+            lines.append("\t".join(row))
     return "\n".join(lines) + "\n"
 
 
