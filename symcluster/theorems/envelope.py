@@ -171,6 +171,18 @@ class Curves:
             self._low[key] = [flint.fmpz_poly(c) for c in cols]
         return self._low[key]
 
+    def derivative_dict(self, fid, var):
+        """∂f/∂E (var 0) or ∂f/∂x (var 1) of factor ``fid`` as {(i, j): int} (cached)."""
+        key = ("der", fid, var)
+        if key not in self._low:
+            out = {}
+            for (i, j), c in self.dicts[fid].items():
+                k = (i, j)[var]
+                if k:
+                    out[(i - (var == 0), j - (var == 1))] = c * k
+            self._low[key] = out
+        return self._low[key]
+
     def argmin(self, fids, m):
         """The factor among ``fids`` whose lowest root at the rational m is smallest."""
         best = None

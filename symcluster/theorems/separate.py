@@ -330,14 +330,91 @@ def _near_end(curves, low, high, end, inner):
     for f in allf:
         if not free_of_roots(line_values(curves.columns(f), u, lvl[u], v, lvl[v]), u, v):
             return False
+    if _slope_line(curves, near_low, near_high, end, inner, e0):
+        return True
     for g in near_low:
         for h in near_high:
+            if curves.factors[g].degrees()[0] * curves.factors[h].degrees()[1] + \
+                    curves.factors[h].degrees()[0] * curves.factors[g].degrees()[1] > 600:
+                return False                    # a resultant too large to be worth it
             r = curves.resultant(g, h)
             if r == 0 or (r.degree() > 0 and
                           _descartes(_scaled(r, u, v - u), r.degree()) != 0):
                 return False
     b = min((curves.lowest(h, inner) for h in near_high), key=_Key)
     return any(curves.lowest(g, inner).cmp(b) < 0 for g in near_low)
+
+
+def _arb(q):
+    return flint.arb(flint.fmpq(q.numerator, q.denominator))
+
+
+def _ball(r):
+    """An arb ball holding the real algebraic number r."""
+    return _arb(r.lo).union(_arb(r.hi))
+
+
+def _eval(d, e, x):
+    """Sum of c E**i x**j over the dict d, at the balls e, x (arb: rigorous enclosure)."""
+    acc = flint.arb(0)
+    for (i, j), c in d.items():
+        acc += c * e ** i * x ** j
+    return acc
+
+
+def _slope_line(curves, near_low, near_high, end, inner, e0):
+    """The near factors' branches all start at the common minimum E0 at ``end``; show,
+    without resultants, that one branch of ``near_low`` stays below the line
+    ℓ(x) = E0 + σ (x - end) and every branch of ``near_high`` above it on the half-open
+    window from ``inner`` to ``end``.
+
+    For a factor f, F(x) = f(ℓ(x), x) vanishes at ``end`` (f(E0, end) = 0), so by the mean
+    value theorem F(x) = (x - end) F'(ξ) with ξ in the window; F'(ξ) = σ f_E + f_x on the
+    line is enclosed with arb balls (E0 in a ball from its isolating interval, x the whole
+    closed window), and an enclosure without 0 proves F ≠ 0 on the window less ``end``:
+    the number of roots of f below the line is constant there, and it is read at
+    ``inner`` by rigorous balls (none for the high factors, at least one for g).  σ lies
+    between the slopes of the branches at ``end`` (rigorous balls of -f_x / f_E; a
+    vanishing f_E, a multiple root, gives up)."""
+    old = flint.ctx.prec
+    try:
+        flint.ctx.prec = 256
+        e0.tighten(240)
+        eb = _ball(e0)
+        xb = _arb(end)
+        d = 1 if inner > end else -1
+        slopes = {}
+        for f in near_low + near_high:
+            fe = _eval(curves.derivative_dict(f, 0), eb, xb)
+            fx = _eval(curves.derivative_dict(f, 1), eb, xb)
+            if 0 in fe:
+                return False
+            slopes[f] = -fx / fe * d           # the rise of the branch into the window
+        g = min(near_low, key=lambda f: slopes[f].mid())
+        top = min((slopes[h] for h in near_high), key=lambda b: b.mid())
+        if not slopes[g] < top:
+            return False
+        mid = (slopes[g].mid() + top.mid()) / 2
+        sigma = Fraction(mid.str(30, radius=False)) * d
+        if not (slopes[g] < _arb(sigma * d) < top):
+            return False
+        window = _arb(end).union(_arb(inner))
+        line = eb + _arb(sigma) * (window - xb)
+        for f in [g] + near_high:
+            dF = _arb(sigma) * _eval(curves.derivative_dict(f, 0), line, window) + \
+                _eval(curves.derivative_dict(f, 1), line, window)
+            if 0 in dF:
+                return False
+        at_inner = eb + _arb(sigma) * (_arb(inner) - xb)
+        for f in [g] + near_high:
+            r = curves.lowest(f, inner)
+            r.tighten(200)
+            rb = _ball(r)
+            if (f == g and not rb < at_inner) or (f != g and not rb > at_inner):
+                return False
+        return True
+    finally:
+        flint.ctx.prec = old
 
 
 class _Key:
