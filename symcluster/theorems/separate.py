@@ -311,6 +311,14 @@ def _near_end(curves, low, high, end, inner):
     near_low = [f for f in near if f in low]
     near_high = [f for f in near if f in high]
     if not near_low or not near_high or set(near_low) & set(near_high):
+        return None
+    slope = _slope_line(curves, near_low, near_high, end, inner, e0)
+    big = any(curves.factors[g].degrees()[0] * curves.factors[h].degrees()[1]
+              + curves.factors[h].degrees()[0] * curves.factors[g].degrees()[1] > 600
+              for g in near_low for h in near_high)
+    if slope is None and big:
+        return None                             # neither a slope line nor a small resultant
+    if not slope and big:
         return False
     # the line: at the end, halfway between E0 and the next root of any factor there; at
     # inner, halfway between the highest near lowest root and the next root above it
@@ -330,13 +338,10 @@ def _near_end(curves, low, high, end, inner):
     for f in allf:
         if not free_of_roots(line_values(curves.columns(f), u, lvl[u], v, lvl[v]), u, v):
             return False
-    if _slope_line(curves, near_low, near_high, end, inner, e0):
+    if slope:
         return True
     for g in near_low:
         for h in near_high:
-            if curves.factors[g].degrees()[0] * curves.factors[h].degrees()[1] + \
-                    curves.factors[h].degrees()[0] * curves.factors[g].degrees()[1] > 600:
-                return False                    # a resultant too large to be worth it
             r = curves.resultant(g, h)
             if r == 0 or (r.degree() > 0 and
                           _descartes(_scaled(r, u, v - u), r.degree()) != 0):
@@ -388,12 +393,12 @@ def _slope_line(curves, near_low, near_high, end, inner, e0):
             fe = _eval(curves.derivative_dict(f, 0), eb, xb)
             fx = _eval(curves.derivative_dict(f, 1), eb, xb)
             if 0 in fe:
-                return False
+                return None                     # a multiple root at the end: give up
             slopes[f] = -fx / fe * d           # the rise of the branch into the window
         g = min(near_low, key=lambda f: slopes[f].mid())
         top = min((slopes[h] for h in near_high), key=lambda b: b.mid())
         if not slopes[g] < top:
-            return False
+            return None                         # equal first-order slopes: give up
         mid = (slopes[g].mid() + top.mid()) / 2
         sigma = Fraction(mid.str(30, radius=False)) * d
         if not (slopes[g] < _arb(sigma * d) < top):
@@ -450,8 +455,11 @@ def sector_below_open(curves, low, high, u, v, closed):
         width = (v - u) / 64
         for _ in range(12):
             inner = end + step * width
-            if _near_end(curves, low, high, end, inner):
+            ok = _near_end(curves, low, high, end, inner)
+            if ok:
                 break
+            if ok is None:                      # a smaller window would not help
+                return False
             width /= 4
         else:
             return False
