@@ -1,10 +1,10 @@
-"""Summary of an attractive-U tower catalogue database (not collected by pytest).
+"""Summary of an attractive-U tower catalogue (not collected by pytest).
 
 Reads the rows written by ``symcluster catalogue worked/catalogues/attractive_towers.toml``
-and prints, by number of sites, how many (graph, N) pairs hold the spin tower, fail it, or
+(a database) and, optionally, the JSON lines of ``tests/bench/towers_atlas.py``, and prints, by number of sites, how many (graph, N) pairs hold the spin tower, fail it, or
 could not be decided, the failures with their crossing points, and the summed task time.
 
-    python tests/bench/towers_catalogue_summary.py worked/catalogues/attractive_towers.db
+    python tests/bench/towers_catalogue_summary.py worked/catalogues/attractive_towers.db [atlas.jsonl]
 """
 
 import json
@@ -14,11 +14,30 @@ from collections import Counter
 from symcluster.catalogue import rows
 
 
-def main(path):
+def _jsonl(path):
+    seen = set()
+    with open(path) as fh:
+        for line in fh:
+            r = json.loads(line)
+            key = (r["atlas"], r["n_electrons"])
+            if key in seen:
+                continue
+            seen.add(key)
+            yield {"cluster": f"atlas G{r['atlas']}", "n_sites": r["sites"],
+                   "electrons": r["n_electrons"], "status": "done", "error": None,
+                   "seconds": r["seconds"], "reports": json.dumps({"towers": {"rows": [r]}})}
+
+
+def main(path, extra=None):
     counts, seconds, failures, errors = Counter(), Counter(), [], []
     status = Counter()
-    for r in rows(path, columns=("cluster", "n_sites", "electrons", "status", "reports",
-                                 "error", "seconds")):
+    source = list(rows(path, columns=("cluster", "n_sites", "electrons", "status", "reports",
+                                      "error", "seconds")))
+    if extra:
+        done = {(r["cluster"], r["electrons"]) for r in source if r["status"] == "done"}
+        source = [r for r in source if r["status"] == "done"] + \
+            [r for r in _jsonl(extra) if (r["cluster"], r["electrons"]) not in done]
+    for r in source:
         status[r["status"]] += 1
         if r["status"] != "done":
             if r["status"] == "failed":
@@ -51,4 +70,4 @@ def main(path):
 
 
 if __name__ == "__main__":
-    main(sys.argv[1])
+    main(*sys.argv[1:3])
