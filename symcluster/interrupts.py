@@ -72,8 +72,20 @@ def process_pool(workers):
     >>> stop_pool(pool)
     """
     import concurrent.futures
-    return concurrent.futures.ProcessPoolExecutor(
+    pool = concurrent.futures.ProcessPoolExecutor(
         max_workers=workers, initializer=_die_with_parent, initargs=(os.getpid(),))
+    # the workers are forked by the first submit; a SIGINT that lands inside the fork's
+    # after-fork hooks would raise KeyboardInterrupt there, where Python prints and drops
+    # it, and the run would go on.  So they are forked here with the stop signals recorded
+    # and delivered right after, when an interrupt is raised where it can be caught (and
+    # then the new pool is stopped before it propagates).
+    try:
+        with _held():
+            pool.submit(int)
+    except BaseException:
+        stop_pool(pool)
+        raise
+    return pool
 
 
 def stop_pool(pool):

@@ -79,3 +79,52 @@ def test_level_and_ensemble_are_exclusive():
     spec = sc.solve(sc.hubbard(sc.chain(2)))
     with pytest.raises(ModelError, match="either level="):
         correlations(spec, {"t": 1, "U": 1}, N=2, level=spec.levels[0])
+
+
+def test_zero_temperature_susceptibility_is_the_limit_of_the_thermal_one():
+    # chi(T) = beta Var(S^z_tot) (fluctuation-dissipation for a conserved S^z_tot,
+    # textbook, from memory).  A singlet ground state: the T -> 0 limit is 0 exactly, and
+    # chi(T) at small T is exponentially small.  A doublet (S = 1/2, odd N): Var = 1/4 over
+    # the ground states, so chi ~ 1/(4T) (Curie law) diverges and T = 0 is refused, while
+    # T chi(T) -> 1/4 as T -> 0.
+    spec = sc.solve(sc.hubbard(sc.ring(4)))
+    pt = {"t": 1, "U": 2}
+    c0 = correlations(spec, pt, N=4, digits=30)
+    assert c0.chi_spin == 0
+    # the lowest triplet lies 0.1426 above the singlet here: at T = 1/400,
+    # chi ~ 2 beta exp(-0.1426 beta) ~ 1e-22
+    warm = correlations(spec, pt, N=4, temperature=Fraction(1, 400), digits=30)
+    assert 0 <= warm.chi_spin < 1e-15
+    c3 = correlations(spec, pt, N=3, digits=30)
+    with pytest.raises(ModelError, match="diverges as T -> 0.*variance 1/4"):
+        c3.chi_spin
+    cold = correlations(spec, pt, N=3, temperature=Fraction(1, 200), digits=30)
+    with mpmath.workdps(40):
+        # the next N = 3 level lies 1.2 above: corrections ~ exp(-240)
+        assert abs(cold.chi_spin / 200 - mpmath.mpf(1) / 4) < mpmath.mpf(10) ** -25
+
+
+def test_zero_temperature_compressibility_in_the_mott_gap_and_at_a_charge_degeneracy():
+    # grand canonical, T -> 0: inside the half-filling gap of the particle-hole symmetric
+    # ring (mu = U/2, a unique N = 4 singlet: Lieb's theorem, from memory) N and S^z_tot do
+    # not fluctuate, so both limits are 0; at mu = E0(4) - E0(3) the N = 3 doublet and the
+    # N = 4 singlet are degenerate, N fluctuates and the compressibility diverges
+    spec = sc.solve(sc.hubbard(sc.ring(4)))
+    pt = {"t": 1, "U": 4}
+    c = correlations(spec, pt, mu=2, digits=30)
+    assert c.chi_spin == 0 and c.compressibility == 0
+    with pytest.raises(ModelError, match="fixed-N ensemble has no compressibility"):
+        correlations(spec, pt, N=4, digits=30).compressibility
+    # a rational crossing: at U = 0, E0(4) - E0(3) = 0 (the k = +-pi/2 orbitals sit at 0)
+    free = {"t": 1, "U": 0}
+    assert abs(min(lev.numeric(free) for lev in spec.select(N=4))
+               - min(lev.numeric(free) for lev in spec.select(N=3))) < 1e-12
+    with pytest.raises(ModelError, match="compressibility diverges"):
+        correlations(spec, free, mu=0, digits=30).compressibility
+
+
+def test_one_level_has_no_susceptibility():
+    spec = sc.solve(sc.hubbard(sc.chain(2)))
+    c = correlations(spec, {"t": 1, "U": 1}, level=spec.levels[0], digits=20)
+    with pytest.raises(ModelError, match="not a thermal ensemble"):
+        c.chi_spin

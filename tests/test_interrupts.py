@@ -251,3 +251,37 @@ def test_sigterm_at_random_moments_leaves_both_outputs_or_none(tmp_path):
         assert done == (code == 0)
         outcomes.append(done)
     assert not all(outcomes), "every signal came too late to stop a run"
+
+
+def test_a_sigint_while_pools_start_is_never_lost(tmp_path):
+    # a SIGINT that lands while a pool forks its workers must still raise
+    # KeyboardInterrupt in the caller (a signal raised inside the fork's after-fork hooks
+    # would be printed and dropped by Python, and the run would go on); the child starts
+    # and stops pools in a loop for about a minute, so a lost signal shows as a child
+    # that does not end within STOP_LIMIT
+    script = textwrap.dedent("""
+        import sys, time
+        from symcluster.interrupts import process_pool, stop_pool
+        print("ready", flush=True)
+        t0 = time.monotonic()
+        try:
+            while time.monotonic() - t0 < 60:
+                stop_pool(process_pool(2))
+        except KeyboardInterrupt:
+            sys.exit(7)
+        sys.exit(0)
+        """)
+    rng = random.Random(11)
+    for _ in range(6):
+        proc = subprocess.Popen([sys.executable, "-c", script], stdout=subprocess.PIPE,
+                                stderr=subprocess.DEVNULL, start_new_session=True)
+        assert proc.stdout.readline() == b"ready\n"
+        time.sleep(rng.uniform(0.2, 1.5))
+        os.kill(proc.pid, signal.SIGINT)
+        try:
+            code = proc.wait(STOP_LIMIT)
+        except subprocess.TimeoutExpired:
+            kill_all([proc.pid] + descendants(proc.pid))
+            proc.wait()
+            pytest.fail("a SIGINT sent while pools were starting was lost")
+        assert code == 7

@@ -81,3 +81,32 @@ def test_isolate_tight_cluster_and_nonreal_fall_back():
     # x^30 + 2 has no real root: the Laguerre path declines, the general one counts 30
     assert _laguerre_real_roots(flint.fmpz_poly([2] + [0] * 29 + [1]), 100) is None
     assert isolate(tuple([2] + [0] * 29 + [1]), 30) == ((), 30)
+
+
+@pytest.mark.parametrize("prec", [40, 80, 160, 400])
+def test_a_short_working_precision_gives_the_roots_or_nothing(prec):
+    # isolate first runs the Laguerre iteration at a short working precision; whatever
+    # that precision, the exact sign-change certificate must either hold for the true
+    # zeros of T_40, cos((2k-1) pi / 80) (Abramowitz & Stegun 22.16.4), or give None
+    f = flint.fmpz_poly(_chebyshev_int(40))
+    got = _laguerre_real_roots(f, 100, prec=prec)
+    if got is None:
+        return
+    assert len(got) == 40
+    with mpmath.workdps(40):
+        want = sorted(mpmath.cos((2 * k - 1) * mpmath.pi / 80) for k in range(1, 41))
+        for ball, w in zip(got, want):
+            man, exp = ball.mid().man_exp()
+            mid = mpmath.mpf(int(man)) * mpmath.mpf(2) ** int(exp)
+            assert abs(mid - w) <= abs(w) * mpmath.mpf(2) ** -95
+
+
+def test_isolate_is_unchanged_by_the_short_first_attempt():
+    # the roots of a degree-40 Chebyshev polynomial through isolate (short precision
+    # first) equal the closed form to the digits asked for (Abramowitz & Stegun 22.16.4)
+    roots, nonreal = isolate(tuple(_chebyshev_int(40)), 30)
+    assert nonreal == 0 and len(roots) == 40
+    with mpmath.workdps(40):
+        want = sorted(mpmath.cos((2 * k - 1) * mpmath.pi / 80) for k in range(1, 41))
+        for (man, exp), w in zip(roots, want):
+            assert abs(mpmath.mpf(man) * mpmath.mpf(2) ** exp - w) <= abs(w) * mpmath.mpf(10) ** -30

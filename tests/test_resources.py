@@ -372,3 +372,12 @@ def test_memory_unknown_means_the_guard_refuses_nothing(monkeypatch, tmp_path):
     monkeypatch.setattr(resources, "available_memory", lambda: 10_000)
     with pytest.raises(sc.TooLargeError):
         resources.check_size(8, [(4, 4)])
+
+
+def test_a_held_coupling_is_no_variable_of_the_memory_estimate():
+    # P(E, t, U) is homogeneous, so its algebra has one variable (U/t); with t held at 1
+    # the algebra of P(E, U) has one variable too (U): the same estimate for the same
+    # blocks (the guard used to count the held coupling as a second variable)
+    free = sc.solve(sc.hubbard(sc.ring(4)), electrons=[4])
+    held = sc.solve(sc.hubbard(sc.ring(4)), electrons=[4], fixed={"t": 1})
+    assert held.timings["memory_estimate_bytes"] == free.timings["memory_estimate_bytes"]

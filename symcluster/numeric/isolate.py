@@ -144,6 +144,13 @@ def exact_mid(ball):
 #: ``complex_roots`` needs minutes at degree 336, the iteration about a second.
 LAGUERRE_MIN_DEGREE = 24
 
+#: Bits per degree of the first, shorter working precision of the Laguerre iteration:
+#: Horner's scheme on a real-rooted polynomial near a root loses about the bits of
+#: max_j |c_j x^j| / |x f'(x)|, a few per degree for spread roots (common practice, no
+#: source); the worst-case bound (coefficient bits + degree * root-bound bits) is often
+#: ten times more.
+_SHORT_BITS_PER_DEGREE = 4
+
 
 def _short(x, nbits):
     """The midpoint of `x` rounded down to `nbits` mantissa bits, as an exact arb."""
@@ -170,7 +177,7 @@ def _sign_at(poly, cs, x, prec):
     return (val > 0) - (val < 0)
 
 
-def _laguerre_real_roots(f, bits):
+def _laguerre_real_roots(f, bits, prec=None):
     """Certified real roots of a squarefree integer polynomial with only real roots.
 
     Laguerre's method with implicit deflation over the roots already found
@@ -184,6 +191,10 @@ def _laguerre_real_roots(f, bits):
     exactly, across each ``[r − ε, r + ε]`` with ``ε = |r|·2**−bits``, and these d
     intervals are disjoint; d disjoint sign changes of a degree-d polynomial enclose
     exactly one root each.
+
+    ``prec`` is the working precision in bits; by default a bound under which no
+    evaluation on the root region loses more than its guard bits.  A lower one only
+    risks no certificate (None), never a wrong root.
 
     Returns ascending arb balls ``r ± ε`` (exact midpoints), or None when no certificate
     was obtained (non-real roots, stagnation); the caller then uses the general method.
@@ -202,7 +213,8 @@ def _laguerre_real_roots(f, bits):
     cbits = max(abs(c).bit_length() for c in cs)
     # |c_j x^j| <= 2^guard on the root region: evaluations lose at most guard bits
     guard = cbits + d * max(top_exp, 0)
-    prec = guard + 2 * bits + 64
+    if prec is None:
+        prec = guard + 2 * bits + 64
     found = []
     Q = dQ = ddQ = None               # deflation polynomial prod (x - r_j) over found roots
     with flint.ctx.workprec(prec):
@@ -238,6 +250,8 @@ def _laguerre_real_roots(f, bits):
                 if den == 0:
                     return None
                 step = (n / flint.arb(den)).mid()
+                if not step.is_finite():
+                    return None    # a too short working precision: no certificate here
                 if step < 0:
                     break          # at the noise level: x is as good as this precision allows
                 x = _short(flint.arb(x.mid() - step), bits + 64)
@@ -322,7 +336,13 @@ def isolate(coeffs, digits):
             real, nonreal = [], 0
             for f, mult in factors:
                 if f.degree() >= LAGUERRE_MIN_DEGREE:
-                    balls = _laguerre_real_roots(f, prec - 16)
+                    # first at a working precision of about what evaluating f near its
+                    # roots loses in practice (a few bits per degree), then at the
+                    # worst-case bound; only the certificate decides either way
+                    balls = _laguerre_real_roots(f, prec - 16, prec=_SHORT_BITS_PER_DEGREE
+                                                 * f.degree() + 2 * prec + 64)
+                    if balls is None:
+                        balls = _laguerre_real_roots(f, prec - 16)
                     if balls is not None:
                         real.extend((b, mult) for b in balls)
                         continue

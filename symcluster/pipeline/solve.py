@@ -540,7 +540,10 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
     # before the detection, whose cost also grows with the cluster (commutators on every
     # state with at most two electrons, the automorphism search)
     space = model.space
-    n_free = len(model.labels) - (0 if CONSTANT in model.labels else 1)
+    # variables of the exact algebra: every label but one, whether the model is
+    # homogeneous (one coupling scaled to 1) or has held couplings (their terms under
+    # CONSTANT, the part without a variable)
+    n_free = len(model.labels) - 1
     # a selection: only the detection is counted early (a lower bound of any selection)
     check_early(space, [] if selection is not None else wanted, n_free, force)
     prog.phase("symmetry detection")

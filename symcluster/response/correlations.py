@@ -10,9 +10,11 @@ canonical; :mod:`symcluster.response.ensemble`) and the certified eigenvectors o
 * ``pair[i][j]`` = <Delta_i^+ Delta_j>, Delta_i = c_{i dn} c_{i up} (on-site singlet pair);
 * on rings, structure factors S(q) = (1/L) sum_ij cos(q (i - j)) <S_i . S_j> and
   N(q) likewise from <n_i n_j>, q = 2 pi m / L;
-* at T > 0, uniform static susceptibilities chi_s = beta (<(S^z_tot)^2> - <S^z_tot>^2)
-  (per field coupling to 2 S^z... see docs/greens.md: the response of <S^z_tot> to a field
-  h in -h S^z_tot) and, grand canonical, the compressibility beta (<N^2> - <N>^2).
+* uniform static susceptibilities: at T > 0 chi_s = beta (<(S^z_tot)^2> - <S^z_tot>^2)
+  (the response of <S^z_tot> to a field h in -h S^z_tot) and, grand canonical, the
+  compressibility beta (<N^2> - <N>^2); at T = 0 their T -> 0 limits, exactly 0 where the
+  conserved S^z_tot (N) does not vary among the ground states, refused (ModelError) where
+  it does and the limit diverges (Curie law).
 
 Indices are spatial modes (site * n_orbitals + orbital).  Values are given at a point
 (mpmath numbers, ``digits`` certified); exact expressions in the couplings are not
@@ -22,6 +24,7 @@ dimension d, summed with the probabilities (``certificate["error"]``).
 """
 
 from dataclasses import dataclass
+from fractions import Fraction
 
 import flint
 import mpmath
@@ -45,11 +48,42 @@ class Correlations:
     occupation: list
     n_total: object
     sz_total: object
-    chi_spin: object
-    compressibility: object
+    chi_data: object             # (value, None) or (None, why there is no value)
+    compressibility_data: object
     digits: int
     certificate: dict
     positions: object = None
+
+    @property
+    def chi_spin(self):
+        """Static uniform spin susceptibility ``d<S^z_tot>/dh`` for ``H - h S^z_tot``.
+
+        T > 0: ``beta (<(S^z_tot)^2> - <S^z_tot>^2)``.  T = 0 ensembles give its T -> 0
+        limit: exactly 0 when S^z_tot does not fluctuate among the ground states (all
+        singlets, or one S^z only); when it does (a multiplet with S > 0) the limit
+        diverges as Var/T (Curie law) and a :class:`ModelError` says so.
+
+        Examples
+        --------
+        >>> import symcluster as sc
+        >>> c = correlations(sc.solve(sc.hubbard(sc.ring(4))), {"t": 1, "U": 2}, N=4, digits=20)
+        >>> c.chi_spin                       # singlet ground state: exactly 0 as T -> 0
+        mpf('0.0')
+        """
+        value, why = self.chi_data
+        if why is not None:
+            raise ModelError(why)
+        return value
+
+    @property
+    def compressibility(self):
+        """``d<N>/d mu`` in a grand canonical ensemble: ``beta (<N^2> - <N>^2)`` at T > 0,
+        its T -> 0 limit (0, or a :class:`ModelError` where it diverges) at T = 0;
+        a fixed-N ensemble has none (:class:`ModelError`)."""
+        value, why = self.compressibility_data
+        if why is not None:
+            raise ModelError(why)
+        return value
 
     def structure_factor(self, m, kind="spin"):
         """S(q) (``kind="spin"``) or N(q) (``"density"``) at q = 2 pi m / L on a ring.
@@ -174,6 +208,44 @@ def _apply(product, state):
     return sign, (up, dn)
 
 
+def _static_responses(ens, s2, n1, n2, szt, nt):
+    """(chi_data, compressibility_data) of :class:`Correlations`."""
+    if ens.beta is not None:
+        b = mpmath.mpf(ens.beta.numerator) / ens.beta.denominator
+        chi = (b * (to_mpf(s2) / 4 - szt ** 2), None)
+        comp = (b * (to_mpf(n2) - nt ** 2), None) if ens.n is None else \
+            (None, "a fixed-N ensemble has no compressibility; give mu (grand canonical)")
+        return chi, comp
+    if ens.kind == "eigenstate":
+        why = ("one level's states are not a thermal ensemble; give N or mu (with or without "
+               "a temperature) for a susceptibility")
+        return (None, why), (None, why)
+    # T = 0: every ground state has the same probability, so the variances of the
+    # conserved S^z_tot and N over the ground states are exact rationals; the T -> 0
+    # limit of beta Var is 0 where Var = 0 and diverges (Curie law) otherwise
+    total = sum(m.space.dim for m in ens.members)
+    var = {}
+    for name, q in (("Sz", lambda sec: Fraction(sec[0] - sec[1], 2)),
+                    ("N", lambda sec: Fraction(sec[0] + sec[1]))):
+        m1 = sum((m.space.dim * q(m.sector) for m in ens.members), Fraction(0)) / total
+        m2 = sum((m.space.dim * q(m.sector) ** 2 for m in ens.members), Fraction(0)) / total
+        var[name] = m2 - m1 ** 2
+    if var["Sz"]:
+        chi = (None, f"the static uniform spin susceptibility diverges as T -> 0 here: S^z_tot "
+                     f"varies among the ground states (variance {var['Sz']}, chi ~ "
+                     f"{var['Sz']}/T, Curie law); give a temperature")
+    else:
+        chi = (mpmath.mpf(0), None)
+    if ens.n is not None:
+        comp = (None, "a fixed-N ensemble has no compressibility; give mu (grand canonical)")
+    elif var["N"]:
+        comp = (None, f"the compressibility diverges as T -> 0 here: N varies among the "
+                      f"ground states at this mu (variance {var['N']}); give a temperature")
+    else:
+        comp = (mpmath.mpf(0), None)
+    return chi, comp
+
+
 def _measure(system, ens):
     space = system.space
     M = space.n_modes
@@ -259,12 +331,7 @@ def _measure(system, ens):
         out_docc = [to_mpf(x) for x in docc]
         out_occ = [to_mpf(x) for x in occ]
         nt, szt = to_mpf(n1), to_mpf(s1) / 2
-        chi = comp = None
-        if ens.beta is not None:
-            b = mpmath.mpf(ens.beta.numerator) / ens.beta.denominator
-            chi = b * (to_mpf(s2) / 4 - szt ** 2)
-            if ens.n is None:
-                comp = b * (to_mpf(n2) - nt ** 2)
+        chi, comp = _static_responses(ens, s2, n1, n2, szt, nt)
     if err > mpmath.mpf(10) ** (-(digits + 2)):
         raise VerificationError(f"correlations are certified only to {float(err):.1e}")
     from symcluster.response.greens import translation_shift

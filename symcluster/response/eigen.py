@@ -31,7 +31,6 @@ C. Davis, W. M. Kahan, "The rotation of eigenvectors by a perturbation. III",
 SIAM J. Numer. Anal. 7, 1 (1970) [from memory].
 """
 
-from contextlib import contextmanager
 from dataclasses import dataclass, field
 from fractions import Fraction
 import flint
@@ -40,56 +39,15 @@ import numpy as np
 
 from symcluster.errors import ModelError, VerificationError
 from symcluster.hilbert.action import HamiltonianAction
+from symcluster.response.balls import arb_precision, to_arb, to_mpf, to_mpf_list, upper
 from symcluster.spectrum import check_digits, energy_numeric
+from symcluster.symmetry.termgraph import term_lattice_symmetry
 
 __all__ = ["PointSystem", "SectorEigen", "Eigenspace", "arb_precision", "to_mpf", "to_arb",
-           "upper", "ladder_matrix", "sector_sign"]
+           "upper", "ladder_matrix", "sector_sign", "to_mpf_list"]
 
 #: iterations of the refinement before giving up (each roughly doubles the digits)
 MAX_ITERATIONS = 12
-
-
-@contextmanager
-def arb_precision(digits):
-    """python-flint's working precision set for ``digits`` decimal digits, restored after.
-
-    python-flint's precision is process-wide: do not run this side by side in threads
-    (DEVELOPERS.md).
-    """
-    old = flint.ctx.prec
-    flint.ctx.prec = int(3.33 * digits) + 16
-    try:
-        yield
-    finally:
-        flint.ctx.prec = old
-
-
-def to_arb(x):
-    """An mpmath number (or int, Fraction) as an exact python-flint ball."""
-    if isinstance(x, Fraction):
-        return flint.arb(flint.fmpq(x.numerator, x.denominator))
-    if isinstance(x, int):
-        return flint.arb(x)
-    if not x:
-        return flint.arb(0)
-    m, e = mpmath.frexp(x)
-    k = mpmath.mp.prec + 64
-    return flint.arb((int(mpmath.ldexp(m, k)), int(e) - k))
-
-
-def to_mpf(a):
-    """The midpoint of a python-flint ball as an mpmath number (exact conversion, whatever
-    mpmath's working precision)."""
-    man, exp = a.mid().man_exp()
-    man = int(man)
-    with mpmath.workprec(max(64, man.bit_length() + 8)):
-        return mpmath.ldexp(mpmath.mpf(man), int(exp))
-
-
-def upper(a):
-    """A float upper bound of ``|a|`` for a ball ``a`` (rounded up)."""
-    hi = a.abs_upper()
-    return float(to_mpf(hi) + to_mpf(hi.rad())) * (1 + 1e-12) + 1e-300
 
 
 def sector_sign(up, dn, mode, spin):
@@ -221,6 +179,10 @@ class PointSystem:
         self._sectors = {}
         self._partial = {}
         self._prepared = {}
+        self._lattice = False
+        self._exact = {}
+        self.block_sectors = {}       # response.blockeig.BlockSector per sector, by lehmann
+        self.block_cache = {}         # response.blockeig's exact block data per sector
 
     # ----- levels ---------------------------------------------------------------------
     def _values_of_n(self, n):
@@ -313,8 +275,9 @@ class PointSystem:
 
     def worst_eps(self):
         """The largest projector bound of the eigenspaces certified so far."""
-        return max((sp.eps for prep in self._prepared.values() for sp in prep["spaces"]
-                    if sp.eps is not None), default=0.0)
+        return max([sp.eps for prep in self._prepared.values() for sp in prep["spaces"]
+                    if sp.eps is not None] + [b.worst_eps for b in self.block_sectors.values()
+                                              if b is not None], default=0.0)
 
     # ----- sectors ----------------------------------------------------------------------
     def has_sector(self, n_up, n_dn):
@@ -346,35 +309,49 @@ class PointSystem:
         return self._partial[key][1]
 
     def exact_matrix(self, states, index):
-        """H of a sector at the point: ``{(row, col): Fraction}``."""
+        """H of a sector at the point: ``{(row, col): int or Fraction}`` (computed once per
+        sector; both have ``numerator`` and ``denominator``)."""
+        key = (states[0], len(states)) if states else None
+        cache = self._exact
+        if key in cache:
+            return cache[key]
         entries = {}
-        vals = self.values
+        # integer values as ints: the sums stay integers where they can
+        vals = {lab: (v.numerator if v.denominator == 1 else v) for lab, v in self.values.items()}
         for col, st in enumerate(states):
             for st2, lab, c in self._action[st]:
                 row = index.get(st2)
                 if row is None:
                     continue
-                entries[(row, col)] = entries.get((row, col), 0) + Fraction(c) * vals[lab]
-        return {k: v for k, v in entries.items() if v}
+                entries[(row, col)] = entries.get((row, col), 0) + c * vals[lab]
+        out = cache[key] = {k: v for k, v in entries.items() if v}
+        return out
 
-    def _prepare(self, n_up, n_dn):
-        """Sector states, exact matrix, float eigenvectors and the matched eigenspaces."""
+    def _prepare(self, n_up, n_dn, floats=False):
+        """Sector states and its eigenspaces (exact levels, columns in ascending order);
+        with ``floats``, also the exact matrix and its float eigenvectors, matched with
+        the eigenspaces (computed on first need)."""
         key = (n_up, n_dn)
-        if key in self._prepared:
-            return self._prepared[key]
-        states = self.space.sector_states(n_up, n_dn)
-        index = {s: i for i, s in enumerate(states)}
-        n = len(states)
-        levels = self.sector_levels(n_up, n_dn)
-        exact = self.exact_matrix(states, index)
-        dense = np.zeros((n, n))
-        for (i, j), v in exact.items():
-            dense[i, j] = float(v)
-        fvals, fvecs = np.linalg.eigh(dense)
-        spaces = self._match(levels, fvals, key)
-        work = self._sector_work(spaces)
-        out = self._prepared[key] = {"states": states, "index": index, "exact": exact,
-                                     "fvecs": fvecs, "spaces": spaces, "work": work}
+        out = self._prepared.get(key)
+        if out is None:
+            states = self.space.sector_states(n_up, n_dn)
+            spaces = self.merged_spaces(self.sector_levels(n_up, n_dn))
+            col = 0
+            for sp in spaces:
+                sp.columns = list(range(col, col + sp.dim))
+                col += sp.dim
+            out = self._prepared[key] = {"states": states, "spaces": spaces,
+                                         "index": {s: i for i, s in enumerate(states)},
+                                         "work": self._sector_work(spaces)}
+        if floats and "fvecs" not in out:
+            n = len(out["states"])
+            exact = self.exact_matrix(out["states"], out["index"])
+            dense = np.zeros((n, n))
+            for (i, j), v in exact.items():
+                dense[i, j] = float(v)
+            fvals, fvecs = np.linalg.eigh(dense)
+            self._match(out["spaces"], fvals, key)
+            out["exact"], out["fvecs"] = exact, fvecs
         return out
 
     def _sector_work(self, spaces):
@@ -396,7 +373,7 @@ class PointSystem:
 
     def _refine_sector(self, key, only):
         """Refine every column (``only`` None) or the columns of the eigenspaces ``only``."""
-        prep = self._prepare(*key)
+        prep = self._prepare(*key, floats=True)
         states, index, exact, spaces = prep["states"], prep["index"], prep["exact"], prep["spaces"]
         work = prep["work"]
         n = len(states)
@@ -437,30 +414,36 @@ class PointSystem:
                     f"to {self.digits} digits (bound {float(worst):.1e}); report this model and point")
         return SectorEigen(key, states, index, X, spaces, H, it, worst, rows)
 
-    def _match(self, levels, fvals, sector):
-        """Eigenspaces: exact levels merged where equal at the point, matched to columns."""
+    def merged_spaces(self, levels):
+        """Eigenspaces of ``sector_levels``: exact levels merged where equal at the point."""
         tol_equal = mpmath.mpf(10) ** (-(self.digits + 8)) * float(self.scale)
-        ordered = sorted(levels, key=lambda x: x[1])
         spaces = []
-        for lev, val, mult in ordered:
+        for lev, val, mult in sorted(levels, key=lambda x: x[1]):
             if spaces and abs(val - spaces[-1].value) <= tol_equal:
                 spaces[-1].dim += mult
                 spaces[-1].levels.append(lev)
             else:
                 spaces.append(Eigenspace(val, mult, [], [lev]))
-        col = 0
+        return spaces
+
+    def lattice(self):
+        """The model's lattice group (term automorphisms, each checked on H), or None."""
+        if self._lattice is False:
+            self._lattice = term_lattice_symmetry(self.model)
+        return self._lattice
+
+    def _match(self, spaces, fvals, sector):
+        """Check the float eigenvalues against the eigenspaces' exact values, column by
+        column (ascending)."""
         norm = float(np.max(np.abs(fvals))) if len(fvals) else 1.0
         tol = 1e-7 * max(norm, float(self.scale), 1.0)
         for sp in spaces:
-            sp.columns = list(range(col, col + sp.dim))
-            col += sp.dim
             for c in sp.columns:
                 if abs(fvals[c] - float(sp.value)) > tol:
                     raise VerificationError(
                         f"sector N_up={sector[0]}, N_dn={sector[1]}: eigenvalue {fvals[c]:.12g} "
                         f"of the sector matrix does not match the level {float(sp.value):.12g} "
                         "of the spectrum; report this model and point")
-        return spaces
 
     def _groups(self, spaces):
         """Eigenspaces closer than float64 can resolve: refined as one cluster, then split."""

@@ -35,11 +35,13 @@ from dataclasses import dataclass, field
 
 import flint
 import mpmath
+import numpy as np
 
 from symcluster.errors import ModelError, VerificationError
-from symcluster.response.eigen import PointSystem, arb_precision, to_mpf
+from symcluster.response.eigen import PointSystem, arb_precision, to_arb, to_mpf, to_mpf_list
 from symcluster.response.ensemble import exact_number, make_ensemble
 from symcluster.response.lehmann import lehmann_sums
+from symcluster.response.momenta import translation_group
 from symcluster.spectrum import Spectrum
 
 __all__ = ["greens_function", "greens_matrix", "GreensFunction", "GreensMatrix", "spin_index",
@@ -254,6 +256,10 @@ class GreensMatrix:
     n_modes: int
     positions: object = None            # site positions along a ring, for momenta
     hole_sum: list = field(default=None, repr=False)
+    # (i, j) -> representative pair of its orbit under the lattice group (G_ij = G_g(i)g(j))
+    pair_orbits: dict = field(default=None, repr=False)
+    # the cluster's translation group (response.momenta.Translations) or None
+    translations: object = None
 
     def element(self, i, j):
         """The :class:`GreensFunction` G_ij."""
@@ -269,22 +275,51 @@ class GreensMatrix:
                               dict(self.certificate), i, j, self.spin, self.description)
 
     def momentum(self, m):
-        """G(k) at k = 2 pi m / L on a ring: (1/L) sum_ij exp(-i k (x_i - x_j)) G_ij.
+        """G(k) = (1/L) sum_ij exp(-i k (x_i - x_j)) G_ij on a cluster with translations.
+
+        On a ring (sites i -> i+1 mod L a symmetry) ``m`` is an integer, k = 2 pi m / L.
+        On other clusters with a translation group (:mod:`symcluster.response.momenta`,
+        e.g. periodic grids) ``m`` is a tuple, one integer per generator of
+        ``self.translations`` (an integer when there is one generator):
+        k = 2 pi (m_1/n_1, ..., m_r/n_r) in the generators' coordinates.  The weight
+        bound of the result is L times that of the G_ij.
 
         Raises
         ------
         ModelError
-            The cluster has no cyclic translation (site i -> i + 1 mod L).
+            The cluster has no translation group, or ``m`` does not fit it.
+
+        Examples
+        --------
+        >>> import symcluster as sc
+        >>> spec = sc.solve(sc.hubbard(sc.grid(3, 3, periodic=True)), electrons=[0, 1])
+        >>> gm = greens_matrix(spec, {"t": 1, "U": 4}, N=0, mu=0, digits=20)
+        >>> gm.translations.orders                          # x -> x+1, y -> y+1
+        [3, 3]
+        >>> [(mpmath.nstr(w, 8), mpmath.nstr(x, 8)) for w, x in gm.momentum((1, 0)).poles]
+        [('-1.0', '1.0')]
         """
-        if self.positions is None:
-            raise ModelError("momenta need a cluster whose sites i -> i+1 (mod L) is a "
-                             "symmetry of every bond and site label (a ring); this one is not")
-        L = len(self.positions)
+        if self.positions is not None and isinstance(m, int) and not isinstance(m, bool):
+            L = len(self.positions)
+            coords, orders, ms = [(x,) for x in self.positions], [L], (m,)
+        elif self.translations is not None:
+            tr = self.translations
+            coords, orders, L = tr.coords, tr.orders, len(tr.coords)
+            ms = (m,) if isinstance(m, int) and not isinstance(m, bool) else m
+            if not isinstance(ms, tuple) or len(ms) != len(orders) or any(
+                    isinstance(x, bool) or not isinstance(x, int) for x in ms):
+                raise ModelError(f"momentum {m!r}: give {len(orders)} integer(s), one per "
+                                 f"translation generator (orders {orders})")
+        else:
+            raise ModelError("momenta need a cluster with a translation group (an abelian group "
+                             "of symmetries moving site 0 to every site once, e.g. a ring or a "
+                             "periodic grid); this one has none")
         cut = mpmath.mpf(10) ** (-(self.digits + 2))
         with mpmath.workdps(self.digits + 10):
-            k = 2 * mpmath.pi * m / L
-            cosines = [[mpmath.cos(k * (self.positions[i] - self.positions[j])) for j in range(L)]
-                       for i in range(L)]
+            def phase(i, j):
+                return 2 * mpmath.pi * sum(mpmath.mpf(x * (a - b)) / n for x, a, b, n in
+                                           zip(ms, coords[i], coords[j], orders))
+            cosines = [[mpmath.cos(phase(i, j)) for j in range(L)] for i in range(L)]
 
             def fold(mat):
                 return sum((cosines[i][j] * mat[i][j] for i in range(L) for j in range(L)),
@@ -296,26 +331,30 @@ class GreensMatrix:
                     poles.append((om, +w))
                     exact.append((ex, None))
             moments = {"m0": fold(self.m0), "m1": fold(self.m1), "n": fold(self.n)}
-        return GreensFunction(poles, exact, self.beta, self.mu, self.digits, moments,
-                              dict(self.certificate), f"k={m}/{L}*2pi", None, self.spin,
-                              self.description)
+        cert = dict(self.certificate)
+        cert["weight_error"] = cert["weight_error"] * L
+        label = "k=2pi(" + ", ".join(f"{x}/{n}" for x, n in zip(ms, orders)) + ")"
+        return GreensFunction(poles, exact, self.beta, self.mu, self.digits, moments, cert,
+                              label, None, self.spin, self.description)
 
     def matsubara(self, beta, n_max):
         """All G_ij(i omega_n) at once: list over n of M x M nested lists of mpc (each
         element's tail checked as in :meth:`GreensFunction.matsubara`)."""
         M = self.n_modes
         pairs = [(i, j) for i in range(M) for j in range(i, M)]
-        elements = {key: self.element(*key) for key in pairs}
+        rep = self.pair_orbits or {key: key for key in pairs}
+        reps = sorted(set(rep.values()))
+        elements = {key: self.element(*key) for key in reps}
         with mpmath.workdps(self.digits + 10):
-            b = elements[pairs[0]]._check_beta(beta)
-            cols = [[W[i][j] for W in self.weights] for i, j in pairs]
+            b = elements[reps[0]]._check_beta(beta)
+            cols = [[W[i][j] for W in self.weights] for i, j in reps]
             sums = _matsubara_sums(self.omegas, cols, b, n_max, self.digits)
             last = (2 * n_max - 1) * mpmath.pi / b
-            for key, vals in zip(pairs, sums):
+            for key, vals in zip(reps, sums):
                 elements[key]._check_tail(vals[-1], last)
-        vals = dict(zip(pairs, sums))
-        return [[[vals[(min(i, j), max(i, j))][n] for j in range(M)] for i in range(M)]
-                for n in range(n_max)]
+        vals = dict(zip(reps, sums))
+        series = [[vals[rep[(min(i, j), max(i, j))]] for j in range(M)] for i in range(M)]
+        return [[[col[n] for col in row] for row in series] for n in range(n_max)]
 
 
 def _matsubara_sums(omegas, columns, beta, n_max, digits):
@@ -323,27 +362,31 @@ def _matsubara_sums(omegas, columns, beta, n_max, digits):
     arithmetic (two real matrix products); returns [c][n] -> mpc."""
     P = len(omegas)
     with arb_precision(digits + 10):
-        from symcluster.response.eigen import to_arb
         b = to_arb(beta)
         step = 2 * flint.arb.pi() / b
-        om = [to_arb(x) for x in omegas]
-        om2 = [x * x for x in om]
-        kre = flint.arb_mat(n_max, max(P, 1))
-        kim = flint.arb_mat(n_max, max(P, 1))
-        for n in range(n_max):
-            wn = step * (n + flint.arb(1) / 2)
-            wn2 = wn * wn
-            for p in range(P):
-                inv = 1 / (om2[p] + wn2)
-                kre[n, p] = -om[p] * inv
-                kim[n, p] = -wn * inv
-        W = flint.arb_mat(max(P, 1), len(columns))
+        half = flint.arb(1) / 2
+        wn = np.array([step * (n + half) for n in range(n_max)], dtype=object)
+        # poles of equal |omega| share the kernel 1/(omega^2 + w^2) (particle-hole pairs)
+        mags = sorted({abs(x) for x in omegas}) or [mpmath.mpf(0)]
+        slot = {m: q for q, m in enumerate(mags)}
+        sq = np.array([to_arb(m) ** 2 for m in mags], dtype=object)
+        # 1/(i w - om) = (-om - i w) / (om^2 + w^2): one kernel K = 1/(om^2 + w^2) built
+        # elementwise on arrays of balls; Re = K (-om o W), Im = -w o (K W), the rows of W
+        # summed per |omega|
+        K = flint.arb_mat((1 / (sq[None, :] + (wn * wn)[:, None])).tolist())
+        Q = len(mags)
+        W = flint.arb_mat(Q, len(columns))
+        Wre = flint.arb_mat(Q, len(columns))
         for c, col in enumerate(columns):
             for p in range(P):
-                W[p, c] = to_arb(col[p])
-        re = (kre * W).tolist()
-        im = (kim * W).tolist()
-        return [[mpmath.mpc(to_mpf(re[n][c]), to_mpf(im[n][c])) for n in range(n_max)]
+                x = to_arb(col[p])
+                q = slot[abs(omegas[p])]
+                W[q, c] = W[q, c] + x
+                Wre[q, c] = Wre[q, c] - to_arb(omegas[p]) * x
+        re = to_mpf_list((K * Wre).transpose().entries())
+        kw = np.array((K * W).tolist(), dtype=object) * (-wn)[:, None]
+        im = to_mpf_list(kw.T.ravel())
+        return [[mpmath.mpc(re[c * n_max + n], im[c * n_max + n]) for n in range(n_max)]
                 for c in range(len(columns))]
 
 
@@ -392,7 +435,8 @@ def greens_matrix(spectrum: Spectrum, point: Mapping[str, object], spin: str = "
     gm = GreensMatrix(d["omegas"], d["exact"], d["weights"], ens.beta, ens.mu, system.digits,
                       d["m0"], d["m1"], d["n"], d["certificate"], "up" if s == 0 else "down",
                       ens.describe(), d["n_modes"], translation_shift(system.model),
-                      d["hole_sum"])
+                      d["hole_sum"], _pair_orbits(system, d["n_modes"]),
+                      translation_group(system.model, system.lattice()))
     _check_sum_rules(gm, ens, system)
     return gm
 
@@ -443,6 +487,21 @@ def greens_function(spectrum: Spectrum, point: Mapping[str, object], i: int = 0,
     gm = greens_matrix(spectrum, point, spin, N, temperature, mu, digits)
     space = spectrum.model.space
     return gm.element(mode_index(space, i), mode_index(space, j))
+
+
+def _pair_orbits(system, M):
+    """(i, j) with i <= j -> the smallest pair of its orbit under the lattice group (the
+    ensemble is a function of H, which every group element leaves invariant, so
+    G_ij = G_g(i)g(j); and G_ij = G_ji for real eigenvectors); None without a group."""
+    lat = system.lattice()
+    if lat is None:
+        return None
+    out = {}
+    for i in range(M):
+        for j in range(i, M):
+            images = [tuple(sorted((g[i], g[j]))) for g in lat.group.elements]
+            out[(i, j)] = min(images)
+    return out
 
 
 def _check_sum_rules(gm, ens, system):

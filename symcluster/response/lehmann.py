@@ -8,7 +8,9 @@ import mpmath
 import sympy
 
 from symcluster.errors import VerificationError
-from symcluster.response.eigen import arb_precision, ladder_matrix, to_arb, to_mpf, upper
+from symcluster.response.blockeig import BlockSector, block_sector, member_vectors, symmetrizer
+from symcluster.response.eigen import (arb_precision, ladder_matrix, to_arb, to_mpf, to_mpf_list,
+                                       upper)
 
 __all__ = ["lehmann_sums"]
 
@@ -65,7 +67,7 @@ def lehmann_sums(system, ens, s):
         for mem in ens.members:
             by_sector.setdefault(mem.sector, []).append(mem)
         for sec, mems in by_sector.items():
-            eig = system.vectors(*sec, [m.space for m in mems])
+            eig = _members(system, sec, [m.space for m in mems])
             cols = [c for m in mems for c in m.space.columns]
             prob = {}
             for m in mems:
@@ -82,7 +84,7 @@ def lehmann_sums(system, ens, s):
                 if tgt is None:
                     parts[d] = None
                     continue
-                teig = system.sector(*tgt)
+                teig = _target(system, tgt)
                 nt = len(teig.states)
                 ys, hys = [], []
                 for m in modes:
@@ -114,6 +116,9 @@ def lehmann_sums(system, ens, s):
                 if part is None:
                     continue
                 tgt, teig, ys, _ = part
+                if isinstance(teig, BlockSector):
+                    poles.extend(_block_poles(ens, teig, ys, mems, cols, d, M, hole_sum))
+                    continue
                 Xt = teig.X.transpose()
                 ts = [(Xt * y).tolist() for y in ys]      # <b|c^(+)_m|a>, rows b
                 for mem in mems:
@@ -157,6 +162,87 @@ def lehmann_sums(system, ens, s):
             "n": nm, "hole_sum": hm, "certificate": cert, "n_modes": M}
 
 
+def _target(system, tgt):
+    """The eigenvectors of a target sector: block by block where the model has a lattice
+    group (:mod:`symcluster.response.blockeig`), else (or when a block cannot separate
+    two levels in float64) the whole sector refined."""
+    if tgt in system._sectors:
+        return system.sector(*tgt)
+    if tgt not in system.block_sectors:
+        lat = system.lattice()
+        bs = None
+        if lat is not None and len(lat.group.elements) > 1:
+            bs = block_sector(system, lat, *tgt)
+        system.block_sectors[tgt] = bs
+    bs = system.block_sectors[tgt]
+    return bs if bs is not None else system.sector(*tgt)
+
+
+def _members(system, sec, spaces):
+    """Certified vectors of the ensemble's eigenspaces in one sector: from one symmetry
+    block each where possible (blockeig.member_vectors), else the sector's columns."""
+    lat = system.lattice()
+    key = (sec[0], sec[1])
+    if lat is not None and len(lat.group.elements) > 1 and key not in system._sectors:
+        got = member_vectors(system, lat, *sec, spaces)
+        if got is not None:
+            return got
+    return system.vectors(*sec, spaces)
+
+
+def _block_poles(ens, teig, ys, mems, cols, d, M, hole_sum):
+    """Poles into a block sector: the projections onto each block's eigenvectors,
+    summed over the lattice group (blockeig's module docstring)."""
+    C = len(cols)
+    nt = len(teig.states)
+    ylists = [y.tolist() for y in ys]
+    Y = flint.arb_mat([[v for m in range(M) for v in ylists[m][r]] for r in range(nt)])
+    order = len(teig.group)
+    acc = {}
+    for blk in teig.blocks:
+        T = (blk.X.transpose() * (blk.BT * Y)).tolist()
+        f = flint.arb(flint.fmpq(blk.factor.numerator, blk.factor.denominator))
+        for sp, bcols, eps, _ in blk.clusters:
+            for mem in mems:
+                key = (id(mem), id(sp))
+                entry = acc.get(key)
+                if entry is None:
+                    entry = acc[key] = [mem, sp, [flint.arb(0)] * (M * M), mpmath.mpf(0)]
+                V = entry[2]
+                fp = f * to_arb_prob(mem.prob)
+                for a in (cols.index(c) for c in mem.space.columns):
+                    for b in bcols:
+                        t = [T[b][m * C + a] for m in range(M)]
+                        for i in range(M):
+                            ti = fp * t[i]
+                            for j in range(i, M):
+                                V[i * M + j] += ti * t[j]
+                entry[3] += float(blk.factor) * mpmath.mpf(mem.prob) * (
+                    mem.space.eps * len(bcols) + eps * (1 + mem.space.eta) * mem.space.dim)
+    if not acc:
+        return []
+    entries = list(acc.values())
+    stack = flint.arb_mat(M * M, len(entries))
+    for c, (_, _, V, _) in enumerate(entries):
+        for i in range(M):
+            for j in range(i, M):
+                stack[i * M + j, c] = V[i * M + j]
+                stack[j * M + i, c] = V[i * M + j]
+    sym = (symmetrizer(teig.group, M) * stack).tolist()
+    out = []
+    for c, (mem, sp, _, err) in enumerate(entries):
+        W = [[sym[i * M + j][c] / order for j in range(M)] for i in range(M)]
+        if d > 0:
+            om = sp.value - mem.space.value - ens.mu
+        else:
+            om = mem.space.value - sp.value - ens.mu
+            for i in range(M):
+                for j in range(M):
+                    hole_sum[i][j] = hole_sum[i][j] + W[i][j]
+        out.append((om, W, err, (mem.space, sp, d)))
+    return out
+
+
 def to_arb_prob(p):
     return to_arb(mpmath.mpf(p))
 
@@ -171,14 +257,11 @@ def _apply_rows(ops, rows, n_out, ncols):
 
 
 def _wdots(A, B, pvec):
-    """sum_k p_k sum_r A[r, k] B[r, k]."""
-    a, b = A.tolist(), B.tolist()
+    """sum_k p_k sum_r A[r, k] B[r, k] (the diagonal of one ball matrix product)."""
+    P = A.transpose() * B
     total = flint.arb(0)
     for k, p in enumerate(pvec):
-        acc = flint.arb(0)
-        for ra, rb in zip(a, b):
-            acc += ra[k] * rb[k]
-        total += p * acc
+        total += p * P[k, k]
     return total
 
 
@@ -196,16 +279,17 @@ def _merge(system, ens, poles, M):
             merged.append([om, W, err, handle])
     omegas, exact, weights = [], [], []
     worst = mpmath.mpf(0)
+    cut = 10.0 ** (-(system.digits + 2))
     for om, W, err, handle in merged:
-        Wm = [[to_mpf(x) for x in row] for row in W]
-        rad = max(upper(x.rad()) for row in W for x in row)
-        e = err + rad
-        worst = max(worst, e)
-        if max(abs(x) for row in Wm for x in row) <= mpmath.mpf(10) ** (-(system.digits + 2)):
+        flat = [x for row in W for x in row]
+        rad = max(float(x.rad()) for x in flat) * (1 + 1e-12) + 1e-300
+        worst = max(worst, err + rad)
+        if max(upper(x) for x in flat) <= cut:      # every weight below 10**-(digits+2)
             continue
+        vals = to_mpf_list(flat)
         omegas.append(+om)
         exact.append(_exact_omega(system, ens, handle))
-        weights.append(Wm)
+        weights.append([vals[i * M:(i + 1) * M] for i in range(M)])
     if worst > mpmath.mpf(10) ** (-(system.digits + 2)):
         raise VerificationError(f"Green's function weights are certified only to {float(worst):.1e}; "
                                 f"more than the requested {system.digits} digits allow")
