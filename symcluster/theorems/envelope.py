@@ -34,9 +34,11 @@ finite; true of every characteristic-polynomial factor).
 from fractions import Fraction
 
 import flint
+import mpmath
 
 from symcluster.errors import ModelError, VerificationError
 from symcluster.theorems.realalg import RealAlg, lowest_root, rational_between, roots_in
+from symcluster.theorems.separate import meeting_windows
 
 __all__ = ["Curves", "INF", "NEG_INF"]
 
@@ -118,7 +120,9 @@ class Curves:
                     self.factors.append(f)
                 ids.append(self._ids[key])
             self.of_poly.append(ids)
+        self.dicts = [{k: int(v) for k, v in f.to_dict().items()} for f in self.factors]
         self._low, self._res, self._polys = {}, {}, {}
+        self.stats = {"pairs": 0, "pairs_separated": 0, "windows": 0, "resultants": 0}
 
     # -- univariate questions -------------------------------------------------------------
     def at(self, fid, m):
@@ -141,6 +145,42 @@ class Curves:
                 raise VerificationError(f"a level polynomial has no real root at x = {m}; "
                                         "report this spectrum")
             self._low[key] = r
+        return self._low[key]
+
+    def roots_numeric(self, fid, m):
+        """The real roots in E of factor ``fid`` at the rational x = m, ascending and repeated
+        by multiplicity, as mpmath numbers (midpoints of python-flint's isolating balls; proposals only, never used to
+        decide anything)."""
+        key = ("num", fid, m)
+        if key not in self._low:
+            p = self.at(fid, m)
+            with mpmath.workdps(30):
+                self._low[key] = sorted(mpmath.mpf(z.real.mid().str(25, radius=False))
+                                        for z, mult in p.complex_roots() for _ in range(mult)
+                                        if abs(z.imag.mid()) <= 1e-10 * (1 + abs(z.real.mid())))
+        return self._low[key]
+
+    def columns(self, fid):
+        """Factor ``fid`` as integer polynomials in x, the coefficients of E**0, E**1, ..."""
+        key = ("cols", fid)
+        if key not in self._low:
+            d = self.dicts[fid]
+            cols = [[0] * (max(j for (_i, j) in d) + 1) for _ in range(max(i for (i, _j) in d) + 1)]
+            for (i, j), c in d.items():
+                cols[i][j] = c
+            self._low[key] = [flint.fmpz_poly(c) for c in cols]
+        return self._low[key]
+
+    def derivative_dict(self, fid, var):
+        """∂f/∂E (var 0) or ∂f/∂x (var 1) of factor ``fid`` as {(i, j): int} (cached)."""
+        key = ("der", fid, var)
+        if key not in self._low:
+            out = {}
+            for (i, j), c in self.dicts[fid].items():
+                k = (i, j)[var]
+                if k:
+                    out[(i - (var == 0), j - (var == 1))] = c * k
+            self._low[key] = out
         return self._low[key]
 
     def argmin(self, fids, m):
@@ -182,14 +222,36 @@ class Curves:
         return flint.fmpz_poly(coeffs)
 
     def meetings(self, i, j):
-        """Ascending real roots, inside the open interval, of Res_E(factor i, factor j)."""
+        """Ascending real roots, inside the open interval, of Res_E(factor i, factor j)
+        where the lowest roots of the two factors can meet.
+
+        On a bounded interval the level test (:mod:`symcluster.theorems.separate`) first
+        proves most of the interval free of meetings; the resultant is computed, and its
+        roots isolated, only inside the small windows that remain (every point where the
+        two lowest roots are equal is among the returned roots).  On an unbounded
+        interval all real roots of the resultant inside it are returned."""
         key = (min(i, j), max(i, j))
         if key not in self._res:
+            self.stats["pairs"] += 1
+            if self.lower is None or self.upper is None:
+                windows = [(self.lower, self.upper)]
+            else:
+                windows = meeting_windows(self, key[0], key[1], self.lower, self.upper)
+            self.stats["windows"] += len(windows)
+            if not windows:
+                self.stats["pairs_separated"] += 1
+                self._res[key] = []
+                return self._res[key]
             r = self.resultant(i, j)
+            self.stats["resultants"] += 1
             if r == 0:
                 raise VerificationError("two distinct irreducible factors share a factor; "
                                         "report this spectrum")
-            self._res[key] = roots_in(r, self.lower, self.upper) if r.degree() > 0 else []
+            found = []
+            if r.degree() > 0:
+                for a, b in windows:
+                    found += roots_in(r, a, b)
+            self._res[key] = found
         return self._res[key]
 
     # -- envelopes ------------------------------------------------------------------------
@@ -293,10 +355,9 @@ class Curves:
         sl, sr = left["sign"], right["sign"]
         if "=" in (sl, sr) or sl != sr:
             return {"at": c, "sign": "=", "lower": g, "upper": h}
-        fc = flint.fmpq_poly(c.poly)
         pairs = {(p["lower"], p["upper"]) for p in (left, right)}
         for gl, hl in pairs:
-            if flint.fmpq_poly(self.resultant(gl, hl)) % fc != 0:
+            if self.resultant(gl, hl).gcd(c.poly).degree() < 1:
                 return {"at": c, "sign": sl, "lower": g, "upper": h}   # no common root at c
         if len(pairs) == 1:
             # the same two factors on both sides, the same sign: if c is a simple root of
@@ -304,9 +365,9 @@ class Curves:
             # at c crosses (a simple zero of one factor of the resultant), so it is not the
             # pair of minima, which keep their order
             (gl, hl), = pairs
-            r = flint.fmpq_poly(self.resultant(gl, hl))
-            if r % (fc * fc) != 0 and all(flint.fmpq_poly(self.discriminant(k)) % fc != 0
-                                          for k in (gl, hl)):
+            quotient = self.resultant(gl, hl) // c.poly     # exact: c.poly divides it
+            if quotient.gcd(c.poly).degree() < 1 and \
+                    all(self.discriminant(k).gcd(c.poly).degree() < 1 for k in (gl, hl)):
                 return {"at": c, "sign": sl, "lower": g, "upper": h}
         # by continuity the minima at c are the lowest roots of the left piece's factors
         return {"at": c, "sign": "=" if _touching(self, c, left["lower"], left["upper"]) else sl,

@@ -385,8 +385,9 @@ def lowest_root(f):
 
 #: Irreducible polynomials up to this degree have their lowest root isolated by
 #: python-flint's ``complex_roots`` (rigorous isolating balls; real roots come with an
-#: imaginary part exactly zero), which is much faster there than the bisection above.
-BALL_MAX_DEGREE = 48
+#: imaginary part exactly zero), which is much faster there than the bisection above (degree
+#: 115: 0.35 s against about 3 s; measured on the towers of 6-site graphs).
+BALL_MAX_DEGREE = 400
 
 
 def _dyadic(x):

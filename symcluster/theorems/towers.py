@@ -26,6 +26,8 @@ import sympy
 from symcluster.errors import ModelError
 from symcluster.spectrum import Spectrum, exact_rational
 from symcluster.theorems.envelope import Curves, INF, NEG_INF
+from symcluster.theorems.realalg import RealAlg
+from symcluster.theorems.separate import LazyDict, sector_below_open
 
 __all__ = ["Interval", "EnvelopePiece", "TowerVerdict", "TowerReport", "towers", "tower_rows",
            "KINDS"]
@@ -429,9 +431,38 @@ def towers(spec: Spectrum, n_electrons: int, coupling: str = "U", interval: tupl
         by_value.setdefault(sympy.Rational(l.quantum_numbers[qn]), []).append(k)
     vals = sorted(by_value)
     first = vals[0] if start is None else sympy.Rational(exact_rational("start", start))
-    envs = {v: ctx.curves.envelope(ctx.factors_of(by_value[v])) for v in vals}
-    verdicts, crossings = [], []
     chain = [v for v in vals if v >= first]
+    whole = Interval(sympy.oo * (-1) if lo is None else sympy.Rational(lo.numerator, lo.denominator),
+                     sympy.oo if hi is None else sympy.Rational(hi.numerator, hi.denominator),
+                     closed[0], closed[1])
+    raw = {}
+
+    def sweep():
+        if not raw:
+            raw.update({v: ctx.curves.envelope(ctx.factors_of(by_value[v])) for v in vals})
+        return _envelope_pieces(ctx, by_value, raw)
+    lazy = LazyDict(sweep)
+    if lo is not None and hi is not None and all(
+            sector_below_open(ctx.curves, ctx.factors_of(by_value[v]),
+                              ctx.factors_of(by_value[w]), lo, hi, closed)
+            for v, w in zip(chain, chain[1:])):
+        # every consecutive pair proven apart on the interval by level lines (and, next to
+        # an open end where the minima are equal, by resultants without roots in a small
+        # window; symcluster.theorems.separate): the ordering holds everywhere
+        m = (lo + hi) / 2
+        verdicts = []
+        for v, w in zip(chain, chain[1:]):
+            gv = ctx.curves.argmin(ctx.factors_of(by_value[v]), m)
+            gw = ctx.curves.argmin(ctx.factors_of(by_value[w]), m)
+            verdicts.append(TowerVerdict(
+                _interval(RealAlg.rational(lo), RealAlg.rational(hi), closed[0], closed[1]),
+                v, w, "holds", ctx.representative(gv, by_value[v], m),
+                ctx.representative(gw, by_value[w], m), ""))
+        return TowerReport(kind, n_electrons, x, whole, dict(values), vals, first, verdicts,
+                           [], lazy, [])
+    sweep()
+    envs = raw
+    verdicts, crossings = [], []
     for v, w in zip(chain, chain[1:]):
         elements = ctx.curves.compare(envs[v], envs[w], closed)
         verdicts += _runs(ctx, elements, v, w, by_value[v], by_value[w], closed)
@@ -439,23 +470,21 @@ def towers(spec: Spectrum, n_electrons: int, coupling: str = "U", interval: tupl
             if "at" in e and e["sign"] == "=":
                 crossings.append({"value": v, "next_value": w, "at": e["at"].exact(),
                                   "numeric": e["at"].numeric(20)})
-    envelopes = {}
-    for v in vals:
-        pieces = []
-        for a, b, fid in envs[v]:
-            m = _mid(ctx, a, b)
-            pieces.append(EnvelopePiece(_interval(a, b, False, False),
-                                        ctx.representative(fid, by_value[v], m),
-                                        ctx.sympy_factor(fid)))
-        envelopes[v] = pieces
     asymptotics = []
     if hi is None:
         asymptotics = _asymptotics(verdicts, x, values)
-    whole = Interval(sympy.oo * (-1) if lo is None else sympy.Rational(lo.numerator, lo.denominator),
-                     sympy.oo if hi is None else sympy.Rational(hi.numerator, hi.denominator),
-                     closed[0], closed[1])
     return TowerReport(kind, n_electrons, x, whole, dict(values), vals, first, verdicts,
-                       crossings, envelopes, asymptotics)
+                       crossings, lazy, asymptotics)
+
+
+def _envelope_pieces(ctx, by_value, raw):
+    """{value: list of EnvelopePiece} from the sweep's raw pieces."""
+    out = {}
+    for v, env in raw.items():
+        out[v] = [EnvelopePiece(_interval(a, b, False, False),
+                                ctx.representative(fid, by_value[v], _mid(ctx, a, b)),
+                                ctx.sympy_factor(fid)) for a, b, fid in env]
+    return out
 
 
 def _asymptotics(verdicts, x, values):

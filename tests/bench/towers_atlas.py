@@ -1,17 +1,21 @@
-"""Serial catalogue of attractive-U spin towers over small connected graphs (not collected by
-pytest; a simple stand-in until the generic catalogue runner takes ``tower_rows``).
+"""Resumable catalogue of attractive-U spin towers over small connected graphs, one
+(graph, N) at a time with a time limit each (not collected by pytest).
 
-For every connected graph of networkx's graph atlas with at most ``--max-sites`` sites
-(R. C. Read, R. J. Wilson, An Atlas of Graphs (1998), the order networkx uses), the Hubbard
-model is solved with t = 1 and ``symcluster.tower_rows`` decides the spin tower at every
-electron number on U in [-20, 0).  One JSON line per (graph, N) goes to the output file;
-graphs already in the file are skipped, so an interrupted run resumes.
+For every connected graph of networkx's graph atlas with ``--min-sites`` to ``--max-sites``
+sites (R. C. Read, R. J. Wilson, An Atlas of Graphs (1998), the order networkx uses) and
+every electron number N, the N sector of the Hubbard model is solved with t = 1 and
+``symcluster.tower_rows`` decides the spin tower on U in [-20, 0).  Each (graph, N) runs in
+a child process (forked); one that takes longer than ``--timeout`` seconds is stopped and
+recorded as undecided ("time limit"), never as a verdict.  One JSON line per (graph, N)
+goes to the output file; pairs already there (or done in the catalogue database given by
+``--skip-db``) are skipped, so an interrupted run resumes.
 
-    python tests/bench/towers_atlas.py --max-sites 5 --out towers_atlas.jsonl
+    nice -n 10 python tests/bench/towers_atlas.py --max-sites 6 --timeout 60 --out towers_atlas.jsonl
 """
 
 import argparse
 import json
+import multiprocessing
 import os
 import time
 
@@ -20,42 +24,72 @@ import networkx
 import symcluster as sc
 
 
-def graphs(max_sites):
+def graphs(min_sites, max_sites):
     for k, g in enumerate(networkx.graph_atlas_g()):
         n = g.number_of_nodes()
-        if 2 <= n <= max_sites and networkx.is_connected(g):   # one site: no hopping
+        if max(2, min_sites) <= n <= max_sites and networkx.is_connected(g):
             yield k, g
+
+
+def _one(k, bonds, n_sites, n, conn):
+    cluster = sc.cluster(n_sites, bonds, name=f"atlas{k}")
+    spec = sc.solve(sc.hubbard(cluster), fixed={"t": 1}, sectors=[{"N": n}])
+    rows = sc.tower_rows(spec, "U", (-20, 0), {"t": 1}, kinds=("spin",),
+                         closed=(True, False), label=f"atlas G{k}", n_electrons=[n])
+    conn.send(rows)
+
+
+def _skip_from_db(path):
+    from symcluster.catalogue import rows
+    out = set()
+    for r in rows(path, columns=("cluster", "electrons", "status")):
+        if r["status"] == "done":
+            out.add((int(r["cluster"].split("G")[1]), int(r["electrons"])))
+    return out
 
 
 def main():
     p = argparse.ArgumentParser(description=__doc__.splitlines()[0])
+    p.add_argument("--min-sites", type=int, default=2)
     p.add_argument("--max-sites", type=int, default=5)
+    p.add_argument("--timeout", type=float, default=120)
     p.add_argument("--out", default="towers_atlas.jsonl")
+    p.add_argument("--skip-db", default=None)
     args = p.parse_args()
     done = set()
     if os.path.exists(args.out):
         with open(args.out) as fh:
-            done = {json.loads(line)["atlas"] for line in fh if line.strip()}
+            done = {(r["atlas"], r["n_electrons"]) for r in map(json.loads, fh) if r}
+    if args.skip_db:
+        done |= _skip_from_db(args.skip_db)
+    ctx = multiprocessing.get_context("fork")
     start = time.time()
-    for k, g in graphs(args.max_sites):
-        if k in done:
-            continue
-        t0 = time.time()
+    for k, g in graphs(args.min_sites, args.max_sites):
         bonds = [(int(a), int(b)) for a, b in g.edges()]
-        cluster = sc.cluster(g.number_of_nodes(), bonds, name=f"atlas{k}")
-        spec = sc.solve(sc.hubbard(cluster), fixed={"t": 1})
-        rows = sc.tower_rows(spec, "U", (-20, 0), {"t": 1}, kinds=("spin",),
-                             closed=(True, False), label=f"atlas{k}")
-        lines = []
-        for r in rows:
-            r.update(atlas=k, sites=g.number_of_nodes(), bonds=bonds,
-                     seconds=round(time.time() - t0, 2))
-            lines.append(json.dumps(r) + "\n")
-        with open(args.out, "a") as fh:       # one graph at a time: resumable
-            fh.writelines(lines)
-        print(f"atlas {k}: {g.number_of_nodes()} sites, "
-              f"{sum(1 for r in rows if r.get('holds'))}/{len(rows)} hold, "
-              f"{time.time() - t0:.1f} s", flush=True)
+        L = g.number_of_nodes()
+        for n in range(2 * L + 1):
+            if (k, n) in done:
+                continue
+            t0 = time.time()
+            recv, send = ctx.Pipe(duplex=False)
+            proc = ctx.Process(target=_one, args=(k, bonds, L, n, send))
+            proc.start()
+            rows = None
+            if recv.poll(args.timeout):
+                rows = recv.recv()
+            proc.join(1)
+            if proc.is_alive():
+                proc.terminate()
+                proc.join()
+            if rows is None:
+                rows = [{"label": f"atlas G{k}", "n_electrons": n, "kind": "spin",
+                         "error": f"time limit: not decided in {args.timeout:g} s"}]
+            with open(args.out, "a") as fh:       # one (graph, N) at a time: resumable
+                for r in rows:
+                    r.update(atlas=k, sites=L, bonds=bonds, seconds=round(time.time() - t0, 2))
+                    fh.write(json.dumps(r) + "\n")
+            print(f"atlas {k} N={n}: {'hold' if rows[0].get('holds') else rows[0].get('error', 'FAIL')[:40]} "
+                  f"{time.time() - t0:.1f} s", flush=True)
     print(f"total {time.time() - start:.1f} s")
 
 

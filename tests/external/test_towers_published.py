@@ -108,9 +108,7 @@ def test_attractive_spin_towers_every_filling(name):
     # the map is checked exactly on the level polynomials first
     (ph,) = sc.theorem_report(spec, "U", (-20, 0), {"t": 1}, theorems=["particle-hole"])
     assert ph.conclusion == "verified", ph.evidence
-    # the 2x3 ladder's sectors N = 5, 6, 7 take many minutes each (docs/towers.md): left out
-    top = 4 if name == "ladder(2x3)" else L
-    for n in range(top + 1):
+    for n in range(L + 1):
         rep = sc.towers(spec, n, "U", (-20, 0), {"t": 1}, closed=(True, False))
         held[n] = held[2 * L - n] = rep.holds
         pts = [-20] + [sympy.Rational(rng.randint(-2000, -1), 100) for _ in range(3)]
