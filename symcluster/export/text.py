@@ -183,6 +183,17 @@ def level_sort_key(level, values, index):
     return (n, values[index], index)
 
 
+def _label_cells(qn, show_n, show_eta, show_irrep):
+    """The quantum-number cells of a level's row: N, S, 2S+1, eta and irrep as shown."""
+    s, mult = spin_text(qn)
+    cells = ([str(qn.get("N", "-"))] if show_n else []) + [s, mult]
+    if show_eta:
+        cells.append(_rat(qn["eta"]) if qn.get("eta") is not None else "-")
+    if show_irrep:
+        cells.append(str(qn.get("irrep") or "-"))
+    return cells
+
+
 def _columns(levels):
     has = lambda key: any(l.quantum_numbers.get(key) is not None for l in levels)
     return has("eta"), has("irrep")
@@ -222,13 +233,7 @@ def format_table(spectrum, point=None, digits=12, verification="full"):
     poly_names = {}
     for i in order:
         lev = spectrum.levels[i]
-        qn = lev.quantum_numbers
-        s, mult = spin_text(qn)
-        row = ([str(qn.get("N", "-"))] if show_n else []) + [s, mult]
-        if show_eta:
-            row.append(_rat(qn["eta"]) if qn.get("eta") is not None else "-")
-        if show_irrep:
-            row.append(str(qn.get("irrep") or "-"))
+        row = _label_cells(lev.quantum_numbers, show_n, show_eta, show_irrep)
         row.append(str(lev.degeneracy))
         if values is not None:
             with mpmath.workdps(digits):
@@ -341,13 +346,8 @@ def format_sweep(spectrum, name, values, point=None, digits=12):
         shown = _rat(pt[spectrum.symbol(name)])
         for i in order:
             lev = spectrum.levels[i]
-            qn = lev.quantum_numbers
-            s, mult = spin_text(qn)
-            row = [shown, str(i)] + ([str(qn.get("N", "-"))] if show_n else []) + [s, mult]
-            if show_eta:
-                row.append(_rat(qn["eta"]) if qn.get("eta") is not None else "-")
-            if show_irrep:
-                row.append(str(qn.get("irrep") or "-"))
+            row = [shown, str(i)] + _label_cells(lev.quantum_numbers, show_n, show_eta,
+                                                 show_irrep)
             with mpmath.workdps(digits):
                 row += [str(lev.degeneracy), mpmath.nstr(vals[i], digits)]
             lines.append("\t".join(row))
