@@ -71,12 +71,14 @@ def test_two_site_exact_poles_are_the_closed_forms():
     import sympy
     spec = sc.solve(sc.hubbard(sc.chain(2)))
     g = greens_function(spec, {"t": 1, "U": 4}, N=2, digits=30)
-    # t + D and t - D with D = sqrt(8) = 2 sqrt 2 (derivation above), and their negatives
-    expected = sorted([1 + 2 * sympy.sqrt(2), 1 - 2 * sympy.sqrt(2), 2 * sympy.sqrt(2) - 1,
-                       -1 - 2 * sympy.sqrt(2)], key=float)
+    # t + D and t - D with D = sqrt(8) = 2 sqrt 2 (derivation above), and their negatives;
+    # the weights v^2/2 = (1 - 1/sqrt2)/4 at the outer poles, u^2/2 at the inner ones
+    s2 = sympy.sqrt(2)
+    expected = sorted([1 + 2 * s2, 1 - 2 * s2, 2 * s2 - 1, -1 - 2 * s2], key=float)
     for (ex, w), e in zip(g.exact_poles, expected):
         assert sympy.simplify(ex - e) == 0
-        assert w is None
+        outer = abs(float(e)) > 3
+        assert sympy.simplify(w - (1 + (-1 if outer else 1) / s2) / 4) == 0
 
 
 # ----- U = 0: the tight-binding resolvent ---------------------------------------------------

@@ -34,6 +34,7 @@ from collections.abc import Mapping
 from dataclasses import dataclass, field
 
 import mpmath
+import sympy
 
 from symcluster.errors import ModelError, VerificationError
 from symcluster.response.balls import paused_gc
@@ -82,9 +83,10 @@ class GreensFunction:
     ----------
     poles : list of (mpmath.mpf, mpmath.mpf)
         ``(omega, weight)`` ascending in omega; weights below 10**-(digits + 2) dropped.
-    exact_poles : list of (sympy.Expr or None, None)
-        omega exact where both levels are closed forms and mu is exact; weights are given
-        numerically only (None).
+    exact_poles : list of (sympy.Expr or None, sympy.Expr or None)
+        omega exact where both levels are closed forms and mu is exact; the weight exact
+        where, in addition, the ensemble is T = 0 and the sectors are small enough
+        (:mod:`symcluster.response.exactweights`); None elsewhere.
     beta : Fraction or None
         Inverse temperature of the ensemble (None at T = 0).
     mu : mpmath.mpf
@@ -260,16 +262,22 @@ class GreensMatrix:
     pair_orbits: dict = field(default=None, repr=False)
     # the cluster's translation group (response.momenta.Translations) or None
     translations: object = None
+    # per pole an ExactWeight (response.exactweights) or None
+    exact_weights: list = field(default=None, repr=False)
+
+    def _exact_weight(self, p, i, j):
+        ew = self.exact_weights[p] if self.exact_weights else None
+        return None if ew is None else ew.expr(i, j)
 
     def element(self, i, j):
         """The :class:`GreensFunction` G_ij."""
         cut = mpmath.mpf(10) ** (-(self.digits + 2))
         poles, exact = [], []
-        for om, ex, W in zip(self.omegas, self.exact_omegas, self.weights):
+        for p, (om, ex, W) in enumerate(zip(self.omegas, self.exact_omegas, self.weights)):
             w = W[i][j]
             if abs(w) > cut:
                 poles.append((om, w))
-                exact.append((ex, None))
+                exact.append((ex, self._exact_weight(p, i, j)))
         return GreensFunction(poles, exact, self.beta, self.mu, self.digits,
                               {"m0": self.m0[i][j], "m1": self.m1[i][j], "n": self.n[i][j]},
                               dict(self.certificate), i, j, self.spin, self.description)
@@ -325,17 +333,30 @@ class GreensMatrix:
                 return sum((cosines[i][j] * mat[i][j] for i in range(L) for j in range(L)),
                            mpmath.mpf(0)) / L
             poles, exact = [], []
-            for om, ex, W in zip(self.omegas, self.exact_omegas, self.weights):
+            for p, (om, ex, W) in enumerate(zip(self.omegas, self.exact_omegas, self.weights)):
                 w = fold(W)
                 if abs(w) > cut:
                     poles.append((om, +w))
-                    exact.append((ex, None))
+                    exact.append((ex, self._exact_fold(p, ms, coords, orders)))
             moments = {"m0": fold(self.m0), "m1": fold(self.m1), "n": fold(self.n)}
         cert = dict(self.certificate)
         cert["weight_error"] = cert["weight_error"] * L
         label = "k=2pi(" + ", ".join(f"{x}/{n}" for x, n in zip(ms, orders)) + ")"
         return GreensFunction(poles, exact, self.beta, self.mu, self.digits, moments, cert,
                               label, None, self.spin, self.description)
+
+    def _exact_fold(self, p, ms, coords, orders):
+        """The exact weight of G(k) for pole p: (1/L) sum_ij cos(phase_ij) w_ij, or None."""
+        if not self.exact_weights or self.exact_weights[p] is None:
+            return None
+        L = len(coords)
+        total = sympy.Integer(0)
+        for i in range(L):
+            for j in range(L):
+                phase = sum(sympy.Rational(2 * x * (a - b), n) for x, a, b, n in
+                            zip(ms, coords[i], coords[j], orders))
+                total += sympy.cos(sympy.pi * phase) * self._exact_weight(p, i, j)
+        return sympy.radsimp(sympy.expand(total / L))
 
     def matsubara(self, beta, n_max):
         """All G_ij(i omega_n) at once: list over n of M x M nested lists of mpc (each
@@ -405,7 +426,8 @@ def greens_matrix(spectrum: Spectrum, point: Mapping[str, object], spin: str = "
                       d["m0"], d["m1"], d["n"], d["certificate"], "up" if s == 0 else "down",
                       ens.describe(), d["n_modes"], translation_shift(system.model),
                       d["hole_sum"], _pair_orbits(system, d["n_modes"]),
-                      translation_group(system.model, system.lattice()))
+                      translation_group(system.model, system.lattice()),
+                      exact_weights=d["exact_weights"])
     _check_sum_rules(gm, ens, system)
     return gm
 

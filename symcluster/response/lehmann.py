@@ -9,6 +9,7 @@ import sympy
 
 from symcluster.errors import VerificationError
 from symcluster.response.blockeig import BlockSector, block_sector, member_vectors, symmetrizer
+from symcluster.response.exactweights import exact_weights
 from symcluster.response.eigen import (arb_precision, ladder_matrix, to_arb, to_mpf, to_mpf_list,
                                        upper)
 
@@ -121,7 +122,7 @@ def lehmann_sums(system, ens, s):
                 tgt, teig, ys, _ = part
                 if isinstance(teig, BlockSector):
                     got, dropped = _block_poles(ens, teig, ys, mems, cols, d, M, hole_sum,
-                                                skip_below)
+                                                skip_below, tgt)
                     poles.extend(got)
                     bound += dropped
                     continue
@@ -151,9 +152,9 @@ def lehmann_sums(system, ens, s):
                                     hole_sum[i][j] = hole_sum[i][j] + W[i][j]
                         err = mpmath.mpf(mem.prob) * (mem.space.eps * B.dim
                                                       + B.eps * (1 + mem.space.eta) * mem.space.dim)
-                        poles.append((om, W, err, (mem.space, B, d)))
-        out = _merge(system, ens, poles, M)
-        omegas, exact, weights, werr = out
+                        poles.append((om, W, err, (mem, B, d, tgt)))
+        omegas, exact, weights, werr, kept = _merge(system, ens, poles, M)
+        exact_w = exact_weights(system, ens, kept, s, M, werr)
         conv = lambda mat: [[to_mpf(x) for x in row] for row in mat]  # noqa: E731
         m0m, m1m, nm, hm = conv(m0), conv(m1), conv(nn), conv(hole_sum)
         rad = max(upper(x.rad()) for mat in (m0, m1, nn) for row in mat for x in row)
@@ -164,7 +165,8 @@ def lehmann_sums(system, ens, s):
             "eigenvector_error": system.worst_eps(),
             "ensemble": ens.describe(),
             "checks": []}
-    return {"omegas": omegas, "exact": exact, "weights": weights, "m0": m0m, "m1": m1m,
+    return {"omegas": omegas, "exact": exact, "exact_weights": exact_w, "weights": weights,
+            "m0": m0m, "m1": m1m,
             "n": nm, "hole_sum": hm, "certificate": cert, "n_modes": M}
 
 
@@ -196,7 +198,7 @@ def _members(system, sec, spaces):
     return system.vectors(*sec, spaces)
 
 
-def _block_poles(ens, teig, ys, mems, cols, d, M, hole_sum, skip_below=0.0):
+def _block_poles(ens, teig, ys, mems, cols, d, M, hole_sum, skip_below=0.0, tgt=None):
     """Poles into a block sector: the projections onto each block's eigenvectors,
     summed over the lattice group (blockeig's module docstring); and the bound of the
     weights of the blocks left out.
@@ -265,7 +267,7 @@ def _block_poles(ens, teig, ys, mems, cols, d, M, hole_sum, skip_below=0.0):
             for i in range(M):
                 for j in range(M):
                     hole_sum[i][j] = hole_sum[i][j] + W[i][j]
-        out.append((om, W, err, (mem.space, sp, d)))
+        out.append((om, W, err, (mem, sp, d, tgt)))
     return out, dropped
 
 
@@ -292,7 +294,8 @@ def _wdots(A, B, pvec):
 
 
 def _merge(system, ens, poles, M):
-    """Poles merged where equal at the point; weights to mpf; the summed error bound."""
+    """Poles merged where equal at the point; weights to mpf; the summed error bound; and
+    per kept pole (omega, weights, the handles of the merged poles)."""
     tol = mpmath.mpf(10) ** (-(system.digits + 8)) * (float(system.scale) + abs(ens.mu) + 1)
     poles.sort(key=lambda p: p[0])
     merged = []
@@ -301,12 +304,13 @@ def _merge(system, ens, poles, M):
             prev = merged[-1]
             prev[1] = [[prev[1][i][j] + W[i][j] for j in range(M)] for i in range(M)]
             prev[2] += err
+            prev[3].append(handle)
         else:
-            merged.append([om, W, err, handle])
-    omegas, exact, weights = [], [], []
+            merged.append([om, W, err, [handle]])
+    omegas, exact, weights, kept = [], [], [], []
     worst = mpmath.mpf(0)
     cut = 10.0 ** (-(system.digits + 2))
-    for om, W, err, handle in merged:
+    for om, W, err, handles in merged:
         flat = [x for row in W for x in row]
         rad = max(float(x.rad()) for x in flat) * (1 + 1e-12) + 1e-300
         worst = max(worst, err + rad)
@@ -314,18 +318,19 @@ def _merge(system, ens, poles, M):
             continue
         vals = to_mpf_list(flat)
         omegas.append(+om)
-        exact.append(_exact_omega(system, ens, handle))
+        exact.append(_exact_omega(system, ens, handles[0]))
         weights.append([vals[i * M:(i + 1) * M] for i in range(M)])
+        kept.append((om, weights[-1], handles))
     if worst > mpmath.mpf(10) ** (-(system.digits + 2)):
         raise VerificationError(f"Green's function weights are certified only to {float(worst):.1e}; "
                                 f"more than the requested {system.digits} digits allow")
-    return omegas, exact, weights, worst
+    return omegas, exact, weights, worst, kept
 
 
 def _exact_omega(system, ens, handle):
     """omega as an exact sympy number where both levels are closed forms and mu is exact."""
-    A, B, d = handle
-    la, lb = A.levels[0], B.levels[0]
+    mem, B, d, _ = handle
+    la, lb = mem.space.levels[0], B.levels[0]
     if not la.is_closed_form or not lb.is_closed_form or ens.mu_expr is None:
         return None
     pt = system.point
