@@ -8,7 +8,10 @@ every electron number N, the N sector of the Hubbard model is solved with t = 1 
 a child process (forked); one that takes longer than ``--timeout`` seconds is stopped and
 recorded as undecided ("time limit"), never as a verdict.  One JSON line per (graph, N)
 goes to the output file; pairs already there (or done in the catalogue database given by
-``--skip-db``) are skipped, so an interrupted run resumes.
+``--skip-db``) are skipped, so an interrupted run resumes.  ``--retry-undecided`` runs
+instead only the pairs whose every line in the output file is a time limit (typically with
+a longer ``--timeout``) and appends their new lines; the summary script takes a decided
+line over a time limit.
 
     nice -n 10 python tests/bench/towers_atlas.py --max-sites 6 --timeout 60 --out towers_atlas.jsonl
 """
@@ -40,12 +43,17 @@ def _one(k, bonds, n_sites, n, conn):
 
 
 def _skip_from_db(path):
+    """(pairs done, pairs of those whose tower row is a time limit) in a catalogue DB."""
     from symcluster.catalogue import rows
-    out = set()
-    for r in rows(path, columns=("cluster", "electrons", "status")):
+    out, limited = set(), set()
+    for r in rows(path, columns=("cluster", "electrons", "status", "reports")):
         if r["status"] == "done":
-            out.add((int(r["cluster"].split("G")[1]), int(r["electrons"])))
-    return out
+            key = (int(r["cluster"].split("G")[1]), int(r["electrons"]))
+            out.add(key)
+            towers = json.loads(r["reports"] or "{}").get("towers", {}).get("rows", [])
+            if any("time limit" in row.get("error", "") for row in towers):
+                limited.add(key)
+    return out, limited
 
 
 def main():
@@ -55,20 +63,35 @@ def main():
     p.add_argument("--timeout", type=float, default=120)
     p.add_argument("--out", default="towers_atlas.jsonl")
     p.add_argument("--skip-db", default=None)
+    p.add_argument("--retry-undecided", action="store_true",
+                   help="run only the pairs recorded as time limits in --out")
+    p.add_argument("--only", default=None,
+                   help="K/M: run only graphs whose atlas index is K modulo M (two runs "
+                        "with 0/2 and 1/2 share a machine's two cores)")
     args = p.parse_args()
-    done = set()
+    decided, undecided = set(), set()
     if os.path.exists(args.out):
         with open(args.out) as fh:
-            done = {(r["atlas"], r["n_electrons"]) for r in map(json.loads, fh) if r}
+            for r in map(json.loads, fh):
+                key = (r["atlas"], r["n_electrons"])
+                limited = "time limit" in r.get("error", "")
+                (undecided if limited else decided).add(key)
     if args.skip_db:
-        done |= _skip_from_db(args.skip_db)
+        in_db, limited = _skip_from_db(args.skip_db)
+        decided |= in_db - limited
+        undecided |= limited
+    undecided -= decided
+    done = decided | undecided
+    only = tuple(int(x) for x in args.only.split("/")) if args.only else None
     ctx = multiprocessing.get_context("fork")
     start = time.time()
     for k, g in graphs(args.min_sites, args.max_sites):
         bonds = [(int(a), int(b)) for a, b in g.edges()]
         L = g.number_of_nodes()
+        if only and k % only[1] != only[0]:
+            continue
         for n in range(2 * L + 1):
-            if (k, n) in done:
+            if ((k, n) not in undecided) if args.retry_undecided else ((k, n) in done):
                 continue
             t0 = time.time()
             recv, send = ctx.Pipe(duplex=False)

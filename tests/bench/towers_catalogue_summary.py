@@ -15,17 +15,20 @@ from symcluster.catalogue import rows
 
 
 def _jsonl(path):
-    seen = set()
+    """One row per (graph, N): the first decided line, else the first line (a time limit;
+    ``towers_atlas.py --retry-undecided`` appends later attempts)."""
+    best = {}
     with open(path) as fh:
         for line in fh:
             r = json.loads(line)
             key = (r["atlas"], r["n_electrons"])
-            if key in seen:
-                continue
-            seen.add(key)
-            yield {"cluster": f"atlas G{r['atlas']}", "n_sites": r["sites"],
-                   "electrons": r["n_electrons"], "status": "done", "error": None,
-                   "seconds": r["seconds"], "reports": json.dumps({"towers": {"rows": [r]}})}
+            old = best.get(key)
+            if old is None or ("error" in old and "error" not in r):
+                best[key] = r
+    for r in best.values():
+        yield {"cluster": f"atlas G{r['atlas']}", "n_sites": r["sites"],
+               "electrons": r["n_electrons"], "status": "done", "error": None,
+               "seconds": r["seconds"], "reports": json.dumps({"towers": {"rows": [r]}})}
 
 
 def main(path, extra=None):
