@@ -16,7 +16,8 @@ import sympy
 
 import symcluster as sc
 from symcluster.theorems.envelope import Curves
-from symcluster.theorems.separate import free_of_roots, line_values, meeting_windows
+from symcluster.theorems.separate import (free_of_roots, line_values, meeting_windows,
+                                         sector_below_open)
 
 x, E = sympy.symbols("x E")
 
@@ -210,3 +211,38 @@ def test_a_tree_with_a_degenerate_free_level_against_the_reference():
     assert rep.holds
     for u in (-20, -3.5, -0.01, -1e-4):
         assert helpers_towers.tower_holds_at(ref, 6, {"t": 1, "U": u}, tol=1e-12) is True
+
+
+def test_an_open_end_where_a_factor_has_a_double_root_is_decided_by_its_branches():
+    # f = E^2 - 3x^2 and h = E^2 - 2x^2 (irreducible over Q) each have a double root E = 0
+    # at the open end x = 0: their branches are +-sqrt3 x and +-sqrt2 x (closed forms), the
+    # eigenvalues of [[0, a x], [a x, 0]].  For x in [-1, 0) the lowest branch of f,
+    # -sqrt3 |x|, is below that of h, -sqrt2 |x|; they are equal only at the excluded end.
+    f = {(2, 0): 1, (0, 2): -3}
+    h = {(2, 0): 1, (0, 2): -2}
+    c = Curves([f, h], Fraction(-1), Fraction(0))
+    assert sector_below_open(c, [0], [1], Fraction(-1), Fraction(0), (True, False))
+    # the other order is false on the whole interval, and the closed end is a tie
+    c2 = Curves([f, h], Fraction(-1), Fraction(0))
+    assert not sector_below_open(c2, [1], [0], Fraction(-1), Fraction(0), (True, False))
+    c3 = Curves([f, h], Fraction(-1), Fraction(0))
+    assert not sector_below_open(c3, [0], [1], Fraction(-1), Fraction(0), (True, True))
+
+
+def test_a_graph_whose_degenerate_level_is_a_multiple_root_against_the_reference():
+    # atlas graph G102 (R. C. Read, R. J. Wilson, An Atlas of Graphs, networkx's order),
+    # N = 8, attractive U: at U = 0 the lowest S = 0 and S = 1 levels meet inside one
+    # irreducible factor (a double root), the case the branch test above decides without
+    # resultants; the verdict is compared with the Fock reference close to U = 0
+    import networkx
+    import helpers_towers
+    g = networkx.graph_atlas(102)
+    cluster = sc.cluster(6, [(int(a), int(b)) for a, b in g.edges()], name="G102")
+    spec = sc.solve(sc.hubbard(cluster), fixed={"t": 1}, sectors=[{"N": 8}])
+    rep = sc.towers(spec, 8, "U", (-20, 0), {"t": 1}, closed=(True, False))
+    assert rep.holds
+    ref = helpers_towers.reference(cluster)
+    m0 = helpers_towers.sz_minima(ref, 8, {"t": 1, "U": 0})
+    assert m0[0] == pytest.approx(m0[2], abs=1e-9)          # degenerate at U = 0
+    for u in (-20, -2, -0.01, -1e-4):
+        assert helpers_towers.tower_holds_at(ref, 8, {"t": 1, "U": u}, tol=1e-12) is True

@@ -37,7 +37,8 @@ import flint
 import mpmath
 
 from symcluster.errors import ModelError, VerificationError
-from symcluster.theorems.realalg import RealAlg, lowest_root, rational_between, roots_in
+from symcluster.theorems.realalg import (RealAlg, complex_roots, lowest_root, normalise,
+                                        rational_between, roots_in)
 from symcluster.theorems.separate import meeting_windows
 
 __all__ = ["Curves", "INF", "NEG_INF"]
@@ -155,8 +156,10 @@ class Curves:
         if key not in self._low:
             p = self.at(fid, m)
             with mpmath.workdps(30):
+                # the normalised polynomial: lowest_root asks for the same roots
                 self._low[key] = sorted(mpmath.mpf(z.real.mid().str(25, radius=False))
-                                        for z, mult in p.complex_roots() for _ in range(mult)
+                                        for z, mult in complex_roots(normalise(p))
+                                        for _ in range(mult)
                                         if abs(z.imag.mid()) <= 1e-10 * (1 + abs(z.real.mid())))
         return self._low[key]
 

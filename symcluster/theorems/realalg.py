@@ -390,6 +390,32 @@ def lowest_root(f):
 BALL_MAX_DEGREE = 400
 
 
+_ROOTS = {}
+#: complex_roots results kept (the level tests ask for the roots of one polynomial twice:
+#: its lowest root, and all real roots as proposals for a level line)
+ROOTS_KEPT = 64
+
+
+def complex_roots(p):
+    """python-flint's isolating balls of the roots of the integer polynomial p, with their
+    multiplicities (``p.complex_roots()``), remembered for the last ``ROOTS_KEPT``
+    polynomials.
+
+    Examples
+    --------
+    >>> [(str(z), m) for z, m in complex_roots(flint.fmpz_poly([-1, 0, 1]))]
+    [('-1.00000000000000', 1), ('1.00000000000000', 1)]
+    """
+    key = tuple(int(c) for c in p.coeffs())
+    got = _ROOTS.get(key)
+    if got is None:
+        got = p.complex_roots()
+        if len(_ROOTS) >= ROOTS_KEPT:
+            _ROOTS.pop(next(iter(_ROOTS)))
+        _ROOTS[key] = got
+    return got
+
+
 def _dyadic(x):
     man, exp = x.man_exp()
     man, exp = int(man), int(exp)
@@ -402,7 +428,7 @@ def _lowest_by_balls(g):
     has no real root, which the bisection then confirms)."""
     if g.degree() > BALL_MAX_DEGREE:
         return None
-    reals = [z.real for z, _m in g.complex_roots() if z.imag == 0]
+    reals = [z.real for z, _m in complex_roots(g) if z.imag == 0]
     if not reals:
         return None
     r = min(reals, key=lambda b: _dyadic(b.mid()))

@@ -321,10 +321,12 @@ def _near_end(curves, low, high, end, inner):
     if not slope and big:
         return False
     # the line: at the end, halfway between E0 and the next root of any factor there; at
-    # inner, halfway between the highest near lowest root and the next root above it
+    # inner, halfway between the highest branch that starts at E0 (the m_f lowest roots of
+    # a near factor f with E0 an m_f-fold root at the end) and the next root above it
+    mult = {f: _multiplicity(curves, f, end) for f in near}
     lvl = {}
     for y in (end, inner):
-        top_near = max(curves.lowest(f, y).numeric(20) for f in near)
+        top_near = max(curves.roots_numeric(f, y)[mult[f] - 1] for f in near)
         above = [r for f in allf for r in curves.roots_numeric(f, y) if r > top_near + 1e-12]
         lowest_far = min((curves.lowest(f, y).numeric(20) for f in far), default=None)
         if lowest_far is not None and lowest_far <= top_near:
@@ -393,7 +395,8 @@ def _slope_line(curves, near_low, near_high, end, inner, e0):
             fe = _eval(curves.derivative_dict(f, 0), eb, xb)
             fx = _eval(curves.derivative_dict(f, 1), eb, xb)
             if 0 in fe:
-                return None                     # a multiple root at the end: give up
+                # a multiple root at the end (a degenerate level inside one factor)
+                return _slope_line_multiple(curves, near_low, near_high, end, inner)
             slopes[f] = -fx / fe * d           # the rise of the branch into the window
         g = min(near_low, key=lambda f: slopes[f].mid())
         top = min((slopes[h] for h in near_high), key=lambda b: b.mid())
@@ -411,6 +414,106 @@ def _slope_line(curves, near_low, near_high, end, inner, e0):
             if 0 in dF:
                 return False
         at_inner = eb + _arb(sigma) * (_arb(inner) - xb)
+        for f in [g] + near_high:
+            r = curves.lowest(f, inner)
+            r.tighten(200)
+            rb = _ball(r)
+            if (f == g and not rb < at_inner) or (f != g and not rb > at_inner):
+                return False
+        return True
+    finally:
+        flint.ctx.prec = old
+
+
+def _multiplicity(curves, f, end):
+    """The multiplicity m of the lowest root E0 of factor f at x = ``end`` (exact: its
+    irreducible polynomial divides f(E, end) exactly m times)."""
+    r = curves.lowest(f, end)
+    p, m = curves.at(f, end), 0
+    while True:
+        quo, rem = divmod(p, r.poly)
+        if rem != 0:
+            return m
+        p, m = quo, m + 1
+
+
+def _taylor_in_t(d, eb, sigma, end, step, prec):
+    """F(t) = f(E0 + sigma t, end + step t) as a list of arb coefficients (t**0, t**1, ...),
+    f given by its dict {(i, j): c} of c E**i x**j, E0 the ball ``eb``."""
+    old = flint.ctx.prec
+    flint.ctx.prec = prec
+    try:
+        e = flint.arb_poly([eb, _arb(sigma)])
+        x = flint.arb_poly([_arb(end), flint.arb(step)])
+        ie = max(i for i, _ in d)
+        jx = max(j for _, j in d)
+        epow = [flint.arb_poly([1])]
+        for _ in range(ie):
+            epow.append(epow[-1] * e)
+        xpow = [flint.arb_poly([1])]
+        for _ in range(jx):
+            xpow.append(xpow[-1] * x)
+        acc = flint.arb_poly([0])
+        for (i, j), c in d.items():
+            acc += epow[i] * xpow[j] * int(c)
+        return acc.coeffs()
+    finally:
+        flint.ctx.prec = old
+
+
+def _slope_line_multiple(curves, near_low, near_high, end, inner):
+    """:func:`_slope_line` where E0 is a multiple root at ``end`` of some near factor.
+
+    With t = |x - end| and the line ℓ = E0 + σ t, F_f(t) = f(ℓ, x) is a polynomial in t.
+    The branches of f through (E0, end) are m_f eigenvalue curves of a symmetric matrix
+    that depends linearly on x, analytic in x (Rellich's theorem; F. Rellich, Perturbation
+    Theory of Eigenvalue Problems (1969), from memory), each E_i = E0 + O(t), so F_f is
+    divisible by t^m_f, m_f the exact multiplicity of E0 as a root of f(E, end).  If
+    G_f(t) = F_f(t) / t^m_f has no zero on the closed [0, T] (T = |inner - end|; its
+    coefficients and values enclosed in arb balls), F_f has none on (0, T]: the number of
+    roots of f below ℓ is constant on the window less ``end`` and is read at ``inner`` by
+    rigorous balls, as in :func:`_slope_line`.  σ is proposed from the roots near the end
+    (floating point; the checks decide).  None gives up (no σ found), False: not proven."""
+    d = 1 if inner > end else -1
+    T = abs(inner - end)
+    e0 = min((curves.lowest(f, end) for f in near_low + near_high), key=_Key)
+    e0.tighten(400)
+    # proposal: the rises (lambda(t) - E0)/t of the lowest roots at t = T/1024
+    ts = T / 1024
+    y = end + d * ts
+    with mpmath.workdps(40):
+        e0n = e0.numeric(30)
+        lam_g = min(curves.roots_numeric(g, y)[0] for g in near_low)
+        lam_h = min(curves.roots_numeric(h, y)[0] for h in near_high)
+        if not lam_g < lam_h:
+            return None
+        rise = ((lam_g + lam_h) / 2 - e0n) / mpmath.mpf(ts.numerator) * ts.denominator
+        sigma = Fraction(mpmath.nstr(rise, 25, min_fixed=-mpmath.inf, max_fixed=mpmath.inf))
+    g = min(near_low, key=lambda f: curves.roots_numeric(f, y)[0])
+    old = flint.ctx.prec
+    try:
+        for prec in (512, 2048):
+            flint.ctx.prec = prec
+            eb = _ball(e0)
+            window = flint.arb(flint.fmpq(T.numerator, 2 * T.denominator),
+                               flint.fmpq(T.numerator, 2 * T.denominator))
+            ok = True
+            for f in [g] + near_high:
+                m = _multiplicity(curves, f, end)
+                coeffs = _taylor_in_t(curves.dicts[f], eb, sigma, end, d, prec)
+                if any(0 not in c for c in coeffs[:m]):
+                    return False            # not divisible by t^m: not the case assumed
+                acc = flint.arb(0)
+                for c in reversed(coeffs[m:]):
+                    acc = acc * window + c
+                if 0 in acc:
+                    ok = False
+                    break
+            if ok:
+                break
+        else:
+            return False
+        at_inner = eb + _arb(sigma) * _arb(T)
         for f in [g] + near_high:
             r = curves.lowest(f, inner)
             r.tighten(200)
