@@ -37,7 +37,8 @@ import flint
 import mpmath
 
 from symcluster.errors import ModelError, VerificationError
-from symcluster.theorems.realalg import (RealAlg, complex_roots, lowest_root, normalise,
+from symcluster.theorems.realalg import (RealAlg, fujiwara_bound, laguerre_roots,
+                                        complex_roots, lowest_root, normalise,
                                         rational_between, roots_in)
 from symcluster.theorems.separate import meeting_windows
 
@@ -148,19 +149,26 @@ class Curves:
             self._low[key] = r
         return self._low[key]
 
-    def roots_numeric(self, fid, m):
+    def roots_numeric(self, fid, m, upto=None):
         """The real roots in E of factor ``fid`` at the rational x = m, ascending and repeated
-        by multiplicity, as mpmath numbers (midpoints of python-flint's isolating balls; proposals only, never used to
-        decide anything)."""
-        key = ("num", fid, m)
+        by multiplicity, as mpmath numbers (proposals only, never used to decide anything).
+
+        All of them (midpoints of python-flint's isolating balls); or, with ``upto``, those
+        up to and including the first one above ``upto``, from Laguerre's iteration with
+        deflation (``realalg.laguerre_roots``; much cheaper when few roots lie below)."""
+        key = ("num", fid, m, None if upto is None else mpmath.nstr(upto, 20))
         if key not in self._low:
-            p = self.at(fid, m)
-            with mpmath.workdps(30):
-                # the normalised polynomial: lowest_root asks for the same roots
-                self._low[key] = sorted(mpmath.mpf(z.real.mid().str(25, radius=False))
-                                        for z, mult in complex_roots(normalise(p))
-                                        for _ in range(mult)
-                                        if abs(z.imag.mid()) <= 1e-10 * (1 + abs(z.real.mid())))
+            p = normalise(self.at(fid, m))
+            got = None
+            if upto is not None and p.degree() > 2:
+                cs = [int(c) for c in p.coeffs()]
+                got = laguerre_roots(cs, fujiwara_bound(cs), upto, None)
+            if got is None:
+                with mpmath.workdps(30):
+                    got = sorted(mpmath.mpf(z.real.mid().str(25, radius=False))
+                                 for z, mult in complex_roots(p) for _ in range(mult)
+                                 if abs(z.imag.mid()) <= 1e-10 * (1 + abs(z.real.mid())))
+            self._low[key] = got
         return self._low[key]
 
     def columns(self, fid):

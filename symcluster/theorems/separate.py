@@ -93,11 +93,11 @@ def line_values(columns, u, lu, v, lv):
 def _gap_levels(curves, g, u, v, tops):
     """Rational levels at u and v (proposals): the middle of the gap after the k-th root of
     g, below ``tops``, with the same k at both ends, chosen widest at the narrower end."""
-    xs = [curves.roots_numeric(g, y) for y in (u, v)]
-    if len(xs[0]) != len(xs[1]) or not xs[0]:
+    xs = [curves.roots_numeric(g, y, upto=top) for y, top in zip((u, v), tops)]
+    if not xs[0] or not xs[1]:
         return None
     best, k_best = None, None
-    for k in range(len(xs[0])):
+    for k in range(min(len(xs[0]), len(xs[1]))):
         widths = []
         for rs, top in zip(xs, tops):
             upper = min(rs[k + 1], top) if k + 1 < len(rs) else top
