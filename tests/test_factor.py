@@ -119,3 +119,33 @@ def test_sign_normalisation_and_univariate():
 def test_zero_polynomial_rejected():
     with pytest.raises(ModelError, match="zero polynomial"):
         factor_charpoly(sympy.Poly(0, E, t))
+
+
+@settings(max_examples=60, deadline=None)
+@given(st.lists(st.tuples(st.integers(0, 3), st.integers(0, 3), st.integers(-6, 6)),
+                min_size=1, max_size=8),
+       st.integers(2, 5))
+def test_proven_irreducible_is_never_wrong(terms, n):
+    # soundness against sympy's factor_list (an independent factorisation): a polynomial
+    # monic in E that proven_irreducible accepts has one irreducible factor over Q
+    from symcluster.algebra.factor import proven_irreducible
+    rep = {(n, 0): 1}
+    for i, j, c in terms:
+        if i < n and c:
+            rep[(i, j)] = rep.get((i, j), 0) + c
+    rep = {k: v for k, v in rep.items() if v}
+    expr = sum(c * E ** i * U ** j for (i, j), c in rep.items())
+    if proven_irreducible(rep):
+        _c, facs = sympy.factor_list(expr, E, U)
+        assert len(facs) == 1 and facs[0][1] == 1
+
+
+def test_proven_irreducible_on_products_and_a_charpoly():
+    from symcluster.algebra.factor import proven_irreducible
+    # (E - U)(E + U - 1) and (E^2 - U)^2 are not irreducible: never "proven"
+    assert not proven_irreducible({(2, 0): 1, (1, 0): -1, (0, 2): -1, (0, 1): 1})
+    assert not proven_irreducible({(4, 0): 1, (2, 1): -2, (0, 2): 1})
+    # E^3 - 3 U^2 E - U^3 - 1 is irreducible (sympy says so; checked here)
+    rep = {(3, 0): 1, (1, 2): -3, (0, 3): -1, (0, 0): -1}
+    assert len(sympy.factor_list(E ** 3 - 3 * U ** 2 * E - U ** 3 - 1, E, U)[1]) == 1
+    assert proven_irreducible(rep)

@@ -5,6 +5,7 @@ Reads the rows written by ``symcluster catalogue worked/catalogues/attractive_to
 could not be decided, the failures with their crossing points, and the summed task time.
 
     python tests/bench/towers_catalogue_summary.py worked/catalogues/attractive_towers.db [atlas.jsonl]
+    python tests/bench/towers_catalogue_summary.py atlas_0.jsonl atlas_1.jsonl   # lines only
 """
 
 import json
@@ -31,11 +32,16 @@ def _jsonl(path):
                "seconds": r["seconds"], "reports": json.dumps({"towers": {"rows": [r]}})}
 
 
-def main(path, extra=None):
+def main(path, *more):
     counts, seconds, failures, errors = Counter(), Counter(), [], []
     status = Counter()
-    source = list(rows(path, columns=("cluster", "n_sites", "electrons", "status", "reports",
-                                      "error", "seconds")))
+    if path.endswith(".jsonl"):                 # JSON lines only, one or more files
+        source = [r for p in (path,) + more for r in _jsonl(p)]
+        extra = None
+    else:
+        source = list(rows(path, columns=("cluster", "n_sites", "electrons", "status",
+                                          "reports", "error", "seconds")))
+        extra = more[0] if more else None
     if extra:
         done = {(r["cluster"], r["electrons"]) for r in source if r["status"] == "done"}
         source = [r for r in source if r["status"] == "done"] + \
@@ -73,4 +79,4 @@ def main(path, extra=None):
 
 
 if __name__ == "__main__":
-    main(*sys.argv[1:3])
+    main(*sys.argv[1:])
