@@ -369,6 +369,18 @@ def _eval(d, e, x):
     return acc
 
 
+def _sides_at_inner(curves, g, near_high, inner, at_inner):
+    """At ``inner`` (rigorous balls): g's lowest root below the line's value ``at_inner``
+    and every factor of ``near_high`` above it."""
+    for f in [g] + near_high:
+        r = curves.lowest(f, inner)
+        r.tighten(200)
+        rb = _ball(r)
+        if (f == g and not rb < at_inner) or (f != g and not rb > at_inner):
+            return False
+    return True
+
+
 def _slope_line(curves, near_low, near_high, end, inner, e0):
     """The near factors' branches all start at the common minimum E0 at ``end``; show,
     without resultants, that one branch of ``near_low`` stays below the line
@@ -414,13 +426,7 @@ def _slope_line(curves, near_low, near_high, end, inner, e0):
             if 0 in dF:
                 return False
         at_inner = eb + _arb(sigma) * (_arb(inner) - xb)
-        for f in [g] + near_high:
-            r = curves.lowest(f, inner)
-            r.tighten(200)
-            rb = _ball(r)
-            if (f == g and not rb < at_inner) or (f != g and not rb > at_inner):
-                return False
-        return True
+        return _sides_at_inner(curves, g, near_high, inner, at_inner)
     finally:
         flint.ctx.prec = old
 
@@ -514,13 +520,7 @@ def _slope_line_multiple(curves, near_low, near_high, end, inner):
         else:
             return False
         at_inner = eb + _arb(sigma) * _arb(T)
-        for f in [g] + near_high:
-            r = curves.lowest(f, inner)
-            r.tighten(200)
-            rb = _ball(r)
-            if (f == g and not rb < at_inner) or (f != g and not rb > at_inner):
-                return False
-        return True
+        return _sides_at_inner(curves, g, near_high, inner, at_inner)
     finally:
         flint.ctx.prec = old
 
