@@ -11,7 +11,8 @@ import mpmath
 import pytest
 import sympy
 
-from symcluster.theorems.realalg import laguerre_roots, fujiwara_bound, lowest_root
+from symcluster.theorems.realalg import lowest_root
+from symcluster.theorems.rootsearch import fujiwara_bound, laguerre_roots
 
 x = sympy.Symbol("x")
 

@@ -39,9 +39,9 @@ import mpmath
 
 from symcluster.algebra.factor import proven_irreducible
 from symcluster.errors import ModelError, VerificationError
-from symcluster.theorems.realalg import (RealAlg, fujiwara_bound, laguerre_roots,
-                                        complex_roots, lowest_root, normalise,
-                                        rational_between, roots_in)
+from symcluster.theorems.realalg import (RealAlg, lowest_root, normalise, rational_between,
+                                        roots_in)
+from symcluster.theorems.rootsearch import complex_roots, fujiwara_bound, laguerre_roots
 from symcluster.theorems.separate import meeting_windows
 
 __all__ = ["Curves", "INF", "NEG_INF"]
@@ -165,7 +165,7 @@ class Curves:
 
         All of them (midpoints of python-flint's isolating balls); or, with ``upto``, those
         up to and including the first one above ``upto``, from Laguerre's iteration with
-        deflation (``realalg.laguerre_roots``; much cheaper when few roots lie below)."""
+        deflation (``rootsearch.laguerre_roots``; much cheaper when few roots lie below)."""
         key = ("num", fid, m, None if upto is None else mpmath.nstr(upto, 20))
         if key not in self._low:
             p = normalise(self.at(fid, m))
