@@ -22,6 +22,7 @@ This module imports nothing from symcluster (it is below every other module).
 
 import contextlib
 import functools
+import gc
 import os
 import signal
 import sys
@@ -107,14 +108,20 @@ def stop_pool(pool):
     """
     # the executor keeps its processes in ``_processes`` (pid -> Process); killing them
     # first makes the shutdown below return at once (it would wait for running tasks)
-    processes = list((getattr(pool, "_processes", None) or {}).values())
-    for proc in processes:
-        with contextlib.suppress(OSError, ValueError, AttributeError):
-            proc.kill()
-    pool.shutdown(wait=True, cancel_futures=True)
-    for proc in processes:
-        with contextlib.suppress(OSError, ValueError, AttributeError, AssertionError):
-            proc.join(1.0)
+    # The teardown runs finalizers (weakref callbacks of queues and processes); a
+    # KeyboardInterrupt raised inside one is printed and dropped by Python, so the stop
+    # signals are held meanwhile and raised on leaving, after the garbage is collected.
+    with _held():
+        processes = list((getattr(pool, "_processes", None) or {}).values())
+        for proc in processes:
+            with contextlib.suppress(OSError, ValueError, AttributeError):
+                proc.kill()
+        pool.shutdown(wait=True, cancel_futures=True)
+        for proc in processes:
+            with contextlib.suppress(OSError, ValueError, AttributeError, AssertionError):
+                proc.join(1.0)
+        processes = proc = None          # released here, under the held signals
+        gc.collect()
 
 
 def child_pids():
