@@ -287,3 +287,58 @@ def test_flint_block_wrongly_flagged_integral_is_still_right():
     want = reference_charpoly(LinearBlock(3, terms), (t, U))
     assert charpoly(b, ("t", "U"), backend="flint") == want
     assert want.coeff_monomial(E * t**2) == Fraction(-5, 6)
+
+
+def _mirrored_block(rng, m, c):
+    """A 2m x 2m block ``t A + U (c 1 + Q)`` with ``S A S = A`` and ``S Q S = -Q`` for the
+    swap ``S`` of the two halves: ``t A - U Q`` is similar to ``t A + U Q`` (by S), so the
+    spectrum at ``-U`` is that at ``U`` moved by ``-2 c U`` (a mirrored block), while a
+    diagonal ``P`` in ``A`` keeps it from being even in ``t`` (linear algebra, no source)."""
+    P = [[0] * m for _ in range(m)]
+    X = [[0] * m for _ in range(m)]
+    for i in range(m):
+        for j in range(i, m):
+            P[i][j] = P[j][i] = rng.randint(-3, 3)
+            X[i][j] = X[j][i] = rng.randint(-3, 3)
+    q = [rng.randint(-2, 2) for _ in range(m)]
+    t_terms, u_terms = {}, {}
+    for i in range(m):
+        for j in range(m):
+            for (a, b), v in (((i, j), P[i][j]), ((m + i, m + j), P[i][j]),
+                              ((i, m + j), X[i][j]), ((m + i, j), X[i][j])):
+                if v:
+                    t_terms[(a, b)] = v
+        for a, v in ((i, c + q[i]), (m + i, c - q[i])):
+            if v:
+                u_terms[(a, a)] = v
+    return LinearBlock(2 * m, {"t": t_terms, "U": u_terms})
+
+
+@pytest.mark.parametrize("seed", [1, 2, 3])
+def test_flint_mirrored_coupling_gives_the_reference_polynomial(seed):
+    # A block whose spectrum at -U is the one at U moved by 2cU (c = tr(B_U)/n) is sampled
+    # at U = 0, 1, -1, 2, -2, ...: one characteristic polynomial serves two nodes.  The
+    # result must be the plain reference, and the mirror must really be there.
+    rng = random.Random(seed)
+    b = _mirrored_block(rng, 5, c=rng.randint(1, 3))
+    n = b.dim
+    mats = [cp_mod.flint.fmpz_mat(cp_mod._dense(n, b.terms[k])) for k in ("t", "U")]
+    shift = cp_mod._mirror_shift(n, b.terms["U"])
+    assert shift != 0
+    assert cp_mod._parity_even(n, mats, 1, rng, shift)         # mirrored in U
+    assert not cp_mod._parity_even(n, mats, 0, rng)            # not even in t
+    assert not cp_mod._parity_even(n, mats, 1, rng)            # nor plainly even in U
+    assert charpoly(b, ("t", "U"), backend="flint") == reference_charpoly(b, (t, U))
+
+
+def test_flint_a_wrong_mirror_guess_is_recomputed(monkeypatch):
+    # If the mirror test were fooled, the exact spot check off the grid must catch the
+    # wrong interpolant and the polynomial be recomputed without the assumption.
+    rng = random.Random(7)
+    b = random_block(rng, 8, ("t", "U"), density=0.5)
+    real = cp_mod._parity_even
+    monkeypatch.setattr(cp_mod, "_parity_even",
+                        lambda n, mats, idx, rng, shift=0: True if shift else real(
+                            n, mats, idx, rng))
+    monkeypatch.setattr(cp_mod, "_mirror_shift", lambda n, mat: Fraction(1, 1))
+    assert charpoly(b, ("t", "U"), backend="flint") == reference_charpoly(b, (t, U))

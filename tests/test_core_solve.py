@@ -385,7 +385,7 @@ def test_numeric_at_thousands_of_digits_picks_the_same_root():
 def test_a_wrong_closed_form_is_rejected(monkeypatch):
     # The verification must compare the closed forms themselves (not values re-derived
     # from their polynomials) with the blocks: a formula off by t/10^6 must be caught.
-    solve_mod = importlib.import_module("symcluster.pipeline.solve")
+    solve_mod = importlib.import_module("symcluster.pipeline.derived")
     real = solve_mod.closed_forms
     t = sympy.Symbol("t", real=True)
 
@@ -403,7 +403,7 @@ def test_a_closed_form_that_is_not_real_at_a_point_is_rejected_not_redrawn(monke
     # form, the levels are right on half of the parameter space only. A verification point
     # with t < 0 must reject them; redrawing it until t > 0 would accept a wrong formula.
     verify_mod = importlib.import_module("symcluster.verify.core")
-    solve_mod = importlib.import_module("symcluster.pipeline.solve")
+    solve_mod = importlib.import_module("symcluster.pipeline.derived")
     real_roots, real_points = solve_mod.closed_forms, verify_mod.random_points
     t = sympy.Symbol("t", real=True)
     bad = sympy.sqrt(t) - sympy.sqrt(t**3) / t
@@ -653,7 +653,7 @@ def test_negated_couplings_through_the_solves_written_forms(monkeypatch):
     import sys
     from symcluster.pipeline.solve import Written, _negate_couplings
     from symcluster.symbols import ENERGY
-    solve_mod = sys.modules["symcluster.pipeline.solve"]
+    solve_mod = sys.modules["symcluster.pipeline.derived"]
     t, U = sympy.symbols("t U", real=True)
     E = ENERGY
     fac = sympy.Poly(E**2 - U * E - 4 * t**2 + 2 * t * U, E, t, U)

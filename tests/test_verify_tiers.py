@@ -168,3 +168,21 @@ def test_flipped_sz_labels_in_a_field_fail_the_sum_rules():
         lev.source = None           # no basis states: the energies alone must catch it
     with pytest.raises(VerificationError, match="sum rule"):
         verify_spectrum(spec, seed=2)
+
+
+def test_float_tier_split_by_site_permutations_catches_a_wrong_constant_term(monkeypatch):
+    # the same wrong quartic with the exact tier lowered below the N = 3 sectors (24 > 10):
+    # the float64 tier compares the levels with the eigenvalues of the sector, block by
+    # block under the ring's translations; the blocks must show the wrong roots
+    import symcluster.verify.core as core
+    from symcluster.blocks.build import plan_symmetries
+    monkeypatch.setattr(core, "EXACT_DIM", 10)
+    spec = sc.solve(sc.hubbard(sc.ring(4)), electrons=3, lattice=False, seed=2)
+    lattice = plan_symmetries(sc.hubbard(sc.ring(4))).lattice
+    verify_spectrum(spec, electrons=[3], seed=7, lattice=lattice)
+    # the last such entry: the solve's own verification wrote the first ones
+    entry = [c for c in spec.verification.checks if c["check"].startswith("float64 eigenvalues")]
+    assert entry[-1]["split_sectors"] == 2
+    _wrong_quartic(*_quartic_levels(spec))
+    with pytest.raises(VerificationError, match="differ from float64 eigenvalues"):
+        verify_spectrum(spec, electrons=[3], seed=7, lattice=lattice)

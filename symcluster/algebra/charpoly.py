@@ -352,7 +352,7 @@ def _height_bits(n, mats):
     return min(lr, lc)
 
 
-def _parity_even(n, mats, idx, rng):
+def _parity_even(n, mats, idx, rng, shift=0):
     """True if ``det(x - sum c_i M_i)`` is (almost surely) even in coupling `idx`.
 
     Compares the characteristic polynomials at ``c_idx = r`` and ``c_idx = -r`` (other
@@ -363,17 +363,59 @@ def _parity_even(n, mats, idx, rng):
     verification tiers.
     Sublattice gauge symmetry makes every block of a bipartite cluster that the gauge
     transformation maps to itself even in the hopping.
+
+    With a ``shift`` (a Fraction) the test is that of the matrix ``M_idx - shift * 1`` in
+    place of ``M_idx``: the polynomial is even in ``c_idx`` once the energy is measured from
+    ``shift * c_idx`` (a *mirrored* coupling, see :func:`_mirror_shift`).
     """
     p = _prime(rng.randrange(8, 64))
     vals = [rng.randrange(1, p) for _ in mats]
+    shift_p = shift.numerator * pow(shift.denominator, -1, p) % p if shift else 0
     polys = []
     for sign in (1, -1):
         M = None
         for i, (B, v) in enumerate(zip(mats, vals)):
-            term = flint.nmod_mat(B, p) * ((sign * v) % p if i == idx else v)
+            if i == idx:
+                B = flint.nmod_mat(B, p)
+                if shift_p:
+                    for r in range(n):
+                        B[r, r] = B[r, r] - shift_p
+                term = B * ((sign * v) % p)
+            else:
+                term = flint.nmod_mat(B, p) * v
             M = term if M is None else M + term
         polys.append([int(c) for c in M.charpoly().coeffs()])
     return polys[0] == polys[1]
+
+
+def _mirror_shift(n, mat):
+    """``tr(B) / n`` for a coupling matrix ``B`` (sparse): the energy shift per unit of the
+    coupling about which a mirrored block's spectrum is symmetric.
+
+    A block is *mirrored* in a coupling ``u`` when ``det(x - M(u))`` with
+    ``M(u) = B0 + u B`` satisfies ``P(x; -u) = P(x + 2 c u; u)`` for a constant ``c``:
+    comparing the coefficients of ``x^(n-1)`` gives ``c = tr(B) / n``.  The Shiba
+    transformation (down spins to holes with the sublattice sign) gives this for the
+    Hubbard U on blocks that it maps to themselves; a mirrored coupling is sampled at
+    ``u = 0, 1, -1, 2, -2, ...`` and the polynomial at ``-j`` is that at ``j`` moved by
+    ``2 c j``, so one characteristic polynomial serves two nodes.
+    """
+    return Fraction(sum(v for (i, j), v in mat.items() if i == j), n)
+
+
+def _node(m, kind):
+    """The m-th interpolation node along an axis of `kind` (0: ``m``; 1: ``m**2``, an even
+    coupling sampled in its square; 2: ``0, 1, -1, 2, -2, ...``, a mirrored coupling)."""
+    if kind == 2:
+        return (m + 1) // 2 if m % 2 else -(m // 2)
+    return m * m if kind == 1 else m
+
+
+def _samples(points, kinds):
+    """Characteristic polynomials to compute for the lower set `points`: those at a
+    negative node of a mirrored axis come from their positive partners."""
+    return sum(1 for beta in points
+               if not any(k == 2 and b and b % 2 == 0 for b, k in zip(beta, kinds)))
 
 
 def _charpoly_flint(block, names):
@@ -391,21 +433,32 @@ def _charpoly_flint(block, names):
     ranks = {nm: fm[nm].rank() for nm in present}
     rng = random.Random(0x5EED ^ n)
     if len(present) == 1:
-        fixed, free, bounds, even = present[0], [], [], []
+        fixed, free, bounds, even, mirror = present[0], [], [], [], []
     else:
         mats = [fm[nm] for nm in present]
         parity = {nm: _parity_even(n, mats, i, rng) for i, nm in enumerate(present)}
+        # couplings whose spectrum is mirrored about a moving centre (see _mirror_shift)
+        shifts = {}
+        for i, nm in enumerate(present):
+            c = _mirror_shift(n, iterms[nm])
+            if not parity[nm] and c and _parity_even(n, mats, i, rng, c):
+                shifts[nm] = c
+
+        def axis(nm):
+            return 1 if parity[nm] else (2 if nm in shifts else 0)
 
         def grid_size(f):
             rest = [nm for nm in present if nm != f]
-            return len(lower_set([ranks[nm] // 2 if parity[nm] else ranks[nm] for nm in rest],
-                                 [parity[nm] for nm in rest], n))
+            pts = lower_set([ranks[nm] // 2 if parity[nm] else ranks[nm] for nm in rest],
+                            [parity[nm] for nm in rest], n)
+            return _samples(pts, [axis(nm) for nm in rest])
 
-        # fix the coupling whose removal leaves the fewest interpolation points
+        # fix the coupling whose removal leaves the fewest characteristic polynomials
         fixed = min(present, key=lambda nm: (grid_size(nm), -ranks[nm], present.index(nm)))
         free = [nm for nm in present if nm != fixed]
         even = [parity[nm] for nm in free]
         bounds = [ranks[nm] // 2 if e else ranks[nm] for nm, e in zip(free, even)]
+        mirror = [shifts.get(nm) for nm in free]
     split = None
     if block.centre is not None:
         split = ConjugateSplit(n, block.centre, [fm[nm] for nm in present])
@@ -417,10 +470,11 @@ def _charpoly_flint(block, names):
         hbits = _height_bits(n, [iterms[nm] for nm in present])
         lift_d = D if block.integral else 1   # else lift the integer multiple D*H
         table = _multimodular(n, lift_d, fm[fixed], [fm[nm] for nm in free], bounds, even, hbits,
-                              rng, split)
+                              rng, split, mirror)
         if table is None:
             # an assumption failed (a block flagged integral that is not, or a wrong
-            # evenness guess): redo without either, where the coefficient bound is rigorous
+            # evenness or mirror guess): redo without them, where the coefficient bound is
+            # rigorous
             even = [False] * len(free)
             bounds = [ranks[nm] for nm in free]
             lift_d = 1
@@ -478,20 +532,21 @@ def lower_set(bounds, even, total):
 _AXIS_MATS = {}
 
 
-def _axis_matrices(length, even, p):
+def _axis_matrices(length, kind, p):
     """(Newton divided-difference matrix, Newton-to-monomial matrix) of the first nodes, mod p.
 
-    Nodes are ``z_j = j`` (or ``j**2`` for an even coupling), ``j < length``.  The
+    Nodes are ``z_j = _node(j, kind)``, ``j < length``: ``j``, or ``j**2`` for an even
+    coupling (kind 1, or True), or ``0, 1, -1, 2, ...`` for a mirrored one (kind 2).  The
     divided differences are ``N^-1`` with ``N[i][a] = prod_{j<a} (z_i - z_j)`` (lower
     triangular); column ``a`` of the conversion matrix holds the monomial coefficients of
     ``prod_{j<a} (s - z_j)``.  Both are triangular, so the matrices of a shorter line
     are the leading blocks of these.
     """
-    key = (length, even, p)
+    key = (length, int(kind), p)
     hit = _AXIS_MATS.get(key)
     if hit is not None:
         return hit
-    z = [(j * j if even else j) % p for j in range(length)]
+    z = [_node(j, kind) % p for j in range(length)]
     N = [[0] * length for _ in range(length)]
     for i in range(length):
         acc = 1
@@ -561,7 +616,7 @@ def _apply_lines(vals, points, axis, kind, even, full, p, width):
                 vals[q] = [int(x) for x in res[i][g * width:(g + 1) * width]]
 
 
-def _one_prime(n, D, B0, Bs, bounds, even, p, points, split=None):
+def _one_prime(n, D, B0, Bs, bounds, even, p, points, split=None, mirror=None):
     """Coefficients (over `points`, then x power) of the interpolant mod p.
 
     `points` is the lower set of exponent vectors (:func:`lower_set`); the polynomial
@@ -575,8 +630,16 @@ def _one_prime(n, D, B0, Bs, bounds, even, p, points, split=None):
     With a :class:`~symcluster.algebra.split.ConjugateSplit`, each sample is the product of
     the characteristic polynomials of the conjugate parts; None when ``p`` does not suit
     the split (the caller takes another prime).
+    ``mirror`` (optional, one entry per free coupling: None or the Fraction ``c`` of
+    :func:`_mirror_shift` for the integer matrices) samples those couplings at
+    ``0, 1, -1, 2, -2, ...``; the polynomial at ``-j`` is the one at ``j`` with ``x``
+    replaced by ``x + 2 c j / D``, so it costs no characteristic polynomial.
     """
     dinv = pow(D, -1, p)
+    mirror = mirror or [None] * len(Bs)
+    kinds = [1 if e else (2 if m else 0) for e, m in zip(even, mirror)]
+    # c / D modulo p: the shift in the units of the sampled matrices B / D
+    cps = [m.numerator * pow(m.denominator, -1, p) * dinv % p if m else 0 for m in mirror]
     B0p = flint.nmod_mat(B0, p) * dinv if D != 1 else flint.nmod_mat(B0, p)
     Bps = [flint.nmod_mat(B, p) * dinv if D != 1 else flint.nmod_mat(B, p) for B in Bs]
     parts = None
@@ -586,9 +649,22 @@ def _one_prime(n, D, B0, Bs, bounds, even, p, points, split=None):
             return None
     vals = {}
     for beta in points:
+        mirrored = next((i for i, (b, k) in enumerate(zip(beta, kinds))
+                         if k == 2 and b and b % 2 == 0), None)
+        if mirrored is not None:
+            # node -j: from the partner at +j (computed before: lower sets are downward
+            # closed and `points` is in lexicographic order)
+            j = beta[mirrored] // 2
+            partner = beta[:mirrored] + (2 * j - 1,) + beta[mirrored + 1:]
+            moved = flint.nmod_poly(vals[partner], p)(
+                flint.nmod_poly([2 * j * cps[mirrored] % p, 1], p))
+            cs = [int(c) for c in moved.coeffs()]
+            vals[beta] = cs + [0] * (n + 1 - len(cs))
+            continue
+        coords = [_node(b, k) for b, k in zip(beta, kinds)]
         if parts is None:
             M = B0p
-            for u, Bp in zip(beta, Bps):
+            for u, Bp in zip(coords, Bps):
                 if u:
                     M = M + Bp * u
             cp = M.charpoly()
@@ -596,7 +672,7 @@ def _one_prime(n, D, B0, Bs, bounds, even, p, points, split=None):
             cp = flint.nmod_poly([1], p)
             for k in range(split.degree):
                 M = parts[0][k]
-                for u, Pk in zip(beta, parts[1:]):
+                for u, Pk in zip(coords, parts[1:]):
                     if u:
                         M = M + Pk[k] * u
                 cp = cp * M.charpoly()
@@ -606,24 +682,24 @@ def _one_prime(n, D, B0, Bs, bounds, even, p, points, split=None):
     if not bounds:              # no free coupling: one sample, nothing to interpolate
         return vals[()]
     # all divided differences before any conversion; the last axis does both at once
-    full = [_axis_matrices(d + 1, e, p) for d, e in zip(bounds, even)]
+    full = [_axis_matrices(d + 1, k, p) for d, k in zip(bounds, kinds)]
     last = len(full) - 1
     for axis in range(last):
-        _apply_lines(vals, points, axis, "dd", even[axis], full[axis], p, n + 1)
-    _apply_lines(vals, points, last, "both", even[last], full[last], p, n + 1)
+        _apply_lines(vals, points, axis, "dd", kinds[axis], full[axis], p, n + 1)
+    _apply_lines(vals, points, last, "both", kinds[last], full[last], p, n + 1)
     for axis in range(last):
-        _apply_lines(vals, points, axis, "conv", even[axis], full[axis], p, n + 1)
+        _apply_lines(vals, points, axis, "conv", kinds[axis], full[axis], p, n + 1)
     flat = []
     for beta in points:
         flat.extend(vals[beta])
     return flat
 
 
-def _multimodular(n, D, B0, Bs, bounds, even, hbits, rng, split=None):
+def _multimodular(n, D, B0, Bs, bounds, even, hbits, rng, split=None, mirror=None):
     """CRT-lift the interpolated coefficients; see the module docstring for the stop rule.
 
     With a `split` (:class:`~symcluster.algebra.split.ConjugateSplit`), primes that do not
-    suit it are skipped.
+    suit it are skipped.  ``mirror``: see :func:`_one_prime`.
     """
     points = lower_set(bounds, even, n)
     keys = [beta + (a,) for beta in points for a in range(n + 1)]
@@ -634,7 +710,7 @@ def _multimodular(n, D, B0, Bs, bounds, even, hbits, rng, split=None):
     while True:
         p = _prime(k)
         k += 1
-        res = _one_prime(n, D, B0, Bs, bounds, even, p, points, split)
+        res = _one_prime(n, D, B0, Bs, bounds, even, p, points, split, mirror)
         if res is None:
             skipped += 1
             # f splits into linear factors modulo about one prime in s (Chebotarev: the
@@ -662,7 +738,8 @@ def _multimodular(n, D, B0, Bs, bounds, even, hbits, rng, split=None):
             acc, modulus = nacc, new_mod
         if math.log2(modulus) > hbits + 1:
             # rigorous only if the grid assumptions hold (evenness, integral block)
-            if (any(even) or D != 1) and not _spot_check(n, D, B0, Bs, even, keys, acc, rng):
+            if ((any(even) or any(mirror or ()) or D != 1)
+                    and not _spot_check(n, D, B0, Bs, even, keys, acc, rng)):
                 return None
             break
         if stable and _spot_check(n, D, B0, Bs, even, keys, acc, rng):

@@ -9,14 +9,17 @@ from collections.abc import Iterable, Mapping, Sequence
 import sympy
 
 from symcluster.algebra.charpoly import charpoly_dict
-from symcluster.algebra.closed import add_shift, closed_forms
+from symcluster.algebra.closed import add_shift
 from symcluster.algebra.factor import factor_integer_dict
 from symcluster.algebra.polydict import integer_dict, poly_from_dict
 from symcluster.symmetry.spin import shift_expr
-from symcluster.blocks.build import (_irrep_times_char, build_blocks, eta_member_irrep, plan_symmetries,
-                     sectors_to_solve)
+from symcluster.blocks.build import (build_blocks, eta_member_irrep, plan_symmetries,
+                                     sectors_to_solve)
 from symcluster.blocks.selection import (block_needed, check_selection, level_matches,
                                          normalise_selection)
+from symcluster.pipeline.derived import (Written, _closed_forms_once, _copy_factors,  # noqa: F401
+                                         _negate_couplings, equal_blocks, gauge_twins,
+                                         spectral_twins, twin_image)
 from symcluster.pipeline.resources import Progress, block_dimensions, check_early, check_size
 from symcluster.workers import submit
 from symcluster.errors import ModelError, VerificationError
@@ -65,15 +68,6 @@ def solve_block(spec, names, gens=None, written=None):
     return _unpack(_solve_packed(spec.block, names, gens, written), gens)
 
 
-class Written:
-    """The closed forms written in one solve: by factor (its sorted terms), and the
-    polynomial rings in the couplings whose expressions they share."""
-
-    def __init__(self):
-        self.by_factor = {}
-        self.rings = {}
-
-
 def _generators(names):
     """``(E, *coupling symbols)`` for the coupling `names` (the constant part left out)."""
     from symcluster.symbols import ENERGY, coupling_symbol
@@ -111,18 +105,6 @@ def _solve_packed(block, names, gens=None, written=None):
         else:
             roots = [("closed", r) for r in closed]
         out.append((rep, tuple(g.name for g in gens), mult, roots))
-    return out
-
-
-def _closed_forms_once(rep, gens, written=None):
-    """:func:`closed_forms` of a factor, through ``written`` (a :class:`Written`) if given:
-    a factor with the same terms gets the forms written for it before."""
-    if written is None:
-        return closed_forms(rep, gens)
-    key = tuple(sorted(rep.items()))
-    if key in written.by_factor:        # None (implicit roots) is kept as well
-        return written.by_factor[key]
-    out = written.by_factor[key] = closed_forms(rep, gens, rings=written.rings)
     return out
 
 
@@ -199,101 +181,6 @@ class _Shifter:
         shifted = dict(zip(out.monoms(), map(int, out.coeffs())))
         made = self._made[(terms, k)] = poly_from_dict(shifted, poly.gens, sympy.ZZ)
         return made
-
-
-def gauge_twins(model, plan, blocks):
-    """Blocks whose results follow from another block by t -> -t: {index: partner index}.
-
-    On a bipartite cluster (detected exactly: the eta-pseudospin check needs every bond
-    to join the two sublattices) the gauge transformation G = prod_{i in B} (-1)^{n_i}
-    is diagonal in the Fock basis, commutes with N_up, N_dn, S+ and eta+, and maps
-    H(t, U) to H(-t, U).  A lattice symmetry g that swaps the sublattices satisfies
-    g G g^-1 = (-1)^N G, so for odd N, G maps the lattice irrep Gamma onto
-    Gamma x chi_sub (chi_sub = -1 on swapping elements): the two blocks have the same
-    characteristic polynomial up to t -> -t.  Every derived block is still checked
-    against its own matrix by ``verify_blocks``.
-    """
-    if not plan.eta or not plan.sublattice_char or plan.lattice is None or plan.odd_labels is None:
-        return {}
-    index = {}
-    for i, spec in enumerate(blocks):
-        irrep = getattr(spec, "irrep", None)
-        if irrep is not None:
-            index[(spec.sector, irrep.label)] = i
-    twins = {}
-    for i, spec in enumerate(blocks):
-        if i in twins or spec.labels["N"] % 2 == 0 or getattr(spec, "irrep", None) is None:
-            continue
-        partner = _irrep_times_char(plan.lattice, spec.irrep, plan.sublattice_char)
-        if partner is None or partner.label == spec.irrep.label:
-            continue
-        j = index.get((spec.sector, partner.label))
-        if j is not None and j > i and j not in twins and blocks[j].block.dim == spec.block.dim:
-            twins[j] = i
-    return twins
-
-
-def _negate_couplings(factors, odd, written=None):
-    """Factors and roots of a block after the substitution c -> -c for every c in `odd`.
-
-    ``written`` (optional, the solve's :class:`Written`): the closed forms of a substituted
-    factor met before are taken from it, and new ones are written into it.
-    """
-    out = []
-    for fac, mult, roots in factors:
-        gens = fac.gens
-        flip = [g.name in odd for g in gens]
-        old = integer_dict(fac)                  # the factors are integer Polys
-        rep = {m: (-c if sum(e for e, f in zip(m, flip) if f) % 2 else c) for m, c in old.items()}
-        if rep == old:
-            # even in the flipped couplings: the factor, and so its closed forms (which are
-            # built from its coefficients alone), are unchanged
-            out.extend(_copy_factors([(fac, mult, roots)]))
-            continue
-        new = poly_from_dict(rep, gens, fac.domain)
-        if roots and not isinstance(roots[0], ImplicitRoot):
-            # the closed forms of the substituted factor, written afresh: cheaper than
-            # substituting into the trees (xreplace rebuilds them with evaluation)
-            forms = _closed_forms_once(rep, gens, written)
-            if forms is not None and len(forms) == len(roots):
-                out.append((new, mult, forms))
-                continue
-        sub = {g: -g for g, f in zip(gens, flip) if f}
-        out.append((new, mult, [ImplicitRoot(new, r.index) if isinstance(r, ImplicitRoot)
-                                else r.xreplace(sub) for r in roots]))
-    return out
-
-
-def _copy_factors(factors):
-    """The same factors and roots with Poly objects of their own (sharing the exact
-    representation): the verification counts the roots of each polynomial object."""
-    out = []
-    for fac, mult, roots in factors:
-        new = sympy.Poly.new(fac.rep, *fac.gens)
-        out.append((new, mult, [ImplicitRoot(new, r.index) if isinstance(r, ImplicitRoot)
-                                else r for r in roots]))
-    return out
-
-
-def equal_blocks(blocks, skip=()):
-    """Blocks whose matrix equals an earlier block's, entry for entry: {index: first index}.
-
-    Their factors and roots are those of the first (copied, not solved again); every
-    block is still checked against its own matrix by ``verify_blocks``.  ``skip`` holds
-    indices to leave out (the gauge twins, derived otherwise).
-    """
-    first = {}
-    out = {}
-    for i, spec in enumerate(blocks):
-        if i in skip:
-            continue
-        blk = spec.block
-        key = (blk.dim, tuple(sorted((lab, tuple(sorted(m.items())))
-                                     for lab, m in blk.terms.items())))
-        j = first.setdefault(key, i)
-        if j != i:
-            out[i] = j
-    return out
 
 
 def _level_order(level):
@@ -577,13 +464,18 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
         executor = None
     twins = gauge_twins(model, plan, blocks)
     copies = equal_blocks(blocks, skip=twins)
-    # blocks derived from others (gauge twins, equal copies) are not counted
-    prog.phase("exact algebra", len(blocks) - len(twins) - len(copies), "blocks")
+    mirrored = spectral_twins(blocks, names, skip={**twins, **copies},
+                              seed=0 if seed is None else seed)
+    # blocks derived from others (gauge twins, equal copies, spectral twins) are not counted
+    derived = {**twins, **copies, **mirrored}
+    prog.phase("exact algebra", len(blocks) - len(derived), "blocks")
     try:
-        todo = [i for i in range(len(blocks)) if i not in twins and i not in copies]
+        todo = [i for i in range(len(blocks)) if i not in derived]
         written = Written()             # the closed forms of this solve
         solved = dict(zip(todo, _run_blocks([blocks[i] for i in todo], names, executor, prog,
                                             written)))
+        for i, (j, flipped, shift) in mirrored.items():
+            solved[i] = twin_image(solved[j], flipped, shift, written)
         for i, j in copies.items():
             solved[i] = _copy_factors(solved[j])
         odd = plan.odd_labels           # the labels G maps to minus themselves
@@ -596,7 +488,7 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
         raise
     try:
         spectrum = _finish(original, plan, blocks, results, twins, sizes, wanted, digits, seed,
-                           timings, t0, t1, executor, prog, fixed, selection)
+                           timings, t0, t1, executor, prog, fixed, selection, len(mirrored))
     except BaseException:
         if own_pool is not None:
             stop_pool(own_pool)
@@ -618,7 +510,7 @@ def _drop_constant_shifts(plan):
 
 
 def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, timings, t0, t1,
-            executor, progress=None, fixed=None, selection=None):
+            executor, progress=None, fixed=None, selection=None, n_mirrored=0):
     """Levels from the block results, then verification (through `executor` if given;
     steps reported to `progress`, a :class:`~symcluster.pipeline.resources.Progress`)."""
     timings["algebra"] = time.perf_counter() - t1
@@ -695,6 +587,9 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
     used = plan.names()
     if twins:
         used.append(f"sublattice gauge t -> -t ({len(twins)} odd-N blocks derived from their twins)")
+    if n_mirrored:
+        used.append(f"spectral twins E -> E + shift, couplings -> +-couplings ({n_mirrored} "
+                    "blocks derived, each pair found by an exact comparison at a random point)")
     spectrum.symmetries = [{"symmetries": used}] + [
         {"sector": s["sector"], "sector_dim": s["sector_dim"], "steps": s["steps"],
          "largest_block": s["largest_block"]} for s in sizes]

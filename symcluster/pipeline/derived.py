@@ -1,0 +1,300 @@
+"""Blocks whose exact results follow from another block's, and the closed forms one solve writes.
+
+Three kinds of derived block, each found before the exact algebra runs:
+
+* **gauge twins** (:func:`gauge_twins`): on a bipartite cluster the sublattice gauge
+  transformation maps an odd-N block onto a block of another lattice irrep with
+  ``t -> -t`` (a proof, see the function);
+* **equal blocks** (:func:`equal_blocks`): equal matrices, entry for entry;
+* **spectral twins** (:func:`spectral_twins`): blocks whose characteristic polynomial is
+  another's with some couplings negated and the energy moved by an integer combination of
+  the couplings, ``P_j(E, c) = P_i(E - sum_a s_a c_a, ±c)``.  On a bipartite Hubbard cluster
+  the Shiba transformation (down spins to holes, with the sublattice sign) relates the
+  spin-S, pseudospin-eta block to the spin-eta, pseudospin-S one with ``U -> -U``.  They
+  are *found*, not proven: the two characteristic polynomials are compared exactly at a
+  random point modulo a random 62-bit prime, for the sign patterns of at most
+  :data:`TWIN_MAX_LABELS` couplings, with the shift read off the traces.
+
+Every derived block is checked against its own matrix afterwards, like every other block
+(:func:`symcluster.verify.core.verify_blocks`: its characteristic polynomial at random points
+against the product of the derived factors), so a wrong derivation is an error, never a
+result.
+"""
+
+import itertools
+import random
+from fractions import Fraction
+
+import flint
+import sympy
+
+from symcluster.algebra.closed import add_shift, closed_forms
+from symcluster.algebra.polydict import integer_dict, poly_from_dict
+from symcluster.blocks.build import _irrep_times_char
+from symcluster.numeric.implicit import ImplicitRoot
+from symcluster.symbols import CONSTANT
+
+__all__ = ["Written", "gauge_twins", "equal_blocks", "spectral_twins", "TWIN_MIN_DIM",
+           "TWIN_MAX_LABELS"]
+
+#: Blocks below this dimension are solved directly: their algebra costs about as much as
+#: the search for a twin (common practice, no source: measured on ring(8) and the ladder).
+TWIN_MIN_DIM = 40
+#: Spectral twins are searched for models with at most this many couplings (2^k sign
+#: patterns per pair of blocks).
+TWIN_MAX_LABELS = 3
+
+
+class Written:
+    """The closed forms written in one solve: by factor (its sorted terms), and the
+    polynomial rings in the couplings whose expressions they share."""
+
+    def __init__(self):
+        self.by_factor = {}
+        self.rings = {}
+
+
+def _closed_forms_once(rep, gens, written=None):
+    """:func:`closed_forms` of a factor, through ``written`` (a :class:`Written`) if given:
+    a factor with the same terms gets the forms written for it before."""
+    if written is None:
+        return closed_forms(rep, gens)
+    key = tuple(sorted(rep.items()))
+    if key in written.by_factor:        # None (implicit roots) is kept as well
+        return written.by_factor[key]
+    out = written.by_factor[key] = closed_forms(rep, gens, rings=written.rings)
+    return out
+
+
+def gauge_twins(model, plan, blocks):
+    """Blocks whose results follow from another block by t -> -t: {index: partner index}.
+
+    On a bipartite cluster (detected exactly: the eta-pseudospin check needs every bond
+    to join the two sublattices) the gauge transformation G = prod_{i in B} (-1)^{n_i}
+    is diagonal in the Fock basis, commutes with N_up, N_dn, S+ and eta+, and maps
+    H(t, U) to H(-t, U).  A lattice symmetry g that swaps the sublattices satisfies
+    g G g^-1 = (-1)^N G, so for odd N, G maps the lattice irrep Gamma onto
+    Gamma x chi_sub (chi_sub = -1 on swapping elements): the two blocks have the same
+    characteristic polynomial up to t -> -t.  Every derived block is still checked
+    against its own matrix by ``verify_blocks``.
+    """
+    if not plan.eta or not plan.sublattice_char or plan.lattice is None or plan.odd_labels is None:
+        return {}
+    index = {}
+    for i, spec in enumerate(blocks):
+        irrep = getattr(spec, "irrep", None)
+        if irrep is not None:
+            index[(spec.sector, irrep.label)] = i
+    twins = {}
+    for i, spec in enumerate(blocks):
+        if i in twins or spec.labels["N"] % 2 == 0 or getattr(spec, "irrep", None) is None:
+            continue
+        partner = _irrep_times_char(plan.lattice, spec.irrep, plan.sublattice_char)
+        if partner is None or partner.label == spec.irrep.label:
+            continue
+        j = index.get((spec.sector, partner.label))
+        if j is not None and j > i and j not in twins and blocks[j].block.dim == spec.block.dim:
+            twins[j] = i
+    return twins
+
+
+def _negate_couplings(factors, odd, written=None):
+    """Factors and roots of a block after the substitution c -> -c for every c in `odd`.
+
+    ``written`` (optional, the solve's :class:`Written`): the closed forms of a substituted
+    factor met before are taken from it, and new ones are written into it.
+    """
+    out = []
+    for fac, mult, roots in factors:
+        gens = fac.gens
+        flip = [g.name in odd for g in gens]
+        old = integer_dict(fac)                  # the factors are integer Polys
+        rep = {m: (-c if sum(e for e, f in zip(m, flip) if f) % 2 else c) for m, c in old.items()}
+        if rep == old:
+            # even in the flipped couplings: the factor, and so its closed forms (which are
+            # built from its coefficients alone), are unchanged
+            out.extend(_copy_factors([(fac, mult, roots)]))
+            continue
+        new = poly_from_dict(rep, gens, fac.domain)
+        if roots and not isinstance(roots[0], ImplicitRoot):
+            # the closed forms of the substituted factor, written afresh: cheaper than
+            # substituting into the trees (xreplace rebuilds them with evaluation)
+            forms = _closed_forms_once(rep, gens, written)
+            if forms is not None and len(forms) == len(roots):
+                out.append((new, mult, forms))
+                continue
+        sub = {g: -g for g, f in zip(gens, flip) if f}
+        out.append((new, mult, [ImplicitRoot(new, r.index) if isinstance(r, ImplicitRoot)
+                                else r.xreplace(sub) for r in roots]))
+    return out
+
+
+def _copy_factors(factors):
+    """The same factors and roots with Poly objects of their own (sharing the exact
+    representation): the verification counts the roots of each polynomial object."""
+    out = []
+    for fac, mult, roots in factors:
+        new = sympy.Poly.new(fac.rep, *fac.gens)
+        out.append((new, mult, [ImplicitRoot(new, r.index) if isinstance(r, ImplicitRoot)
+                                else r for r in roots]))
+    return out
+
+
+def equal_blocks(blocks, skip=()):
+    """Blocks whose matrix equals an earlier block's, entry for entry: {index: first index}.
+
+    Their factors and roots are those of the first (copied, not solved again); every
+    block is still checked against its own matrix by ``verify_blocks``.  ``skip`` holds
+    indices to leave out (the gauge twins, derived otherwise).
+    """
+    first = {}
+    out = {}
+    for i, spec in enumerate(blocks):
+        if i in skip:
+            continue
+        blk = spec.block
+        key = (blk.dim, tuple(sorted((lab, tuple(sorted(m.items())))
+                                     for lab, m in blk.terms.items())))
+        j = first.setdefault(key, i)
+        if j != i:
+            out[i] = j
+    return out
+
+
+
+
+def _trace(block, label):
+    return sum((v for (i, j), v in block.terms.get(label, {}).items() if i == j), Fraction(0))
+
+
+def _charpoly_at(block, values, p):
+    """``det(x - H)`` of `block` at the couplings `values` ({label: int}) modulo `p`."""
+    n = block.dim
+    M = flint.nmod_mat(n, n, p)
+    for label, mat in block.terms.items():
+        v = values[label]
+        for (i, j), a in mat.items():
+            a = Fraction(a)
+            M[i, j] = int(M[i, j]) + v * a.numerator * pow(a.denominator, -1, p)
+    return M.charpoly()
+
+
+def spectral_twins(blocks, names, skip=(), seed=0):
+    """Blocks whose characteristic polynomial follows from an earlier block's.
+
+    Returns ``{j: (i, flipped, shift)}``: ``det(E - H_j)(c) = det(E - H_i)`` at the
+    couplings ``c`` with the labels in ``flipped`` negated and ``E`` replaced by
+    ``E - sum(shift[a] * c_a)`` (``shift``: {label: int}).  Block ``i`` is solved, never
+    derived itself; blocks in ``skip`` (derived otherwise) and blocks below
+    :data:`TWIN_MIN_DIM` are left out, and so are models with held couplings or more than
+    :data:`TWIN_MAX_LABELS` couplings.  For a candidate pair (equal dimension) and sign
+    pattern, the shift follows from ``tr H_j = tr H_i(±c) + n * shift``; only integer shifts
+    are kept (the derived factors stay monic integer polynomials), and the two polynomials
+    must agree exactly at one random point modulo a random 62-bit prime.  A false match has
+    probability below ``n / 2**61``, and every block is checked against its own matrix
+    after the algebra all the same (see the module docstring).
+
+    Examples
+    --------
+    >>> from symcluster.algebra.block import LinearBlock
+    >>> a = LinearBlock(2, {"t": {(0, 1): -1, (1, 0): -1}, "U": {(0, 0): 1}})
+    >>> b = LinearBlock(2, {"t": {(0, 1): -1, (1, 0): -1}, "U": {(1, 1): 1}})
+    >>> class Spec:                                   # what the pipeline's blocks carry
+    ...     def __init__(self, block):
+    ...         self.block = block
+    >>> import symcluster.pipeline.derived as derived
+    >>> derived.TWIN_MIN_DIM, old = 1, derived.TWIN_MIN_DIM
+    >>> derived.spectral_twins([Spec(a), Spec(b)], ("t", "U"))   # equal spectra, no shift
+    {1: (0, (), {'t': 0, 'U': 0})}
+    >>> derived.TWIN_MIN_DIM = old
+    """
+    names = tuple(names)
+    if CONSTANT in names or not names or len(names) > TWIN_MAX_LABELS:
+        return {}
+    rng = random.Random(seed ^ 0x7C1)
+    p = flint.fmpz(rng.randrange(2 ** 61, 2 ** 62)) | 1
+    while not p.is_prime():
+        p += 2
+    p = int(p)
+    point = {lab: rng.randrange(1, p) for lab in names}
+    patterns = [tuple(lab for lab, s in zip(names, signs) if s)
+                for signs in itertools.product((False, True), repeat=len(names))]
+    polys = {}
+
+    def poly(i, flipped):
+        key = (i, flipped)
+        if key not in polys:
+            vals = {lab: (p - v if lab in flipped else v) for lab, v in point.items()}
+            polys[key] = _charpoly_at(blocks[i].block, vals, p)
+        return polys[key]
+
+    by_dim = {}
+    for i, spec in enumerate(blocks):
+        if i not in skip and spec.block.dim >= TWIN_MIN_DIM:
+            by_dim.setdefault(spec.block.dim, []).append(i)
+    twins = {}
+    for n, group in by_dim.items():
+        solved = []
+        for j in group:
+            tr_j = {lab: _trace(blocks[j].block, lab) for lab in names}
+            found = None
+            for i in solved:
+                tr_i = {lab: _trace(blocks[i].block, lab) for lab in names}
+                for flipped in patterns:
+                    shift = {lab: (tr_j[lab] - (-tr_i[lab] if lab in flipped else tr_i[lab])) / n
+                             for lab in names}
+                    if any(s.denominator != 1 for s in shift.values()):
+                        continue
+                    shift = {lab: int(s) for lab, s in shift.items()}
+                    moved = sum(s * point[lab] for lab, s in shift.items()) % p
+                    # P_j(x) = P_i(x - moved) at the flipped point
+                    if poly(i, flipped)(flint.nmod_poly([-moved % p, 1], p)) == poly(j, ()):
+                        found = (i, flipped, shift)
+                        break
+                if found:
+                    break
+            if found:
+                twins[j] = found
+            else:
+                solved.append(j)
+    return twins
+
+
+def twin_image(factors, flipped, shift, written=None):
+    """Factors and roots of a spectral twin (see :func:`spectral_twins`): each factor
+    ``f(E, c)`` becomes ``f(E - sum(shift[a] c_a), c with the flipped labels negated)``, an
+    irreducible integer polynomial, monic in E like ``f``; closed forms move alike, and an
+    implicit root keeps its index (the order of the real roots is kept by the shift).
+
+    Examples
+    --------
+    >>> E, t, U = sympy.symbols("E t U", real=True)
+    >>> f = sympy.Poly(E**2 - U*E - 4*t**2, E, t, U)
+    >>> roots = [U/2 - sympy.sqrt(U**2 + 16*t**2)/2, U/2 + sympy.sqrt(U**2 + 16*t**2)/2]
+    >>> [(g.as_expr(), m) for g, m, _ in twin_image([(f, 1, roots)], ("U",), {"U": 1})]
+    [(E**2 - E*U - 4*t**2, 1)]
+    """
+    out = []
+    for fac, mult, roots in factors:
+        gens = fac.gens
+        names = [g.name for g in gens[1:]]
+        ctx = flint.fmpz_mpoly_ctx.get(tuple(f"x{i}" for i in range(len(gens))), "lex")
+        x = ctx.gens()
+        moved = sum((s * x[1 + names.index(lab)] for lab, s in shift.items() if s),
+                    ctx.from_dict({}))
+        args = [x[0] - moved] + [-x[1 + k] if nm in flipped else x[1 + k]
+                                 for k, nm in enumerate(names)]
+        image = ctx.from_dict(integer_dict(fac)).compose(*args)
+        rep = dict(zip(image.monoms(), map(int, image.coeffs())))
+        new = poly_from_dict(rep, gens, sympy.ZZ)
+        if roots and not isinstance(roots[0], ImplicitRoot):
+            forms = _closed_forms_once(rep, gens, written)
+            if forms is None or len(forms) != len(roots):
+                sub = {g: -g for g in gens[1:] if g.name in flipped}
+                term = sum((s * g for g in gens[1:] for lab, s in shift.items()
+                            if g.name == lab and s), sympy.Integer(0))
+                forms = [add_shift(r.xreplace(sub), 1, term) for r in roots]
+            out.append((new, mult, forms))
+        else:
+            out.append((new, mult, [ImplicitRoot(new, r.index) for r in roots]))
+    return out
