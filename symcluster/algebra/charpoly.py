@@ -451,10 +451,12 @@ def _charpoly_flint(block, names):
             rest = [nm for nm in present if nm != f]
             pts = lower_set([ranks[nm] // 2 if parity[nm] else ranks[nm] for nm in rest],
                             [parity[nm] for nm in rest], n)
-            return _samples(pts, [axis(nm) for nm in rest])
+            return _samples(pts, [axis(nm) for nm in rest]), len(pts)
 
-        # fix the coupling whose removal leaves the fewest characteristic polynomials
-        fixed = min(present, key=lambda nm: (grid_size(nm), -ranks[nm], present.index(nm)))
+        # fix the coupling whose removal leaves the fewest characteristic polynomials, then
+        # the fewest unknown coefficients (an even coupling halves both, a mirrored one only
+        # the polynomials)
+        fixed = min(present, key=lambda nm: (*grid_size(nm), -ranks[nm], present.index(nm)))
         free = [nm for nm in present if nm != fixed]
         even = [parity[nm] for nm in free]
         bounds = [ranks[nm] // 2 if e else ranks[nm] for nm, e in zip(free, even)]
@@ -661,7 +663,8 @@ def _one_prime(n, D, B0, Bs, bounds, even, p, points, split=None, mirror=None):
             cs = [int(c) for c in moved.coeffs()]
             vals[beta] = cs + [0] * (n + 1 - len(cs))
             continue
-        coords = [_node(b, k) for b, k in zip(beta, kinds)]
+        # the couplings of the sample: u = node (an even coupling: u = j, node s = u^2 = j^2)
+        coords = [_node(b, k) if k == 2 else b for b, k in zip(beta, kinds)]
         if parts is None:
             M = B0p
             for u, Bp in zip(coords, Bps):
