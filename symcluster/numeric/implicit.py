@@ -29,7 +29,7 @@ from symcluster.numeric.rootexpr import level_root
 from symcluster.numeric.isolate import (homogeneous_ints, point_values, real_roots_at,
                                         roots_from_coeffs, univariate_ints)
 
-__all__ = ["ImplicitRoot", "roots_of", "roots_of_irreducible", "verify_roots"]
+__all__ = ["ImplicitRoot", "roots_of", "roots_of_irreducible", "verify_roots", "remember_terms"]
 
 
 _PREPARED = {}
@@ -49,15 +49,40 @@ class _Terms(tuple):
 
 
 def _prepared_terms(poly):
-    """Sorted integer terms of a Poly, shared by all roots of the same polynomial object."""
-    hit = _PREPARED.get(id(poly))
-    if hit is not None and hit[0] is poly:
+    """Sorted integer terms of a Poly, shared by all roots of polynomial objects with the
+    same representation (copies of a factor share it)."""
+    rep = poly.rep
+    hit = _PREPARED.get(id(rep))
+    if hit is not None and hit[0] is rep:
         return hit[1]
     terms = _Terms(sorted((m, int(c)) for m, c in poly.as_dict(native=True).items()))
+    _keep(rep, terms)
+    return terms
+
+
+def _keep(rep, terms):
     if len(_PREPARED) > 4096:
         _PREPARED.clear()
-    _PREPARED[id(poly)] = (poly, terms)
-    return terms
+    _PREPARED[id(rep)] = (rep, terms)
+
+
+def remember_terms(poly, rep):
+    """Tell the implicit roots the integer terms of ``poly`` that the caller already has.
+
+    ``rep`` is ``{exponents: int}``, the dict ``poly`` was built from (e.g. by
+    :func:`~symcluster.algebra.polydict.poly_from_dict`); the roots of ``poly`` then need no
+    conversion of its representation back to terms, which costs seconds for factors of
+    degree ~300 with tens of thousands of terms.  Returns ``poly``.
+
+    Examples
+    --------
+    >>> E, U = sympy.symbols("E U", real=True)
+    >>> p = remember_terms(sympy.Poly(E**2 - U**2, E, U), {(2, 0): 1, (0, 2): -1})
+    >>> ImplicitRoot(p, 1).numeric({U: 3}, digits=10)
+    mpf('3.0')
+    """
+    _keep(poly.rep, _Terms(sorted((m, int(c)) for m, c in rep.items() if c)))
+    return poly
 
 
 

@@ -31,7 +31,7 @@ import sympy
 from symcluster.algebra.closed import add_shift, closed_forms
 from symcluster.algebra.polydict import integer_dict, poly_from_dict
 from symcluster.blocks.build import _irrep_times_char
-from symcluster.numeric.implicit import ImplicitRoot
+from symcluster.numeric.implicit import ImplicitRoot, remember_terms
 from symcluster.symbols import CONSTANT
 
 __all__ = ["Written", "gauge_twins", "equal_blocks", "spectral_twins", "TWIN_MIN_DIM",
@@ -116,6 +116,8 @@ def _negate_couplings(factors, odd, written=None):
             out.extend(_copy_factors([(fac, mult, roots)]))
             continue
         new = poly_from_dict(rep, gens, fac.domain)
+        if roots and isinstance(roots[0], ImplicitRoot):
+            remember_terms(new, rep)
         if roots and not isinstance(roots[0], ImplicitRoot):
             # the closed forms of the substituted factor, written afresh: cheaper than
             # substituting into the trees (xreplace rebuilds them with evaluation)
@@ -287,6 +289,8 @@ def twin_image(factors, flipped, shift, written=None):
         image = ctx.from_dict(integer_dict(fac)).compose(*args)
         rep = dict(zip(image.monoms(), map(int, image.coeffs())))
         new = poly_from_dict(rep, gens, sympy.ZZ)
+        if roots and isinstance(roots[0], ImplicitRoot):
+            remember_terms(new, rep)
         if roots and not isinstance(roots[0], ImplicitRoot):
             forms = _closed_forms_once(rep, gens, written)
             if forms is None or len(forms) != len(roots):

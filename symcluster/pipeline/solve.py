@@ -26,7 +26,7 @@ from symcluster.errors import ModelError, VerificationError
 from symcluster.interrupts import process_pool, stop_pool
 from symcluster.linalg import integer_multiple
 from symcluster.models import Model
-from symcluster.numeric.implicit import ImplicitRoot
+from symcluster.numeric.implicit import ImplicitRoot, remember_terms
 from symcluster.spectrum import Level, Spectrum, VerificationReport, check_digits
 from symcluster.symbols import CONSTANT
 from symcluster.verify.core import verify_blocks, verify_spectrum
@@ -117,6 +117,8 @@ def _unpack(packed, gens=None):
         if gens is None or len(gens) != len(names) or any(g.name != n for g, n in zip(gens, names)):
             gens = tuple(coupling_symbol(n) for n in names)
         fac = poly_from_dict(rep, gens, sympy.ZZ)
+        if roots and roots[0][0] == "implicit":
+            remember_terms(fac, rep)
         out.append((fac, mult, [ImplicitRoot(fac, r) if kind == "implicit" else r
                                 for kind, r in roots]))
     return out
@@ -135,11 +137,10 @@ class _Shifter:
         self._none = shift is None or not per_label
         self._per_label = per_label or {}
         self._ctx = None
-        # (poly, its sorted terms, its python-flint form or None): the k loop reuses them
-        self._last = (None, None, None)
-        self._made = {}                 # (sorted terms, k) -> the shifted Poly made first:
-                                        # equal factors of separate blocks shift alike
-        self._terms = {}                # id(poly.rep) -> (rep, its sorted terms)
+        # (poly.rep, its python-flint form): the k loop reuses it
+        self._last = (None, None)
+        self._made = {}                 # (id(poly.rep), k) -> (rep, the shifted Poly made
+                                        # first): copies of a factor shift alike
 
     def _setup(self, gens):
         import flint
@@ -159,27 +160,20 @@ class _Shifter:
             return poly
         if self._ctx is None or poly.gens != self.gens:
             self._setup(poly.gens)
-        last, terms, fp = self._last
-        if last is not poly:
-            # Polys sharing one representation (copies of a factor) share its terms
-            hit = self._terms.get(id(poly.rep))
-            if hit is not None and hit[0] is poly.rep:
-                terms = hit[1]
-            else:
-                terms = tuple(sorted(integer_dict(poly).items()))
-                self._terms[id(poly.rep)] = (poly.rep, terms)
-            fp = None
-            self._last = (poly, terms, fp)
-        made = self._made.get((terms, k))
-        if made is not None:
-            # a Poly of its own all the same: the verification counts roots by object
-            return sympy.Poly.new(made.rep, *made.gens)
-        if fp is None:
-            fp = self._ctx.from_dict(dict(terms))
-            self._last = (poly, terms, fp)
+        rep = poly.rep
+        hit = self._made.get((id(rep), k))
+        if hit is not None and hit[0] is rep:
+            # Polys sharing one representation (copies of a factor) shift alike; a Poly of
+            # its own all the same: the verification counts roots by object
+            return sympy.Poly.new(hit[1].rep, *hit[1].gens)
+        last, fp = self._last
+        if last is not rep:
+            fp = self._ctx.from_dict(integer_dict(poly))
+            self._last = (rep, fp)
         out = fp.compose(self._x[0] - k * self._sh, *self._x[1:])
         shifted = dict(zip(out.monoms(), map(int, out.coeffs())))
-        made = self._made[(terms, k)] = poly_from_dict(shifted, poly.gens, sympy.ZZ)
+        made = remember_terms(poly_from_dict(shifted, poly.gens, sympy.ZZ), shifted)
+        self._made[(id(rep), k)] = (rep, made)
         return made
 
 
