@@ -81,7 +81,8 @@ def remember_terms(poly, rep):
     >>> ImplicitRoot(p, 1).numeric({U: 3}, digits=10)
     mpf('3.0')
     """
-    _keep(poly.rep, _Terms(sorted((m, int(c)) for m, c in rep.items() if c)))
+    # exponents as Python ints (python-flint's monomials may hold fmpz)
+    _keep(poly.rep, _Terms(sorted((tuple(map(int, m)), int(c)) for m, c in rep.items() if c)))
     return poly
 
 
