@@ -1,6 +1,7 @@
 """The pipeline behind ``symcluster.pipeline.solve``: blocks -> exact algebra -> levels -> verification."""
 
 import concurrent.futures
+import functools
 import os
 import random
 import time
@@ -434,10 +435,7 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
     keep = None
     if selection is not None:
         check_selection(selection, space, plan)
-
-        def keep(sector, irrep):
-            return block_needed(selection, plan, space.n_modes, sector, irrep,
-                                space.has_charge)
+        keep = functools.partial(_block_kept, selection, plan, space)
     sectors = sectors_to_solve(space, plan, wanted)
     if keep is not None:
         sectors = [s for s in sectors if block_dimensions(space, [s], plan, keep)]
@@ -490,6 +488,12 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
     if own_pool is not None:
         own_pool.shutdown()
     return spectrum
+
+
+def _block_kept(selection, plan, space, sector, irrep):
+    """Whether a selection keeps the block of (sector, lattice irrep): the ``keep`` of
+    :func:`~symcluster.blocks.build.build_blocks`."""
+    return block_needed(selection, plan, space.n_modes, sector, irrep, space.has_charge)
 
 
 def _drop_constant_shifts(plan):
