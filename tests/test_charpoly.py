@@ -342,3 +342,24 @@ def test_flint_a_wrong_mirror_guess_is_recomputed(monkeypatch):
                             n, mats, idx, rng))
     monkeypatch.setattr(cp_mod, "_mirror_shift", lambda n, mat: Fraction(1, 1))
     assert charpoly(b, ("t", "U"), backend="flint") == reference_charpoly(b, (t, U))
+
+
+def test_flint_a_right_grid_guess_is_accepted_at_once(monkeypatch):
+    # an even (bipartite ring sector) and a mirrored block: the interpolant on the reduced
+    # grid must pass the exact spot check the first time; a refusal would mean the grid
+    # is sampled wrongly (the result would still be right, recomputed without the guess)
+    results = []
+    real = cp_mod._multimodular
+
+    def recording(*args, **kwargs):
+        out = real(*args, **kwargs)
+        results.append(out is not None)
+        return out
+
+    monkeypatch.setattr(cp_mod, "_multimodular", recording)
+    even = hubbard_ring_sector(4, 2, 2)         # U of rank 30: t (even) is the free axis
+    mirrored = _mirrored_block(random.Random(5), 5, c=2)
+    for b in (even, mirrored):
+        results.clear()
+        assert charpoly(b, ("t", "U"), backend="flint") == reference_charpoly(b, (t, U))
+        assert results == [True]
