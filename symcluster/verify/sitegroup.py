@@ -201,7 +201,7 @@ class SectorSplit:
             members = reps[ok]
             self.blocks.append(members)
             self._parts.append((chi[j], stab[ok]))
-        self._rep, self._h, self._sign, self._reps, self._where = rep, h_of, sign_of, reps, where
+        self._rep, self._h, self._sign, self._where = rep, h_of, sign_of, where
         if sum(len(b) for b in self.blocks) != dim:
             _fail(f"the symmetry blocks of a sector hold {sum(len(b) for b in self.blocks)} "
                   f"orbit vectors, not its {dim} states")
