@@ -88,3 +88,27 @@ def test_a_wrong_twin_is_refused_by_the_block_check(monkeypatch):
     monkeypatch.setattr(solve_mod, "spectral_twins", wrong)
     with pytest.raises(sc.VerificationError, match="differs from the product of its computed"):
         sc.solve(sc.hubbard(sc.chain(4)), executor="serial", seed=1)
+
+
+def test_spectral_twins_with_three_couplings_give_the_dense_reference(monkeypatch):
+    # the extended Hubbard ring(4) (t, U, V: eight sign patterns per pair of blocks); the
+    # dense reference adds V (n_i n_j on every bond, n = n_up + n_dn) to the Jordan-Wigner
+    # Hubbard matrix of tests/helpers_lehmann.py
+    from helpers_lehmann import Fermions
+    monkeypatch.setattr(derived, "TWIN_MIN_DIM", 2)
+    cluster = sc.ring(4)
+    spec = sc.solve(sc.hubbard(cluster, V="V"), executor="serial", seed=9)
+    used = spec.symmetries[0]["symmetries"]
+    assert any(u.startswith("spectral twins") for u in used), used
+    bonds = [(i, j) for i, j, _ in cluster.bonds]
+    f = Fermions(4)
+    dens = [f.n(i, 0) + f.n(i, 1) for i in range(4)]
+    for t, U, V in ((1.0, 3.0, 0.5), (-0.4, -2.0, 1.25)):
+        _, h = hubbard_h(bonds, 4, t, U)
+        h = h + V * sum(dens[i] @ dens[j] for i, j in bonds)
+        want = np.linalg.eigvalsh(h)
+        got = np.sort(np.concatenate([
+            [float(lev.numeric({"t": t, "U": U, "V": V}, digits=20))] * lev.degeneracy
+            for lev in spec.levels]))
+        assert got.shape == want.shape == (256,)
+        assert np.max(np.abs(got - want)) < 1e-9
