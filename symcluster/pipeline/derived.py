@@ -34,8 +34,8 @@ from symcluster.blocks.build import _irrep_times_char
 from symcluster.numeric.implicit import ImplicitRoot, remember_terms
 from symcluster.symbols import CONSTANT
 
-__all__ = ["Written", "gauge_twins", "equal_blocks", "spectral_twins", "TWIN_MIN_DIM",
-           "TWIN_MAX_LABELS"]
+__all__ = ["Written", "gauge_twins", "equal_blocks", "spectral_twins", "twin_image",
+           "moved_terms", "TWIN_MIN_DIM", "TWIN_MAX_LABELS"]
 
 #: Blocks below this dimension are solved directly: their algebra costs about as much as
 #: the search for a twin (common practice, no source: measured on ring(8) and the ladder).
@@ -234,14 +234,16 @@ def spectral_twins(blocks, names, skip=(), seed=0):
     for i, spec in enumerate(blocks):
         if i not in skip and spec.block.dim >= TWIN_MIN_DIM:
             by_dim.setdefault(spec.block.dim, []).append(i)
+    traces = {i: {lab: _trace(blocks[i].block, lab) for lab in names}
+              for group in by_dim.values() for i in group}
     twins = {}
     for n, group in by_dim.items():
         solved = []
         for j in group:
-            tr_j = {lab: _trace(blocks[j].block, lab) for lab in names}
+            tr_j = traces[j]
             found = None
             for i in solved:
-                tr_i = {lab: _trace(blocks[i].block, lab) for lab in names}
+                tr_i = traces[i]
                 for flipped in patterns:
                     shift = {lab: (tr_j[lab] - (-tr_i[lab] if lab in flipped else tr_i[lab])) / n
                              for lab in names}
@@ -262,6 +264,27 @@ def spectral_twins(blocks, names, skip=(), seed=0):
     return twins
 
 
+def moved_terms(fp, names, shift, flipped=()):
+    """``fp(E - sum(shift[a] c_a), c with the labels in flipped negated)`` as ``{exponents:
+    int}``, for an ``fmpz_mpoly`` in the generators ``(E, *names)`` of its context: the one
+    composition behind the spectral twins and the eta members' energy shifts.
+
+    Examples
+    --------
+    >>> ctx = flint.fmpz_mpoly_ctx.get(("x0", "x1", "x2"), "lex")
+    >>> E, t, U = ctx.gens()
+    >>> sorted(moved_terms(E**2 - U*E - 4*t**2, ["t", "U"], {"U": 1}, ("U",)).items())
+    [((0, 2, 0), -4), ((1, 0, 1), -1), ((2, 0, 0), 1)]
+    """
+    x = fp.context().gens()
+    moved = sum((s * x[1 + names.index(lab)] for lab, s in shift.items() if s),
+                fp.context().from_dict({}))
+    args = [x[0] - moved] + [-x[1 + k] if nm in flipped else x[1 + k]
+                             for k, nm in enumerate(names)]
+    image = fp.compose(*args)
+    return dict(zip(image.monoms(), map(int, image.coeffs())))
+
+
 def twin_image(factors, flipped, shift, written=None):
     """Factors and roots of a spectral twin (see :func:`spectral_twins`): each factor
     ``f(E, c)`` becomes ``f(E - sum(shift[a] c_a), c with the flipped labels negated)``, an
@@ -279,26 +302,18 @@ def twin_image(factors, flipped, shift, written=None):
     out = []
     for fac, mult, roots in factors:
         gens = fac.gens
-        names = [g.name for g in gens[1:]]
         ctx = flint.fmpz_mpoly_ctx.get(tuple(f"x{i}" for i in range(len(gens))), "lex")
-        x = ctx.gens()
-        moved = sum((s * x[1 + names.index(lab)] for lab, s in shift.items() if s),
-                    ctx.from_dict({}))
-        args = [x[0] - moved] + [-x[1 + k] if nm in flipped else x[1 + k]
-                                 for k, nm in enumerate(names)]
-        image = ctx.from_dict(integer_dict(fac)).compose(*args)
-        rep = dict(zip(image.monoms(), map(int, image.coeffs())))
+        rep = moved_terms(ctx.from_dict(integer_dict(fac)), [g.name for g in gens[1:]],
+                          shift, flipped)
         new = poly_from_dict(rep, gens, sympy.ZZ)
-        if roots and isinstance(roots[0], ImplicitRoot):
-            remember_terms(new, rep)
         if roots and not isinstance(roots[0], ImplicitRoot):
             forms = _closed_forms_once(rep, gens, written)
             if forms is None or len(forms) != len(roots):
                 sub = {g: -g for g in gens[1:] if g.name in flipped}
-                term = sum((s * g for g in gens[1:] for lab, s in shift.items()
-                            if g.name == lab and s), sympy.Integer(0))
+                term = sum((shift.get(g.name, 0) * g for g in gens[1:]), sympy.Integer(0))
                 forms = [add_shift(r.xreplace(sub), 1, term) for r in roots]
             out.append((new, mult, forms))
         else:
+            remember_terms(new, rep)
             out.append((new, mult, [ImplicitRoot(new, r.index) for r in roots]))
     return out

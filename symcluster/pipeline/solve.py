@@ -20,7 +20,7 @@ from symcluster.blocks.selection import (block_needed, check_selection, level_ma
                                          normalise_selection)
 from symcluster.pipeline.derived import (Written, _closed_forms_once, _copy_factors,  # noqa: F401
                                          _negate_couplings, equal_blocks, gauge_twins,
-                                         spectral_twins, twin_image)
+                                         moved_terms, spectral_twins, twin_image)
 from symcluster.pipeline.resources import Progress, block_dimensions, check_early, check_size
 from symcluster.workers import submit
 from symcluster.errors import ModelError, VerificationError
@@ -151,9 +151,7 @@ class _Shifter:
         if missing:
             raise VerificationError(f"eta shift {self.shift} is not integral in {gens}")
         self._ctx = flint.fmpz_mpoly_ctx.get(tuple(f"x{i}" for i in range(len(gens))), "lex")
-        self._x = self._ctx.gens()
-        self._sh = sum((int(x) * self._x[1 + names.index(lab)]
-                        for lab, x in self._per_label.items()), self._ctx.from_dict({}))
+        self._names = names
 
     def __call__(self, poly, k):
         """``poly(E - k*shift)`` as a Poly in the same generators (``poly`` for k = 0)."""
@@ -171,8 +169,8 @@ class _Shifter:
         if last is not rep:
             fp = self._ctx.from_dict(integer_dict(poly))
             self._last = (rep, fp)
-        out = fp.compose(self._x[0] - k * self._sh, *self._x[1:])
-        shifted = dict(zip(out.monoms(), map(int, out.coeffs())))
+        shifted = moved_terms(fp, self._names,
+                              {lab: k * int(x) for lab, x in self._per_label.items()})
         made = remember_terms(poly_from_dict(shifted, poly.gens, sympy.ZZ), shifted)
         self._made[(id(rep), k)] = (rep, made)
         return made

@@ -29,6 +29,7 @@ which ones commute is checked here, and the blocks share no code with the block 
 import numpy as np
 
 from symcluster.verify.failure import _fail
+from symcluster.verify.plain import _keys      # the plain route's order of the states
 
 __all__ = ["abelian_generators", "SectorSplit"]
 
@@ -88,13 +89,6 @@ def abelian_generators(elements, limit=None):
         if limit is not None and len(group) >= limit:
             break
     return gens
-
-
-def _keys(occ):
-    m = occ.shape[1] // 2
-    weights = 2 ** np.arange(2 * m, dtype=np.int64)
-    weights = np.concatenate([weights[m:], weights[:m]])     # as verify.plain orders them
-    return occ.astype(np.int64) @ weights
 
 
 def _signed_permutation(occ, perm):
