@@ -111,7 +111,7 @@ def _spin_highest(n_sites, n_up, n_dn):
     return _sector_dim(n_sites, n_up, n_dn) - _sector_dim(n_sites, n_up + 1, n_dn - 1)
 
 
-def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0, keep=None):
+def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0, keep=None, modular=()):
     """Rough peak memory (bytes) of a solve over ``sectors`` [(N_up, N_dn), ...].
 
     The terms, fitted to measured peaks (docs/performance.md): a fixed part; the
@@ -136,6 +136,11 @@ def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0, keep=None):
     keep : callable, optional
         The blocks a sector selection builds (see :func:`block_dimensions`); a sector
         none of whose blocks is kept is not counted at all.
+    modular : collection of (int, int)
+        Sectors of ``sectors`` reduced modulo primes (:mod:`symcluster.blocks.bloch`):
+        their states count, their polynomials do not (a lifted polynomial of degree m
+        takes about m^2 bits), and each worker holds one dense S+ matrix modulo a prime
+        of about (D / L)^2 words for the largest such sector (D states, L sites).
 
     Returns
     -------
@@ -147,8 +152,14 @@ def estimate_cost(n_sites, sectors, plan=None, n_free=1, workers=0, keep=None):
     dims = [_sector_dim(n_sites, u, d) for u, d in sectors]
     k = max(1, n_free)
     per_term = _PER_TERM_BIT * (1 if k == 1 else 3)
-    polys = sum(m ** (k + 2) for m in block_dimensions(n_sites, sectors, plan, keep)) \
+    exact = [s for s in sectors if s not in modular]
+    polys = sum(m ** (k + 2) for m in block_dimensions(n_sites, exact, plan, keep)) \
         / factorial(k + 1)
+    if modular:
+        top = max(_sector_dim(n_sites, u, d) for u, d in sectors if (u, d) in modular)
+        polys += sum(m ** 2 for m in block_dimensions(n_sites, [s for s in sectors
+                                                               if s in modular], plan, keep))
+        polys += 64 * (top / n_sites.n_modes) ** 2 * max(1, workers) / per_term
     # larger: no dense float64 check
     checked = max((d for d in dims if d <= (FLOAT_DIM if keep is None else SELECTED_DENSE_DIM)),
                   default=0)
@@ -216,10 +227,12 @@ def check_early(n_sites, electrons=None, n_free=1, force=False, max_order=MAX_GR
     return need
 
 
-def check_size(n_sites, sectors, plan=None, n_free=1, force=False, workers=0, keep=None):
+def check_size(n_sites, sectors, plan=None, n_free=1, force=False, workers=0, keep=None,
+               modular=()):
     """Raise TooLargeError if a run would clearly exceed the available memory (``keep``:
-    the blocks of a sector selection, see :func:`block_dimensions`)."""
-    need = estimate_cost(n_sites, sectors, plan, n_free, workers, keep)
+    the blocks of a sector selection, see :func:`block_dimensions`; ``modular``: see
+    :func:`estimate_cost`)."""
+    need = estimate_cost(n_sites, sectors, plan, n_free, workers, keep, modular)
     have = available_memory()
     if have is not None and need > 0.8 * have and not force:
         largest = max(block_dimensions(n_sites, sectors, plan, keep), default=0)

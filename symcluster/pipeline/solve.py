@@ -14,6 +14,7 @@ from symcluster.algebra.closed import add_shift
 from symcluster.algebra.factor import factor_integer_dict
 from symcluster.algebra.polydict import integer_dict, poly_from_dict
 from symcluster.symmetry.spin import shift_expr
+from symcluster.blocks import bloch
 from symcluster.blocks.build import (build_blocks, eta_member_irrep, plan_symmetries,
                                      sectors_to_solve)
 from symcluster.blocks.selection import (block_needed, check_selection, level_matches,
@@ -97,7 +98,11 @@ def _solve_packed(block, names, gens=None, written=None):
     """
     names = tuple(names)
     gens = _generators(names) if gens is None else gens
-    _, ints = integer_multiple(_set_constant(charpoly_dict(block, names), names))
+    if isinstance(block, bloch.BlochBlock):
+        cp = _bloch_dict(block)
+    else:
+        cp = _set_constant(charpoly_dict(block, names), names)
+    _, ints = integer_multiple(cp)
     out = []
     for rep, mult in factor_integer_dict(ints, gens)[1]:
         closed = _closed_forms_once(rep, gens, written)
@@ -107,6 +112,16 @@ def _solve_packed(block, names, gens=None, written=None):
             roots = [("closed", r) for r in closed]
         out.append((rep, tuple(g.name for g in gens), mult, roots))
     return out
+
+
+def _bloch_dict(block):
+    """det(E - H) of a :class:`~symcluster.blocks.bloch.BlochBlock` in (E, coupling):
+    ``det(E - J H_1) = sum_a c_a scale^(a - n) E^a J^(n - a)`` from the integer
+    polynomial ``sum_a c_a x^a = det(x - scale H_1)`` of its one coupling at 1."""
+    from fractions import Fraction
+    coeffs = block.integer_charpoly()
+    n = len(coeffs) - 1
+    return {(a, n - a): Fraction(c, block.scale ** (n - a)) for a, c in enumerate(coeffs) if c}
 
 
 def _unpack(packed, gens=None):
@@ -437,13 +452,22 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
     sectors = sectors_to_solve(space, plan, wanted)
     if keep is not None:
         sectors = [s for s in sectors if block_dimensions(space, [s], plan, keep)]
+    # the large sectors of a spin ring: momentum blocks modulo primes (blocks/bloch.py)
+    big = {s for s in sectors if space.sector_dim(*s) > bloch.MODULAR_MIN_SECTOR}
+    if big and bloch.ring_route(model, plan) is None:
+        big = set()
     estimate = check_size(space, sectors, plan, n_free, force,
                           _expected_workers(executor, block_dimensions(space, sectors, plan, keep)),
-                          keep)
+                          keep, big)
     timings["memory_estimate_bytes"] = estimate
     prog.phase("blocks", len(sectors), "sectors")
     sizes = _CountedList(prog.step)
-    blocks = build_blocks(model, plan, wanted, report=sizes, keep=keep)
+    modular = bloch.bloch_blocks(model, plan, sorted(big), keep, sizes) if big else None
+    if modular is not None:
+        blocks = build_blocks(model, plan, wanted, report=sizes,
+                              keep=functools.partial(_not_in, big, keep)) + modular
+    else:
+        blocks = build_blocks(model, plan, wanted, report=sizes, keep=keep)
     timings["blocks"] = time.perf_counter() - t0
     names = model.labels
     t1 = time.perf_counter()
@@ -452,10 +476,14 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
         executor = own_pool = _default_executor(blocks)
     elif executor == "serial":
         executor = None
-    twins = gauge_twins(model, plan, blocks)
-    copies = equal_blocks(blocks, skip=twins)
-    mirrored = spectral_twins(blocks, names, skip={**twins, **copies},
-                              seed=0 if seed is None else seed)
+    # the derived blocks are found among the blocks with an exact matrix
+    exact = [i for i, b in enumerate(blocks) if not isinstance(b.block, bloch.BlochBlock)]
+    sub = [blocks[i] for i in exact]
+    twins = _renumber(exact, gauge_twins(model, plan, sub))
+    copies = _renumber(exact, equal_blocks(sub, skip={exact.index(i) for i in twins}))
+    mirrored = _renumber(exact, spectral_twins(
+        sub, names, skip={exact.index(i) for i in {**twins, **copies}},
+        seed=0 if seed is None else seed))
     # blocks derived from others (gauge twins, equal copies, spectral twins) are not counted
     derived = {**twins, **copies, **mirrored}
     prog.phase("exact algebra", len(blocks) - len(derived), "blocks")
@@ -486,6 +514,23 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
     if own_pool is not None:
         own_pool.shutdown()
     return spectrum
+
+
+def _renumber(index, found):
+    """Derived-block maps of a sub-list, in the indices of the full list (``index``);
+    the values may be a block index or a tuple whose first item is one."""
+    out = {}
+    for i, v in found.items():
+        if isinstance(v, tuple):
+            out[index[i]] = (index[v[0]],) + tuple(v[1:])
+        else:
+            out[index[i]] = index[v]
+    return out
+
+
+def _not_in(big, keep, sector, irrep):
+    """``keep`` of the exact build when the sectors ``big`` go the modular route."""
+    return sector not in big and (keep is None or keep(sector, irrep))
 
 
 def _block_kept(selection, plan, space, sector, irrep):
@@ -571,8 +616,8 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
                         if j:
                             energy = (ImplicitRoot(poly_j, r.index) if isinstance(r, ImplicitRoot)
                                       else add_shift(energy, j, spin_shift))
-                        src = (spec.block, spec.vectors) if not (k or j) and spec.block.dim <= 4 \
-                            else None
+                        src = (spec.block, spec.vectors) if not (k or j) and spec.vectors \
+                            and spec.block.dim <= 4 else None
                         levels.append(Level(energy, deg, dict(qn_j), poly_j, None,
                                             block=f"{spec.sector}:{spec.labels.get('irrep', '')}",
                                             source=src))

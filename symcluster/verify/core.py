@@ -54,7 +54,7 @@ from symcluster.verify.failure import _fail  # noqa: F401
 from symcluster.verify.forms import (FormCache, _Form, _at_fixed, _clean, _padd, _pmul, _power_sums,  # noqa: F401
                                      _rational_terms, _top_key, coeffs_at)
 from symcluster.verify.modular import (_charpoly_mod, _label_matrices, _mod, _next_prime,  # noqa: F401
-                                       _nmod_matrix, _poly_mod)
+                                       _nmod_matrix, _poly_mod, check_ring_block)
 from symcluster.verify.sectors import (_check_sum_rules, _enclosed_eigenvalues,  # noqa: F401
                                        _factor_groups, _numeric_matrix, _sector_eigenvalues,
                                        _sector_shares, _sector_traces, sector_share)
@@ -215,8 +215,11 @@ def verify_blocks(blocks, results, seed, n_points=2, progress=None):
     # a block whose matrix and factors equal those of a block before it (a copy of an
     # equal block, entry for entry) would repeat the same computation: checked once
     # (compared as dicts within groups of equal size and factors: no copies of the entries)
-    distinct, seen = [], {}
+    distinct, seen, ring = [], {}, []
     for spec, factors in zip(blocks, results):
+        if hasattr(spec.block, "residues"):     # given by residues: no matrix to compare
+            ring.append((spec, factors))
+            continue
         terms = spec.block.terms
         key = (spec.block.dim, sum(len(m) for m in terms.values()),
                tuple((id(forms(fac)), mult) for fac, mult, _ in factors))
@@ -225,7 +228,14 @@ def verify_blocks(blocks, results, seed, n_points=2, progress=None):
             same.append(terms)
             distinct.append((spec, factors))
     if progress is not None:
-        progress.phase("verification, block polynomials", len(distinct) * len(points), "checks")
+        progress.phase("verification, block polynomials",
+                       (len(distinct) + len(ring)) * len(points), "checks")
+    for pt in points if ring else ():
+        cache = {}
+        for spec, factors in ring:
+            check_ring_block(spec, factors, pt, rng, forms, cache)
+            if progress is not None:
+                progress.step()
     for pt, prime in zip(points, primes):
         vals = {s.name: _mod(Fraction(int(v.p), int(v.q)), prime) for s, v in pt.items()}
         inverses = {}           # denominator of a block entry -> its inverse modulo the prime

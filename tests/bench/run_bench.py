@@ -71,10 +71,14 @@ SC_CASES = {
     "ring6-tp": ("ring(6) t, tp", 6, 60,
                  'sc.cluster(6, [(i, (i + 1) % 6, "t") for i in range(6)]'
                  ' + [(i, (i + 2) % 6, "tp") for i in range(6)])'),
+    # a spin model (the expression gives the model itself): only with --only heis16
+    "heis16": ("Heisenberg ring(16)", 16, 120, "sc.heisenberg(sc.ring(16))"),
 }
 FULL_CASES = ["ring6", "grid2x3", "cube", "ring8", "ladder4", "ring6-tp"]
 COMPARISONS = ["ring4", "ring6-naive", "ring6-numpy", "ring6-fock"]
 ALL_NAMES = COMPARISONS + [c for c in FULL_CASES if c not in COMPARISONS]
+#: Cases run only when named with --only (a minute or more each).
+EXTRA_CASES = ["heis16"]
 
 
 # ----------------------------------------------------------------------------------------------
@@ -142,7 +146,8 @@ def worker_symcluster(case, events, repeat, jobs, compare):
     from sympy.core.cache import clear_cache
 
     baseline = _maxrss_mb()
-    model = sc.hubbard(eval(SC_CASES[case][3], {"sc": sc}))
+    built = eval(SC_CASES[case][3], {"sc": sc})
+    model = built if isinstance(built, sc.Model) else sc.hubbard(built)
     executor = None
     if jobs > 1:
         from concurrent.futures import ProcessPoolExecutor
@@ -574,7 +579,7 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
                 f"{b['load']:.2f} |")
         lines.append("")
 
-    full = [c for c in FULL_CASES if c in sc_res]
+    full = [c for c in FULL_CASES + EXTRA_CASES if c in sc_res]
     if full:
         lines += ["## Full verified exact spectra", "",
                   "| case | time s | target s | CPU s | blocks / algebra / levels / verify s | "
@@ -595,7 +600,7 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
                 continue
             tm = r["timings"]
             breakdown = " / ".join(_fmt_s(tm.get(k)) for k in ("blocks", "algebra", "levels", "verify"))
-            ok_states = r["n_states"] == 4 ** n_sites
+            ok_states = r["n_states"] == (2 if c in EXTRA_CASES else 4) ** n_sites
             verified = "yes" if r["n_checks"] > 0 else "NO"
             lines.append(
                 f"| {name} | {_fmt_s(r['seconds'])} | {tgt} | {_fmt_s(r['cpu'])} | {breakdown} | "
@@ -603,7 +608,7 @@ def build_report(args, sc_res, naive_res, numpy_res, started, finished, load_sta
                 f"{_fmt_mb(tm.get('memory_estimate_bytes', 0) / 2 ** 20)} / "
                 f"{_fmt_mb(r['peak_mb'] - r['baseline_mb'])} | {r['levels']} | "
                 f"{r['implicit']} | {r['largest_block']} | {r['max_degree']} | "
-                f"{r['n_states']}{'' if ok_states else ' (≠ 4^L!)'} | {verified}¹ | "
+                f"{r['n_states']}{'' if ok_states else ' (≠ 4^L or 2^L!)'} | {verified}¹ | "
                 f"{r['load']:.2f} |")
             notes.append(f"{name}: {r['verification']}")
         lines += ["", "¹ Verification reports:", ""] + [f"- {n}" for n in notes]
@@ -675,9 +680,10 @@ def main(argv=None):
     args = parse_args(argv)
     if args.only:
         names = [n.strip() for n in args.only.split(",") if n.strip()]
-        unknown = [n for n in names if n not in ALL_NAMES]
+        unknown = [n for n in names if n not in ALL_NAMES + EXTRA_CASES]
         if unknown:
-            raise SystemExit(f"--only: unknown name(s) {unknown}; choose from {ALL_NAMES}")
+            raise SystemExit(f"--only: unknown name(s) {unknown}; choose from "
+                             f"{ALL_NAMES + EXTRA_CASES}")
     elif args.quick:
         names = list(COMPARISONS)
     else:
@@ -731,7 +737,7 @@ def main(argv=None):
         numpy_res["ring6-fock"] = run_worker("numpy-fock", "ring6", 600.0, repeat=args.repeat,
                                              log=log)
         write(partial=True)
-    for case in FULL_CASES:
+    for case in FULL_CASES + EXTRA_CASES:
         if case in names:
             symcluster(case, False)
     report = write(partial=False)
