@@ -104,7 +104,7 @@ class BlochSector:
     def compatible(self, k, L):
         """Representatives whose Bloch state of momentum k is not zero."""
         return [j for j, (d, b) in enumerate(zip(self.period, self.flip))
-                if (b * (L // 2) - k * d) % L == 0]
+                if (b * L - 2 * k * d) % (2 * L) == 0]     # omega^(-k d) (-1)^b = 1
 
 
 def _sector(space, t, r, n_up, n_dn, action):
@@ -308,7 +308,7 @@ def _highest(blk, k, p, powers):
     free_reps = {order[f]: i for i, f in enumerate(free)}
     hk = _dense(lo.h, free_reps, cols, p, powers, k, L) * x
     rk = None
-    if lo.refl and k in (0, L // 2):
+    if lo.refl and 2 * k % L == 0:
         rk = _dense(lo.refl, free_reps, cols, p, powers, (-k) % L, L) * x
     return hk, rk
 
@@ -380,7 +380,7 @@ def ring_route(model, plan):
     """``(T, R, matched)`` when the modular route applies to ``model``, else None.
 
     It applies to spin-1/2 models with one coupling, spin SU(2) proven (no field
-    splitting it), an even number of sites and the dihedral group of a ring in site
+    splitting it) and the dihedral group of a ring in site
     order, whose every rational irrep is matched by the characters of its momenta
     (``matched``: ``[(irrep, (momenta, parity))]``).
 
@@ -400,11 +400,11 @@ def ring_route(model, plan):
     L = space.n_modes
     ring = ring_group(plan.lattice, L) if space.kind == "spins" else None
     if (ring is None or not plan.spin or plan.spin_split or len(model.labels) != 1
-            or L % 2 or flint is None):
+            or flint is None):
         return None
     candidates = []
     for k in range(L // 2 + 1):
-        if k in (0, L // 2):
+        if 2 * k % L == 0:             # k = 0 (and L/2 on an even ring): R splits it
             candidates += [((k,), 1), ((k,), -1)]
         elif k == min(_galois_orbit(k, L)):
             candidates.append((tuple(_galois_orbit(k, L)), None))
