@@ -267,3 +267,42 @@ def test_per_state_memo_calls_the_operator_once_per_state():
     assert calls == states[:2]
     assert got == [apply_s_plus(3, *s) for s in states]
     assert got[0] is got[2]
+
+
+def _plain_spin_ring_ground(L):
+    """Ground state of sum S_i.S_(i+1) on an L-ring (Sz = 0) in plain spin states (no
+    fermion signs), with its translation and reflection eigenvalues."""
+    states = [s for s in range(1 << L) if bin(s).count("1") == L // 2]
+    idx = {s: i for i, s in enumerate(states)}
+    h = np.zeros((len(states), len(states)))
+    for s in states:
+        i = idx[s]
+        for a in range(L):
+            b = (a + 1) % L
+            if (s >> a) & 1 == (s >> b) & 1:
+                h[i, i] += 0.25
+            else:
+                h[i, i] -= 0.25
+                h[idx[s ^ (1 << a) ^ (1 << b)], i] += 0.5
+    _, vecs = np.linalg.eigh(h)
+    g = vecs[:, 0]
+    full = (1 << L) - 1
+    t = [idx[((s << 1) | (s >> (L - 1))) & full] for s in states]
+    r = [idx[sum(((s >> i) & 1) << ((-i) % L) for i in range(L))] for s in states]
+    return round(float(g @ g[t])), round(float(g @ g[r]))
+
+
+@pytest.mark.parametrize("L", [4, 6, 8])
+def test_spin_ring_labels_against_a_plain_spin_translation(L):
+    """docs/conventions.md: on spin models the translation is (-1)^(L-1) times the plain
+    spin translation and the reflection fixing site 0 is (-1)^((L-1)(L-2)/2) times the
+    plain one.  The plain eigenvalues come from a dense spin computation written here;
+    the ground state is non-degenerate (Lieb-Mattis), so its eigenvalues are +-1."""
+    t_plain, r_plain = _plain_spin_ring_ground(L)
+    spec = sc.solve(sc.heisenberg(sc.ring(L)))
+    point = spec.point({"J": 1})
+    ground = min(spec.levels, key=lambda lev: lev.numeric(point, digits=20))
+    t_sign = t_plain * (-1) ** (L - 1)
+    r_sign = r_plain * (-1) ** ((L - 1) * (L - 2) // 2)
+    want = ("k=0," if t_sign == 1 else "k=π,") + ("+" if r_sign == 1 else "−")
+    assert ground.quantum_numbers["irrep"] == want

@@ -3,7 +3,7 @@
 Scenario (a demo of our own): a theorist testing a DMRG or QMC code on the periodic
 spin-1/2 Heisenberg chain wants reference values of the 16-site ring beyond the ground
 state: the lowest level of every total spin S (the spin gap, the ferromagnetic end), each
-with its momentum, to 30 digits, and the numbers of levels.  All 65,536 states are
+with its momentum, to 30 digits.  All 65,536 states are
 solved; the large sectors go through momentum blocks reduced modulo primes
 (docs/performance.md, "Spin rings modulo primes"), and every level is checked against
 the plain sector matrices before anything is printed.
@@ -13,6 +13,8 @@ E0(S = 1) - E0(S = 0).
 
 Run:  python worked/heisenberg_ring16.py        (about a minute on 2 cores)
 """
+
+import mpmath
 
 import symcluster as sc
 
@@ -31,6 +33,8 @@ for lev in spec.levels:
         lowest[s] = (value, lev)
 for s in sorted(lowest):
     value, lev = lowest[s]
-    print(f"S = {s}:  E = {value}   ({lev.quantum_numbers['irrep']}, "
+    print(f"S = {s}:  E = {mpmath.nstr(value, 30)}   ({lev.quantum_numbers['irrep']}, "
           f"degeneracy {lev.degeneracy})")
-print("spin gap E0(S=1) - E0(S=0) =", lowest[1][0] - lowest[0][0])
+print("spin gap E0(S=1) - E0(S=0) =", mpmath.nstr(lowest[1][0] - lowest[0][0], 30))
+# momentum labels: docs/conventions.md ("Spin models and plain spin codes"): on an even ring
+# a code without fermion signs calls k = pi what is labelled k = 0 here, and vice versa
