@@ -110,3 +110,27 @@ def test_isolate_is_unchanged_by_the_short_first_attempt():
         want = sorted(mpmath.cos((2 * k - 1) * mpmath.pi / 80) for k in range(1, 41))
         for (man, exp), w in zip(roots, want):
             assert abs(mpmath.mpf(man) * mpmath.mpf(2) ** exp - w) <= abs(w) * mpmath.mpf(10) ** -30
+
+
+@pytest.mark.parametrize("factor", [3, -3, -7, 1, -1])
+def test_scaled_isolation_matches_the_roots_of_the_scaled_polynomial(factor):
+    """Roots of sum_a c_a f^(n-a) x^a are f times those of sum_a c_a x^a; the scaled
+    enclosures agree with mpmath's polyroots of the scaled polynomial (a general-purpose
+    reference) to the digits asked for, in ascending order."""
+    from symcluster.numeric.isolate import scaled_isolation
+    base = (-6, 11, -6, 1)                      # (x - 1)(x - 2)(x - 3)
+    coeffs = tuple(c * factor ** (3 - a) for a, c in enumerate(base))
+    got = scaled_isolation(isolate(base, 30), base, factor, coeffs)
+    with mpmath.workdps(40):
+        want = sorted(mpmath.re(r) for r in mpmath.polyroots(list(reversed(coeffs)),
+                                                              maxsteps=200, extraprec=200))
+        vals = [mpmath.mpf(me) for me in got[0]]
+        assert got[1] == 0
+        assert all(abs(v - w) <= abs(w) * mpmath.mpf(10) ** -30 for v, w in zip(vals, want))
+        assert vals == sorted(vals)
+
+
+def test_scaled_isolation_refuses_coefficients_that_are_not_a_scaling():
+    from symcluster.numeric.isolate import scaled_isolation
+    with pytest.raises(ValueError):
+        scaled_isolation(isolate((-2, 0, 1), 10), (-2, 0, 1), 3, (-17, 0, 1))

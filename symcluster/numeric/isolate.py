@@ -31,7 +31,8 @@ import sympy
 from symcluster.algebra.factor import to_integer_dict
 from symcluster.errors import ModelError, VerificationError
 
-__all__ = ["LAGUERRE_MIN_DEGREE", "RootCounter", "exact_value", "isolate", "real_roots_at",
+__all__ = ["LAGUERRE_MIN_DEGREE", "RootCounter", "exact_value", "isolate", "scaled_isolation",
+           "real_roots_at",
            "root_counter_at", "roots_from_coeffs", "specialised"]
 
 
@@ -407,6 +408,34 @@ def real_roots_at(poly, point, digits=30, isolations=None):
     vals = point_values(poly.gens[1:], point)
     coeffs = univariate_ints(tuple(rep.items()), deg, tuple(vals))
     return roots_from_coeffs(coeffs, deg, digits, poly, point, isolations)
+
+
+def scaled_isolation(result, coeffs, factor, scaled_coeffs):
+    """The :func:`isolate` result of ``sum_a c_a factor^(n - a) x^a`` from that of
+    ``sum_a c_a x^a`` (``coeffs``; ``factor`` a non-zero integer).
+
+    The roots of the first are ``factor`` times those of the second, so every enclosure
+    is multiplied exactly by ``factor`` (its relative accuracy, hence its digits, is
+    unchanged) and the order is reversed for a negative factor.  ``scaled_coeffs`` must be
+    exactly those coefficients (checked; otherwise ValueError), so that the result can
+    stand for ``isolate(scaled_coeffs, digits)``.
+
+    Examples
+    --------
+    >>> base = isolate((-2, 0, 1), 10)              # x^2 - 2
+    >>> scaled = scaled_isolation(base, (-2, 0, 1), -3, (-18, 0, 1))   # x^2 - 18
+    >>> [round(float(m) * 2.0 ** e, 9) for m, e in scaled[0]]
+    [-4.242640687, 4.242640687]
+    """
+    n = len(coeffs) - 1
+    if not factor or tuple(scaled_coeffs) != tuple(c * factor ** (n - a)
+                                                   for a, c in enumerate(coeffs)):
+        raise ValueError("scaled_isolation: the coefficients are not a scaling of the base")
+    roots, nonreal = result
+    out = [(m * factor, e) for m, e in roots]
+    if factor < 0:
+        out.reverse()
+    return tuple(out) if isinstance(roots, tuple) else out, nonreal
 
 
 def roots_from_coeffs(coeffs, deg, digits, poly, point, isolations=None):

@@ -636,7 +636,7 @@ def _finish(model, plan, blocks, results, twins, sizes, wanted, digits, seed, ti
          "largest_block": s["largest_block"]} for s in sizes]
     t2 = time.perf_counter()
     seed = random.SystemRandom().randrange(2 ** 31) if seed is None else seed
-    n_checked = verify_blocks(blocks, results, seed, progress=progress)
+    n_checked = verify_blocks(blocks, results, seed, progress=progress, executor=executor)
     report.add("exact block characteristic polynomials vs. their factors "
                "(modulo a random 62-bit prime per point)", f"{n_checked} blocks", worst=0.0)
     # a field splits the spin multiplets: the spin flip is no symmetry then

@@ -44,7 +44,7 @@ from symcluster.verify.plain import sector_matrices, sector_matrix, sector_occup
 from symcluster.verify.sitegroup import SectorSplit, abelian_generators
 from symcluster.numeric.evaluate import Evaluation, closed_values, energy_numeric
 from symcluster.numeric.implicit import ImplicitRoot
-from symcluster.numeric.isolate import LAGUERRE_MIN_DEGREE, isolate
+from symcluster.numeric.isolate import LAGUERRE_MIN_DEGREE, isolate, scaled_isolation
 from symcluster.numeric.residuals import (exact_backward_error, float_newton_radius, mp_coefficients,
                                 newton_radius, root_deviation)
 from symcluster.workers import submit
@@ -54,7 +54,8 @@ from symcluster.verify.failure import _fail  # noqa: F401
 from symcluster.verify.forms import (FormCache, _Form, _at_fixed, _clean, _padd, _pmul, _power_sums,  # noqa: F401
                                      _rational_terms, _top_key, coeffs_at)
 from symcluster.verify.modular import (_charpoly_mod, _label_matrices, _mod, _next_prime,  # noqa: F401
-                                       _nmod_matrix, _poly_mod, check_ring_block)
+                                       _nmod_matrix, _poly_mod, check_ring_block,
+                                       ring_residues)
 from symcluster.verify.sectors import (_check_sum_rules, _enclosed_eigenvalues,  # noqa: F401
                                        _factor_groups, _numeric_matrix, _sector_eigenvalues,
                                        _sector_shares, _sector_traces, sector_share)
@@ -187,7 +188,7 @@ def _fixed_point(spectrum):
     return {coupling_symbol(l): v for l, v in fixed.items()} if fixed else None
 
 
-def verify_blocks(blocks, results, seed, n_points=2, progress=None):
+def verify_blocks(blocks, results, seed, n_points=2, progress=None, executor=None):
     """Exact check of the symbolic algebra, block by block.
 
     At random rational points and modulo a random 62-bit prime per point, the
@@ -198,6 +199,9 @@ def verify_blocks(blocks, results, seed, n_points=2, progress=None):
     equal entry for entry, with equal factors, are one computation, done once (the count
     includes every block).  ``progress`` (optional, a
     :class:`~symcluster.pipeline.resources.Progress`) counts the computations done.
+    A block given by residues (a large spin-ring block, :mod:`symcluster.blocks.bloch`)
+    is recomputed once, modulo a fresh prime of its own, through ``executor`` if given,
+    and compared with its factors at every point.
     """
     if not blocks:
         return 0
@@ -230,12 +234,21 @@ def verify_blocks(blocks, results, seed, n_points=2, progress=None):
     if progress is not None:
         progress.phase("verification, block polynomials",
                        (len(distinct) + len(ring)) * len(points), "checks")
-    for pt in points if ring else ():
-        cache = {}
-        for spec, factors in ring:
-            check_ring_block(spec, factors, pt, rng, forms, cache)
-            if progress is not None:
-                progress.step()
+    if ring:
+        seeds = [rng.randrange(2 ** 62) for _ in ring]
+        if executor is None:
+            residues = [ring_residues(spec.block, sd) for (spec, _), sd in zip(ring, seeds)]
+        else:
+            futures = [submit(executor, ring_residues, spec.block, sd)
+                       for (spec, _), sd in zip(ring, seeds)]
+            residues = [f.result() for f in futures]
+        for pt in points:
+            caches = {}
+            for (spec, factors), (prime, res) in zip(ring, residues):
+                check_ring_block(spec, factors, pt, prime, res, forms,
+                                 caches.setdefault(prime, {}))
+                if progress is not None:
+                    progress.step()
     for pt, prime in zip(points, primes):
         vals = {s.name: _mod(Fraction(int(v.p), int(v.q)), prime) for s, v in pt.items()}
         inverses = {}           # denominator of a block entry -> its inverse modulo the prime
@@ -269,6 +282,28 @@ def verify_blocks(blocks, results, seed, n_points=2, progress=None):
             if progress is not None:
                 progress.step()
     return len(blocks)
+
+
+def _scaled_keys(roots, points, digits):
+    """``{isolation key: (key at coupling 1, num)}`` for the polynomials in one coupling
+    whose key at a point J = num/den is exactly the key at J = 1 scaled by num (checked
+    coefficient by coefficient); the others are left out."""
+    out = {}
+    for r in roots:
+        gens = r.poly.gens
+        if len(gens) != 2:
+            continue
+        base = r.isolation_key({gens[1]: sympy.Integer(1)}, digits)
+        n = len(base[0]) - 1
+        for pt in points:
+            key = r.isolation_key(pt, digits)
+            v = pt.get(gens[1])
+            if v is None or key == base or key[1] != base[1]:
+                continue
+            num = int(sympy.Rational(v).p)
+            if num and key[0] == tuple(c * num ** (n - a) for a, c in enumerate(base[0])):
+                out[key] = (base, num)
+    return out
 
 
 def _first_equal(levels):
@@ -406,6 +441,10 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
     if reps:
         keys = list(dict.fromkeys(r.isolation_key(pt, digits + 5)
                                   for pt in points for r in reps.values()))
+        # one coupling: the polynomial at J = num/den is that at J = 1 with the roots times
+        # num, so one isolation serves every point (numeric.isolate.scaled_isolation)
+        scaled = _scaled_keys(reps.values(), points, digits + 5)
+        keys = list(dict.fromkeys([scaled[k][0] if k in scaled else k for k in keys]))
         if progress is not None:
             progress.phase("verification, isolation of roots", len(keys), "polynomials")
         if executor is None:
@@ -425,6 +464,9 @@ def verify_spectrum(spectrum, electrons=None, digits=30, seed=None, n_points=2, 
                         progress.step()
                 if progress is not None:
                     progress.tick()
+        for key, (base, num) in scaled.items():
+            evaluation.isolations[key] = scaled_isolation(evaluation.isolations[base], base[0],
+                                                          num, key[0])
     first = _first_equal(spectrum.levels)
     values = []
     if progress is not None:

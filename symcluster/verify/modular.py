@@ -78,40 +78,37 @@ def _next_prime(n):
     return int(n)
 
 
-def check_ring_block(spec, factors, point, rng, forms, cache):
-    """A block given by residues (:class:`~symcluster.blocks.bloch.BlochBlock`) against
-    its factors at ``point``: the block's characteristic polynomial modulo a fresh random
-    prime p = 1 (mod L), computed by the block's own modular route at that prime, must
-    equal the product of the factors (to their multiplicities) there.
+def ring_residues(block, seed):
+    """``(p, residues)``: a ring block's characteristic polynomial (of ``scale * H`` at
+    coupling 1) modulo a fresh random prime p = 1 (mod L) drawn from ``seed``, computed
+    from scratch by the block's own modular route (a prime that does not suit is
+    replaced).  A pure function of picklable data, so that it can run in a worker."""
+    import random
 
-    ``cache`` (a dict for one point) keeps the prime, its root of unity and the reduced
-    factors, shared by the blocks of one ring.
-    """
     from symcluster.algebra.lift import ring_prime, root_of_unity
-    blk = spec.block
-    key = ("ring", blk.L)
-    if key not in cache:
-        p = ring_prime(blk.L, rng)
-        cache[key] = (p, root_of_unity(blk.L, p, rng), {})
-    p, w, reduced = cache[key]
-    res = None
+    rng = random.Random(seed)
     for _ in range(20):
-        res = blk.residues(p, w)
+        p = ring_prime(block.L, rng)
+        res = block.residues(p, root_of_unity(block.L, p, rng))
         if res is not None:
-            break
-        p = ring_prime(blk.L, rng)
-        w = root_of_unity(blk.L, p, rng)
-        cache[key] = (p, w, {})
-        reduced = cache[key][2]
-    if res is None:
-        _fail(f"block {spec.labels}: no prime suits its modular route")
+            return p, res
+    _fail(f"a ring block of dimension {block.dim}: no prime suits its modular route")
+
+
+def check_ring_block(spec, factors, point, prime, residues, forms, cache):
+    """A block given by residues (:class:`~symcluster.blocks.bloch.BlochBlock`) against
+    its factors at ``point``: its characteristic polynomial there, scaled from the
+    ``residues`` of :func:`ring_residues` modulo ``prime`` (det(E - v H_1) =
+    sum_a r_a (v / scale)^(n - a) E^a), must equal the product of the factors (to their
+    multiplicities).  ``cache``: reduced factors for this point and prime."""
+    blk = spec.block
     value = [v for s, v in point.items() if s.name == blk.label][0]
-    x = _mod(Fraction(int(value.p), int(value.q)), p) * pow(blk.scale, -1, p) % p
-    n = len(res) - 1
-    got = flint.nmod_poly([r * pow(x, n - a, p) for a, r in enumerate(res)], p)
-    prod = flint.nmod_poly([1], p)
+    x = _mod(Fraction(int(value.p), int(value.q)), prime) * pow(blk.scale, -1, prime) % prime
+    n = len(residues) - 1
+    got = flint.nmod_poly([r * pow(x, n - a, prime) for a, r in enumerate(residues)], prime)
+    prod = flint.nmod_poly([1], prime)
     for fac, mult, _ in factors:
-        prod *= _poly_mod(forms(fac), point, p, reduced) ** mult
+        prod *= _poly_mod(forms(fac), point, prime, cache) ** mult
     if prod != got:
         _fail(f"block {spec.labels} (dimension {n}): its characteristic polynomial at "
-              f"{point} differs from the product of its computed factors (modulo {p})")
+              f"{point} differs from the product of its computed factors (modulo {prime})")
