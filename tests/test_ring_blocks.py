@@ -124,6 +124,18 @@ def test_ring14_ground_state_is_the_bethe_ansatz_energy():
     assert [lev.quantum_numbers["S"] for lev in ground] == [0]
 
 
+def test_a_selected_singlet_sector_of_ring14_holds_the_bethe_ground_state():
+    """sectors=[{"S": 0}] builds only the singlet blocks (modular in Sz = 0): they hold
+    every S = 0 state (C(14, 7) - C(14, 6) = 429, the Catalan number C_7) and
+    the Bethe-ansatz ground state."""
+    spec = sc.solve(sc.heisenberg(sc.ring(14)), sectors=[{"S": 0}])
+    assert used_modular_route(spec)
+    assert {lev.quantum_numbers["S"] for lev in spec.levels} == {0}
+    assert spec.n_states == 3432 - 3003
+    lowest = min(v for v, _ in spec.numeric({"J": 1}, digits=35))
+    assert abs(lowest - bethe_ground_energy(14)) < mpmath.mpf(10) ** -30
+
+
 @pytest.mark.slow
 def test_ring16_full_spectrum_and_bethe_ground_state():
     spec = sc.solve(sc.heisenberg(sc.ring(16)))
