@@ -17,8 +17,9 @@ of unity omega exists:
    (cheap: no matrix) and lifted up to a rigorous bound on its coefficients,
    ``|c_j| <= C(n, j) R^(n - j)`` for eigenvalues of modulus at most R.
 
-The stop rule of step 1 is probabilistic (a wrong lift survives a random 62-bit prime
-with probability about 2^-60 per coordinate); the result is checked again by
+The stop rule of step 1 is probabilistic: a wrong lift survives one more random prime
+between 2^61 and 2^62 only if that prime divides the non-zero difference, of b bits say,
+which at most b/61 of the about 5·10^16 primes there do.  The result is checked again by
 :func:`symcluster.verify.core.verify_blocks` against the block's residues at a fresh
 prime, and the spectrum against the plain sector matrices.
 """

@@ -87,9 +87,10 @@ class BlochSector:
     """Prime-independent data of one sector (N_up, N_dn) of a spin ring.
 
     ``reps``: orbit representatives; ``period[j]``, ``flip[j]``: the smallest d with
-    ``T^d |r_j> = (-1)^flip |r_j>``; ``h``: ``(row, col, m, a)`` with
-    ``<rho_row|...`` so that ``H |r_col, k> += a omega^(k m) |r_row, k>`` (a the integer
-    matrix element of ``factor * H`` times the sign); ``refl``: the same for R.
+    ``T^d |r_j> = (-1)^flip |r_j>``; ``h``: entries ``(row, col, m, a)``, one per image
+    ``|s>`` of ``scale * H |r_col>``, where ``|s> = sign T^m |r_row>`` and ``a`` is the
+    integer matrix element times that sign, so that
+    ``scale * H |r_col, k> = sum a omega^(k m) |r_row, k>``; ``refl``: the same for R.
     """
 
     n_up: int
@@ -157,9 +158,9 @@ class BlochBlock:
     """A block given by its characteristic polynomial modulo primes.
 
     ``members``: ``(k, parity)`` pairs (parity None, +1 or -1) whose highest-weight
-    polynomials multiply to the block's; ``dim`` their total dimension.  The
-    polynomial is that of ``H / scale`` at coupling ``label`` = 1 (``scale`` is the
-    integer making the matrix elements integers).
+    polynomials multiply to the block's; ``dim`` their total dimension.  The residues
+    are those of the characteristic polynomial of ``scale * H`` at coupling ``label`` = 1
+    (``scale``: the integer that makes the matrix elements integers, 4 for S_i.S_j).
     """
 
     dim: int
