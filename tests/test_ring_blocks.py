@@ -95,6 +95,23 @@ def test_every_level_matches_the_dense_reference(L, modular_everywhere):
         assert len(got) == 2 ** L
 
 
+@pytest.mark.parametrize("L", [7, 8])
+def test_a_frustrated_one_label_ring_matches_the_dense_reference(L, modular_everywhere):
+    """J on the nearest- and next-nearest-neighbour bonds (one label: the group is still
+    the ring's dihedral group, the model is frustrated)."""
+    bonds = ring_bonds(L) + [(i, (i + 2) % L, "J") for i in range(L)]
+    spec = sc.solve(sc.heisenberg(sc.cluster(L, bonds)))
+    assert used_modular_route(spec)
+    ref = heisenberg_ref(L, bonds)
+    for point in ({"J": 1}, {"J": "-5/3"}):
+        theirs = {key[0]: np.sort(v) for key, v in ref.block_eigenvalues(point).items()}
+        mine = sz_sectors(spec, point)
+        assert set(mine) == set(theirs)
+        scale = 1.0 + max(float(np.max(np.abs(v))) for v in theirs.values())
+        for key, vals in theirs.items():
+            assert multiset_deviation(mine[key], vals) < 1e-10 * scale, (L, point, key)
+
+
 def test_momentum_labels_match_the_exact_route(modular_everywhere, monkeypatch):
     """The same levels with the same (S, irrep) labels whichever route reduced them; the
     exact route's irreps are checked against the plain projectors by the verification."""
