@@ -67,6 +67,17 @@ def sz_sectors(spec, point):
     return {k: np.sort(v) for k, v in out.items()}
 
 
+def assert_sectors_match(spec, ref, point):
+    """Every S^z sector's multiset of values equals the dense reference's, to 1e-10 of
+    the spectrum's scale."""
+    theirs = {key[0]: np.sort(v) for key, v in ref.block_eigenvalues(point).items()}
+    mine = sz_sectors(spec, point)
+    assert set(mine) == set(theirs)
+    scale = 1.0 + max(float(np.max(np.abs(v))) for v in theirs.values())
+    for key, vals in theirs.items():
+        assert multiset_deviation(mine[key], vals) < 1e-10 * scale, (point, key)
+
+
 def used_modular_route(spec):
     return any(step[0] == "momentum and spin modulo primes"
                for entry in spec.symmetries[1:] for step in entry["steps"])
@@ -85,12 +96,7 @@ def test_every_level_matches_the_dense_reference(L, modular_everywhere):
     assert spec.n_states == 2 ** L
     ref = heisenberg_ref(L, ring_bonds(L))
     for point in ({"J": 1}, {"J": "-3/7"}):
-        theirs = {key[0]: np.sort(v) for key, v in ref.block_eigenvalues(point).items()}
-        mine = sz_sectors(spec, point)
-        assert set(mine) == set(theirs)
-        scale = 1.0 + max(float(np.max(np.abs(v))) for v in theirs.values())
-        for key, vals in theirs.items():
-            assert multiset_deviation(mine[key], vals) < 1e-10 * scale, (L, point, key)
+        assert_sectors_match(spec, ref, point)
         got = expand(spec.numeric(point, digits=30))
         assert len(got) == 2 ** L
 
@@ -104,12 +110,7 @@ def test_a_frustrated_one_label_ring_matches_the_dense_reference(L, modular_ever
     assert used_modular_route(spec)
     ref = heisenberg_ref(L, bonds)
     for point in ({"J": 1}, {"J": "-5/3"}):
-        theirs = {key[0]: np.sort(v) for key, v in ref.block_eigenvalues(point).items()}
-        mine = sz_sectors(spec, point)
-        assert set(mine) == set(theirs)
-        scale = 1.0 + max(float(np.max(np.abs(v))) for v in theirs.values())
-        for key, vals in theirs.items():
-            assert multiset_deviation(mine[key], vals) < 1e-10 * scale, (L, point, key)
+        assert_sectors_match(spec, ref, point)
 
 
 def test_momentum_labels_match_the_exact_route(modular_everywhere, monkeypatch):

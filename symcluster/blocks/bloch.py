@@ -174,9 +174,6 @@ class BlochBlock:
     parity_dims: dict = field(default_factory=dict)   # (k, parity) -> highest weights
     terms: dict = field(default_factory=dict)   # no exact matrix: empty
 
-    def names(self):
-        return (self.label,)
-
     def member_residues(self, p, omega):
         """``{k: ascending residues}``: the monic characteristic polynomial of
         ``scale * H`` on each member's highest weights modulo ``p``, or None when the
@@ -424,13 +421,13 @@ def ring_route(model, plan):
     return ring[0], ring[1], matched
 
 
-def bloch_blocks(model, plan, sectors, keep=None, report=None):
+def bloch_blocks(model, plan, sectors, keep=None, report=None, route=None):
     """The blocks of ``sectors`` (list of (N_up, N_dn)) for the modular route.
 
     Returns a list of :class:`~symcluster.blocks.build.BlockSpec` whose ``block`` is a
     :class:`BlochBlock`, or None when the route does not apply to the model
-    (:func:`ring_route`); ``keep`` and ``report`` as in
-    :func:`~symcluster.blocks.build.build_blocks`.
+    (:func:`ring_route`, or its result ``route`` if the caller has it); ``keep`` and
+    ``report`` as in :func:`~symcluster.blocks.build.build_blocks`.
 
     Examples
     --------
@@ -444,7 +441,8 @@ def bloch_blocks(model, plan, sectors, keep=None, report=None):
     import sympy
     from symcluster.blocks.build import BlockSpec
 
-    route = ring_route(model, plan)
+    if route is None:
+        route = ring_route(model, plan)
     if route is None:
         return None
     t, r, matched = route

@@ -454,7 +454,8 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
         sectors = [s for s in sectors if block_dimensions(space, [s], plan, keep)]
     # the large sectors of a spin ring: momentum blocks modulo primes (blocks/bloch.py)
     big = {s for s in sectors if space.sector_dim(*s) > bloch.MODULAR_MIN_SECTOR}
-    if big and bloch.ring_route(model, plan) is None:
+    route = bloch.ring_route(model, plan) if big else None
+    if route is None:
         big = set()
     estimate = check_size(space, sectors, plan, n_free, force,
                           _expected_workers(executor, block_dimensions(space, sectors, plan, keep)),
@@ -462,7 +463,7 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
     timings["memory_estimate_bytes"] = estimate
     prog.phase("blocks", len(sectors), "sectors")
     sizes = _CountedList(prog.step)
-    modular = bloch.bloch_blocks(model, plan, sorted(big), keep, sizes) if big else None
+    modular = bloch.bloch_blocks(model, plan, sorted(big), keep, sizes, route) if big else None
     if modular is not None:
         blocks = build_blocks(model, plan, wanted, report=sizes,
                               keep=functools.partial(_not_in, big, keep)) + modular
@@ -479,11 +480,11 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
     # the derived blocks are found among the blocks with an exact matrix
     exact = [i for i, b in enumerate(blocks) if not isinstance(b.block, bloch.BlochBlock)]
     sub = [blocks[i] for i in exact]
-    twins = _renumber(exact, gauge_twins(model, plan, sub))
-    copies = _renumber(exact, equal_blocks(sub, skip={exact.index(i) for i in twins}))
-    mirrored = _renumber(exact, spectral_twins(
-        sub, names, skip={exact.index(i) for i in {**twins, **copies}},
-        seed=0 if seed is None else seed))
+    twins = gauge_twins(model, plan, sub)
+    copies = equal_blocks(sub, skip=twins)
+    mirrored = spectral_twins(sub, names, skip={**twins, **copies},
+                              seed=0 if seed is None else seed)
+    twins, copies, mirrored = (_renumber(exact, d) for d in (twins, copies, mirrored))
     # blocks derived from others (gauge twins, equal copies, spectral twins) are not counted
     derived = {**twins, **copies, **mirrored}
     prog.phase("exact algebra", len(blocks) - len(derived), "blocks")

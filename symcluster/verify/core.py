@@ -54,8 +54,8 @@ from symcluster.verify.failure import _fail  # noqa: F401
 from symcluster.verify.forms import (FormCache, _Form, _at_fixed, _clean, _padd, _pmul, _power_sums,  # noqa: F401
                                      _rational_terms, _top_key, coeffs_at)
 from symcluster.verify.modular import (_charpoly_mod, _label_matrices, _mod, _next_prime,  # noqa: F401
-                                       _nmod_matrix, _poly_mod, check_ring_block,
-                                       ring_residues)
+                                       _nmod_matrix, _poly_mod, check_factor_product,
+                                       check_ring_block, ring_residues)
 from symcluster.verify.sectors import (_check_sum_rules, _enclosed_eigenvalues,  # noqa: F401
                                        _factor_groups, _numeric_matrix, _sector_eigenvalues,
                                        _sector_shares, _sector_traces, sector_share)
@@ -273,12 +273,7 @@ def verify_blocks(blocks, results, seed, n_points=2, progress=None, executor=Non
                             a = a.numerator * inv
                     entries[key] = entries.get(key, 0) + a * v
             cp = _nmod_matrix(entries, n, prime).charpoly() if n else flint.nmod_poly([1], prime)
-            prod = flint.nmod_poly([1], prime)
-            for fac, mult, _ in factors:
-                prod *= _poly_mod(forms(fac), pt, prime, reduced) ** mult
-            if prod != cp:
-                _fail(f"block {spec.labels} (dimension {n}): its characteristic polynomial at "
-                      f"{pt} differs from the product of its computed factors (modulo {prime})")
+            check_factor_product(spec, factors, pt, prime, cp, forms, reduced)
             if progress is not None:
                 progress.step()
     return len(blocks)

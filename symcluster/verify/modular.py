@@ -106,9 +106,17 @@ def check_ring_block(spec, factors, point, prime, residues, forms, cache):
     x = _mod(Fraction(int(value.p), int(value.q)), prime) * pow(blk.scale, -1, prime) % prime
     n = len(residues) - 1
     got = flint.nmod_poly([r * pow(x, n - a, prime) for a, r in enumerate(residues)], prime)
+    check_factor_product(spec, factors, point, prime, got, forms, cache)
+
+
+def check_factor_product(spec, factors, point, prime, charpoly, forms, cache):
+    """The block's characteristic polynomial at ``point`` modulo ``prime`` (an nmod_poly)
+    must equal the product of its factors to their multiplicities (``cache``: reduced
+    factors for this point and prime); a VerificationError names the block otherwise."""
     prod = flint.nmod_poly([1], prime)
     for fac, mult, _ in factors:
         prod *= _poly_mod(forms(fac), point, prime, cache) ** mult
-    if prod != got:
-        _fail(f"block {spec.labels} (dimension {n}): its characteristic polynomial at "
-              f"{point} differs from the product of its computed factors (modulo {prime})")
+    if prod != charpoly:
+        _fail(f"block {spec.labels} (dimension {charpoly.degree()}): its characteristic "
+              f"polynomial at {point} differs from the product of its computed factors "
+              f"(modulo {prime})")
