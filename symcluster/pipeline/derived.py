@@ -15,10 +15,14 @@ Three kinds of derived block, each found before the exact algebra runs:
   random point modulo a random 62-bit prime, for the sign patterns of at most
   :data:`TWIN_MAX_LABELS` couplings, with the shift read off the traces.
 
+:func:`derived_blocks` runs the three searches on a solve's blocks (those with an exact
+matrix).  The η members' levels, ``P(E - k * shift)`` for the k-th member, are made by
+:class:`_Shifter` with the same composition (:func:`moved_terms`).
+
 Every derived block is checked against its own matrix afterwards, like every other block
-(:func:`symcluster.verify.core.verify_blocks`: its characteristic polynomial at random points
-against the product of the derived factors), so a wrong derivation is an error, never a
-result.
+(:func:`symcluster.verify.blockpolys.verify_blocks`: its characteristic polynomial at random
+points against the product of the derived factors), so a wrong derivation is an error, never
+a result.
 """
 
 import itertools
@@ -30,12 +34,14 @@ import sympy
 
 from symcluster.algebra.closed import add_shift, closed_forms
 from symcluster.algebra.polydict import integer_dict, poly_from_dict
+from symcluster.blocks.bloch import BlochBlock
 from symcluster.blocks.build import _irrep_times_char
+from symcluster.errors import VerificationError
 from symcluster.numeric.implicit import ImplicitRoot, remember_terms
 from symcluster.symbols import CONSTANT
 
 __all__ = ["Written", "gauge_twins", "equal_blocks", "spectral_twins", "twin_image",
-           "moved_terms", "TWIN_MIN_DIM", "TWIN_MAX_LABELS"]
+           "moved_terms", "derived_blocks", "TWIN_MIN_DIM", "TWIN_MAX_LABELS"]
 
 #: Blocks below this dimension are solved directly: their algebra costs about as much as
 #: the search for a twin (common practice, no source: measured on ring(8) and the ladder).
@@ -316,4 +322,93 @@ def twin_image(factors, flipped, shift, written=None):
         else:
             remember_terms(new, rep)
             out.append((new, mult, [ImplicitRoot(new, r.index) for r in roots]))
+    return out
+
+
+class _Shifter:
+    """``P(E) -> P(E - k*shift)`` for the eta members of one solve (python-flint composition).
+
+    ``shift`` (the energy of one eta pair, linear in the couplings) is given as the
+    sympy expression and as ``{coupling label: int}`` (the eta check's form); the
+    factors are integer Polys in the generators ``(E, *couplings)``.
+    """
+
+    def __init__(self, shift, per_label=None):
+        self.shift = shift
+        self._none = shift is None or not per_label
+        self._per_label = per_label or {}
+        self._ctx = None
+        # (poly.rep, its python-flint form): the k loop reuses it
+        self._last = (None, None)
+        self._made = {}                 # (id(poly.rep), k) -> (rep, the shifted Poly made
+                                        # first): copies of a factor shift alike
+
+    def _setup(self, gens):
+        import flint
+        self.gens = gens
+        names = [g.name for g in gens[1:]]
+        missing = [lab for lab in self._per_label if lab not in names]
+        if missing:
+            raise VerificationError(f"eta shift {self.shift} is not integral in {gens}")
+        self._ctx = flint.fmpz_mpoly_ctx.get(tuple(f"x{i}" for i in range(len(gens))), "lex")
+        self._names = names
+
+    def __call__(self, poly, k):
+        """``poly(E - k*shift)`` as a Poly in the same generators (``poly`` for k = 0)."""
+        if k == 0 or self._none:
+            return poly
+        if self._ctx is None or poly.gens != self.gens:
+            self._setup(poly.gens)
+        rep = poly.rep
+        hit = self._made.get((id(rep), k))
+        if hit is not None and hit[0] is rep:
+            # Polys sharing one representation (copies of a factor) shift alike; a Poly of
+            # its own all the same: the verification counts roots by object
+            return sympy.Poly.new(hit[1].rep, *hit[1].gens)
+        last, fp = self._last
+        if last is not rep:
+            fp = self._ctx.from_dict(integer_dict(poly))
+            self._last = (rep, fp)
+        shifted = moved_terms(fp, self._names,
+                              {lab: k * int(x) for lab, x in self._per_label.items()})
+        made = remember_terms(poly_from_dict(shifted, poly.gens, sympy.ZZ), shifted)
+        self._made[(id(rep), k)] = (rep, made)
+        return made
+
+
+def derived_blocks(model, plan, blocks, names, seed=0):
+    """``(gauge twins, equal copies, spectral twins)`` of a solve's blocks, each a map
+    from a block's index to what it is derived from (see :func:`gauge_twins`,
+    :func:`equal_blocks`, :func:`spectral_twins`).  They are searched among the blocks
+    with an exact matrix only: a block given by residues
+    (:class:`~symcluster.blocks.bloch.BlochBlock`) has none to compare.
+
+    Examples
+    --------
+    >>> import symcluster as sc
+    >>> from symcluster.blocks.build import build_blocks, plan_symmetries
+    >>> m = sc.hubbard(sc.ring(4))
+    >>> plan = plan_symmetries(m)
+    >>> blocks = build_blocks(m, plan)
+    >>> twins, copies, mirrored = derived_blocks(m, plan, blocks, m.labels)
+    >>> all(blocks[i].block.dim == blocks[j].block.dim for i, j in twins.items())
+    True
+    """
+    exact = [i for i, b in enumerate(blocks) if not isinstance(b.block, BlochBlock)]
+    sub = [blocks[i] for i in exact]
+    twins = gauge_twins(model, plan, sub)
+    copies = equal_blocks(sub, skip=twins)
+    mirrored = spectral_twins(sub, names, skip={**twins, **copies}, seed=seed)
+    return tuple(_renumber(exact, found) for found in (twins, copies, mirrored))
+
+
+def _renumber(index, found):
+    """Derived-block maps of a sub-list, in the indices of the full list (``index``);
+    the values may be a block index or a tuple whose first item is one."""
+    out = {}
+    for i, v in found.items():
+        if isinstance(v, tuple):
+            out[index[i]] = (index[v[0]],) + tuple(v[1:])
+        else:
+            out[index[i]] = index[v]
     return out

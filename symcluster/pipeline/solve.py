@@ -12,7 +12,7 @@ import sympy
 from symcluster.algebra.charpoly import charpoly_dict
 from symcluster.algebra.closed import add_shift
 from symcluster.algebra.factor import factor_integer_dict
-from symcluster.algebra.polydict import integer_dict, poly_from_dict
+from symcluster.algebra.polydict import poly_from_dict
 from symcluster.symmetry.spin import shift_expr
 from symcluster.blocks import bloch
 from symcluster.blocks.build import (build_blocks, eta_member_irrep, plan_symmetries,
@@ -20,8 +20,8 @@ from symcluster.blocks.build import (build_blocks, eta_member_irrep, plan_symmet
 from symcluster.blocks.selection import (block_needed, check_selection, level_matches,
                                          normalise_selection)
 from symcluster.pipeline.derived import (Written, _closed_forms_once, _copy_factors,  # noqa: F401
-                                         _negate_couplings, equal_blocks, gauge_twins,
-                                         moved_terms, spectral_twins, twin_image)
+                                         _negate_couplings, _Shifter, derived_blocks,
+                                         equal_blocks, gauge_twins, twin_image)
 from symcluster.pipeline.resources import Progress, block_dimensions, check_early, check_size
 from symcluster.workers import submit
 from symcluster.errors import ModelError, VerificationError
@@ -138,57 +138,6 @@ def _unpack(packed, gens=None):
         out.append((fac, mult, [ImplicitRoot(fac, r) if kind == "implicit" else r
                                 for kind, r in roots]))
     return out
-
-
-class _Shifter:
-    """``P(E) -> P(E - k*shift)`` for the eta members of one solve (python-flint composition).
-
-    ``shift`` (the energy of one eta pair, linear in the couplings) is given as the
-    sympy expression and as ``{coupling label: int}`` (the eta check's form); the
-    factors are integer Polys in the generators ``(E, *couplings)``.
-    """
-
-    def __init__(self, shift, per_label=None):
-        self.shift = shift
-        self._none = shift is None or not per_label
-        self._per_label = per_label or {}
-        self._ctx = None
-        # (poly.rep, its python-flint form): the k loop reuses it
-        self._last = (None, None)
-        self._made = {}                 # (id(poly.rep), k) -> (rep, the shifted Poly made
-                                        # first): copies of a factor shift alike
-
-    def _setup(self, gens):
-        import flint
-        self.gens = gens
-        names = [g.name for g in gens[1:]]
-        missing = [lab for lab in self._per_label if lab not in names]
-        if missing:
-            raise VerificationError(f"eta shift {self.shift} is not integral in {gens}")
-        self._ctx = flint.fmpz_mpoly_ctx.get(tuple(f"x{i}" for i in range(len(gens))), "lex")
-        self._names = names
-
-    def __call__(self, poly, k):
-        """``poly(E - k*shift)`` as a Poly in the same generators (``poly`` for k = 0)."""
-        if k == 0 or self._none:
-            return poly
-        if self._ctx is None or poly.gens != self.gens:
-            self._setup(poly.gens)
-        rep = poly.rep
-        hit = self._made.get((id(rep), k))
-        if hit is not None and hit[0] is rep:
-            # Polys sharing one representation (copies of a factor) shift alike; a Poly of
-            # its own all the same: the verification counts roots by object
-            return sympy.Poly.new(hit[1].rep, *hit[1].gens)
-        last, fp = self._last
-        if last is not rep:
-            fp = self._ctx.from_dict(integer_dict(poly))
-            self._last = (rep, fp)
-        shifted = moved_terms(fp, self._names,
-                              {lab: k * int(x) for lab, x in self._per_label.items()})
-        made = remember_terms(poly_from_dict(shifted, poly.gens, sympy.ZZ), shifted)
-        self._made[(id(rep), k)] = (rep, made)
-        return made
 
 
 def _level_order(level):
@@ -477,14 +426,8 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
         executor = own_pool = _default_executor(blocks)
     elif executor == "serial":
         executor = None
-    # the derived blocks are found among the blocks with an exact matrix
-    exact = [i for i, b in enumerate(blocks) if not isinstance(b.block, bloch.BlochBlock)]
-    sub = [blocks[i] for i in exact]
-    twins = gauge_twins(model, plan, sub)
-    copies = equal_blocks(sub, skip=twins)
-    mirrored = spectral_twins(sub, names, skip={**twins, **copies},
-                              seed=0 if seed is None else seed)
-    twins, copies, mirrored = (_renumber(exact, d) for d in (twins, copies, mirrored))
+    twins, copies, mirrored = derived_blocks(model, plan, blocks, names,
+                                             seed=0 if seed is None else seed)
     # blocks derived from others (gauge twins, equal copies, spectral twins) are not counted
     derived = {**twins, **copies, **mirrored}
     prog.phase("exact algebra", len(blocks) - len(derived), "blocks")
@@ -515,18 +458,6 @@ def _solve(model, wanted, lattice, spin, eta, digits, seed, executor, prog, forc
     if own_pool is not None:
         own_pool.shutdown()
     return spectrum
-
-
-def _renumber(index, found):
-    """Derived-block maps of a sub-list, in the indices of the full list (``index``);
-    the values may be a block index or a tuple whose first item is one."""
-    out = {}
-    for i, v in found.items():
-        if isinstance(v, tuple):
-            out[index[i]] = (index[v[0]],) + tuple(v[1:])
-        else:
-            out[index[i]] = index[v]
-    return out
 
 
 def _not_in(big, keep, sector, irrep):

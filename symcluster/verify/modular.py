@@ -78,7 +78,7 @@ def _next_prime(n):
     return int(n)
 
 
-def ring_residues(block, seed):
+def _ring_residues(block, seed):
     """``(p, residues)``: a ring block's characteristic polynomial (of ``scale * H`` at
     coupling 1) modulo a fresh random prime p = 1 (mod L) drawn from ``seed``, computed
     from scratch by the block's own modular route (a prime that does not suit is
@@ -95,10 +95,10 @@ def ring_residues(block, seed):
     _fail(f"a ring block of dimension {block.dim}: no prime suits its modular route")
 
 
-def check_ring_block(spec, factors, point, prime, residues, forms, cache):
+def _check_ring_block(spec, factors, point, prime, residues, forms, cache):
     """A block given by residues (:class:`~symcluster.blocks.bloch.BlochBlock`) against
     its factors at ``point``: its characteristic polynomial there, scaled from the
-    ``residues`` of :func:`ring_residues` modulo ``prime`` (det(E - v H_1) =
+    ``residues`` of :func:`_ring_residues` modulo ``prime`` (det(E - v H_1) =
     sum_a r_a (v / scale)^(n - a) E^a), must equal the product of the factors (to their
     multiplicities).  ``cache``: reduced factors for this point and prime."""
     blk = spec.block
@@ -106,10 +106,10 @@ def check_ring_block(spec, factors, point, prime, residues, forms, cache):
     x = _mod(Fraction(int(value.p), int(value.q)), prime) * pow(blk.scale, -1, prime) % prime
     n = len(residues) - 1
     got = flint.nmod_poly([r * pow(x, n - a, prime) for a, r in enumerate(residues)], prime)
-    check_factor_product(spec, factors, point, prime, got, forms, cache)
+    _check_factor_product(spec, factors, point, prime, got, forms, cache)
 
 
-def check_factor_product(spec, factors, point, prime, charpoly, forms, cache):
+def _check_factor_product(spec, factors, point, prime, charpoly, forms, cache):
     """The block's characteristic polynomial at ``point`` modulo ``prime`` (an nmod_poly)
     must equal the product of its factors to their multiplicities (``cache``: reduced
     factors for this point and prime); a VerificationError names the block otherwise."""
